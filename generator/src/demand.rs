@@ -1,0 +1,45 @@
+//! Remaining demand per interaction: how many more rows must still cover it.
+
+use crate::interactions::Layout;
+
+/// Remaining demand, one counter per interaction of a [`Layout`].
+#[derive(Clone, Debug)]
+pub struct Demand {
+    /// Rows still needed per interaction (0 for covered or impossible ones).
+    pub need: Vec<u16>,
+    /// Σ need.
+    pub remaining: u64,
+}
+
+impl Demand {
+    /// λ for every possible interaction, 0 for the impossible ones.
+    pub fn new(possible: &[bool], lambda: u32) -> Self {
+        let need: Vec<u16> = possible
+            .iter()
+            .map(|&p| if p { lambda as u16 } else { 0 })
+            .collect();
+        let remaining = need.iter().map(|&n| n as u64).sum();
+        Demand { need, remaining }
+    }
+
+    /// Counts a row toward coverage; returns how much demand it met.
+    pub fn cover(&mut self, layout: &Layout, row: &[u8]) -> u64 {
+        let mut gained = 0;
+        let need = &mut self.need;
+        layout.for_each_in_row(row, |i| {
+            if need[i] > 0 {
+                need[i] -= 1;
+                gained += 1;
+            }
+        });
+        self.remaining -= gained;
+        gained
+    }
+
+    /// How much demand a row would meet.
+    pub fn gain(&self, layout: &Layout, row: &[u8]) -> u64 {
+        let mut gained = 0;
+        layout.for_each_in_row(row, |i| gained += (self.need[i] > 0) as u64);
+        gained
+    }
+}

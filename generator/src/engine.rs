@@ -1,0 +1,123 @@
+//! Orchestration: validate, find what is possible, run every applicable method, keep the
+//! smallest result, finish it, check it independently.
+
+use crate::bounds;
+use crate::constraints::Constraints;
+use crate::construct;
+use crate::demand::Demand;
+use crate::error::Error;
+use crate::greedy;
+use crate::interactions::Layout;
+use crate::model::{Effort, Row, Spec};
+use crate::order;
+use crate::rng::{Rng, stream};
+use crate::verify::verify;
+
+/// A generated design and what is known about it.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Design {
+    /// The rows: the spec's required rows first, then the rest ordered so that each
+    /// prefix meets as much demand as possible.
+    pub rows: Vec<Row>,
+    /// Figures about the design.
+    pub stats: Stats,
+}
+
+/// Figures reported beside every design.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Stats {
+    /// The method whose result was kept (e.g. `bose(q=5)`, `greedy`, `greedy+anneal`).
+    pub method: String,
+    /// λ · (product of the t largest level counts).
+    pub lower_bound: u64,
+    /// Least N at which a random N-row array is expected to leave under one interaction
+    /// short of λ (see [`bounds::expected_bound`]).
+    pub expected_bound: u64,
+    /// t-way interactions of the spec.
+    pub interactions: u64,
+    /// Interactions no allowed row contains (so not required).
+    pub impossible: u64,
+    /// Fraction of the demand (λ per possible interaction) met after each row.
+    pub coverage_curve: Vec<f64>,
+    /// [`crate::ENGINE_VERSION`] of the engine that made the rows.
+    pub engine_version: u32,
+}
+
+/// Generates a design for `spec`.
+///
+/// ```
+/// use heddle_generator::{generate, Effort, Expr, Factor, Spec};
+/// let factors = vec![Factor::numbered("a", 2), Factor::numbered("b", 2), Factor::numbered("c", 2)];
+/// let no_a0_b0 = Expr::parse("a == 0 && b == 0", &factors).unwrap();
+/// let spec = Spec::new(factors).lambda(2).exclude(no_a0_b0);
+/// let d = generate(&spec, Effort::Fast).unwrap();
+/// assert!(d.rows.iter().all(|r| !(r[0] == 0 && r[1] == 0)));
+/// assert_eq!(d.stats.impossible, 1);
+/// ```
+pub fn generate(spec: &Spec, effort: Effort) -> Result<Design, Error> {
+    spec.validate()?;
+    let levels = spec.levels();
+    let t = spec.strength;
+    let layout = Layout::new(&levels, t);
+    let mut cons = Constraints::new(&spec.excludes, &levels);
+    if !cons.any_allowed() {
+        return Err(Error::NothingAllowed);
+    }
+    let (possible, impossible) = cons.possible(&layout);
+
+    let greedy_rows = {
+        let mut demand = Demand::new(&possible, spec.lambda);
+        for row in &spec.required {
+            demand.cover(&layout, row);
+        }
+        let mut rng = Rng::new(spec.seed, stream::GREEDY);
+        let mut rows = spec.required.clone();
+        rows.extend(greedy::extend(
+            &layout,
+            &mut demand,
+            &mut cons,
+            &mut rng,
+            greedy::Params::default(),
+        ));
+        order::drop_redundant(
+            &layout,
+            &possible,
+            spec.lambda,
+            &mut rows,
+            spec.required.len(),
+        );
+        rows
+    };
+    let (mut method, mut rows) = ("greedy".to_string(), greedy_rows);
+    if spec.excludes.is_empty() && spec.required.is_empty() {
+        // a construction wins ties: its structure is the optimum where it applies
+        if let Some(c) =
+            construct::best(&levels, t, spec.lambda).filter(|c| c.rows.len() <= rows.len())
+        {
+            (method, rows) = (c.method, c.rows);
+        }
+    }
+    if let Effort::Tight { budget: _ } = effort {
+        method.push_str("+tight");
+    }
+    order::order_by_gain(
+        &layout,
+        &possible,
+        spec.lambda,
+        &mut rows,
+        spec.required.len(),
+    );
+    verify(spec, &rows)
+        .map_err(|v| Error::Internal(format!("{method} produced an invalid design: {v}")))?;
+    let coverage_curve = order::coverage_curve(&layout, &possible, spec.lambda, &rows);
+    let stats = Stats {
+        method,
+        lower_bound: bounds::lower_bound(&levels, t, spec.lambda) as u64,
+        expected_bound: bounds::expected_bound(&levels, t, spec.lambda),
+        interactions: layout.total() as u64,
+        impossible,
+        coverage_curve,
+        engine_version: crate::ENGINE_VERSION,
+    };
+    Ok(Design { rows, stats })
+}

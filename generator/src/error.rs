@@ -1,0 +1,214 @@
+//! Every way a spec can be refused, each with enough context to act on.
+
+use std::fmt;
+
+/// Why the engine refused a spec. Messages are lower case without a final period so
+/// callers can prefix them with a location.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum Error {
+    /// The spec has no factors.
+    NoFactors,
+    /// More factors than the engine accepts.
+    TooManyFactors {
+        /// Factors given.
+        count: usize,
+        /// The limit.
+        limit: usize,
+    },
+    /// A factor has an empty name.
+    EmptyName,
+    /// Two factors share a name.
+    DuplicateFactor {
+        /// The shared name.
+        name: String,
+    },
+    /// A factor has no levels.
+    NoLevels {
+        /// The factor.
+        factor: String,
+    },
+    /// A factor has more levels than fit.
+    TooManyLevels {
+        /// The factor.
+        factor: String,
+        /// Levels given.
+        count: usize,
+        /// The limit.
+        limit: usize,
+    },
+    /// Two levels of one factor share a label.
+    DuplicateLevel {
+        /// The factor.
+        factor: String,
+        /// The shared label.
+        label: String,
+    },
+    /// Strength 0.
+    StrengthZero,
+    /// Strength above the number of factors.
+    StrengthAboveFactors {
+        /// Strength given.
+        strength: usize,
+        /// Number of factors.
+        factors: usize,
+    },
+    /// Strength above what the engine supports.
+    StrengthTooHigh {
+        /// Strength given.
+        strength: usize,
+        /// The limit.
+        limit: usize,
+    },
+    /// λ = 0.
+    LambdaZero,
+    /// λ above what the counters hold.
+    LambdaTooHigh {
+        /// λ given.
+        lambda: u32,
+        /// The limit.
+        limit: u32,
+    },
+    /// A constraint names a factor or level that does not exist.
+    BadConstraintRef {
+        /// Position of the constraint among the excludes.
+        constraint: usize,
+        /// Factor index used.
+        factor: usize,
+        /// Level index used.
+        level: u8,
+    },
+    /// A required row has the wrong number of entries.
+    RequiredRowWidth {
+        /// Position among the required rows.
+        row: usize,
+        /// Entries given.
+        width: usize,
+        /// Number of factors.
+        factors: usize,
+    },
+    /// A required row uses a level a factor does not have.
+    RequiredRowLevel {
+        /// Position among the required rows.
+        row: usize,
+        /// The factor.
+        factor: String,
+        /// The level index.
+        level: u8,
+    },
+    /// A required row is excluded by a constraint.
+    RequiredRowExcluded {
+        /// Position among the required rows.
+        row: usize,
+        /// Position of the constraint that excludes it.
+        constraint: usize,
+    },
+    /// The constraints exclude every row.
+    NothingAllowed,
+    /// Too many interactions to track in bounded memory.
+    TooLarge {
+        /// t-way interactions of the spec.
+        interactions: u128,
+        /// The limit.
+        limit: u64,
+    },
+    /// The lower bound alone exceeds the row limit.
+    TooManyRows {
+        /// λ·(product of the t largest level counts).
+        lower_bound: u128,
+        /// The limit.
+        limit: u64,
+    },
+    /// The independent checker rejected a result: a bug in the engine, never a user error.
+    Internal(String),
+}
+
+impl fmt::Display for Error {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            Error::NoFactors => write!(f, "no factors given"),
+            Error::TooManyFactors { count, limit } => {
+                write!(f, "{count} factors given, at most {limit} are supported")
+            }
+            Error::EmptyName => write!(f, "a factor has an empty name"),
+            Error::DuplicateFactor { name } => write!(f, "factor `{name}` is declared twice"),
+            Error::NoLevels { factor } => write!(f, "factor `{factor}` has no levels"),
+            Error::TooManyLevels {
+                factor,
+                count,
+                limit,
+            } => {
+                write!(
+                    f,
+                    "factor `{factor}` has {count} levels, at most {limit} are supported"
+                )
+            }
+            Error::DuplicateLevel { factor, label } => {
+                write!(f, "factor `{factor}` lists level `{label}` twice")
+            }
+            Error::StrengthZero => write!(f, "strength must be at least 1"),
+            Error::StrengthAboveFactors { strength, factors } => write!(
+                f,
+                "strength {strength} is larger than the number of factors ({factors})"
+            ),
+            Error::StrengthTooHigh { strength, limit } => {
+                write!(
+                    f,
+                    "strength {strength} is above the supported maximum of {limit}"
+                )
+            }
+            Error::LambdaZero => write!(f, "lambda must be at least 1"),
+            Error::LambdaTooHigh { lambda, limit } => {
+                write!(
+                    f,
+                    "lambda {lambda} is above the supported maximum of {limit}"
+                )
+            }
+            Error::BadConstraintRef {
+                constraint,
+                factor,
+                level,
+            } => write!(
+                f,
+                "exclude #{} refers to factor #{factor} level #{level}, which does not exist",
+                constraint + 1
+            ),
+            Error::RequiredRowWidth {
+                row,
+                width,
+                factors,
+            } => write!(
+                f,
+                "required row #{} has {width} entries but there are {factors} factors",
+                row + 1
+            ),
+            Error::RequiredRowLevel { row, factor, level } => write!(
+                f,
+                "required row #{} uses level #{level} of factor `{factor}`, which does not exist",
+                row + 1
+            ),
+            Error::RequiredRowExcluded { row, constraint } => write!(
+                f,
+                "required row #{} is excluded by exclude #{}",
+                row + 1,
+                constraint + 1
+            ),
+            Error::NothingAllowed => write!(f, "the excludes rule out every row"),
+            Error::TooLarge {
+                interactions,
+                limit,
+            } => write!(
+                f,
+                "the spec has {interactions} t-way interactions, more than the limit of {limit}; \
+                 lower the strength or the number of levels"
+            ),
+            Error::TooManyRows { lower_bound, limit } => write!(
+                f,
+                "any design needs at least {lower_bound} rows, more than the limit of {limit}; \
+                 lower lambda, the strength or the number of levels"
+            ),
+            Error::Internal(msg) => write!(f, "internal error (please report): {msg}"),
+        }
+    }
+}
+
+impl std::error::Error for Error {}

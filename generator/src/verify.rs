@@ -1,0 +1,249 @@
+//! The independent checker. It shares nothing with the generation code but the formula
+//! type: its own t-set enumeration, its own counting, its own (plain, unmemoised)
+//! search for whether an uncovered interaction is possible at all. Every design passes
+//! through it before it is returned, and pinned rows are verified with it too.
+
+use std::fmt;
+
+use crate::expr::Expr;
+use crate::model::{Spec, UNSET};
+
+/// What the checker found on a valid design.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Coverage {
+    /// Number of t-way interactions of the spec.
+    pub interactions: u64,
+    /// How many of them no allowed row contains.
+    pub impossible: u64,
+    /// Fewest times any possible interaction is covered.
+    pub min_count: u64,
+}
+
+/// Why a list of rows is not a valid design for a spec.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum Violation {
+    /// A row has the wrong number of entries.
+    Width {
+        /// Row position.
+        row: usize,
+        /// Entries.
+        width: usize,
+    },
+    /// A row uses a level its factor does not have.
+    Level {
+        /// Row position.
+        row: usize,
+        /// Factor name.
+        factor: String,
+        /// Level index.
+        level: u8,
+    },
+    /// A row is excluded by a constraint.
+    Excluded {
+        /// Row position.
+        row: usize,
+        /// Constraint position.
+        constraint: usize,
+    },
+    /// A required row is not where it must be (the rows start with the required ones).
+    MissingRequired {
+        /// Position among the required rows.
+        required: usize,
+    },
+    /// A possible interaction is covered fewer than λ times.
+    Uncovered {
+        /// `(factor name, level label)` of each factor in the interaction.
+        levels: Vec<(String, String)>,
+        /// Times covered.
+        count: u64,
+        /// λ.
+        lambda: u32,
+    },
+}
+
+impl fmt::Display for Violation {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            Violation::Width { row, width } => write!(f, "row {row} has {width} entries"),
+            Violation::Level { row, factor, level } => {
+                write!(
+                    f,
+                    "row {row} uses level #{level} of `{factor}`, which does not exist"
+                )
+            }
+            Violation::Excluded { row, constraint } => {
+                write!(f, "row {row} is excluded by exclude #{}", constraint + 1)
+            }
+            Violation::MissingRequired { required } => {
+                write!(
+                    f,
+                    "required row #{} is not at position {required}",
+                    required + 1
+                )
+            }
+            Violation::Uncovered {
+                levels,
+                count,
+                lambda,
+            } => {
+                let parts: Vec<String> = levels.iter().map(|(n, l)| format!("{n} = {l}")).collect();
+                write!(
+                    f,
+                    "interaction ({}) is covered {count} times, needs {lambda}",
+                    parts.join(", ")
+                )
+            }
+        }
+    }
+}
+
+/// Checks that `rows` is a covering array of strength `spec.strength` and index
+/// `spec.lambda` for every interaction some allowed row contains, that no row is
+/// excluded, and that the rows begin with the spec's required rows.
+///
+/// ```
+/// use heddle_generator::{verify, Factor, Spec};
+/// let spec = Spec::new(vec![Factor::numbered("a", 2), Factor::numbered("b", 2)]);
+/// let full = vec![vec![0, 0], vec![0, 1], vec![1, 0], vec![1, 1]];
+/// assert!(verify(&spec, &full).is_ok());
+/// assert!(verify(&spec, &full[..3]).is_err());
+/// ```
+pub fn verify(spec: &Spec, rows: &[Vec<u8>]) -> Result<Coverage, Violation> {
+    let k = spec.factors.len();
+    let levels: Vec<usize> = spec.factors.iter().map(|f| f.levels.len()).collect();
+    for (r, row) in rows.iter().enumerate() {
+        if row.len() != k {
+            return Err(Violation::Width {
+                row: r,
+                width: row.len(),
+            });
+        }
+        for (c, &l) in row.iter().enumerate() {
+            if l as usize >= levels[c] {
+                return Err(Violation::Level {
+                    row: r,
+                    factor: spec.factors[c].name.clone(),
+                    level: l,
+                });
+            }
+        }
+        if let Some(e) = spec.excludes.iter().position(|e| e.eval(row)) {
+            return Err(Violation::Excluded {
+                row: r,
+                constraint: e,
+            });
+        }
+    }
+    for (i, req) in spec.required.iter().enumerate() {
+        if rows.get(i) != Some(req) {
+            return Err(Violation::MissingRequired { required: i });
+        }
+    }
+    let mut mentioned = Vec::new();
+    for e in &spec.excludes {
+        e.collect_factors(&mut mentioned);
+    }
+    let t = spec.strength;
+    let mut out = Coverage {
+        interactions: 0,
+        impossible: 0,
+        min_count: u64::MAX,
+    };
+    let mut cols = Vec::with_capacity(t);
+    let mut failure = None;
+    subsets(k, t, 0, &mut cols, &mut |cols| {
+        if failure.is_some() {
+            return;
+        }
+        let size: usize = cols.iter().map(|&c| levels[c]).product();
+        let mut counts = vec![0u64; size];
+        for row in rows {
+            let mut idx = 0;
+            for &c in cols.iter().rev() {
+                idx = idx * levels[c] + row[c] as usize;
+            }
+            counts[idx] += 1;
+        }
+        for (idx, &n) in counts.iter().enumerate() {
+            out.interactions += 1;
+            if n >= spec.lambda as u64 {
+                out.min_count = out.min_count.min(n);
+                continue;
+            }
+            let mut partial = vec![UNSET; k];
+            let mut rest = idx;
+            for &c in cols.iter() {
+                partial[c] = (rest % levels[c]) as u8;
+                rest /= levels[c];
+            }
+            if completable(&spec.excludes, &levels, &mentioned, &mut partial) {
+                failure = Some(Violation::Uncovered {
+                    levels: cols
+                        .iter()
+                        .map(|&c| {
+                            let f = &spec.factors[c];
+                            (f.name.clone(), f.levels[partial[c] as usize].clone())
+                        })
+                        .collect(),
+                    count: n,
+                    lambda: spec.lambda,
+                });
+                return;
+            }
+            out.impossible += 1;
+        }
+    });
+    match failure {
+        Some(v) => Err(v),
+        None => {
+            if out.min_count == u64::MAX {
+                out.min_count = 0;
+            }
+            Ok(out)
+        }
+    }
+}
+
+fn subsets(k: usize, t: usize, from: usize, cols: &mut Vec<usize>, f: &mut dyn FnMut(&[usize])) {
+    if cols.len() == t {
+        f(cols);
+        return;
+    }
+    for c in from..k {
+        if k - c < t - cols.len() {
+            break;
+        }
+        cols.push(c);
+        subsets(k, t, c + 1, cols, f);
+        cols.pop();
+    }
+}
+
+/// Plain depth-first search: fill the unset factors that excludes mention, in column
+/// order, pruning as soon as an exclude is already true.
+fn completable(excludes: &[Expr], levels: &[usize], vars: &[usize], partial: &mut [u8]) -> bool {
+    if excludes
+        .iter()
+        .any(|e| e.eval_partial(partial) == Some(true))
+    {
+        return false;
+    }
+    if excludes
+        .iter()
+        .all(|e| e.eval_partial(partial) == Some(false))
+    {
+        return true;
+    }
+    let Some(&f) = vars.iter().find(|&&f| partial[f] == UNSET) else {
+        return false;
+    };
+    for l in 0..levels[f] {
+        partial[f] = l as u8;
+        if completable(excludes, levels, vars, partial) {
+            partial[f] = UNSET;
+            return true;
+        }
+    }
+    partial[f] = UNSET;
+    false
+}
