@@ -79,36 +79,21 @@ pub fn generate(spec: &Spec, effort: Effort) -> Result<Design, Error> {
             &mut rng,
             greedy::Params::default(),
         ));
-        order::drop_redundant(
-            &layout,
-            &possible,
-            spec.lambda,
-            &mut rows,
-            spec.required.len(),
-        );
+        order::drop_redundant(&layout, &possible, spec.lambda, &mut rows, spec.required.len());
         rows
     };
     let (mut method, mut rows) = ("greedy".to_string(), greedy_rows);
     if spec.excludes.is_empty() && spec.required.is_empty() {
         // a construction wins ties: its structure is the optimum where it applies
-        if let Some(c) =
-            construct::best(&levels, t, spec.lambda).filter(|c| c.rows.len() <= rows.len())
-        {
+        if let Some(c) = construct::best(&levels, t, spec.lambda).filter(|c| c.rows.len() <= rows.len()) {
             (method, rows) = (c.method, c.rows);
         }
     }
     if let Effort::Tight { budget: _ } = effort {
         method.push_str("+tight");
     }
-    order::order_by_gain(
-        &layout,
-        &possible,
-        spec.lambda,
-        &mut rows,
-        spec.required.len(),
-    );
-    verify(spec, &rows)
-        .map_err(|v| Error::Internal(format!("{method} produced an invalid design: {v}")))?;
+    order::order_by_gain(&layout, &possible, spec.lambda, &mut rows, spec.required.len());
+    verify(spec, &rows).map_err(|v| Error::Internal(format!("{method} produced an invalid design: {v}")))?;
     let coverage_curve = order::coverage_curve(&layout, &possible, spec.lambda, &rows);
     let stats = Stats {
         method,

@@ -132,11 +132,7 @@ impl fmt::Display for Error {
             Error::EmptyName => write!(f, "a factor has an empty name"),
             Error::DuplicateFactor { name } => write!(f, "factor `{name}` is declared twice"),
             Error::NoLevels { factor } => write!(f, "factor `{factor}` has no levels"),
-            Error::TooManyLevels {
-                factor,
-                count,
-                limit,
-            } => {
+            Error::TooManyLevels { factor, count, limit } => {
                 write!(
                     f,
                     "factor `{factor}` has {count} levels, at most {limit} are supported"
@@ -151,17 +147,11 @@ impl fmt::Display for Error {
                 "strength {strength} is larger than the number of factors ({factors})"
             ),
             Error::StrengthTooHigh { strength, limit } => {
-                write!(
-                    f,
-                    "strength {strength} is above the supported maximum of {limit}"
-                )
+                write!(f, "strength {strength} is above the supported maximum of {limit}")
             }
             Error::LambdaZero => write!(f, "lambda must be at least 1"),
             Error::LambdaTooHigh { lambda, limit } => {
-                write!(
-                    f,
-                    "lambda {lambda} is above the supported maximum of {limit}"
-                )
+                write!(f, "lambda {lambda} is above the supported maximum of {limit}")
             }
             Error::BadConstraintRef {
                 constraint,
@@ -172,11 +162,7 @@ impl fmt::Display for Error {
                 "exclude #{} refers to factor #{factor} level #{level}, which does not exist",
                 constraint + 1
             ),
-            Error::RequiredRowWidth {
-                row,
-                width,
-                factors,
-            } => write!(
+            Error::RequiredRowWidth { row, width, factors } => write!(
                 f,
                 "required row #{} has {width} entries but there are {factors} factors",
                 row + 1
@@ -193,10 +179,7 @@ impl fmt::Display for Error {
                 constraint + 1
             ),
             Error::NothingAllowed => write!(f, "the excludes rule out every row"),
-            Error::TooLarge {
-                interactions,
-                limit,
-            } => write!(
+            Error::TooLarge { interactions, limit } => write!(
                 f,
                 "the spec has {interactions} t-way interactions, more than the limit of {limit}; \
                  lower the strength or the number of levels"

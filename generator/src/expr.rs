@@ -134,11 +134,7 @@ impl Expr {
     /// is a run of characters other than whitespace, parentheses, `&`, `|` and `!`, or a
     /// quoted string (`'…'` or `"…"`).
     pub fn parse(src: &str, factors: &[Factor]) -> Result<Expr, ParseError> {
-        let mut p = Parser {
-            src,
-            pos: 0,
-            factors,
-        };
+        let mut p = Parser { src, pos: 0, factors };
         let e = p.or()?;
         p.skip_ws();
         if p.pos < src.len() {
@@ -321,10 +317,7 @@ impl Parser<'_> {
             .map_or(self.rest().len(), |(i, _)| i);
         if name_len == 0 {
             return Err(if self.pos == self.src.len() {
-                self.error_here(
-                    "expected a factor name, found the end",
-                    "write `NAME == LEVEL`",
-                )
+                self.error_here("expected a factor name, found the end", "write `NAME == LEVEL`")
             } else {
                 self.error_here("expected a factor name", "write `NAME == LEVEL`")
             });
@@ -364,10 +357,9 @@ impl Parser<'_> {
                     .find(|c: char| c.is_whitespace() || "()&|!".contains(c))
                     .unwrap_or(self.rest().len());
                 if len == 0 {
-                    return Err(self.error_here(
-                        "expected a level after the operator",
-                        "write `NAME == LEVEL`",
-                    ));
+                    return Err(
+                        self.error_here("expected a level after the operator", "write `NAME == LEVEL`")
+                    );
                 }
                 self.pos += len;
                 self.src[lstart..self.pos].to_string()

@@ -32,8 +32,8 @@ pub use engine::{Design, Stats, generate};
 pub use error::Error;
 pub use expr::{Expr, ParseError};
 pub use model::{
-    Effort, Factor, MAX_FACTORS, MAX_INTERACTIONS, MAX_LAMBDA, MAX_LEVELS, MAX_ROWS, MAX_STRENGTH,
-    Row, Spec, UNSET,
+    Effort, Factor, MAX_FACTORS, MAX_INTERACTIONS, MAX_LAMBDA, MAX_LEVELS, MAX_ROWS, MAX_STRENGTH, Row, Spec,
+    UNSET,
 };
 pub use verify::{Coverage, Violation, verify};
 

@@ -43,10 +43,7 @@ pub struct Factor {
 
 impl Factor {
     /// A factor from a name and its level labels.
-    pub fn new<S: Into<String>>(
-        name: impl Into<String>,
-        levels: impl IntoIterator<Item = S>,
-    ) -> Self {
+    pub fn new<S: Into<String>>(name: impl Into<String>, levels: impl IntoIterator<Item = S>) -> Self {
         Factor {
             name: name.into(),
             levels: levels.into_iter().map(Into::into).collect(),
@@ -162,9 +159,7 @@ impl Spec {
                 return Err(Error::EmptyName);
             }
             if !names.insert(f.name.as_str()) {
-                return Err(Error::DuplicateFactor {
-                    name: f.name.clone(),
-                });
+                return Err(Error::DuplicateFactor { name: f.name.clone() });
             }
             if f.levels.is_empty() {
                 return Err(Error::NoLevels {

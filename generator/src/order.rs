@@ -38,13 +38,7 @@ pub fn drop_redundant(
 
 /// Reorders the rows after the first `fixed` so each prefix meets the most demand (lazy
 /// greedy: a row's gain only shrinks as others are chosen). Ties keep the earlier row.
-pub fn order_by_gain(
-    layout: &Layout,
-    possible: &[bool],
-    lambda: u32,
-    rows: &mut [Vec<u8>],
-    fixed: usize,
-) {
+pub fn order_by_gain(layout: &Layout, possible: &[bool], lambda: u32, rows: &mut [Vec<u8>], fixed: usize) {
     let mut need: Vec<u16> = possible
         .iter()
         .map(|&p| if p { lambda as u16 } else { 0 })
@@ -78,12 +72,7 @@ pub fn order_by_gain(
 }
 
 /// Fraction of the total demand (λ per possible interaction) met after each row.
-pub fn coverage_curve(
-    layout: &Layout,
-    possible: &[bool],
-    lambda: u32,
-    rows: &[Vec<u8>],
-) -> Vec<f64> {
+pub fn coverage_curve(layout: &Layout, possible: &[bool], lambda: u32, rows: &[Vec<u8>]) -> Vec<f64> {
     let mut need: Vec<u16> = possible
         .iter()
         .map(|&p| if p { lambda as u16 } else { 0 })

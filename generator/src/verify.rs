@@ -75,11 +75,7 @@ impl fmt::Display for Violation {
                 write!(f, "row {row} is excluded by exclude #{}", constraint + 1)
             }
             Violation::MissingRequired { required } => {
-                write!(
-                    f,
-                    "required row #{} is not at position {required}",
-                    required + 1
-                )
+                write!(f, "required row #{} is not at position {required}", required + 1)
             }
             Violation::Uncovered {
                 levels,
@@ -222,16 +218,10 @@ fn subsets(k: usize, t: usize, from: usize, cols: &mut Vec<usize>, f: &mut dyn F
 /// Plain depth-first search: fill the unset factors that excludes mention, in column
 /// order, pruning as soon as an exclude is already true.
 fn completable(excludes: &[Expr], levels: &[usize], vars: &[usize], partial: &mut [u8]) -> bool {
-    if excludes
-        .iter()
-        .any(|e| e.eval_partial(partial) == Some(true))
-    {
+    if excludes.iter().any(|e| e.eval_partial(partial) == Some(true)) {
         return false;
     }
-    if excludes
-        .iter()
-        .all(|e| e.eval_partial(partial) == Some(false))
-    {
+    if excludes.iter().all(|e| e.eval_partial(partial) == Some(false)) {
         return true;
     }
     let Some(&f) = vars.iter().find(|&&f| partial[f] == UNSET) else {
