@@ -1,0 +1,55 @@
+//! Command-line grammar. Cargo runs `cargo-heddle heddle <args>`, so the first word after
+//! the binary is always `heddle`.
+
+use std::ffi::OsString;
+use std::process::ExitCode;
+
+use clap::{Parser, Subcommand, ValueEnum};
+
+use crate::failure::Failure;
+
+#[derive(Parser)]
+#[command(name = "cargo", bin_name = "cargo", styles = clap::builder::Styles::plain())]
+enum CargoCli {
+    /// Combinatorial interaction testing with covering arrays of index λ.
+    #[command(version, about, long_about = None)]
+    Heddle(HeddleCli),
+}
+
+#[derive(clap::Args)]
+struct HeddleCli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand)]
+enum Command {
+    /// Generate a covering array for factors given on the command line.
+    Design(crate::design::DesignArgs),
+}
+
+/// How hard the engine works.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum EffortArg {
+    /// Constructions and greedy, as builds use.
+    Fast,
+    /// Adds local search that removes rows.
+    Tight,
+}
+
+/// Parses the arguments and runs the chosen subcommand.
+pub fn run(args: impl IntoIterator<Item = OsString>) -> Result<ExitCode, Failure> {
+    let cli = match CargoCli::try_parse_from(args) {
+        Ok(c) => c,
+        Err(e) => {
+            // help and version go to stdout with success; real errors exit with 2
+            let code = if e.use_stderr() { 2 } else { 0 };
+            let _ = e.print();
+            return Ok(ExitCode::from(code));
+        }
+    };
+    let CargoCli::Heddle(h) = cli;
+    match h.command {
+        Command::Design(a) => crate::design::run(a),
+    }
+}

@@ -1,0 +1,216 @@
+//! `cargo heddle design`: the engine on factors from the command line, for scripts and CI.
+
+use std::io::Write;
+use std::process::ExitCode;
+use std::time::Instant;
+
+use clap::{Args, ValueEnum};
+use heddle_generator::{Design, Effort, Expr, Spec, generate};
+use serde::Serialize;
+
+use crate::cli::EffortArg;
+use crate::failure::{Failure, usage};
+use crate::spec_args::parse_specs;
+
+/// Arguments of `design`.
+#[derive(Args, Debug)]
+pub struct DesignArgs {
+    /// Factors: `V^N` (N factors of V levels, named f1, f2, … by position) or
+    /// `NAME=L1,L2,…`.
+    #[arg(value_name = "SPEC", required = true)]
+    specs: Vec<String>,
+    /// Strength t: every t-way combination of levels is covered.
+    #[arg(long, short = 't', default_value_t = 2)]
+    strength: usize,
+    /// Index λ: how many rows must cover each combination.
+    #[arg(long, short = 'l', default_value_t = 1)]
+    lambda: u32,
+    /// Seed of the engine's random choices.
+    #[arg(long, short = 's', default_value_t = 0)]
+    seed: u64,
+    /// Exclude rows where this holds, e.g. 'f1 == 0 && f2 == 1' (repeatable).
+    #[arg(long, value_name = "EXPR")]
+    exclude: Vec<String>,
+    /// `fast` (constructions and greedy) or `tight` (adds local search).
+    #[arg(long, value_enum, default_value_t = EffortArg::Fast)]
+    effort: EffortArg,
+    /// Move budget of the local search (with `--effort tight`).
+    #[arg(long, value_name = "N")]
+    budget: Option<u64>,
+    /// Output format on stdout.
+    #[arg(long, value_enum, default_value_t = Format::Csv)]
+    format: Format,
+}
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+enum Format {
+    Csv,
+    Json,
+}
+
+/// Runs `design`.
+pub fn run(args: DesignArgs) -> Result<ExitCode, Failure> {
+    let factors = parse_specs(&args.specs)?;
+    let mut excludes = Vec::new();
+    for src in &args.exclude {
+        let e =
+            Expr::parse(src, &factors).map_err(|e| usage(format!("in `--exclude`: {}", e.render(src))))?;
+        excludes.push(e);
+    }
+    let mut spec = Spec::new(factors)
+        .strength(args.strength)
+        .lambda(args.lambda)
+        .seed(args.seed);
+    spec.excludes = excludes;
+    if args.budget.is_some() && args.effort == EffortArg::Fast {
+        return Err(usage(
+            "`--budget` applies to `--effort tight` only\n  hint: add `--effort tight`",
+        ));
+    }
+    let effort = match args.effort {
+        EffortArg::Fast => Effort::Fast,
+        EffortArg::Tight => Effort::Tight {
+            budget: args.budget.unwrap_or(Effort::DEFAULT_TIGHT_BUDGET),
+        },
+    };
+    let started = Instant::now();
+    let design = generate(&spec, effort).map_err(|e| match e {
+        heddle_generator::Error::Internal(m) => Failure::Found(m),
+        other => usage(other.to_string()),
+    })?;
+    let elapsed = started.elapsed();
+    let out = match args.format {
+        Format::Csv => csv(&spec, &design),
+        Format::Json => json(&spec, &design, &args, elapsed.as_secs_f64()),
+    };
+    let mut stdout = std::io::stdout().lock();
+    // a closed pipe (e.g. `| head`) is not an error worth reporting
+    let _ = stdout.write_all(out.as_bytes()).and_then(|_| stdout.flush());
+    eprintln!(
+        "heddle: {} rows ({}), lower bound {}, expected-value bound {}, {:.1} ms",
+        design.rows.len(),
+        design.stats.method,
+        design.stats.lower_bound,
+        design.stats.expected_bound,
+        elapsed.as_secs_f64() * 1e3
+    );
+    Ok(ExitCode::SUCCESS)
+}
+
+/// A CSV field, quoted when it holds a comma, quote or line break (RFC 4180).
+fn field(s: &str) -> String {
+    if s.contains([',', '"', '\n', '\r']) {
+        format!("\"{}\"", s.replace('"', "\"\""))
+    } else {
+        s.to_string()
+    }
+}
+
+fn csv(spec: &Spec, design: &Design) -> String {
+    let mut out = String::new();
+    let header: Vec<String> = spec.factors.iter().map(|f| field(&f.name)).collect();
+    out.push_str(&header.join(","));
+    out.push('\n');
+    for row in &design.rows {
+        let cells: Vec<String> = row
+            .iter()
+            .zip(&spec.factors)
+            .map(|(&l, f)| field(&f.levels[l as usize]))
+            .collect();
+        out.push_str(&cells.join(","));
+        out.push('\n');
+    }
+    out
+}
+
+/// Version of the JSON document `design --format json` prints.
+const DESIGN_JSON_FORMAT: u32 = 1;
+
+#[derive(Serialize)]
+struct JsonDesign<'a> {
+    format: u32,
+    engine_version: u32,
+    factors: Vec<JsonFactor<'a>>,
+    parameters: JsonParameters,
+    rows: Vec<Vec<&'a str>>,
+    statistics: JsonStatistics<'a>,
+}
+
+#[derive(Serialize)]
+struct JsonFactor<'a> {
+    name: &'a str,
+    levels: &'a [String],
+}
+
+#[derive(Serialize)]
+struct JsonParameters {
+    strength: usize,
+    lambda: u32,
+    seed: u64,
+    effort: &'static str,
+    excludes: Vec<String>,
+}
+
+#[derive(Serialize)]
+struct JsonStatistics<'a> {
+    rows: usize,
+    method: &'a str,
+    lower_bound: u64,
+    expected_bound: u64,
+    interactions: u64,
+    impossible: u64,
+    coverage_curve: &'a [f64],
+    seconds: f64,
+}
+
+fn json(spec: &Spec, design: &Design, args: &DesignArgs, seconds: f64) -> String {
+    let doc = JsonDesign {
+        format: DESIGN_JSON_FORMAT,
+        engine_version: design.stats.engine_version,
+        factors: spec
+            .factors
+            .iter()
+            .map(|f| JsonFactor {
+                name: &f.name,
+                levels: &f.levels,
+            })
+            .collect(),
+        parameters: JsonParameters {
+            strength: spec.strength,
+            lambda: spec.lambda,
+            seed: spec.seed,
+            effort: match args.effort {
+                EffortArg::Fast => "fast",
+                EffortArg::Tight => "tight",
+            },
+            excludes: spec
+                .excludes
+                .iter()
+                .map(|e| e.display(&spec.factors).to_string())
+                .collect(),
+        },
+        rows: design
+            .rows
+            .iter()
+            .map(|r| {
+                r.iter()
+                    .zip(&spec.factors)
+                    .map(|(&l, f)| f.levels[l as usize].as_str())
+                    .collect()
+            })
+            .collect(),
+        statistics: JsonStatistics {
+            rows: design.rows.len(),
+            method: &design.stats.method,
+            lower_bound: design.stats.lower_bound,
+            expected_bound: design.stats.expected_bound,
+            interactions: design.stats.interactions,
+            impossible: design.stats.impossible,
+            coverage_curve: &design.stats.coverage_curve,
+            seconds,
+        },
+    };
+    let mut s = serde_json::to_string_pretty(&doc).unwrap_or_default();
+    s.push('\n');
+    s
+}

@@ -1,0 +1,8 @@
+//! The library behind `cargo heddle`: command-line grammar, subcommands and the analysis
+//! that turns per-interaction tallies into suspects, flaky interactions and advice.
+//! The binary (`main.rs`) only calls [`cli::run`].
+
+pub mod cli;
+pub mod design;
+pub mod failure;
+pub mod spec_args;

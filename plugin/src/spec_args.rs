@@ -1,0 +1,96 @@
+//! SPEC tokens of `cargo heddle design`: `V^N` (N factors of V levels, named by position
+//! `f1`, `f2`, … and labelled `0` … `V-1`) and `NAME=L1,L2,…` (one named factor).
+
+use heddle_generator::{Factor, MAX_LEVELS};
+
+use crate::failure::{Failure, usage};
+
+/// Factors described by the SPEC tokens, in order.
+pub fn parse_specs(tokens: &[String]) -> Result<Vec<Factor>, Failure> {
+    let mut factors = Vec::new();
+    for tok in tokens {
+        if let Some((v, n)) = tok.split_once('^') {
+            let v = parse_count(tok, v, "level count")?;
+            let n = parse_count(tok, n, "factor count")?;
+            if v > MAX_LEVELS {
+                return Err(usage(format!(
+                    "malformed SPEC `{tok}`: {v} levels, at most {MAX_LEVELS} are supported"
+                )));
+            }
+            if n > heddle_generator::MAX_FACTORS {
+                return Err(usage(format!(
+                    "malformed SPEC `{tok}`: {n} factors, at most {} are supported",
+                    heddle_generator::MAX_FACTORS
+                )));
+            }
+            for _ in 0..n {
+                let name = format!("f{}", factors.len() + 1);
+                factors.push(Factor::numbered(name, v));
+            }
+        } else if let Some((name, labels)) = tok.split_once('=') {
+            if name.is_empty() || !name.chars().all(|c| c.is_alphanumeric() || c == '_' || c == '-') {
+                return Err(usage(format!(
+                    "malformed SPEC `{tok}`: `{name}` is not a factor name\n  hint: names use letters, digits, `_` and `-`"
+                )));
+            }
+            let labels: Vec<&str> = labels.split(',').collect();
+            if let Some(bad) = labels
+                .iter()
+                .find(|l| l.is_empty() || l.chars().any(char::is_whitespace))
+            {
+                return Err(usage(format!(
+                    "malformed SPEC `{tok}`: level `{bad}` is empty or contains whitespace\n  hint: write `NAME=L1,L2,…` with non-empty labels"
+                )));
+            }
+            factors.push(Factor::new(name, labels));
+        } else {
+            return Err(usage(format!(
+                "malformed SPEC `{tok}`\n  hint: write `V^N` (N factors of V levels) or `NAME=L1,L2,…`"
+            )));
+        }
+    }
+    if factors.is_empty() {
+        return Err(usage(
+            "no factors given\n  hint: write for example `3^4` or `os=linux,mac`",
+        ));
+    }
+    Ok(factors)
+}
+
+fn parse_count(tok: &str, s: &str, what: &str) -> Result<usize, Failure> {
+    match s.parse::<usize>() {
+        Ok(n) if n >= 1 => Ok(n),
+        _ => Err(usage(format!(
+            "malformed SPEC `{tok}`: `{s}` is not a {what} of at least 1\n  hint: write `V^N`, for example `3^4`"
+        ))),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn toks(s: &[&str]) -> Vec<String> {
+        s.iter().map(|s| s.to_string()).collect()
+    }
+
+    #[test]
+    fn mixed_tokens_number_by_position() {
+        let f = parse_specs(&toks(&["2^2", "os=linux,mac,bsd", "3^1"])).unwrap();
+        let names: Vec<&str> = f.iter().map(|f| f.name.as_str()).collect();
+        assert_eq!(names, ["f1", "f2", "os", "f4"]);
+        assert_eq!(f[2].levels, ["linux", "mac", "bsd"]);
+        assert_eq!(f[3].levels, ["0", "1", "2"]);
+    }
+
+    #[test]
+    fn malformed_tokens_are_refused() {
+        for bad in [
+            "3", "3^0", "0^3", "x^2", "256^2", "=a,b", "os=", "os=a,,b", "a b=c",
+        ] {
+            let err = parse_specs(&toks(&[bad])).unwrap_err();
+            assert_eq!(err.code(), 2, "{bad}");
+            assert!(err.to_string().contains("malformed SPEC"), "{bad}: {err}");
+        }
+    }
+}

@@ -1,0 +1,139 @@
+//! `cargo heddle design` end to end: the built binary, its stdout, stderr and exit code.
+
+use std::process::{Command, Output};
+
+use heddle_generator::{Expr, Factor, Spec, verify};
+
+fn design(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_cargo-heddle"))
+        .arg("heddle")
+        .arg("design")
+        .args(args)
+        .output()
+        .expect("the binary runs")
+}
+
+fn stdout(o: &Output) -> String {
+    String::from_utf8(o.stdout.clone()).expect("utf-8 stdout")
+}
+
+fn stderr(o: &Output) -> String {
+    String::from_utf8(o.stderr.clone()).expect("utf-8 stderr")
+}
+
+/// Reads the CSV back into level indices, checking the header and labels on the way.
+fn rows_of(csv: &str, factors: &[Factor]) -> Vec<Vec<u8>> {
+    let mut lines = csv.lines();
+    let header: Vec<&str> = lines.next().expect("a header").split(',').collect();
+    let names: Vec<&str> = factors.iter().map(|f| f.name.as_str()).collect();
+    assert_eq!(header, names);
+    lines
+        .map(|l| {
+            l.split(',')
+                .zip(factors)
+                .map(|(cell, f)| {
+                    f.level_index(cell)
+                        .unwrap_or_else(|| panic!("`{cell}` is not a level"))
+                })
+                .collect()
+        })
+        .collect()
+}
+
+#[test]
+fn csv_is_a_valid_covering_array() {
+    let o = design(&[
+        "3^4",
+        "os=linux,mac",
+        "--lambda",
+        "2",
+        "--exclude",
+        "f1 == 0 && os == mac",
+    ]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let mut factors: Vec<Factor> = (1..=4).map(|i| Factor::numbered(format!("f{i}"), 3)).collect();
+    factors.push(Factor::new("os", ["linux", "mac"]));
+    let rows = rows_of(&stdout(&o), &factors);
+    let ex = Expr::parse("f1 == 0 && os == mac", &factors).unwrap();
+    let spec = Spec::new(factors).lambda(2).exclude(ex);
+    let cov = verify(&spec, &rows).expect("the printed rows cover every possible pair twice");
+    assert_eq!(cov.impossible, 1, "only (f1=0, os=mac) is impossible");
+    // the summary goes to stderr, and only one line of it
+    let err = stderr(&o);
+    assert!(err.contains(&format!("{} rows", rows.len())), "{err}");
+    assert!(err.contains("lower bound 18"), "{err}");
+    assert_eq!(err.lines().count(), 1);
+}
+
+#[test]
+fn json_has_factors_parameters_rows_statistics() {
+    let o = design(&["2^3", "--format", "json", "--seed", "9"]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).expect("valid JSON");
+    assert_eq!(v["format"], 1);
+    assert_eq!(v["factors"].as_array().unwrap().len(), 3);
+    assert_eq!(v["parameters"]["seed"], 9);
+    assert_eq!(v["parameters"]["strength"], 2);
+    let rows = v["rows"].as_array().unwrap();
+    assert_eq!(v["statistics"]["rows"], rows.len());
+    // Kleitman & Spencer 1973 / Katona 1973: CAN(2,3,2) = 4
+    assert_eq!(rows.len(), 4);
+    assert_eq!(v["statistics"]["lower_bound"], 4);
+    let curve = v["statistics"]["coverage_curve"].as_array().unwrap();
+    assert_eq!(curve.len(), rows.len());
+    assert_eq!(curve.last().unwrap().as_f64(), Some(1.0));
+}
+
+#[test]
+fn same_seed_gives_same_rows() {
+    let a = design(&["3^6", "--seed", "5"]);
+    let b = design(&["3^6", "--seed", "5"]);
+    assert_eq!(stdout(&a), stdout(&b));
+}
+
+#[test]
+fn bad_input_exits_with_2_and_says_why() {
+    let cases: &[(&[&str], &str)] = &[
+        (&["3^x"], "malformed SPEC `3^x`"),
+        (&["3"], "malformed SPEC `3`"),
+        (
+            &["3^2", "--strength", "3"],
+            "strength 3 is larger than the number of factors (2)",
+        ),
+        (&["3^2", "--strength", "0"], "strength must be at least 1"),
+        (&["3^2", "--lambda", "0"], "lambda must be at least 1"),
+        (&["3^2", "--exclude", "f9 == 0"], "unknown factor `f9`"),
+        (
+            &["3^2", "--exclude", "f1 == 3"],
+            "`3` is not a level of factor `f1`",
+        ),
+        (
+            &["2^2", "--exclude", "f1 == 0", "--exclude", "f1 == 1"],
+            "the excludes rule out every row",
+        ),
+        (
+            &["2^2", "--budget", "10"],
+            "`--budget` applies to `--effort tight` only",
+        ),
+        (&["2^2", "--format", "xml"], "invalid value 'xml'"),
+        (&["a=x,x"], "lists level `x` twice"),
+        (&["2^1", "f1=a,b"], "factor `f1` is declared twice"),
+    ];
+    for (args, want) in cases {
+        let o = design(args);
+        assert_eq!(o.status.code(), Some(2), "{args:?}: {}", stderr(&o));
+        assert!(stderr(&o).contains(want), "{args:?}: {}", stderr(&o));
+        assert!(stdout(&o).is_empty(), "{args:?} printed to stdout");
+    }
+}
+
+#[test]
+fn limits_are_refused_with_the_count() {
+    let o = design(&["255^300", "--strength", "4"]);
+    assert_eq!(o.status.code(), Some(2));
+    let err = stderr(&o);
+    assert!(
+        err.contains("t-way interactions, more than the limit of 16777216"),
+        "{err}"
+    );
+}
