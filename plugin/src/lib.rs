@@ -2,6 +2,7 @@
 //! that turns per-interaction tallies into suspects, flaky interactions and advice.
 //! The binary (`main.rs`) only calls [`cli::run`].
 
+pub mod analysis;
 pub mod cli;
 pub mod design;
 pub mod failure;

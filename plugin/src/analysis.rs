@@ -1,0 +1,335 @@
+//! From per-interaction tallies to a verdict: which interactions explain the failures
+//! (suspects), which of them fail only sometimes (flaky, with a Wilson score interval on
+//! the pass rate), and how large λ must be to see a flake of a given rate.
+//!
+//! Suspects come from a greedy explanation of the failing rows: repeatedly take the
+//! interaction that accounts for the most still-unexplained failures, preferring the
+//! purest (share of its runs that failed) and then the simplest (fewest factors), until
+//! every failing row is accounted for. An interaction whose every run failed is a strong
+//! suspect; one that also passed is weaker and, if it explains failures, flaky. Equally
+//! good explanations are all reported, since the rows cannot tell them apart.
+
+use std::cmp::Ordering;
+
+/// Runs, passes and failures of one interaction (or single level) of a suite.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct InteractionCount {
+    /// `(factor index, level index)` pairs, sorted by factor.
+    pub levels: Vec<(usize, u8)>,
+    /// Executions of rows containing it.
+    pub runs: u64,
+    /// Of which passed (an expected panic counts as a pass).
+    pub passes: u64,
+    /// Of which failed.
+    pub failures: u64,
+}
+
+/// What the analysis needs to know about one suite.
+#[derive(Clone, Copy, Debug)]
+pub struct Evidence<'a> {
+    /// The rows, level index per factor.
+    pub rows: &'a [Vec<u8>],
+    /// Failures recorded per row (same order as `rows`).
+    pub row_failures: &'a [u64],
+    /// Tallies of every interaction and single level.
+    pub interactions: &'a [InteractionCount],
+}
+
+/// An interaction that explains failures.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Suspect {
+    /// Index into [`Evidence::interactions`].
+    pub interaction: usize,
+    /// Between 0 and 1: share of all failures it explains times the share of its own
+    /// runs that failed.
+    pub score: f64,
+    /// True when every run containing it failed ("fails always").
+    pub always: bool,
+    /// Failures it explains that nothing ranked above it explains.
+    pub explains: u64,
+    /// Why it is suspected, in words.
+    pub reason: String,
+}
+
+/// An interaction that both passed and failed and explains failures.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Flaky {
+    /// Index into [`Evidence::interactions`].
+    pub interaction: usize,
+    /// Executions.
+    pub runs: u64,
+    /// Passes.
+    pub passes: u64,
+    /// Lower end of the 95% Wilson score interval of the pass rate.
+    pub low: f64,
+    /// Upper end.
+    pub high: f64,
+}
+
+/// The verdict on one suite.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct Analysis {
+    /// Best first.
+    pub suspects: Vec<Suspect>,
+    /// In the order of `suspects`.
+    pub flaky: Vec<Flaky>,
+    /// Failures recorded in all.
+    pub failures: u64,
+}
+
+/// z for a two-sided 95% interval (the 0.975 quantile of the standard normal).
+pub const Z95: f64 = 1.959_963_984_540_054;
+
+/// Wilson (1927) score interval for a proportion of `k` successes in `n` trials.
+/// Returns `(0, 1)` when `n` is 0.
+pub fn wilson(k: u64, n: u64, z: f64) -> (f64, f64) {
+    if n == 0 {
+        return (0.0, 1.0);
+    }
+    let n = n as f64;
+    let p = k as f64 / n;
+    let z2 = z * z;
+    let denom = 1.0 + z2 / n;
+    let centre = (p + z2 / (2.0 * n)) / denom;
+    let half = z * (p * (1.0 - p) / n + z2 / (4.0 * n * n)).sqrt() / denom;
+    ((centre - half).max(0.0), (centre + half).min(1.0))
+}
+
+/// The least λ at which an interaction failing with probability `p` on each run is seen
+/// failing at least once with probability at least `confidence`: 1 − (1 − p)^λ ≥ c.
+/// `None` when p is not in (0, 1] or c is not in (0, 1).
+pub fn lambda_for(p: f64, confidence: f64) -> Option<u32> {
+    if !(p > 0.0 && p <= 1.0 && confidence > 0.0 && confidence < 1.0) {
+        return None;
+    }
+    if p == 1.0 {
+        return Some(1);
+    }
+    let l = ((1.0 - confidence).ln() / (1.0 - p).ln()).ceil();
+    // guard against rounding just above an integer
+    let mut l = l.max(1.0) as u32;
+    while l > 1 && 1.0 - (1.0 - p).powi(l as i32 - 1) >= confidence {
+        l -= 1;
+    }
+    Some(l)
+}
+
+/// The smallest failure probability that λ runs catch with probability `confidence`.
+pub fn detectable_rate(lambda: u32, confidence: f64) -> f64 {
+    1.0 - (1.0 - confidence).powf(1.0 / lambda as f64)
+}
+
+fn contains(row: &[u8], levels: &[(usize, u8)]) -> bool {
+    levels.iter().all(|&(f, l)| row[f] == l)
+}
+
+fn is_subset(small: &[(usize, u8)], big: &[(usize, u8)]) -> bool {
+    small.iter().all(|x| big.contains(x))
+}
+
+/// Names the interactions that explain the failures of a suite.
+pub fn analyse(ev: &Evidence<'_>) -> Analysis {
+    let failures: u64 = ev.row_failures.iter().sum();
+    if failures == 0 {
+        return Analysis::default();
+    }
+    let failing: Vec<usize> = (0..ev.rows.len()).filter(|&r| ev.row_failures[r] > 0).collect();
+    // candidates: interactions with failures, with the failing rows containing them
+    let cands: Vec<(usize, Vec<usize>)> = ev
+        .interactions
+        .iter()
+        .enumerate()
+        .filter(|(_, c)| c.failures > 0)
+        .map(|(i, c)| {
+            (
+                i,
+                failing
+                    .iter()
+                    .copied()
+                    .filter(|&r| contains(&ev.rows[r], &c.levels))
+                    .collect(),
+            )
+        })
+        .collect();
+    let purity = |i: usize| {
+        let c = &ev.interactions[i];
+        c.failures as f64 / c.runs.max(1) as f64
+    };
+    let mut explained = vec![false; ev.rows.len()];
+    // (candidate position, failures explained when picked)
+    let mut picked: Vec<(usize, u64)> = Vec::new();
+    loop {
+        let gain = |rows: &[usize]| -> u64 {
+            rows.iter()
+                .filter(|&&r| !explained[r])
+                .map(|&r| ev.row_failures[r])
+                .sum()
+        };
+        let levels = |c: usize| &ev.interactions[cands[c].0].levels;
+        // best by (explained failures, purity, fewer factors); ties all kept
+        let mut best: Vec<(usize, u64)> = Vec::new();
+        for (c, (i, rows)) in cands.iter().enumerate() {
+            let g = gain(rows);
+            if g == 0 {
+                continue;
+            }
+            let ord = match best.first() {
+                None => Ordering::Greater,
+                Some(&(b, bg)) => g
+                    .cmp(&bg)
+                    .then(purity(*i).total_cmp(&purity(cands[b].0)))
+                    .then(levels(b).len().cmp(&levels(c).len())),
+            };
+            match ord {
+                Ordering::Greater => best = vec![(c, g)],
+                Ordering::Equal => best.push((c, g)),
+                Ordering::Less => {}
+            }
+        }
+        if best.is_empty() {
+            break;
+        }
+        // an explanation that contains another equally good one adds nothing
+        let group: Vec<(usize, u64)> = best
+            .iter()
+            .copied()
+            .filter(|&(c, _)| {
+                !best
+                    .iter()
+                    .any(|&(d, _)| d != c && is_subset(levels(d), levels(c)))
+            })
+            .collect();
+        for &(c, g) in &group {
+            picked.push((c, g));
+            for &r in &cands[c].1 {
+                explained[r] = true;
+            }
+        }
+    }
+    let suspect = |i: usize, g: u64| {
+        let c = &ev.interactions[i];
+        let always = c.passes == 0;
+        let reason = if always {
+            format!(
+                "failed in all {} of its runs; explains {g} of {failures} failures",
+                c.runs
+            )
+        } else {
+            format!(
+                "failed in {} of its {} runs and passed in {}; explains {g} of {failures} failures",
+                c.failures, c.runs, c.passes
+            )
+        };
+        Suspect {
+            interaction: i,
+            score: g as f64 / failures as f64 * purity(i),
+            always,
+            explains: g,
+            reason,
+        }
+    };
+    let mut suspects: Vec<Suspect> = picked.iter().map(|&(c, g)| suspect(cands[c].0, g)).collect();
+    // strong suspects the explanation did not need: every run failed, but their failures
+    // are already explained by something simpler or broader
+    for (c, (i, _)) in cands.iter().enumerate() {
+        let tally = &ev.interactions[*i];
+        if tally.passes == 0 && !picked.iter().any(|&(p, _)| p == c) {
+            suspects.push(Suspect {
+                interaction: *i,
+                score: 0.5 * tally.failures as f64 / failures as f64,
+                always: true,
+                explains: 0,
+                reason: format!(
+                    "failed in all {} of its runs, but a higher-ranked suspect already explains those failures",
+                    tally.runs
+                ),
+            });
+        }
+    }
+    // explanations first, then the redundant strong suspects
+    suspects.sort_by(|a, b| {
+        (b.explains > 0)
+            .cmp(&(a.explains > 0))
+            .then(b.score.total_cmp(&a.score))
+            .then(b.explains.cmp(&a.explains))
+            .then(
+                ev.interactions[a.interaction]
+                    .levels
+                    .len()
+                    .cmp(&ev.interactions[b.interaction].levels.len()),
+            )
+            .then(a.interaction.cmp(&b.interaction))
+    });
+    let flaky = suspects
+        .iter()
+        .filter(|s| !s.always && s.explains > 0)
+        .map(|s| {
+            let c = &ev.interactions[s.interaction];
+            let (low, high) = wilson(c.passes, c.runs, Z95);
+            Flaky {
+                interaction: s.interaction,
+                runs: c.runs,
+                passes: c.passes,
+                low,
+                high,
+            }
+        })
+        .collect();
+    Analysis {
+        suspects,
+        flaky,
+        failures,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn wilson_matches_published_examples() {
+        // Newcombe (1998), "Two-sided confidence intervals for the single proportion",
+        // Statistics in Medicine 17:857-872, Table I, method 3 (score interval without
+        // continuity correction); values from memory, to 4 decimals.
+        for (k, n, lo, hi) in [
+            (81, 263, 0.2553, 0.3662),
+            (15, 148, 0.0624, 0.1605),
+            (0, 20, 0.0, 0.1611),
+            (1, 29, 0.0061, 0.1718),
+        ] {
+            let (l, h) = wilson(k, n, Z95);
+            assert!((l - lo).abs() < 1e-4 && (h - hi).abs() < 1e-4, "{k}/{n}: {l} {h}");
+        }
+    }
+
+    #[test]
+    fn wilson_bounds_solve_the_score_equation() {
+        // Wilson (1927): the bounds are the p with |p̂ − p| = z·sqrt(p(1−p)/n)
+        for (k, n) in [(3u64, 10u64), (7, 9), (50, 100), (1, 1000)] {
+            let (l, h) = wilson(k, n, Z95);
+            let phat = k as f64 / n as f64;
+            for p in [l, h] {
+                let lhs = (phat - p).abs();
+                let rhs = Z95 * (p * (1.0 - p) / n as f64).sqrt();
+                assert!((lhs - rhs).abs() < 1e-12, "{k}/{n} at {p}");
+            }
+        }
+    }
+
+    #[test]
+    fn lambda_advice_is_least() {
+        // 1 − (1 − p)^λ ≥ c; p = 0.5, c = 0.95: 0.5^4 = 0.0625 > 0.05, 0.5^5 = 0.03125
+        assert_eq!(lambda_for(0.5, 0.95), Some(5));
+        assert_eq!(lambda_for(1.0, 0.99), Some(1));
+        assert_eq!(lambda_for(0.0, 0.95), None);
+        for p in [0.01, 0.1, 0.3, 0.77] {
+            for c in [0.5, 0.9, 0.99] {
+                let l = lambda_for(p, c).unwrap();
+                assert!(1.0 - (1.0 - p).powi(l as i32) >= c);
+                assert!(l == 1 || 1.0 - (1.0 - p).powi(l as i32 - 1) < c);
+            }
+        }
+        let p = detectable_rate(4, 0.95);
+        assert_eq!(lambda_for(p + 1e-9, 0.95), Some(4));
+    }
+}
