@@ -7,3 +7,4 @@ pub mod cli;
 pub mod design;
 pub mod failure;
 pub mod spec_args;
+pub mod workspace;

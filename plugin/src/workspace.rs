@@ -1,0 +1,181 @@
+//! Which packages a command works on and where their files and records live, as cargo
+//! itself sees it (through `cargo metadata`), so custom target and build directories,
+//! `--manifest-path`, `-p` and `--workspace` behave as they do for `cargo test`.
+
+use std::path::{Path, PathBuf};
+
+use cargo_metadata::MetadataCommand;
+use clap::Args;
+
+use crate::failure::{Failure, usage};
+
+/// Package selection flags shared by the subcommands that work on a project.
+#[derive(Args, Clone, Debug, Default)]
+pub struct Selection {
+    /// Path to Cargo.toml.
+    #[arg(long, value_name = "PATH")]
+    pub manifest_path: Option<PathBuf>,
+    /// Package to work on (repeatable).
+    #[arg(long, short = 'p', value_name = "SPEC")]
+    pub package: Vec<String>,
+    /// Work on every package of the workspace.
+    #[arg(long)]
+    pub workspace: bool,
+}
+
+/// A selected package.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Package {
+    /// Package name.
+    pub name: String,
+    /// Directory holding its Cargo.toml.
+    pub root: PathBuf,
+}
+
+/// The selected packages and the directories cargo builds into.
+#[derive(Clone, Debug)]
+pub struct Project {
+    /// The workspace root.
+    pub workspace_root: PathBuf,
+    /// Cargo's target directory (final artifacts).
+    pub target_dir: PathBuf,
+    /// Cargo's build directory (intermediate artifacts, where test binaries run from)
+    /// when configured apart from the target directory.
+    pub build_dir: Option<PathBuf>,
+    /// Selected packages, sorted by name.
+    pub packages: Vec<Package>,
+}
+
+impl Project {
+    /// Directories records may be under: the target directory, then the build directory.
+    pub fn record_roots(&self) -> Vec<PathBuf> {
+        let mut roots = vec![self.target_dir.clone()];
+        if let Some(b) = &self.build_dir {
+            if *b != self.target_dir {
+                roots.push(b.clone());
+            }
+        }
+        roots
+    }
+}
+
+/// Loads the project the way cargo would for these flags.
+pub fn load(sel: &Selection) -> Result<Project, Failure> {
+    let mut cmd = MetadataCommand::new();
+    cmd.no_deps();
+    if let Some(p) = &sel.manifest_path {
+        if !p.is_file() {
+            return Err(usage(format!("manifest path `{}` does not exist", p.display())));
+        }
+        cmd.manifest_path(p);
+    }
+    let meta = cmd
+        .exec()
+        .map_err(|e| usage(format!("could not read the cargo project: {e}")))?;
+    let members: Vec<&cargo_metadata::Package> = meta
+        .packages
+        .iter()
+        .filter(|p| meta.workspace_members.contains(&p.id))
+        .collect();
+    let chosen: Vec<&cargo_metadata::Package> = if !sel.package.is_empty() {
+        let mut out = Vec::new();
+        for name in &sel.package {
+            match members.iter().find(|p| p.name.as_str() == name) {
+                Some(p) => out.push(*p),
+                None => {
+                    let known: Vec<&str> = members.iter().map(|p| p.name.as_str()).collect();
+                    return Err(usage(format!(
+                        "package `{name}` is not in this workspace\n  hint: packages are: {}",
+                        known.join(", ")
+                    )));
+                }
+            }
+        }
+        out
+    } else if sel.workspace {
+        members.clone()
+    } else {
+        let manifest = match &sel.manifest_path {
+            Some(p) => p.canonicalize().ok(),
+            None => std::env::current_dir().ok().and_then(|d| find_manifest(&d)),
+        };
+        let here = manifest.and_then(|m| {
+            members
+                .iter()
+                .find(|p| p.manifest_path.as_std_path().canonicalize().ok().as_ref() == Some(&m))
+                .copied()
+        });
+        match here {
+            Some(p) => vec![p],
+            // a virtual manifest: cargo's default members
+            None => members
+                .iter()
+                .filter(|p| meta.workspace_default_members.contains(&p.id))
+                .copied()
+                .collect(),
+        }
+    };
+    let mut packages: Vec<Package> = chosen
+        .iter()
+        .map(|p| Package {
+            name: p.name.to_string(),
+            root: p
+                .manifest_path
+                .parent()
+                .map(|d| d.as_std_path().to_path_buf())
+                .unwrap_or_default(),
+        })
+        .collect();
+    packages.sort_by(|a, b| a.name.cmp(&b.name));
+    packages.dedup();
+    Ok(Project {
+        workspace_root: meta.workspace_root.as_std_path().to_path_buf(),
+        target_dir: meta.target_directory.as_std_path().to_path_buf(),
+        build_dir: meta
+            .build_directory
+            .as_ref()
+            .map(|b| b.as_std_path().to_path_buf()),
+        packages,
+    })
+}
+
+/// The nearest Cargo.toml at or above `dir`.
+fn find_manifest(dir: &Path) -> Option<PathBuf> {
+    dir.ancestors()
+        .map(|d| d.join("Cargo.toml"))
+        .find(|m| m.is_file())
+        .and_then(|m| m.canonicalize().ok())
+}
+
+/// Every `.rs` file of a package (sources, tests, benches, examples), sorted, as paths
+/// relative to the package root with `/` separators; nested packages and `target`
+/// directories are skipped.
+pub fn rust_files(root: &Path) -> Vec<String> {
+    fn walk(root: &Path, dir: &Path, out: &mut Vec<String>) {
+        let Ok(entries) = std::fs::read_dir(dir) else {
+            return;
+        };
+        let mut entries: Vec<_> = entries.filter_map(Result::ok).map(|e| e.path()).collect();
+        entries.sort();
+        for path in entries {
+            let name = path.file_name().and_then(|n| n.to_str()).unwrap_or("");
+            if path.is_dir() {
+                if name == "target" || name.starts_with('.') || path.join("Cargo.toml").is_file() {
+                    continue;
+                }
+                walk(root, &path, out);
+            } else if name.ends_with(".rs") {
+                if let Ok(rel) = path.strip_prefix(root) {
+                    let parts: Vec<String> = rel
+                        .components()
+                        .map(|c| c.as_os_str().to_string_lossy().into_owned())
+                        .collect();
+                    out.push(parts.join("/"));
+                }
+            }
+        }
+    }
+    let mut out = Vec::new();
+    walk(root, root, &mut out);
+    out
+}
