@@ -1,0 +1,132 @@
+//! The hub: batches, frames, a worker pool, duplicate filtering and merging.
+
+use std::collections::HashSet;
+use std::sync::Mutex;
+
+use crate::codec::{decode, encode};
+use crate::{Config, Flush, HubError, Reading, Summary};
+
+/// A configured hub.
+#[derive(Clone, Copy, Debug)]
+pub struct Hub {
+    config: Config,
+}
+
+/// Calibration offsets per sensor id modulo 8, in hundredths (all zero on this site: the
+/// lookup is kept because real sites have non-zero tables).
+const CALIBRATION: [i64; 8] = [0; 8];
+
+impl Hub {
+    /// A hub with these knobs.
+    pub fn new(config: Config) -> Self {
+        Hub { config }
+    }
+
+    /// Runs the readings through the hub and returns the per-sensor summary.
+    pub fn run(&self, readings: &[Reading]) -> Result<Summary, HubError> {
+        let c = self.config;
+        if c.batch == 0 {
+            return Err(HubError::Config("batch must be at least 1"));
+        }
+        if c.workers == 0 {
+            return Err(HubError::Config("workers must be at least 1"));
+        }
+        let frames: Vec<Vec<u8>> = readings
+            .chunks(c.batch)
+            .map(|b| encode(b, c.unit, c.codec, c.checksum))
+            .collect();
+        let seen: Mutex<HashSet<(u16, u32)>> = Mutex::new(HashSet::new());
+        let summary: Mutex<Summary> = Mutex::new(Summary::new());
+        let errors: Mutex<Vec<HubError>> = Mutex::new(Vec::new());
+        std::thread::scope(|s| {
+            for w in 0..c.workers {
+                let (frames, seen, summary, errors) = (&frames, &seen, &summary, &errors);
+                s.spawn(move || {
+                    let mut local = Summary::new();
+                    for (n, frame) in frames.iter().enumerate().skip(w).step_by(c.workers) {
+                        let decoded = match decode(frame, n, c.unit, c.codec, c.checksum) {
+                            Ok(d) => d,
+                            Err(e) => {
+                                errors.lock().unwrap_or_else(|p| p.into_inner()).push(e);
+                                continue;
+                            }
+                        };
+                        for (sensor, seq, value) in decoded {
+                            if c.dedupe
+                                && !seen
+                                    .lock()
+                                    .unwrap_or_else(|p| p.into_inner())
+                                    .insert((sensor, seq))
+                            {
+                                continue;
+                            }
+                            local
+                                .entry(sensor)
+                                .or_default()
+                                .add(value + CALIBRATION[sensor as usize % 8]);
+                        }
+                        if c.flush == Flush::EveryFrame {
+                            merge_locked(summary, &mut local);
+                        }
+                    }
+                    if c.flush == Flush::OnClose {
+                        publish_on_close(summary, &mut local);
+                    }
+                });
+            }
+        });
+        let mut errors = errors.into_inner().unwrap_or_else(|p| p.into_inner());
+        errors.sort_by_key(|e| match e {
+            HubError::Checksum { frame } | HubError::Truncated { frame } => *frame,
+            HubError::Config(_) => 0,
+        });
+        if let Some(e) = errors.into_iter().next() {
+            return Err(e);
+        }
+        Ok(summary.into_inner().unwrap_or_else(|p| p.into_inner()))
+    }
+}
+
+mod log {
+    use crate::Summary;
+
+    /// Rounds of mixing in the audit digest (the site's log format asks for a slow one).
+    const AUDIT_ROUNDS: u64 = 20_000;
+
+    /// The digest of a summary that the close path writes to the audit log.
+    pub fn audit(summary: &Summary) -> u64 {
+        let mut h = 0xcbf2_9ce4_8422_2325u64;
+        for (sensor, s) in summary {
+            for x in [*sensor as i64, s.count as i64, s.min, s.max, s.sum] {
+                h = (h ^ x as u64).wrapping_mul(0x0000_0100_0000_01b3);
+            }
+        }
+        for _ in 0..AUDIT_ROUNDS {
+            h = std::hint::black_box(h.rotate_left(5) ^ 0x9e37_79b9);
+        }
+        h
+    }
+}
+
+/// Merges a worker's statistics into the summary while holding its lock.
+fn merge_locked(summary: &Mutex<Summary>, local: &mut Summary) {
+    let mut s = summary.lock().unwrap_or_else(|p| p.into_inner());
+    for (sensor, stats) in std::mem::take(local) {
+        s.entry(sensor).or_default().merge(&stats);
+    }
+}
+
+/// The close-time merge, which keeps the lock short by merging into a copy.
+///
+/// PLANTED DEFECT (race, `workers = 4` × `flush = OnClose`): the copy is taken and put
+/// back under two separate lock acquisitions, so when two workers close at the same time
+/// the later write overwrites the other's statistics (a lost update). With one worker,
+/// or with `EveryFrame` (which merges under the lock), nothing is lost.
+fn publish_on_close(summary: &Mutex<Summary>, local: &mut Summary) {
+    let mut merged = summary.lock().unwrap_or_else(|p| p.into_inner()).clone();
+    for (sensor, stats) in std::mem::take(local) {
+        merged.entry(sensor).or_default().merge(&stats);
+    }
+    log::audit(&merged);
+    *summary.lock().unwrap_or_else(|p| p.into_inner()) = merged;
+}
