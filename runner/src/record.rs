@@ -158,6 +158,22 @@ impl SpecRecord {
         }
     }
 
+    /// Orders this spec's key against a key without building its own.
+    pub fn key_cmp(&self, key: &SuiteKey) -> std::cmp::Ordering {
+        (
+            self.krate.as_str(),
+            self.target.as_str(),
+            self.suite.as_str(),
+            self.fingerprint.as_str(),
+        )
+            .cmp(&(
+                key.krate.as_str(),
+                key.target.as_str(),
+                key.suite.as_str(),
+                key.fingerprint.as_str(),
+            ))
+    }
+
     /// Checks the spec is self-consistent, so tallies can index it without bounds checks
     /// failing: a spec line from a buggy or foreign writer is refused instead.
     pub fn validate(&self) -> Result<(), SpecError> {
@@ -351,9 +367,30 @@ struct Tagged<'a, T> {
     body: &'a T,
 }
 
-impl Line {
-    /// Parses one line (without its newline).
-    pub fn parse(text: &str) -> Result<Line, LineError> {
+/// The kind of a line of the current format version.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum LineKind {
+    /// A spec line.
+    Spec,
+    /// A row line.
+    Row,
+}
+
+/// How the lines this crate writes begin; recognising them from their first bytes saves
+/// a second pass over every line when reading large stores.
+const SPEC_PREFIX: &str = "{\"v\":1,\"kind\":\"spec\",";
+const ROW_PREFIX: &str = "{\"v\":1,\"kind\":\"row\",";
+
+impl LineKind {
+    /// Classifies a line: the kind it is of the current version, or why it is not one.
+    /// A line only claims its kind; [`Line::parse`] still checks the rest.
+    pub fn of(text: &str) -> Result<LineKind, LineError> {
+        if text.starts_with(ROW_PREFIX) {
+            return Ok(LineKind::Row);
+        }
+        if text.starts_with(SPEC_PREFIX) {
+            return Ok(LineKind::Spec);
+        }
         let probe: Probe = serde_json::from_str(text).map_err(|e| LineError::Corrupt(e.to_string()))?;
         match probe.v {
             Some(FORMAT_VERSION) => {}
@@ -361,14 +398,44 @@ impl Line {
             None => return Err(LineError::Corrupt("no `v` field".into())),
         }
         match probe.kind {
-            Some("row") => serde_json::from_str(text)
-                .map(Line::Row)
-                .map_err(|e| LineError::Corrupt(e.to_string())),
-            Some("spec") => serde_json::from_str(text)
-                .map(Line::Spec)
-                .map_err(|e| LineError::Corrupt(e.to_string())),
+            Some("row") => Ok(LineKind::Row),
+            Some("spec") => Ok(LineKind::Spec),
             Some(other) => Err(LineError::Corrupt(format!("unknown kind `{other}`"))),
             None => Err(LineError::Corrupt("no `kind` field".into())),
+        }
+    }
+}
+
+/// The part of a spec line, as this crate writes it, that identifies its content: all
+/// but the `run` and `time` values (which differ between processes writing the same
+/// spec). `None` for a line of another shape, or whose run or time value holds a quote,
+/// backslash or control character (so a line with an equal identity and such values is
+/// as valid as the one it equals).
+pub(crate) fn spec_identity(text: &str) -> Option<&str> {
+    fn plain(s: &str) -> bool {
+        s.bytes().all(|b| b >= 0x20 && b != b'"' && b != b'\\')
+    }
+    let rest = text.strip_prefix(SPEC_PREFIX)?.strip_prefix("\"run\":\"")?;
+    let run_end = rest.find('"')?;
+    if !plain(&rest[..run_end]) {
+        return None;
+    }
+    let rest = &rest[run_end..];
+    let time_at = rest.rfind(",\"time\":\"")?;
+    let time = rest[time_at + 9..].strip_suffix("\"}")?;
+    if !plain(time) {
+        return None;
+    }
+    Some(&rest[..time_at])
+}
+
+impl Line {
+    /// Parses one line (without its newline).
+    pub fn parse(text: &str) -> Result<Line, LineError> {
+        let corrupt = |e: serde_json::Error| LineError::Corrupt(e.to_string());
+        match LineKind::of(text)? {
+            LineKind::Row => serde_json::from_str(text).map(Line::Row).map_err(corrupt),
+            LineKind::Spec => serde_json::from_str(text).map(Line::Spec).map_err(corrupt),
         }
     }
 
@@ -462,6 +529,37 @@ mod tests {
         let doc = include_str!("record.rs");
         assert!(doc.contains(&format!("//! {}", Line::Spec(spec()).to_json_line().trim_end())));
         assert!(doc.contains(&format!("//! {}", Line::Row(row()).to_json_line().trim_end())));
+    }
+
+    #[test]
+    fn written_lines_take_the_fast_path() {
+        assert!(Line::Row(row()).to_json_line().starts_with(ROW_PREFIX));
+        assert!(Line::Spec(spec()).to_json_line().starts_with(SPEC_PREFIX));
+        assert!(ROW_PREFIX.starts_with(&format!("{{\"v\":{FORMAT_VERSION},")));
+        // the same line with its fields reordered is still read (slow path)
+        let reordered = r#"{"kind":"row","v":1,"run":"r1","crate":"demo","target":"codec","test":"roundtrip::row_02","fingerprint":"f00d","row":2,"labels":["8","true"],"outcome":"failed","message":"assertion failed: ok","duration_ns":41250,"time":"2025-01-02T03:04:05.000042Z"}"#;
+        assert_eq!(Line::parse(reordered).unwrap(), Line::Row(row()));
+        let text = Line::Spec(spec()).to_json_line();
+        let mut other = spec();
+        other.run = "r2-longer".into();
+        other.time = "later".into();
+        let other_text = Line::Spec(other.clone()).to_json_line();
+        let id = spec_identity(text.trim_end()).unwrap();
+        assert_eq!(spec_identity(other_text.trim_end()), Some(id));
+        assert!(
+            id.starts_with("\",\"crate\":\"demo\"") && id.ends_with("\"should_panic\":false"),
+            "{id}"
+        );
+        other.seed = 12;
+        assert_ne!(
+            spec_identity(Line::Spec(other).to_json_line().trim_end()),
+            Some(id)
+        );
+        let escaped = text.replacen("\"run\":\"r1\"", "\"run\":\"r\\\"1\"", 1);
+        assert_eq!(spec_identity(escaped.trim_end()), None);
+        assert_eq!(spec_identity(&text[..text.len() - 3]), None);
+        // a damaged line with the right prefix is still corrupt
+        assert!(matches!(Line::parse(&text[..40]), Err(LineError::Corrupt(_))));
     }
 
     #[test]

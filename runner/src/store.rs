@@ -28,9 +28,9 @@
 //! ```
 
 use crate::layout::{self, FILE_EXTENSION, RUNS_DIR, STORE_DIR};
-use crate::record::{Line, LineError, Outcome, RowRecord, SpecRecord, SuiteKey};
+use crate::record::{LineError, LineKind, Outcome, RowRecord, SpecRecord, SuiteKey, spec_identity};
 use std::collections::{BTreeMap, BTreeSet};
-use std::io;
+use std::io::{self, Read};
 use std::path::{Path, PathBuf};
 
 /// One or more store roots read as one store.
@@ -46,7 +46,8 @@ pub struct RunInfo {
     pub id: String,
     /// Earliest file stamp of the run (Unix ms); runs are ordered by it, then by id.
     pub started_ms: u64,
-    /// Its process files over all roots, sorted, a file name seen in two roots once.
+    /// Its process files over all roots, by file name (so by creation time), a file
+    /// name seen in two roots once.
     pub files: Vec<PathBuf>,
     /// How many files were left out because another root held the same file name.
     pub duplicate_files: usize,
@@ -80,7 +81,8 @@ pub struct ReadStats {
     pub other_versions: BTreeMap<u32, usize>,
     /// Spec lines refused by [`SpecRecord::validate`].
     pub invalid_specs: usize,
-    /// Spec lines with a known key but different content (a writer bug; first one kept).
+    /// Distinct spec contents beyond the first for one key (a writer bug; the first, in
+    /// file order, is kept).
     pub conflicting_specs: usize,
     /// Row lines whose spec was never read (its line lost or corrupt).
     pub orphan_rows: usize,
@@ -273,19 +275,20 @@ impl Store {
         let mut found: BTreeMap<String, (BTreeMap<String, PathBuf>, usize)> = BTreeMap::new();
         for root in &self.roots {
             let runs_dir = root.join(RUNS_DIR);
-            for run_dir in list_dir(&runs_dir)? {
+            for (run_dir, is_dir) in list_dir(&runs_dir)? {
                 let Some(id) = run_dir.file_name().and_then(|n| n.to_str()).map(str::to_string) else {
                     continue;
                 };
-                if layout::validate_run_id(&id).is_err() || !run_dir.is_dir() {
+                if layout::validate_run_id(&id).is_err() || !is_dir {
                     continue;
                 }
                 let entry = found.entry(id).or_default();
-                for file in list_dir(&run_dir)? {
+                let suffix = format!(".{FILE_EXTENSION}");
+                for (file, is_dir) in list_dir(&run_dir)? {
                     let Some(name) = file.file_name().and_then(|n| n.to_str()).map(str::to_string) else {
                         continue;
                     };
-                    if !name.ends_with(&format!(".{FILE_EXTENSION}")) || !file.is_file() {
+                    if !name.ends_with(&suffix) || is_dir {
                         continue;
                     }
                     match entry.0.entry(name) {
@@ -306,8 +309,8 @@ impl Store {
                     .map(|(name, path)| layout::file_stamp(name).unwrap_or_else(|| mtime_ms(path)))
                     .min()
                     .unwrap_or(0);
-                let mut files: Vec<PathBuf> = files.into_values().collect();
-                files.sort();
+                // the map is ordered by file name, which is the order files are read in
+                let files: Vec<PathBuf> = files.into_values().collect();
                 RunInfo {
                     id,
                     started_ms,
@@ -360,15 +363,18 @@ fn discover_in(dir: &Path, depth: usize, roots: &mut BTreeSet<PathBuf>) {
         return;
     }
     // unreadable directories below the one asked for are passed over
-    for sub in list_dir(dir).unwrap_or_default() {
-        if sub.is_dir() {
+    for (sub, is_dir) in list_dir(dir).unwrap_or_default() {
+        if is_dir {
             discover_in(&sub, depth + 1, roots);
         }
     }
 }
 
-/// Entries of a directory, sorted; a missing directory is empty.
-fn list_dir(dir: &Path) -> Result<Vec<PathBuf>, StoreError> {
+/// Entries of a directory with whether each is a directory, sorted; a missing
+/// directory is empty. The type comes from the directory listing where the platform
+/// gives it (no `stat` per file: a nextest store holds a file per test); symbolic links
+/// are followed.
+fn list_dir(dir: &Path) -> Result<Vec<(PathBuf, bool)>, StoreError> {
     let entries = match std::fs::read_dir(dir) {
         Ok(e) => e,
         Err(e) if e.kind() == io::ErrorKind::NotFound => return Ok(Vec::new()),
@@ -379,8 +385,21 @@ fn list_dir(dir: &Path) -> Result<Vec<PathBuf>, StoreError> {
             });
         }
     };
-    let mut out: Vec<PathBuf> = entries.filter_map(|e| e.ok().map(|e| e.path())).collect();
-    out.sort();
+    let mut out: Vec<(PathBuf, bool)> = entries
+        .filter_map(|e| {
+            let e = e.ok()?;
+            let path = e.path();
+            let is_dir = match e.file_type() {
+                Ok(t) if t.is_symlink() => path.is_dir(),
+                Ok(t) => t.is_dir(),
+                Err(_) => path.is_dir(),
+            };
+            Some((path, is_dir))
+        })
+        .collect();
+    // entries share their parent, so comparing the whole path as bytes orders by name;
+    // much cheaper than `Path`'s component-wise order over a nextest store's many files
+    out.sort_by(|a, b| a.0.as_os_str().cmp(b.0.as_os_str()));
     Ok(out)
 }
 
@@ -394,94 +413,241 @@ fn mtime_ms(path: &Path) -> u64 {
 /// How many corrupt lines [`ReadStats::corrupt_examples`] keeps.
 const CORRUPT_EXAMPLES: usize = 5;
 
-/// Reads the given runs (oldest first) into suites.
+/// What one worker read from a contiguous slice of the run's files.
+#[derive(Default)]
+struct Partial {
+    /// Fully parsed, valid spec lines, in file order.
+    specs: Vec<SpecRecord>,
+    rows: Vec<RowRecord>,
+    stats: ReadStats,
+}
+
+/// Files per worker below which reading stays on one thread.
+const FILES_PER_WORKER: usize = 64;
+
+/// Reads the given runs (oldest first) into suites. Files are read on a few threads in
+/// contiguous slices and merged in file order, so the result does not depend on the
+/// thread count.
 fn read_runs(runs: Vec<RunInfo>) -> Records {
-    let mut stats = ReadStats::default();
-    let mut specs: BTreeMap<SuiteKey, SpecRecord> = BTreeMap::new();
+    let files = runs.iter().map(|r| r.files.len()).sum::<usize>();
+    let workers = std::thread::available_parallelism()
+        .map_or(1, |n| n.get())
+        .clamp(1, 8)
+        .min(files.div_ceil(FILES_PER_WORKER))
+        .max(1);
+    read_runs_with(runs, workers)
+}
+
+fn read_runs_with(runs: Vec<RunInfo>, workers: usize) -> Records {
+    let files: Vec<&Path> = runs
+        .iter()
+        .flat_map(|r| r.files.iter().map(PathBuf::as_path))
+        .collect();
+    let workers = workers.clamp(1, files.len().max(1));
+    let chunk = files.len().div_ceil(workers).max(1);
+    let partials: Vec<Partial> = if workers == 1 {
+        vec![read_files(&files)]
+    } else {
+        std::thread::scope(|s| {
+            let handles: Vec<_> = files
+                .chunks(chunk)
+                .map(|c| s.spawn(move || read_files(c)))
+                .collect();
+            // a worker only panics on a bug; its files then count as unreadable
+            handles
+                .into_iter()
+                .zip(files.chunks(chunk))
+                .map(|(h, c)| {
+                    h.join().unwrap_or_else(|_| Partial {
+                        stats: ReadStats {
+                            unreadable: c.iter().map(|p| p.to_path_buf()).collect(),
+                            ..ReadStats::default()
+                        },
+                        ..Partial::default()
+                    })
+                })
+                .collect()
+        })
+    };
+
+    let mut stats = ReadStats {
+        duplicate_files: runs.iter().map(|r| r.duplicate_files).sum(),
+        ..ReadStats::default()
+    };
+    // every distinct content seen per key, the first one (in file order) kept
+    let mut variants: BTreeMap<SuiteKey, Vec<SpecRecord>> = BTreeMap::new();
     let mut rows: Vec<RowRecord> = Vec::new();
-    for run in &runs {
-        stats.duplicate_files += run.duplicate_files;
-        for path in &run.files {
-            let bytes = match std::fs::read(path) {
-                Ok(b) => b,
-                Err(_) => {
-                    stats.unreadable.push(path.clone());
-                    continue;
+    for part in partials {
+        stats.absorb(part.stats);
+        for spec in part.specs {
+            let known = variants.entry(spec.key()).or_default();
+            if !known.iter().any(|k| k.same_spec(&spec)) {
+                if !known.is_empty() {
+                    stats.conflicting_specs += 1;
                 }
-            };
-            stats.files += 1;
-            for (i, raw) in bytes.split(|&b| b == b'\n').enumerate() {
-                if raw.iter().all(u8::is_ascii_whitespace) {
-                    continue;
-                }
-                stats.lines += 1;
-                let parsed = std::str::from_utf8(raw)
-                    .map_err(|e| LineError::Corrupt(e.to_string()))
-                    .and_then(Line::parse);
-                match parsed {
-                    Ok(Line::Spec(spec)) => {
+                known.push(spec);
+            }
+        }
+        rows.extend(part.rows);
+    }
+    // rows are joined to specs after every file is read, so a row whose process lost its
+    // spec line is still placed when another process of the runs wrote the same spec
+    // suites in key order; rows are placed by binary search, and consecutive rows of one
+    // suite (the common case) reuse the previous answer without building a key
+    let mut suites: Vec<SuiteRecords> = variants
+        .into_values()
+        .filter_map(|mut v| {
+            (!v.is_empty()).then(|| SuiteRecords {
+                spec: v.swap_remove(0),
+                rows: Vec::new(),
+            })
+        })
+        .collect();
+    let mut last: Option<usize> = None;
+    for row in rows {
+        let index = match last.filter(|&i| row_belongs(&row, &suites[i].spec)) {
+            Some(i) => Some(i),
+            None => {
+                let key = row.key();
+                suites.binary_search_by(|s| s.spec.key_cmp(&key)).ok()
+            }
+        };
+        let Some(i) = index else {
+            stats.orphan_rows += 1;
+            continue;
+        };
+        last = Some(i);
+        if !labels_match(&suites[i].spec, &row) {
+            stats.mismatched_rows += 1;
+            continue;
+        }
+        stats.row_lines += 1;
+        suites[i].rows.push(row);
+    }
+    Records { runs, suites, stats }
+}
+
+/// Whether a row record carries this spec's key.
+fn row_belongs(row: &RowRecord, spec: &SpecRecord) -> bool {
+    row.fingerprint == spec.fingerprint
+        && row.krate == spec.krate
+        && row.target == spec.target
+        && row.test.len() > spec.suite.len()
+        && row.test.starts_with(spec.suite.as_str())
+        && row.test[spec.suite.len()..].starts_with("::")
+        && !row.test[spec.suite.len() + 2..].contains("::")
+}
+
+/// Whether a row record's index and labels agree with its spec.
+fn labels_match(spec: &SpecRecord, row: &RowRecord) -> bool {
+    let Some(levels) = spec.rows.get(row.row as usize) else {
+        return false;
+    };
+    levels.len() == row.labels.len()
+        && levels
+            .iter()
+            .zip(&spec.factors)
+            .zip(&row.labels)
+            .all(|((&lv, f), label)| f.labels.get(lv as usize) == Some(label))
+}
+
+impl ReadStats {
+    /// Adds the counts of a later slice of files.
+    fn absorb(&mut self, other: ReadStats) {
+        self.files += other.files;
+        self.lines += other.lines;
+        self.spec_lines += other.spec_lines;
+        self.row_lines += other.row_lines;
+        self.corrupt += other.corrupt;
+        let room = CORRUPT_EXAMPLES.saturating_sub(self.corrupt_examples.len());
+        self.corrupt_examples
+            .extend(other.corrupt_examples.into_iter().take(room));
+        for (v, n) in other.other_versions {
+            *self.other_versions.entry(v).or_default() += n;
+        }
+        self.invalid_specs += other.invalid_specs;
+        self.conflicting_specs += other.conflicting_specs;
+        self.orphan_rows += other.orphan_rows;
+        self.mismatched_rows += other.mismatched_rows;
+        self.duplicate_files += other.duplicate_files;
+        self.unreadable.extend(other.unreadable);
+    }
+}
+
+/// Parses a slice of files. Row lines are parsed fully; a spec line only the first time
+/// its content is met in the slice (see [`spec_identity`]).
+fn read_files(files: &[&Path]) -> Partial {
+    let mut part = Partial::default();
+    let stats = &mut part.stats;
+    // identities of the valid spec lines parsed so far: the same spec written again by
+    // another process (or run) is counted without parsing it again
+    let mut parsed: BTreeSet<String> = BTreeSet::new();
+    let mut bytes = Vec::new();
+    for &path in files {
+        bytes.clear();
+        // one buffer for every file: a nextest store holds a small file per test
+        if std::fs::File::open(path)
+            .and_then(|mut f| f.read_to_end(&mut bytes))
+            .is_err()
+        {
+            stats.unreadable.push(path.to_path_buf());
+            continue;
+        }
+        stats.files += 1;
+        for (i, raw) in bytes.split(|&b| b == b'\n').enumerate() {
+            if raw.iter().all(u8::is_ascii_whitespace) {
+                continue;
+            }
+            stats.lines += 1;
+            let outcome = std::str::from_utf8(raw)
+                .map_err(|e| LineError::Corrupt(e.to_string()))
+                .and_then(|text| Ok((text, LineKind::of(text)?)))
+                .and_then(|(text, kind)| match kind {
+                    LineKind::Row => serde_json::from_str::<RowRecord>(text)
+                        .map(|row| part.rows.push(row))
+                        .map_err(|e| LineError::Corrupt(e.to_string())),
+                    LineKind::Spec => {
+                        let identity = spec_identity(text);
+                        if identity.is_some_and(|id| parsed.contains(id)) {
+                            stats.spec_lines += 1;
+                            return Ok(());
+                        }
+                        let spec = serde_json::from_str::<SpecRecord>(text)
+                            .map_err(|e| LineError::Corrupt(e.to_string()))?;
                         if spec.validate().is_err() {
                             stats.invalid_specs += 1;
-                            continue;
-                        }
-                        stats.spec_lines += 1;
-                        match specs.get(&spec.key()) {
-                            Some(known) if !known.same_spec(&spec) => stats.conflicting_specs += 1,
-                            Some(_) => {}
-                            None => {
-                                specs.insert(spec.key(), spec);
+                        } else {
+                            stats.spec_lines += 1;
+                            if let Some(id) = identity {
+                                parsed.insert(id.to_string());
                             }
+                            part.specs.push(spec);
                         }
+                        Ok(())
                     }
-                    Ok(Line::Row(row)) => rows.push(row),
-                    Err(LineError::OtherVersion(v)) => *stats.other_versions.entry(v).or_default() += 1,
-                    Err(LineError::Corrupt(_)) => {
-                        stats.corrupt += 1;
-                        if stats.corrupt_examples.len() < CORRUPT_EXAMPLES {
-                            stats.corrupt_examples.push(LineRef {
-                                path: path.clone(),
-                                line: i + 1,
-                            });
-                        }
+                });
+            match outcome {
+                Ok(()) => {}
+                Err(LineError::OtherVersion(v)) => *stats.other_versions.entry(v).or_default() += 1,
+                Err(LineError::Corrupt(_)) => {
+                    stats.corrupt += 1;
+                    if stats.corrupt_examples.len() < CORRUPT_EXAMPLES {
+                        stats.corrupt_examples.push(LineRef {
+                            path: path.to_path_buf(),
+                            line: i + 1,
+                        });
                     }
                 }
             }
         }
     }
-    // rows are joined to specs after every file is read: under nextest a row and its
-    // spec may sit in different files of the run only if a spec line was lost, but a
-    // spec read later still rescues the rows
-    let mut grouped: BTreeMap<SuiteKey, Vec<RowRecord>> = BTreeMap::new();
-    for row in rows {
-        let key = row.key();
-        let Some(spec) = specs.get(&key) else {
-            stats.orphan_rows += 1;
-            continue;
-        };
-        let matches = spec
-            .row_labels(row.row as usize)
-            .is_some_and(|labels| labels.iter().copied().eq(row.labels.iter().map(String::as_str)));
-        if !matches {
-            stats.mismatched_rows += 1;
-            continue;
-        }
-        stats.row_lines += 1;
-        grouped.entry(key).or_default().push(row);
-    }
-    let suites = specs
-        .into_iter()
-        .map(|(key, spec)| SuiteRecords {
-            spec,
-            rows: grouped.remove(&key).unwrap_or_default(),
-        })
-        .collect();
-    Records { runs, suites, stats }
+    part
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::record::FactorSpec;
+    use crate::record::{FactorSpec, Line};
     use std::fs;
 
     fn spec(run: &str) -> SpecRecord {
@@ -639,6 +805,36 @@ mod tests {
         let merged = Store::merge([tmp.path().join("shards/job1/target"), job2.clone(), job2]).unwrap();
         assert_eq!(merged.roots().len(), 2);
         assert_eq!(merged.read_all().unwrap().stats.row_lines, 2);
+    }
+
+    #[test]
+    fn parallel_reading_gives_the_same_records_as_one_thread() {
+        let tmp = tempfile::tempdir().unwrap();
+        let root = tmp.path().join("heddle");
+        for f in 0..300u32 {
+            let run = format!("r{}", f % 3);
+            let mut conflicting = spec(&run);
+            conflicting.seed = 99;
+            let first = if f == 150 { conflicting } else { spec(&run) };
+            let lines = [Line::Spec(first), Line::Row(row(&run, f % 2, Outcome::Passed))];
+            let tail = if f % 7 == 0 { "garbage\n{\"v\":3}\n" } else { "" };
+            write_file(&root, &run, &format!("{:013}-{f}-0.jsonl", f), &lines, tail);
+        }
+        let store = Store::open(&root).unwrap();
+        let one = read_runs_with(store.runs().unwrap(), 1);
+        for workers in [2, 3, 8] {
+            assert_eq!(
+                read_runs_with(store.runs().unwrap(), workers),
+                one,
+                "{workers} workers"
+            );
+        }
+        assert_eq!(store.read_all().unwrap(), one);
+        assert_eq!(one.stats.row_lines, 300);
+        assert_eq!(one.stats.corrupt, 43);
+        assert_eq!(one.stats.corrupt_examples.len(), 5);
+        assert_eq!(one.stats.other_versions.get(&3), Some(&43));
+        assert_eq!(one.stats.conflicting_specs, 1);
     }
 
     #[test]
