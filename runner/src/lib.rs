@@ -13,6 +13,22 @@
 //!
 //! Recording is best effort: when the store cannot be written, the test process prints
 //! one warning and the tests run as they would without heddle.
+//!
+//! # Environment
+//! Empty values count as unset; an invalid value turns recording off with a one-line
+//! warning naming the variable (tests still run and pass or fail as usual).
+//!
+//! - `HEDDLE_TARGET_DIR`: the directory to put the store (`heddle/`) in, created if
+//!   missing; relative paths are taken from the test's working directory (cargo runs
+//!   tests in the package root). Unset: the nearest ancestor of the test executable
+//!   holding cargo's `CACHEDIR.TAG`, that is the target directory, or the build
+//!   directory when `build.build-dir` is set.
+//! - `NEXTEST_RUN_ID` (set by nextest), else `HEDDLE_RUN_ID` (set by `cargo heddle
+//!   test` for a whole invocation): the run id, ASCII letters, digits, `.`, `_`, `-`.
+//!   Neither: each test process is a run of its own.
+
+#![warn(missing_docs)]
+#![forbid(unsafe_code)]
 
 pub mod layout;
 mod message;

@@ -182,7 +182,7 @@ fn finish_unit(
         Ok(()) if suite.should_panic => {
             let text = "did not panic as `#[should_panic]` expects";
             // libtest fails the test itself; this explains which row it was
-            eprintln!("{}", message::context(suite, row, text));
+            explain(&message::context(suite, row, text));
             let message = Some(text.to_string());
             rec.record(
                 suite,
@@ -265,7 +265,7 @@ fn panicked(
     } else {
         (Outcome::Failed, "panicked")
     };
-    eprintln!("{}", message::context(suite, row, headline));
+    explain(&message::context(suite, row, headline));
     rec.record(
         suite,
         &RowResult {
@@ -276,6 +276,13 @@ fn panicked(
         },
     );
     panic::resume_unwind(payload)
+}
+
+/// Prints a row's context through libtest's output capture (so it shows with a failing
+/// test's output). `eprintln!` panics when stderr is gone; that panic must not escape,
+/// or a `#[should_panic]` row that did not panic would pass.
+fn explain(text: &str) {
+    let _ = panic::catch_unwind(|| eprintln!("{text}"));
 }
 
 /// The message of a panic payload (`panic!` gives `&str` or `String`).

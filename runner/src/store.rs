@@ -95,6 +95,84 @@ pub struct ReadStats {
 }
 
 impl ReadStats {
+    /// One line per kind of thing left out, for the report to print (empty when nothing
+    /// was); worded like the project's other messages.
+    pub fn notes(&self) -> Vec<String> {
+        let mut out = Vec::new();
+        if self.corrupt > 0 {
+            let at: Vec<String> = self
+                .corrupt_examples
+                .iter()
+                .map(|l| format!("`{}:{}`", l.path.display(), l.line))
+                .collect();
+            out.push(format!(
+                "skipped {} corrupt or truncated record line{} (at {}{}); hint: a test process \
+                 was killed while writing, or the file was damaged",
+                self.corrupt,
+                plural(self.corrupt),
+                at.join(", "),
+                if self.corrupt > at.len() { ", …" } else { "" }
+            ));
+        }
+        for (v, n) in &self.other_versions {
+            let age = if *v < crate::record::FORMAT_VERSION {
+                "older"
+            } else {
+                "newer"
+            };
+            out.push(format!(
+                "skipped {n} record line{} of {age} format version {v} (this build reads version {}); \
+                 hint: rerun the tests with this heddle, or report with the heddle that wrote them",
+                plural(*n),
+                crate::record::FORMAT_VERSION
+            ));
+        }
+        let others = [
+            (
+                self.invalid_specs,
+                "inconsistent spec line",
+                "inconsistent spec lines",
+            ),
+            (
+                self.conflicting_specs,
+                "spec line that contradicts another with its fingerprint",
+                "spec lines that contradict another with their fingerprint",
+            ),
+            (
+                self.orphan_rows,
+                "row line whose spec line is missing",
+                "row lines whose spec line is missing",
+            ),
+            (
+                self.mismatched_rows,
+                "row line whose row or labels disagree with its spec",
+                "row lines whose row or labels disagree with their spec",
+            ),
+        ];
+        for (n, one, many) in others {
+            if n > 0 {
+                let what = if n == 1 { one } else { many };
+                out.push(format!("skipped {n} {what}; hint: the store is damaged"));
+            }
+        }
+        if self.duplicate_files > 0 {
+            out.push(format!(
+                "read {} file{} found in several stores once",
+                self.duplicate_files,
+                plural(self.duplicate_files)
+            ));
+        }
+        if !self.unreadable.is_empty() {
+            out.push(format!(
+                "could not read {} file{} (first `{}`); hint: check permissions",
+                self.unreadable.len(),
+                plural(self.unreadable.len()),
+                self.unreadable[0].display()
+            ));
+        }
+        out
+    }
+
     /// Number of lines left out for any reason.
     pub fn skipped(&self) -> usize {
         self.corrupt
@@ -527,6 +605,10 @@ fn read_runs_with(runs: Vec<RunInfo>, workers: usize) -> Records {
     Records { runs, suites, stats }
 }
 
+fn plural(n: usize) -> &'static str {
+    if n == 1 { "" } else { "s" }
+}
+
 /// Whether a row record carries this spec's key.
 fn row_belongs(row: &RowRecord, spec: &SpecRecord) -> bool {
     row.fingerprint == spec.fingerprint
@@ -780,6 +862,24 @@ mod tests {
         assert_eq!(s.other_versions, BTreeMap::from([(7, 1)]));
         assert_eq!((s.invalid_specs, s.mismatched_rows, s.orphan_rows), (1, 1, 1));
         assert_eq!(s.skipped(), 7);
+        let notes = s.notes();
+        assert_eq!(notes.len(), 5, "{notes:#?}");
+        assert!(
+            notes[0].starts_with("skipped 3 corrupt or truncated record lines (at `"),
+            "{}",
+            notes[0]
+        );
+        assert!(notes[0].contains(".jsonl:7`"), "{}", notes[0]);
+        assert!(
+            notes[1]
+                .starts_with("skipped 1 record line of newer format version 7 (this build reads version 1)")
+        );
+        assert_eq!(
+            notes[2],
+            "skipped 1 inconsistent spec line; hint: the store is damaged"
+        );
+        assert!(notes.iter().all(|n| !n.ends_with('.')));
+        assert!(ReadStats::default().notes().is_empty());
         assert_eq!(rec.suites.len(), 1);
     }
 

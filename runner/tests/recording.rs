@@ -478,6 +478,49 @@ fn many_threads_in_several_processes_write_only_whole_lines() {
 }
 
 #[test]
+fn one_process_per_row_as_nextest_runs_them() {
+    let tmp = tempfile::tempdir().unwrap();
+    let run_id = "6a0c9a3e-1f2b-4c5d-8e9f-0a1b2c3d4e5f";
+    let children: Vec<_> = ALL_ROWS
+        .iter()
+        .map(|row| {
+            let mut c = Child::new(&this_exe(), &[row])
+                .env("HEDDLE_TARGET_DIR", tmp.path())
+                .env("NEXTEST_RUN_ID", run_id)
+                .env("HEDDLE_RUN_ID", "ignored-under-nextest");
+            c.cmd
+                .stdout(std::process::Stdio::null())
+                .stderr(std::process::Stdio::null());
+            c.cmd.spawn().unwrap()
+        })
+        .collect();
+    for mut c in children {
+        c.wait().unwrap();
+    }
+    let store = Store::open(tmp.path()).unwrap();
+    assert_eq!(store.runs().unwrap().len(), 1);
+    let records = store.read_run(run_id).unwrap();
+    assert_eq!(records.stats.files, ALL_ROWS.len());
+    assert_eq!(
+        records.stats.spec_lines,
+        ALL_ROWS.len(),
+        "each process writes its spec"
+    );
+    assert_eq!(records.stats.skipped(), 0);
+    let tests: Vec<&str> = records
+        .suites
+        .iter()
+        .flat_map(|s| &s.rows)
+        .map(|r| r.test.as_str())
+        .collect();
+    let mut sorted = tests.clone();
+    sorted.sort();
+    let mut expected = ALL_ROWS.to_vec();
+    expected.sort();
+    assert_eq!(sorted, expected);
+}
+
+#[test]
 fn run_id_comes_from_nextest_then_heddle_then_the_process() {
     let tmp = tempfile::tempdir().unwrap();
     let row = &["roundtrip::row_00"];
