@@ -1,0 +1,373 @@
+//! The interface between the `#[cover]` expansion and this crate (see `contract.md`):
+//! not for use by hand, and exempt from semver.
+//!
+//! Each generated row test calls one of the `run*` functions with the suite's static
+//! description, the row index and the body. The body runs under `catch_unwind`; the
+//! outcome is recorded; then a panic is resumed and an `Err` returned, so libtest judges
+//! the row exactly as if heddle were not there (`#[should_panic]` included).
+
+use crate::message;
+use crate::record::Outcome;
+use crate::recorder::{self, Recorder, RowResult};
+use crate::setup;
+use std::any::Any;
+use std::fmt::{self, Debug};
+use std::future::Future;
+use std::panic::{self, AssertUnwindSafe};
+use std::pin::pin;
+use std::task::Poll;
+use std::time::Instant;
+
+/// One parameter of the annotated function.
+#[derive(Debug)]
+pub struct Factor {
+    /// Parameter name.
+    pub name: &'static str,
+    /// Level labels: the level expressions' source text, whitespace-normalised.
+    pub labels: &'static [&'static str],
+}
+
+/// Everything the runtime knows about one annotated function, emitted as a `static`.
+#[derive(Debug)]
+pub struct Suite {
+    /// `CARGO_PKG_NAME` of the crate holding the test.
+    pub krate: &'static str,
+    /// Test file relative to the crate root, `/`-separated.
+    pub file: &'static str,
+    /// The annotated function's name.
+    pub function: &'static str,
+    /// `module_path!()` of the generated rows module.
+    pub module: &'static str,
+    /// Parameters in declaration order.
+    pub factors: &'static [Factor],
+    /// Strength t.
+    pub strength: u32,
+    /// Index λ.
+    pub lambda: u32,
+    /// Seed of the rows.
+    pub seed: u64,
+    /// Each exclude's source text, normalised.
+    pub excludes: &'static [&'static str],
+    /// Level index per factor, per row.
+    pub rows: &'static [&'static [u8]],
+    /// Spec fingerprint (the one the pins file stores).
+    pub fingerprint: &'static str,
+    /// Whether the rows came from the pins file.
+    pub pinned: bool,
+    /// Whether the function carries `#[should_panic]`.
+    pub should_panic: bool,
+}
+
+/// The process-wide recorder every row test writes through.
+static GLOBAL: Recorder = Recorder::new(setup::from_process, recorder::warn_stderr);
+
+/// Runs one row of a sync fn returning `()`: records the outcome, re-raises a panic.
+pub fn run(suite: &'static Suite, row: usize, body: impl FnOnce()) {
+    run_in(&GLOBAL, suite, row, body)
+}
+
+/// Runs one row of a sync fn returning `Result<(), E>`: records `Err` as a failure and
+/// returns it wrapped so its `Debug` names the suite, row, labels and rerun command.
+pub fn run_result<E: Debug>(
+    suite: &'static Suite,
+    row: usize,
+    body: impl FnOnce() -> Result<(), E>,
+) -> Result<(), RowError<E>> {
+    run_result_in(&GLOBAL, suite, row, body)
+}
+
+/// Async form of [`run`]: a panic while the future is polled is caught too.
+pub async fn run_async<F: Future<Output = ()>>(suite: &'static Suite, row: usize, body: F) {
+    let start = Instant::now();
+    let caught = catch_future(body).await;
+    finish_unit(&GLOBAL, suite, row, caught, start);
+}
+
+/// Async form of [`run_result`].
+pub async fn run_async_result<E: Debug, F: Future<Output = Result<(), E>>>(
+    suite: &'static Suite,
+    row: usize,
+    body: F,
+) -> Result<(), RowError<E>> {
+    let start = Instant::now();
+    let caught = catch_future(body).await;
+    finish_result(&GLOBAL, suite, row, caught, start)
+}
+
+/// A row's `Err`, carrying the row's context so libtest's `Error: {:?}` line says which
+/// configuration failed and how to rerun it.
+pub struct RowError<E> {
+    error: E,
+    context: String,
+}
+
+impl<E> RowError<E> {
+    /// The body's error.
+    pub fn error(&self) -> &E {
+        &self.error
+    }
+
+    /// The body's error, unwrapped.
+    pub fn into_error(self) -> E {
+        self.error
+    }
+}
+
+impl<E: Debug> Debug for RowError<E> {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        // the context's first line ends with "returned an error"; the error follows it
+        let (head, rest) = self.context.split_once('\n').unwrap_or((&self.context, ""));
+        write!(f, "{head}: {:?}\n{rest}", self.error)
+    }
+}
+
+impl<E: Debug> fmt::Display for RowError<E> {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        Debug::fmt(self, f)
+    }
+}
+
+impl<E: Debug + std::error::Error + 'static> std::error::Error for RowError<E> {
+    fn source(&self) -> Option<&(dyn std::error::Error + 'static)> {
+        Some(&self.error)
+    }
+}
+
+type Payload = Box<dyn Any + Send>;
+
+/// Polls `body` to completion, each poll under `catch_unwind`; after a panic the future
+/// is dropped unpolled.
+async fn catch_future<T, F: Future<Output = T>>(body: F) -> Result<T, Payload> {
+    let mut body = pin!(body);
+    std::future::poll_fn(
+        move |cx| match panic::catch_unwind(AssertUnwindSafe(|| body.as_mut().poll(cx))) {
+            Ok(Poll::Pending) => Poll::Pending,
+            Ok(Poll::Ready(v)) => Poll::Ready(Ok(v)),
+            Err(payload) => Poll::Ready(Err(payload)),
+        },
+    )
+    .await
+}
+
+/// [`run`] against a given recorder.
+pub(crate) fn run_in(rec: &Recorder, suite: &'static Suite, row: usize, body: impl FnOnce()) {
+    let start = Instant::now();
+    // AssertUnwindSafe: the panic is always resumed, so nobody observes state the body
+    // left half-updated
+    let caught = panic::catch_unwind(AssertUnwindSafe(body));
+    finish_unit(rec, suite, row, caught, start);
+}
+
+/// [`run_result`] against a given recorder.
+pub(crate) fn run_result_in<E: Debug>(
+    rec: &Recorder,
+    suite: &'static Suite,
+    row: usize,
+    body: impl FnOnce() -> Result<(), E>,
+) -> Result<(), RowError<E>> {
+    let start = Instant::now();
+    let caught = panic::catch_unwind(AssertUnwindSafe(body));
+    finish_result(rec, suite, row, caught, start)
+}
+
+fn finish_unit(
+    rec: &Recorder,
+    suite: &'static Suite,
+    row: usize,
+    caught: Result<(), Payload>,
+    start: Instant,
+) {
+    let duration = start.elapsed();
+    match caught {
+        Ok(()) if suite.should_panic => {
+            let text = "did not panic as `#[should_panic]` expects";
+            // libtest fails the test itself; this explains which row it was
+            explain(&message::context(suite, row, text));
+            let message = Some(text.to_string());
+            rec.record(
+                suite,
+                &RowResult {
+                    row,
+                    outcome: Outcome::Failed,
+                    message,
+                    duration,
+                },
+            );
+        }
+        Ok(()) => rec.record(
+            suite,
+            &RowResult {
+                row,
+                outcome: Outcome::Passed,
+                message: None,
+                duration,
+            },
+        ),
+        Err(payload) => panicked(rec, suite, row, payload, duration),
+    }
+}
+
+fn finish_result<E: Debug>(
+    rec: &Recorder,
+    suite: &'static Suite,
+    row: usize,
+    caught: Result<Result<(), E>, Payload>,
+    start: Instant,
+) -> Result<(), RowError<E>> {
+    let duration = start.elapsed();
+    match caught {
+        Ok(Ok(())) => {
+            rec.record(
+                suite,
+                &RowResult {
+                    row,
+                    outcome: Outcome::Passed,
+                    message: None,
+                    duration,
+                },
+            );
+            Ok(())
+        }
+        Ok(Err(error)) => {
+            let message = Some(format!("{error:?}"));
+            rec.record(
+                suite,
+                &RowResult {
+                    row,
+                    outcome: Outcome::Failed,
+                    message,
+                    duration,
+                },
+            );
+            let context = message::context(suite, row, "returned an error");
+            Err(RowError { error, context })
+        }
+        Err(payload) => panicked(rec, suite, row, payload, duration),
+    }
+}
+
+/// Records a panic, explains the row on stderr (libtest shows a failing test's captured
+/// output) and resumes unwinding with the original payload, so `#[should_panic(expected
+/// = …)]` still sees the original message.
+fn panicked(
+    rec: &Recorder,
+    suite: &'static Suite,
+    row: usize,
+    payload: Payload,
+    duration: std::time::Duration,
+) -> ! {
+    let text = panic_text(&*payload);
+    let (outcome, headline) = if suite.should_panic {
+        (
+            Outcome::PanickedExpected,
+            "panicked (expected by `#[should_panic]`)",
+        )
+    } else {
+        (Outcome::Failed, "panicked")
+    };
+    explain(&message::context(suite, row, headline));
+    rec.record(
+        suite,
+        &RowResult {
+            row,
+            outcome,
+            message: Some(text),
+            duration,
+        },
+    );
+    panic::resume_unwind(payload)
+}
+
+/// Prints a row's context through libtest's output capture (so it shows with a failing
+/// test's output). `eprintln!` panics when stderr is gone; that panic must not escape,
+/// or a `#[should_panic]` row that did not panic would pass.
+fn explain(text: &str) {
+    let _ = panic::catch_unwind(|| eprintln!("{text}"));
+}
+
+/// The message of a panic payload (`panic!` gives `&str` or `String`).
+pub(crate) fn panic_text(payload: &(dyn Any + Send)) -> String {
+    if let Some(s) = payload.downcast_ref::<&str>() {
+        s.to_string()
+    } else if let Some(s) = payload.downcast_ref::<String>() {
+        s.clone()
+    } else {
+        "<panic payload that is not a string>".to_string()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::setup::{Config, SetupError};
+
+    static SUITE: Suite = Suite {
+        krate: "demo",
+        file: "tests/t.rs",
+        function: "f",
+        module: "t::f",
+        factors: &[Factor {
+            name: "x",
+            labels: &["1", "2"],
+        }],
+        strength: 1,
+        lambda: 1,
+        seed: 5,
+        excludes: &[],
+        rows: &[&[0], &[1]],
+        fingerprint: "fp",
+        pinned: false,
+        should_panic: false,
+    };
+
+    fn off() -> Result<Config, SetupError> {
+        Err(SetupError::NoBuildDir {
+            exe: "/nowhere".into(),
+        })
+    }
+
+    fn silent(_: &str) {}
+
+    #[test]
+    fn panic_text_reads_both_string_payloads() {
+        assert_eq!(panic_text(&"static"), "static");
+        assert_eq!(panic_text(&String::from("owned")), "owned");
+        assert_eq!(panic_text(&42u8), "<panic payload that is not a string>");
+    }
+
+    #[test]
+    fn panics_are_resumed_with_the_original_payload() {
+        let rec = Recorder::new(off, silent);
+        let caught = panic::catch_unwind(|| run_in(&rec, &SUITE, 1, || std::panic::panic_any(7u32)));
+        assert_eq!(caught.unwrap_err().downcast_ref::<u32>(), Some(&7));
+    }
+
+    #[test]
+    fn err_is_returned_with_context_in_debug() {
+        let rec = Recorder::new(off, silent);
+        let err = run_result_in(&rec, &SUITE, 1, || Err::<(), _>("bad")).unwrap_err();
+        assert_eq!(*err.error(), "bad");
+        let text = format!("{err:?}");
+        assert!(
+            text.starts_with("heddle: `f` row 1 of 2 (`f::row_01`) returned an error: \"bad\"\n  x = 2\n"),
+            "{text}"
+        );
+        assert!(
+            text.ends_with("rerun: cargo test -p demo --test t f::row_01 -- --exact"),
+            "{text}"
+        );
+        assert_eq!(
+            run_result_in(&rec, &SUITE, 0, || Ok::<(), &str>(())).map_err(|_| ()),
+            Ok(())
+        );
+    }
+
+    #[test]
+    fn async_rows_are_send_when_their_body_is() {
+        fn assert_send<T: Send>(_: &T) {}
+        let fut = run_async(&SUITE, 0, async {});
+        assert_send(&fut);
+        let fut = run_async_result(&SUITE, 0, async { Ok::<(), String>(()) });
+        assert_send(&fut);
+    }
+}

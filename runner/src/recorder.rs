@@ -1,0 +1,283 @@
+//! Appends row outcomes to this process's store file.
+//!
+//! One file per process means no two processes ever share a file (nextest's
+//! one-process-per-test included); inside a process libtest's threads are serialised by
+//! a mutex, and every record goes out as one `write` on a file opened in append mode, so
+//! a reader only ever sees whole lines, or at worst a torn last line after a crash.
+//! Recording is best effort: a failure prints one warning line and turns recording off;
+//! it never fails or panics a test.
+
+use crate::__private::Suite;
+use crate::layout;
+use crate::message;
+use crate::record::{FactorSpec, Line, Outcome, RowRecord, SpecRecord};
+use crate::setup::{Config, SetupError};
+use crate::time;
+use std::collections::BTreeSet;
+use std::fs::{File, OpenOptions};
+use std::io::Write;
+use std::path::PathBuf;
+use std::sync::Mutex;
+use std::time::{Duration, SystemTime};
+
+/// The outcome of one row, ready to record.
+pub(crate) struct RowResult {
+    pub(crate) row: usize,
+    pub(crate) outcome: Outcome,
+    pub(crate) message: Option<String>,
+    pub(crate) duration: Duration,
+}
+
+enum State {
+    /// Nothing recorded yet: the store is opened on the first row.
+    Pending,
+    Open(Writer),
+    /// Recording failed (and said so once).
+    Off,
+}
+
+struct Writer {
+    file: File,
+    path: PathBuf,
+    run_id: String,
+    /// Suites whose spec line this process already wrote, by address (suites are
+    /// `'static`, so an address names one suite for the life of the process).
+    specs: BTreeSet<usize>,
+}
+
+/// A sink for row results.
+pub(crate) struct Recorder {
+    state: Mutex<State>,
+    setup: fn() -> Result<Config, SetupError>,
+    warn: fn(&str),
+}
+
+/// Prints a warning on the process's real stderr, bypassing libtest's output capture so
+/// it shows even when every test passes.
+pub(crate) fn warn_stderr(text: &str) {
+    let _ = std::io::stderr()
+        .lock()
+        .write_all(format!("heddle: warning: {text}\n").as_bytes());
+}
+
+impl Recorder {
+    /// A recorder that resolves its config on first use.
+    pub(crate) const fn new(setup: fn() -> Result<Config, SetupError>, warn: fn(&str)) -> Self {
+        Recorder {
+            state: Mutex::new(State::Pending),
+            setup,
+            warn,
+        }
+    }
+
+    /// Records one row; on failure warns once and stops recording.
+    pub(crate) fn record(&self, suite: &'static Suite, result: &RowResult) {
+        // a panic while holding the lock cannot leave the state half-updated (each arm
+        // assigns whole values), so a poisoned lock is safe to reuse
+        let mut state = self.state.lock().unwrap_or_else(|e| e.into_inner());
+        if let State::Pending = *state {
+            *state = match (self.setup)().and_then(open) {
+                Ok(w) => State::Open(w),
+                Err(e) => {
+                    (self.warn)(&format!("outcomes are not recorded: {e}"));
+                    State::Off
+                }
+            };
+        }
+        let State::Open(writer) = &mut *state else {
+            return;
+        };
+        if let Err(e) = writer.write(suite, result) {
+            (self.warn)(&format!("outcomes are no longer recorded: {e}"));
+            *state = State::Off;
+        }
+    }
+}
+
+fn open(config: Config) -> Result<Writer, SetupError> {
+    let dir = config.store.join(layout::RUNS_DIR).join(&config.run_id);
+    std::fs::create_dir_all(&dir).map_err(|reason| SetupError::Unwritable {
+        path: dir.clone(),
+        reason,
+    })?;
+    let ms = time::since_epoch(SystemTime::now()).as_millis() as u64;
+    let path = dir.join(layout::process_file_name(ms, std::process::id(), layout::nonce()));
+    let file = OpenOptions::new()
+        .append(true)
+        .create_new(true)
+        .open(&path)
+        .map_err(|reason| SetupError::Unwritable {
+            path: path.clone(),
+            reason,
+        })?;
+    Ok(Writer {
+        file,
+        path,
+        run_id: config.run_id,
+        specs: BTreeSet::new(),
+    })
+}
+
+impl Writer {
+    fn write(&mut self, suite: &'static Suite, result: &RowResult) -> Result<(), SetupError> {
+        let now = SystemTime::now();
+        let stamp = time::rfc3339(now);
+        let key = suite as *const Suite as usize;
+        let new_suite = !self.specs.contains(&key);
+        let mut buf = String::new();
+        if new_suite {
+            buf.push_str(&Line::Spec(spec_record(suite, &self.run_id, &stamp)).to_json_line());
+        }
+        buf.push_str(&Line::Row(row_record(suite, result, &self.run_id, stamp)).to_json_line());
+        // one write of whole lines; the spec goes out with its suite's first row
+        self.file
+            .write_all(buf.as_bytes())
+            .map_err(|reason| SetupError::Unwritable {
+                path: self.path.clone(),
+                reason,
+            })?;
+        if new_suite {
+            self.specs.insert(key);
+        }
+        Ok(())
+    }
+}
+
+pub(crate) fn spec_record(suite: &Suite, run_id: &str, time: &str) -> SpecRecord {
+    SpecRecord {
+        run: run_id.to_string(),
+        krate: suite.krate.to_string(),
+        target: message::crate_root(suite.module).to_string(),
+        file: suite.file.to_string(),
+        function: suite.function.to_string(),
+        module: suite.module.to_string(),
+        suite: message::suite_path(suite.module).to_string(),
+        factors: suite
+            .factors
+            .iter()
+            .map(|f| FactorSpec {
+                name: f.name.to_string(),
+                labels: f.labels.iter().map(|l| l.to_string()).collect(),
+            })
+            .collect(),
+        strength: suite.strength,
+        lambda: suite.lambda,
+        seed: suite.seed,
+        excludes: suite.excludes.iter().map(|e| e.to_string()).collect(),
+        rows: suite.rows.iter().map(|r| r.to_vec()).collect(),
+        fingerprint: suite.fingerprint.to_string(),
+        pinned: suite.pinned,
+        should_panic: suite.should_panic,
+        time: time.to_string(),
+    }
+}
+
+fn row_record(suite: &Suite, result: &RowResult, run_id: &str, time: String) -> RowRecord {
+    RowRecord {
+        run: run_id.to_string(),
+        krate: suite.krate.to_string(),
+        target: message::crate_root(suite.module).to_string(),
+        test: message::test_name(suite, result.row),
+        fingerprint: suite.fingerprint.to_string(),
+        row: u32::try_from(result.row).unwrap_or(u32::MAX),
+        labels: message::row_labels(suite, result.row)
+            .into_iter()
+            .map(str::to_string)
+            .collect(),
+        outcome: result.outcome,
+        message: result.message.clone(),
+        duration_ns: u64::try_from(result.duration.as_nanos()).unwrap_or(u64::MAX),
+        time,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::__private::Factor;
+    use crate::record::Line;
+    use std::sync::atomic::{AtomicUsize, Ordering};
+
+    static SUITE: Suite = Suite {
+        krate: "demo",
+        file: "src/lib.rs",
+        function: "f",
+        module: "demo::tests::f",
+        factors: &[Factor {
+            name: "x",
+            labels: &["1", "2"],
+        }],
+        strength: 1,
+        lambda: 1,
+        seed: 5,
+        excludes: &["x == 3"],
+        rows: &[&[0], &[1]],
+        fingerprint: "fp",
+        pinned: true,
+        should_panic: false,
+    };
+
+    static WARNINGS: AtomicUsize = AtomicUsize::new(0);
+
+    fn count_warning(_: &str) {
+        WARNINGS.fetch_add(1, Ordering::SeqCst);
+    }
+
+    fn result(row: usize, outcome: Outcome) -> RowResult {
+        RowResult {
+            row,
+            outcome,
+            message: (outcome == Outcome::Failed).then(|| "boom".to_string()),
+            duration: Duration::from_micros(3),
+        }
+    }
+
+    #[test]
+    fn failing_setup_warns_once_and_records_nothing() {
+        fn broken() -> Result<Config, SetupError> {
+            Err(SetupError::NoBuildDir { exe: "/x".into() })
+        }
+        let rec = Recorder::new(broken, count_warning);
+        let before = WARNINGS.load(Ordering::SeqCst);
+        for _ in 0..5 {
+            rec.record(&SUITE, &result(0, Outcome::Passed));
+        }
+        assert_eq!(WARNINGS.load(Ordering::SeqCst) - before, 1);
+    }
+
+    #[test]
+    fn spec_record_mirrors_the_suite() {
+        let s = spec_record(&SUITE, "r", "t");
+        assert_eq!(s.target, "demo");
+        assert_eq!(s.suite, "tests::f");
+        assert_eq!(s.rows, vec![vec![0], vec![1]]);
+        assert_eq!(s.excludes, vec!["x == 3"]);
+        assert!(s.pinned && !s.should_panic);
+        assert_eq!(s.validate(), Ok(()));
+        let r = row_record(&SUITE, &result(1, Outcome::Failed), "r", "t".into());
+        assert_eq!(r.test, "tests::f::row_01");
+        assert_eq!(r.labels, vec!["2"]);
+        assert_eq!(r.key(), s.key());
+    }
+
+    #[test]
+    fn writes_the_spec_once_then_rows() {
+        let tmp = tempfile::tempdir().unwrap();
+        let cfg = Config {
+            store: tmp.path().join("heddle"),
+            run_id: "run-1".into(),
+        };
+        let mut w = open(cfg).unwrap();
+        w.write(&SUITE, &result(0, Outcome::Passed)).unwrap();
+        w.write(&SUITE, &result(1, Outcome::Failed)).unwrap();
+        let text = std::fs::read_to_string(&w.path).unwrap();
+        let lines: Vec<Line> = text.lines().map(|l| Line::parse(l).unwrap()).collect();
+        assert_eq!(lines.len(), 3);
+        assert!(matches!(&lines[0], Line::Spec(s) if s.run == "run-1"));
+        assert!(matches!(&lines[1], Line::Row(r) if r.outcome == Outcome::Passed && r.message.is_none()));
+        assert!(
+            matches!(&lines[2], Line::Row(r) if r.message.as_deref() == Some("boom") && r.duration_ns == 3000)
+        );
+        assert!(w.path.starts_with(tmp.path().join("heddle/runs/run-1")));
+    }
+}

@@ -1,0 +1,201 @@
+//! Decides, once per test process, where its records go and under which run id, from
+//! the environment and the test executable's path.
+
+use crate::layout::{self, NEXTEST_RUN_ID_VAR, RUN_ID_VAR, TARGET_DIR_VAR};
+use std::ffi::OsString;
+use std::io;
+use std::path::PathBuf;
+
+/// Where one process records.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub(crate) struct Config {
+    /// The store root (`…/heddle`).
+    pub(crate) store: PathBuf,
+    /// The run id its records carry.
+    pub(crate) run_id: String,
+}
+
+/// Why a process cannot record. Printed as a one-line warning; never fails a test.
+#[derive(Debug)]
+pub(crate) enum SetupError {
+    /// `HEDDLE_TARGET_DIR` names something that is not a directory and cannot be made one.
+    TargetDir { path: PathBuf, reason: io::Error },
+    /// A run id env var holds a value that cannot name a run directory.
+    RunId {
+        var: &'static str,
+        error: layout::RunIdError,
+    },
+    /// An env var is not valid Unicode.
+    NotUnicode { var: &'static str },
+    /// No ancestor of the test executable holds cargo's `CACHEDIR.TAG`.
+    NoBuildDir { exe: PathBuf },
+    /// The test executable's path is unknown.
+    NoExecutable { reason: io::Error },
+    /// The store directory or file cannot be created or written.
+    Unwritable { path: PathBuf, reason: io::Error },
+}
+
+impl std::fmt::Display for SetupError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            SetupError::TargetDir { path, reason } => write!(
+                f,
+                "`{TARGET_DIR_VAR}` is not a usable directory: `{}` ({reason}); \
+                 hint: point it at a directory heddle may create, or unset it",
+                path.display()
+            ),
+            SetupError::RunId { var, error } => write!(f, "`{var}`: {error}"),
+            SetupError::NotUnicode { var } => write!(
+                f,
+                "`{var}` is not valid unicode; hint: set it to ASCII letters, digits, `.`, `_` and `-`"
+            ),
+            SetupError::NoBuildDir { exe } => write!(
+                f,
+                "no directory holding `{}` above the test executable `{}`; hint: set `{TARGET_DIR_VAR}`",
+                layout::CACHEDIR_TAG,
+                exe.display()
+            ),
+            SetupError::NoExecutable { reason } => write!(
+                f,
+                "cannot tell where the test executable is ({reason}); hint: set `{TARGET_DIR_VAR}`"
+            ),
+            SetupError::Unwritable { path, reason } => write!(
+                f,
+                "cannot write `{}` ({reason}); hint: check permissions and free space, or set `{TARGET_DIR_VAR}`",
+                path.display()
+            ),
+        }
+    }
+}
+
+/// An env var's value; empty means unset.
+fn non_empty(var: &dyn Fn(&str) -> Option<OsString>, name: &str) -> Option<OsString> {
+    var(name).filter(|v| !v.is_empty())
+}
+
+/// The run id: nextest's, else `HEDDLE_RUN_ID`, else a fresh one for this process.
+pub(crate) fn run_id(var: &dyn Fn(&str) -> Option<OsString>) -> Result<String, SetupError> {
+    for name in [NEXTEST_RUN_ID_VAR, RUN_ID_VAR] {
+        if let Some(value) = non_empty(var, name) {
+            let value = value
+                .into_string()
+                .map_err(|_| SetupError::NotUnicode { var: name })?;
+            layout::validate_run_id(&value).map_err(|error| SetupError::RunId { var: name, error })?;
+            return Ok(value);
+        }
+    }
+    Ok(layout::new_run_id())
+}
+
+/// Resolves the store and run id from an env lookup and the executable's path.
+pub(crate) fn resolve(
+    var: &dyn Fn(&str) -> Option<OsString>,
+    exe: &dyn Fn() -> io::Result<PathBuf>,
+) -> Result<Config, SetupError> {
+    let run_id = run_id(var)?;
+    let dir = match non_empty(var, TARGET_DIR_VAR) {
+        Some(path) => {
+            let path = PathBuf::from(path);
+            if !path.is_dir() {
+                std::fs::create_dir_all(&path).map_err(|reason| SetupError::TargetDir {
+                    path: path.clone(),
+                    reason,
+                })?;
+            }
+            path
+        }
+        None => {
+            let exe = exe().map_err(|reason| SetupError::NoExecutable { reason })?;
+            layout::find_build_dir(&exe).ok_or(SetupError::NoBuildDir { exe })?
+        }
+    };
+    Ok(Config {
+        store: layout::store_root(&dir),
+        run_id,
+    })
+}
+
+/// [`resolve`] against this process's environment.
+pub(crate) fn from_process() -> Result<Config, SetupError> {
+    resolve(&|name| std::env::var_os(name), &std::env::current_exe)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::collections::BTreeMap;
+
+    fn env(pairs: &[(&str, &str)]) -> impl Fn(&str) -> Option<OsString> + use<> {
+        let map: BTreeMap<String, OsString> = pairs
+            .iter()
+            .map(|(k, v)| (k.to_string(), OsString::from(v)))
+            .collect();
+        move |name| map.get(name).cloned()
+    }
+
+    fn no_exe() -> io::Result<PathBuf> {
+        Err(io::Error::other("not asked for"))
+    }
+
+    #[test]
+    fn run_id_precedence_is_nextest_then_heddle_then_fresh() {
+        let both = env(&[(NEXTEST_RUN_ID_VAR, "nx-1"), (RUN_ID_VAR, "hd-1")]);
+        assert_eq!(run_id(&both).unwrap(), "nx-1");
+        let empty_nextest = env(&[(NEXTEST_RUN_ID_VAR, ""), (RUN_ID_VAR, "hd-1")]);
+        assert_eq!(run_id(&empty_nextest).unwrap(), "hd-1");
+        let none = env(&[(RUN_ID_VAR, "")]);
+        let fresh = run_id(&none).unwrap();
+        assert!(layout::validate_run_id(&fresh).is_ok());
+        assert_ne!(fresh, run_id(&none).unwrap());
+    }
+
+    #[test]
+    fn invalid_run_ids_are_named_errors() {
+        let bad = env(&[(RUN_ID_VAR, "../escape")]);
+        let err = run_id(&bad).unwrap_err();
+        assert!(matches!(err, SetupError::RunId { var: RUN_ID_VAR, .. }));
+        let text = err.to_string();
+        assert!(
+            text.starts_with("`HEDDLE_RUN_ID`: invalid run id `../escape`"),
+            "{text}"
+        );
+        assert!(text.contains("hint:"));
+        assert!(!text.ends_with('.'));
+    }
+
+    #[test]
+    fn target_dir_override_is_created_or_refused() {
+        let tmp = tempfile::tempdir().unwrap();
+        let fresh = tmp.path().join("made/here");
+        let e = env(&[(TARGET_DIR_VAR, fresh.to_str().unwrap()), (RUN_ID_VAR, "r")]);
+        let cfg = resolve(&e, &no_exe).unwrap();
+        assert_eq!(cfg.store, fresh.join("heddle"));
+        assert!(fresh.is_dir());
+
+        let file = tmp.path().join("a-file");
+        std::fs::write(&file, "x").unwrap();
+        let e = env(&[(TARGET_DIR_VAR, file.to_str().unwrap())]);
+        let err = resolve(&e, &no_exe).unwrap_err();
+        assert!(matches!(err, SetupError::TargetDir { .. }), "{err:?}");
+        assert!(
+            err.to_string()
+                .starts_with("`HEDDLE_TARGET_DIR` is not a usable directory")
+        );
+    }
+
+    #[test]
+    fn empty_target_dir_means_search_from_the_executable() {
+        let tmp = tempfile::tempdir().unwrap();
+        let build = tmp.path().join("elsewhere");
+        std::fs::create_dir_all(build.join("p/deps")).unwrap();
+        std::fs::write(build.join(layout::CACHEDIR_TAG), "").unwrap();
+        let exe_path = build.join("p/deps/t-0123");
+        let exe = move || Ok(exe_path.clone());
+        let e = env(&[(TARGET_DIR_VAR, ""), (RUN_ID_VAR, "r")]);
+        assert_eq!(resolve(&e, &exe).unwrap().store, build.join("heddle"));
+
+        let lost = tmp.path().join("nowhere/t");
+        let exe = move || Ok(lost.clone());
+        assert!(matches!(resolve(&e, &exe), Err(SetupError::NoBuildDir { .. })));
+    }
+}

@@ -1,0 +1,517 @@
+//! Per-interaction pass counts: the numbers the report ranks suspects and flakes by.
+//!
+//! Outcomes are first summed per design row (a row may have run many times: several
+//! runs, retries, shards), then every interaction present in the design collects the
+//! sums of the rows that contain it. So the cost is linear in the records plus
+//! rows × Σ C(k, a) for a ≤ t, independent of how many runs are merged.
+
+use crate::record::{Outcome, SpecError, SpecRecord};
+
+/// Runs of something and how they ended.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub struct Count {
+    /// Row runs.
+    pub runs: u64,
+    /// Runs that passed (including `panicked-expected`).
+    pub passes: u64,
+    /// Runs that failed.
+    pub failures: u64,
+}
+
+impl Count {
+    /// Adds one outcome.
+    pub fn add(&mut self, outcome: Outcome) {
+        self.runs += 1;
+        if outcome.is_pass() {
+            self.passes += 1;
+        } else {
+            self.failures += 1;
+        }
+    }
+
+    /// Adds another count.
+    pub fn merge(&mut self, other: &Count) {
+        self.runs += other.runs;
+        self.passes += other.passes;
+        self.failures += other.failures;
+    }
+
+    /// Passes over runs, `None` before any run.
+    pub fn pass_rate(&self) -> Option<f64> {
+        (self.runs > 0).then(|| self.passes as f64 / self.runs as f64)
+    }
+
+    /// Both passes and failures seen: flaky, or broken by something outside the row.
+    pub fn is_mixed(&self) -> bool {
+        self.passes > 0 && self.failures > 0
+    }
+}
+
+/// A combination of levels on a set of factors: a single level (one factor) or a
+/// t-way interaction.
+#[derive(Clone, Debug, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub struct Interaction {
+    /// Factor indices, strictly increasing.
+    pub factors: Vec<usize>,
+    /// The level index on each of those factors.
+    pub levels: Vec<u8>,
+}
+
+impl Interaction {
+    /// Number of factors involved.
+    pub fn arity(&self) -> usize {
+        self.factors.len()
+    }
+
+    /// Whether a full row shows these levels.
+    pub fn in_row(&self, row: &[u8]) -> bool {
+        self.factors
+            .iter()
+            .zip(&self.levels)
+            .all(|(&f, &lv)| row.get(f) == Some(&lv))
+    }
+
+    /// Whether every level of `other` is part of this interaction.
+    pub fn contains(&self, other: &Interaction) -> bool {
+        other
+            .factors
+            .iter()
+            .zip(&other.levels)
+            .all(|(f, lv)| self.factors.iter().position(|g| g == f).map(|i| self.levels[i]) == Some(*lv))
+    }
+
+    /// `(parameter name, level label)` pairs, for messages and reports; `None` when the
+    /// interaction does not belong to this spec.
+    pub fn describe<'s>(&self, spec: &'s SpecRecord) -> Option<Vec<(&'s str, &'s str)>> {
+        self.factors
+            .iter()
+            .zip(&self.levels)
+            .map(|(&f, &lv)| {
+                let factor = spec.factors.get(f)?;
+                Some((factor.name.as_str(), factor.labels.get(lv as usize)?.as_str()))
+            })
+            .collect()
+    }
+}
+
+/// One interaction's tally.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Tally {
+    /// The levels.
+    pub interaction: Interaction,
+    /// Indices of the design rows containing it, increasing.
+    pub rows: Vec<u32>,
+    /// Runs of those rows and how they ended.
+    pub count: Count,
+}
+
+/// Tallies of one suite.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Tallies {
+    /// Strength of the spec: entries go up to this arity.
+    pub strength: usize,
+    /// Count per design row.
+    pub rows: Vec<Count>,
+    /// Every interaction of arity 1 to `strength` that some design row contains, by
+    /// arity, then factor indices, then level indices. Interactions no row contains
+    /// (ruled out by excludes) are absent; those whose rows never ran have zero runs.
+    pub entries: Vec<Tally>,
+    /// Outcomes given for a row index outside the design (left out).
+    pub unknown_rows: u64,
+    /// `starts[a - 1]..starts[a]` are the entries of arity a.
+    starts: Vec<usize>,
+}
+
+impl Tallies {
+    /// Entries of one arity (empty outside 1..=strength).
+    pub fn of_arity(&self, arity: usize) -> &[Tally] {
+        if arity == 0 || arity > self.strength {
+            return &[];
+        }
+        &self.entries[self.starts[arity - 1]..self.starts[arity]]
+    }
+
+    /// Single levels.
+    pub fn levels(&self) -> &[Tally] {
+        self.of_arity(1)
+    }
+
+    /// The t-way interactions.
+    pub fn interactions(&self) -> &[Tally] {
+        self.of_arity(self.strength)
+    }
+
+    /// The tally of one interaction, if the design contains it.
+    pub fn get(&self, interaction: &Interaction) -> Option<&Tally> {
+        let group = self.of_arity(interaction.arity());
+        group
+            .binary_search_by(|t| t.interaction.cmp(interaction))
+            .ok()
+            .map(|i| &group[i])
+    }
+
+    /// Sum over all rows.
+    pub fn total(&self) -> Count {
+        let mut c = Count::default();
+        for r in &self.rows {
+            c.merge(r);
+        }
+        c
+    }
+}
+
+/// Tallies a spec's outcomes: every single level and every interaction up to the spec's
+/// strength, with its runs, passes and failures. Several outcomes for one row (repeated
+/// runs) all count.
+pub fn tally(
+    spec: &SpecRecord,
+    outcomes: impl IntoIterator<Item = (usize, Outcome)>,
+) -> Result<Tallies, SpecError> {
+    spec.validate()?;
+    Ok(tally_rows(
+        &spec.rows,
+        spec.factors.len(),
+        spec.strength as usize,
+        outcomes,
+    ))
+}
+
+/// [`tally`] over plain rows; the caller guarantees `rows` have `k` levels each and
+/// `1 <= t <= k.min(8)` (as [`SpecRecord::validate`] checks).
+fn tally_rows(
+    rows: &[Vec<u8>],
+    k: usize,
+    t: usize,
+    outcomes: impl IntoIterator<Item = (usize, Outcome)>,
+) -> Tallies {
+    let mut per_row = vec![Count::default(); rows.len()];
+    let mut unknown_rows = 0;
+    for (r, outcome) in outcomes {
+        match per_row.get_mut(r) {
+            Some(c) => c.add(outcome),
+            None => unknown_rows += 1,
+        }
+    }
+    let mut entries = Vec::new();
+    let mut starts = vec![0];
+    let mut keys: Vec<(u64, u32)> = Vec::with_capacity(rows.len());
+    for arity in 1..=t {
+        let mut cols: Vec<usize> = (0..arity).collect();
+        loop {
+            keys.clear();
+            keys.extend(rows.iter().enumerate().map(|(i, row)| {
+                // one byte per factor, first factor most significant, so key order is
+                // the lexicographic order of the levels
+                let key = cols.iter().fold(0u64, |acc, &c| (acc << 8) | u64::from(row[c]));
+                (key, i as u32)
+            }));
+            keys.sort_unstable();
+            for group in keys.chunk_by(|a, b| a.0 == b.0) {
+                let key = group[0].0;
+                let levels = (0..arity).map(|j| (key >> (8 * (arity - 1 - j))) as u8).collect();
+                let mut count = Count::default();
+                for &(_, r) in group {
+                    count.merge(&per_row[r as usize]);
+                }
+                entries.push(Tally {
+                    interaction: Interaction {
+                        factors: cols.clone(),
+                        levels,
+                    },
+                    rows: group.iter().map(|&(_, r)| r).collect(),
+                    count,
+                });
+            }
+            if !next_subset(&mut cols, k) {
+                break;
+            }
+        }
+        starts.push(entries.len());
+    }
+    Tallies {
+        strength: t,
+        rows: per_row,
+        entries,
+        unknown_rows,
+        starts,
+    }
+}
+
+/// Advances a sorted subset of `0..n` to the next in lexicographic order.
+fn next_subset(cols: &mut [usize], n: usize) -> bool {
+    let a = cols.len();
+    for i in (0..a).rev() {
+        if cols[i] < n - a + i {
+            cols[i] += 1;
+            for j in i + 1..a {
+                cols[j] = cols[j - 1] + 1;
+            }
+            return true;
+        }
+    }
+    false
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::record::FactorSpec;
+    use proptest::prelude::*;
+
+    fn spec_of(levels: &[usize], t: u32, rows: Vec<Vec<u8>>) -> SpecRecord {
+        SpecRecord {
+            run: String::new(),
+            krate: "k".into(),
+            target: "k".into(),
+            file: "src/lib.rs".into(),
+            function: "f".into(),
+            module: "k::f".into(),
+            suite: "f".into(),
+            factors: levels
+                .iter()
+                .enumerate()
+                .map(|(i, &v)| FactorSpec {
+                    name: format!("p{i}"),
+                    labels: (0..v).map(|l| format!("L{l}")).collect(),
+                })
+                .collect(),
+            strength: t,
+            lambda: 1,
+            seed: 0,
+            excludes: vec![],
+            rows,
+            fingerprint: "x".into(),
+            pinned: false,
+            should_panic: false,
+            time: String::new(),
+        }
+    }
+
+    /// Every interaction of arity 1..=t over the full level space (present in the
+    /// design or not), counted by scanning the outcome list directly.
+    fn brute_force(spec: &SpecRecord, outcomes: &[(usize, Outcome)]) -> Vec<(Interaction, Vec<u32>, Count)> {
+        let k = spec.factors.len();
+        let mut out = Vec::new();
+        for arity in 1..=spec.strength as usize {
+            for mask in 0u32..(1 << k) {
+                if mask.count_ones() as usize != arity {
+                    continue;
+                }
+                let factors: Vec<usize> = (0..k).filter(|i| mask & (1 << i) != 0).collect();
+                let space: usize = factors.iter().map(|&f| spec.factors[f].labels.len()).product();
+                for mut code in 0..space {
+                    let mut levels = vec![0u8; arity];
+                    for j in (0..arity).rev() {
+                        let v = spec.factors[factors[j]].labels.len();
+                        levels[j] = (code % v) as u8;
+                        code /= v;
+                    }
+                    let it = Interaction {
+                        factors: factors.clone(),
+                        levels: levels.clone(),
+                    };
+                    let rows: Vec<u32> = (0..spec.rows.len())
+                        .filter(|&r| factors.iter().zip(&levels).all(|(&f, &l)| spec.rows[r][f] == l))
+                        .map(|r| r as u32)
+                        .collect();
+                    let mut count = Count::default();
+                    for &(r, o) in outcomes {
+                        if rows.contains(&(r as u32)) {
+                            count.add(o);
+                        }
+                    }
+                    out.push((it, rows, count));
+                }
+            }
+        }
+        out
+    }
+
+    fn check_against_brute_force(spec: &SpecRecord, outcomes: &[(usize, Outcome)]) {
+        let tallies = tally(spec, outcomes.iter().copied()).unwrap();
+        let expected = brute_force(spec, outcomes);
+        let present: Vec<_> = expected.iter().filter(|(_, rows, _)| !rows.is_empty()).collect();
+        assert_eq!(tallies.entries.len(), present.len());
+        for (it, rows, count) in &expected {
+            match tallies.get(it) {
+                Some(t) => {
+                    assert_eq!(&t.rows, rows, "{it:?}");
+                    assert_eq!(&t.count, count, "{it:?}");
+                }
+                None => assert!(rows.is_empty(), "{it:?} missing"),
+            }
+        }
+        // deterministic order: sorted by arity, then (factors, levels)
+        assert!(tallies.entries.windows(2).all(|w| {
+            let (a, b) = (&w[0].interaction, &w[1].interaction);
+            (a.arity(), a) < (b.arity(), b)
+        }));
+        for a in 1..=spec.strength as usize {
+            assert!(tallies.of_arity(a).iter().all(|t| t.interaction.arity() == a));
+        }
+    }
+
+    /// OA(9; 2, 4, 3) from the linear (Rao-Hamming) construction (a, b, a+b, a+2b) mod 3:
+    /// the four column vectors (1,0), (0,1), (1,1), (1,2) are pairwise linearly
+    /// independent over GF(3), so every pair of columns shows each of the 9 level pairs
+    /// exactly once (Hedayat, Sloane & Stufken 1999, "Orthogonal Arrays", Theorem 3.20,
+    /// numbering from memory).
+    fn oa9() -> Vec<Vec<u8>> {
+        let mut rows = Vec::new();
+        for a in 0..3u8 {
+            for b in 0..3u8 {
+                rows.push(vec![a, b, (a + b) % 3, (a + 2 * b) % 3]);
+            }
+        }
+        rows
+    }
+
+    #[test]
+    fn an_orthogonal_array_shows_every_pair_lambda_times() {
+        // index 1 array run twice per row: each pair interaction has exactly 1 design row
+        // and 2 runs, each single level 9 / 3 = 3 rows (Hedayat, Sloane & Stufken 1999,
+        // Definition 1.1 and the remark that an OA of strength t is one of strength t-1)
+        let spec = spec_of(&[3, 3, 3, 3], 2, oa9());
+        let outcomes: Vec<(usize, Outcome)> = (0..9).chain(0..9).map(|r| (r, Outcome::Passed)).collect();
+        let tallies = tally(&spec, outcomes).unwrap();
+        assert_eq!(tallies.interactions().len(), 6 * 9);
+        assert!(
+            tallies
+                .interactions()
+                .iter()
+                .all(|t| t.rows.len() == 1 && t.count.runs == 2)
+        );
+        assert_eq!(tallies.levels().len(), 12);
+        assert!(
+            tallies
+                .levels()
+                .iter()
+                .all(|t| t.rows.len() == 3 && t.count.passes == 6)
+        );
+    }
+
+    #[test]
+    fn a_planted_pair_fault_fails_exactly_its_interaction() {
+        // in an OA of index 1 a fault on (p0 = 1, p2 = 2) fails one row; that pair is the
+        // only interaction of arity 2 whose every run failed
+        let spec = spec_of(&[3, 3, 3, 3], 2, oa9());
+        let outcomes: Vec<(usize, Outcome)> = oa9()
+            .iter()
+            .enumerate()
+            .map(|(r, row)| {
+                (
+                    r,
+                    if row[0] == 1 && row[2] == 2 {
+                        Outcome::Failed
+                    } else {
+                        Outcome::Passed
+                    },
+                )
+            })
+            .collect();
+        let tallies = tally(&spec, outcomes.clone()).unwrap();
+        let all_failed: Vec<&Interaction> = tallies
+            .interactions()
+            .iter()
+            .filter(|t| t.count.runs > 0 && t.count.passes == 0)
+            .map(|t| &t.interaction)
+            .collect();
+        // the failing row (1, b, 2, ·) has a+b ≡ 2, so b = 1 and a+2b ≡ 0: row (1,1,2,0);
+        // its 6 pairs all failed once; the report must then rank among them
+        assert_eq!(all_failed.len(), 6);
+        assert!(all_failed.contains(&&Interaction {
+            factors: vec![0, 2],
+            levels: vec![1, 2]
+        }));
+        check_against_brute_force(&spec, &outcomes);
+    }
+
+    #[test]
+    fn excluded_interactions_are_absent_and_unrun_rows_count_zero() {
+        let rows = vec![vec![0, 0], vec![0, 1], vec![1, 0]];
+        let spec = spec_of(&[2, 2], 2, rows);
+        let tallies = tally(&spec, [(0, Outcome::Failed), (7, Outcome::Passed)]).unwrap();
+        assert_eq!(tallies.unknown_rows, 1);
+        assert_eq!(tallies.interactions().len(), 3);
+        let missing = Interaction {
+            factors: vec![0, 1],
+            levels: vec![1, 1],
+        };
+        assert!(tallies.get(&missing).is_none());
+        let unrun = tallies
+            .get(&Interaction {
+                factors: vec![0, 1],
+                levels: vec![1, 0],
+            })
+            .unwrap();
+        assert_eq!(unrun.count, Count::default());
+        assert_eq!(tallies.total().failures, 1);
+        assert_eq!(
+            unrun.interaction.describe(&spec),
+            Some(vec![("p0", "L1"), ("p1", "L0")])
+        );
+    }
+
+    #[test]
+    fn invalid_specs_are_refused_not_indexed() {
+        let spec = spec_of(&[2], 1, vec![vec![5]]);
+        assert!(tally(&spec, []).is_err());
+    }
+
+    #[test]
+    fn interaction_helpers() {
+        let big = Interaction {
+            factors: vec![0, 2],
+            levels: vec![1, 0],
+        };
+        let small = Interaction {
+            factors: vec![2],
+            levels: vec![0],
+        };
+        assert!(big.contains(&small) && !small.contains(&big));
+        assert!(big.in_row(&[1, 9, 0]) && !big.in_row(&[1, 9, 1]) && !big.in_row(&[1]));
+        let mut c = Count::default();
+        assert_eq!(c.pass_rate(), None);
+        c.add(Outcome::Passed);
+        c.add(Outcome::Failed);
+        c.add(Outcome::PanickedExpected);
+        assert_eq!((c.runs, c.passes, c.failures), (3, 2, 1));
+        assert!(c.is_mixed());
+    }
+
+    fn arb_case() -> impl Strategy<Value = (SpecRecord, Vec<(usize, Outcome)>)> {
+        (1usize..=5, 1u32..=3)
+            .prop_flat_map(|(k, t)| (proptest::collection::vec(1usize..=4, k), Just(t.min(k as u32))))
+            .prop_flat_map(|(levels, t)| {
+                let row = levels.iter().map(|&v| 0..v as u8).collect::<Vec<_>>();
+                (Just(levels), Just(t), proptest::collection::vec(row, 0..12))
+            })
+            .prop_flat_map(|(levels, t, rows)| {
+                let n = rows.len();
+                let outcome = prop_oneof![
+                    Just(Outcome::Passed),
+                    Just(Outcome::Failed),
+                    Just(Outcome::PanickedExpected)
+                ];
+                let outcomes = proptest::collection::vec((0..n + 2, outcome), 0..30);
+                (Just(spec_of(&levels, t, rows)), outcomes)
+            })
+    }
+
+    proptest! {
+        #[test]
+        fn matches_brute_force_on_small_suites((spec, outcomes) in arb_case()) {
+            check_against_brute_force(&spec, &outcomes);
+        }
+    }
+
+    #[test]
+    fn subsets_enumerate_in_lexicographic_order() {
+        let mut cols = vec![0, 1];
+        let mut seen = vec![cols.clone()];
+        while next_subset(&mut cols, 4) {
+            seen.push(cols.clone());
+        }
+        assert_eq!(seen, [[0, 1], [0, 2], [0, 3], [1, 2], [1, 3], [2, 3]]);
+    }
+}
