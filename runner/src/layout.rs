@@ -20,7 +20,7 @@ use std::time::SystemTime;
 pub const TARGET_DIR_VAR: &str = "HEDDLE_TARGET_DIR";
 /// Env var giving the run id; `cargo heddle test` sets it so a whole invocation shares one.
 pub const RUN_ID_VAR: &str = "HEDDLE_RUN_ID";
-/// Env var nextest sets to its run id; it wins over [`RUN_ID_VAR`].
+/// Env var nextest sets to its run id; used when [`RUN_ID_VAR`] is unset.
 pub const NEXTEST_RUN_ID_VAR: &str = "NEXTEST_RUN_ID";
 /// Name of the store directory inside the target (or build) directory.
 pub const STORE_DIR: &str = "heddle";

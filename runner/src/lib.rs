@@ -23,8 +23,8 @@
 //!   tests in the package root). Unset: the nearest ancestor of the test executable
 //!   holding cargo's `CACHEDIR.TAG`, that is the target directory, or the build
 //!   directory when `build.build-dir` is set.
-//! - `NEXTEST_RUN_ID` (set by nextest), else `HEDDLE_RUN_ID` (set by `cargo heddle
-//!   test` for a whole invocation): the run id, ASCII letters, digits, `.`, `_`, `-`.
+//! - `HEDDLE_RUN_ID` (set by `cargo heddle test` for a whole invocation), else
+//!   `NEXTEST_RUN_ID` (set by nextest): the run id, ASCII letters, digits, `.`, `_`, `-`.
 //!   Neither: each test process is a run of its own.
 
 #![warn(missing_docs)]

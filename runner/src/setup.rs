@@ -73,9 +73,10 @@ fn non_empty(var: &dyn Fn(&str) -> Option<OsString>, name: &str) -> Option<OsStr
     var(name).filter(|v| !v.is_empty())
 }
 
-/// The run id: nextest's, else `HEDDLE_RUN_ID`, else a fresh one for this process.
+/// The run id: `HEDDLE_RUN_ID` (set explicitly, e.g. by `cargo heddle test`), else
+/// nextest's, else a fresh one for this process.
 pub(crate) fn run_id(var: &dyn Fn(&str) -> Option<OsString>) -> Result<String, SetupError> {
-    for name in [NEXTEST_RUN_ID_VAR, RUN_ID_VAR] {
+    for name in [RUN_ID_VAR, NEXTEST_RUN_ID_VAR] {
         if let Some(value) = non_empty(var, name) {
             let value = value
                 .into_string()
@@ -138,11 +139,11 @@ mod tests {
     }
 
     #[test]
-    fn run_id_precedence_is_nextest_then_heddle_then_fresh() {
+    fn run_id_precedence_is_heddle_then_nextest_then_fresh() {
         let both = env(&[(NEXTEST_RUN_ID_VAR, "nx-1"), (RUN_ID_VAR, "hd-1")]);
-        assert_eq!(run_id(&both).unwrap(), "nx-1");
-        let empty_nextest = env(&[(NEXTEST_RUN_ID_VAR, ""), (RUN_ID_VAR, "hd-1")]);
-        assert_eq!(run_id(&empty_nextest).unwrap(), "hd-1");
+        assert_eq!(run_id(&both).unwrap(), "hd-1");
+        let empty_heddle = env(&[(NEXTEST_RUN_ID_VAR, "nx-1"), (RUN_ID_VAR, "")]);
+        assert_eq!(run_id(&empty_heddle).unwrap(), "nx-1");
         let none = env(&[(RUN_ID_VAR, "")]);
         let fresh = run_id(&none).unwrap();
         assert!(layout::validate_run_id(&fresh).is_ok());

@@ -487,7 +487,7 @@ fn one_process_per_row_as_nextest_runs_them() {
             let mut c = Child::new(&this_exe(), &[row])
                 .env("HEDDLE_TARGET_DIR", tmp.path())
                 .env("NEXTEST_RUN_ID", run_id)
-                .env("HEDDLE_RUN_ID", "ignored-under-nextest");
+                .env("HEDDLE_RUN_ID", "");
             c.cmd
                 .stdout(std::process::Stdio::null())
                 .stderr(std::process::Stdio::null());
@@ -521,7 +521,7 @@ fn one_process_per_row_as_nextest_runs_them() {
 }
 
 #[test]
-fn run_id_comes_from_nextest_then_heddle_then_the_process() {
+fn run_id_comes_from_heddle_then_nextest_then_the_process() {
     let tmp = tempfile::tempdir().unwrap();
     let row = &["roundtrip::row_00"];
     let run = |nextest: &str, heddle: &str| {
@@ -537,8 +537,8 @@ fn run_id_comes_from_nextest_then_heddle_then_the_process() {
         );
     };
     let store = || Store::open(tmp.path()).unwrap();
-    run("4f1c2a9e-0000-4000-8000-000000000001", "hd-1");
-    run("", "hd-1");
+    run("4f1c2a9e-0000-4000-8000-000000000001", "");
+    run("4f1c2a9e-0000-4000-8000-000000000002", "hd-1");
     run("", "hd-1");
     run("", "");
     run("", "");
