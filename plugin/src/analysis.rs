@@ -11,34 +11,12 @@
 
 use std::cmp::Ordering;
 
-/// Runs, passes and failures of one interaction (or single level) of a suite.
-#[derive(Clone, Debug, PartialEq, Eq)]
-pub struct InteractionCount {
-    /// `(factor index, level index)` pairs, sorted by factor.
-    pub levels: Vec<(usize, u8)>,
-    /// Executions of rows containing it.
-    pub runs: u64,
-    /// Of which passed (an expected panic counts as a pass).
-    pub passes: u64,
-    /// Of which failed.
-    pub failures: u64,
-}
-
-/// What the analysis needs to know about one suite.
-#[derive(Clone, Copy, Debug)]
-pub struct Evidence<'a> {
-    /// The rows, level index per factor.
-    pub rows: &'a [Vec<u8>],
-    /// Failures recorded per row (same order as `rows`).
-    pub row_failures: &'a [u64],
-    /// Tallies of every interaction and single level.
-    pub interactions: &'a [InteractionCount],
-}
+use heddle::tally::Tallies;
 
 /// An interaction that explains failures.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Suspect {
-    /// Index into [`Evidence::interactions`].
+    /// Index into [`Tallies::entries`].
     pub interaction: usize,
     /// Between 0 and 1: share of all failures it explains times the share of its own
     /// runs that failed.
@@ -54,7 +32,7 @@ pub struct Suspect {
 /// An interaction that both passed and failed and explains failures.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Flaky {
-    /// Index into [`Evidence::interactions`].
+    /// Index into [`Tallies::entries`].
     pub interaction: usize,
     /// Executions.
     pub runs: u64,
@@ -119,53 +97,45 @@ pub fn detectable_rate(lambda: u32, confidence: f64) -> f64 {
     1.0 - (1.0 - confidence).powf(1.0 / lambda as f64)
 }
 
-fn contains(row: &[u8], levels: &[(usize, u8)]) -> bool {
-    levels.iter().all(|&(f, l)| row[f] == l)
-}
-
-fn is_subset(small: &[(usize, u8)], big: &[(usize, u8)]) -> bool {
-    small.iter().all(|x| big.contains(x))
-}
-
 /// Names the interactions that explain the failures of a suite.
-pub fn analyse(ev: &Evidence<'_>) -> Analysis {
-    let failures: u64 = ev.row_failures.iter().sum();
+pub fn analyse(tallies: &Tallies) -> Analysis {
+    let row_failures: Vec<u64> = tallies.rows.iter().map(|c| c.failures).collect();
+    let failures: u64 = row_failures.iter().sum();
     if failures == 0 {
         return Analysis::default();
     }
-    let failing: Vec<usize> = (0..ev.rows.len()).filter(|&r| ev.row_failures[r] > 0).collect();
+    let entries = &tallies.entries;
     // candidates: interactions with failures, with the failing rows containing them
-    let cands: Vec<(usize, Vec<usize>)> = ev
-        .interactions
+    let cands: Vec<(usize, Vec<usize>)> = entries
         .iter()
         .enumerate()
-        .filter(|(_, c)| c.failures > 0)
-        .map(|(i, c)| {
+        .filter(|(_, e)| e.count.failures > 0)
+        .map(|(i, e)| {
             (
                 i,
-                failing
+                e.rows
                     .iter()
-                    .copied()
-                    .filter(|&r| contains(&ev.rows[r], &c.levels))
+                    .map(|&r| r as usize)
+                    .filter(|&r| row_failures[r] > 0)
                     .collect(),
             )
         })
         .collect();
     let purity = |i: usize| {
-        let c = &ev.interactions[i];
+        let c = &entries[i].count;
         c.failures as f64 / c.runs.max(1) as f64
     };
-    let mut explained = vec![false; ev.rows.len()];
+    let mut explained = vec![false; tallies.rows.len()];
     // (candidate position, failures explained when picked)
     let mut picked: Vec<(usize, u64)> = Vec::new();
     loop {
         let gain = |rows: &[usize]| -> u64 {
             rows.iter()
                 .filter(|&&r| !explained[r])
-                .map(|&r| ev.row_failures[r])
+                .map(|&r| row_failures[r])
                 .sum()
         };
-        let levels = |c: usize| &ev.interactions[cands[c].0].levels;
+        let interaction = |c: usize| &entries[cands[c].0].interaction;
         // best by (explained failures, purity, fewer factors); ties all kept
         let mut best: Vec<(usize, u64)> = Vec::new();
         for (c, (i, rows)) in cands.iter().enumerate() {
@@ -178,7 +148,7 @@ pub fn analyse(ev: &Evidence<'_>) -> Analysis {
                 Some(&(b, bg)) => g
                     .cmp(&bg)
                     .then(purity(*i).total_cmp(&purity(cands[b].0)))
-                    .then(levels(b).len().cmp(&levels(c).len())),
+                    .then(interaction(b).arity().cmp(&interaction(c).arity())),
             };
             match ord {
                 Ordering::Greater => best = vec![(c, g)],
@@ -196,7 +166,7 @@ pub fn analyse(ev: &Evidence<'_>) -> Analysis {
             .filter(|&(c, _)| {
                 !best
                     .iter()
-                    .any(|&(d, _)| d != c && is_subset(levels(d), levels(c)))
+                    .any(|&(d, _)| d != c && interaction(c).contains(interaction(d)))
             })
             .collect();
         for &(c, g) in &group {
@@ -207,7 +177,7 @@ pub fn analyse(ev: &Evidence<'_>) -> Analysis {
         }
     }
     let suspect = |i: usize, g: u64| {
-        let c = &ev.interactions[i];
+        let c = &entries[i].count;
         let always = c.passes == 0;
         let reason = if always {
             format!(
@@ -232,7 +202,7 @@ pub fn analyse(ev: &Evidence<'_>) -> Analysis {
     // strong suspects the explanation did not need: every run failed, but their failures
     // are already explained by something simpler or broader
     for (c, (i, _)) in cands.iter().enumerate() {
-        let tally = &ev.interactions[*i];
+        let tally = &entries[*i].count;
         if tally.passes == 0 && !picked.iter().any(|&(p, _)| p == c) {
             suspects.push(Suspect {
                 interaction: *i,
@@ -253,10 +223,10 @@ pub fn analyse(ev: &Evidence<'_>) -> Analysis {
             .then(b.score.total_cmp(&a.score))
             .then(b.explains.cmp(&a.explains))
             .then(
-                ev.interactions[a.interaction]
-                    .levels
-                    .len()
-                    .cmp(&ev.interactions[b.interaction].levels.len()),
+                entries[a.interaction]
+                    .interaction
+                    .arity()
+                    .cmp(&entries[b.interaction].interaction.arity()),
             )
             .then(a.interaction.cmp(&b.interaction))
     });
@@ -264,7 +234,7 @@ pub fn analyse(ev: &Evidence<'_>) -> Analysis {
         .iter()
         .filter(|s| !s.always && s.explains > 0)
         .map(|s| {
-            let c = &ev.interactions[s.interaction];
+            let c = &entries[s.interaction].count;
             let (low, high) = wilson(c.passes, c.runs, Z95);
             Flaky {
                 interaction: s.interaction,
