@@ -97,10 +97,12 @@ impl Pin {
         }
         for (i, row) in self.rows.iter().enumerate() {
             if row.len() != levels.len() {
+                let plural =
+                    |n: usize, one: &str, many: &str| format!("{n} {}", if n == 1 { one } else { many });
                 return Err(format!(
-                    "row {i} of the pin has {} entries but the function has {} parameters",
-                    row.len(),
-                    levels.len()
+                    "row {i} of the pin has {} but the function has {}",
+                    plural(row.len(), "entry", "entries"),
+                    plural(levels.len(), "parameter", "parameters")
                 ));
             }
             for (c, (&l, &n)) in row.iter().zip(&levels).enumerate() {
@@ -477,7 +479,12 @@ mod tests {
             rows,
         };
         assert!(pin(vec![vec![0, 2]]).check(&spec).is_ok());
-        assert!(pin(vec![vec![0]]).check(&spec).unwrap_err().contains("1 entries"));
+        assert!(
+            pin(vec![vec![0]])
+                .check(&spec)
+                .unwrap_err()
+                .contains("has 1 entry but the function has 2 parameters")
+        );
         assert!(
             pin(vec![vec![0, 3]])
                 .check(&spec)
