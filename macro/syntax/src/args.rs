@@ -80,7 +80,15 @@ impl Args {
     /// Parses the arguments an attribute macro receives; `span` locates errors about
     /// the attribute as a whole.
     pub fn parse_tokens(tokens: TokenStream, span: Span) -> syn::Result<Args> {
-        let items = Punctuated::<Arg, Token![,]>::parse_terminated.parse2(tokens)?;
+        let items = Punctuated::<Arg, Token![,]>::parse_terminated
+            .parse2(tokens)
+            .map_err(|e| {
+                crate::diag::error_at_span(
+                    e.span(),
+                    format!("cannot read `#[{}(…)]`: {e}", crate::keywords::COVER),
+                    "write `key = value` or `exclude(condition)`, separated by commas",
+                )
+            })?;
         Ok(Args { items, span })
     }
 
