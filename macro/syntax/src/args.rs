@@ -116,3 +116,54 @@ impl Args {
         }
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn parse(s: &str) -> syn::Result<Args> {
+        Args::parse_tokens(s.parse().expect("valid token text"), Span::call_site())
+    }
+
+    #[test]
+    fn the_three_forms() {
+        let a = parse("strength = 2, exclude(a == 1 && b != 2), seed, type = 1,").unwrap();
+        let keys: Vec<String> = a.items.iter().map(|i| i.key.to_string()).collect();
+        assert_eq!(keys, ["strength", "exclude", "seed", "type"]);
+        assert!(matches!(a.items[0].value, ArgValue::Assign { .. }));
+        assert!(matches!(
+            &a.items[1].value,
+            ArgValue::Call {
+                expr: Ok(syn::Expr::Binary(_)),
+                ..
+            }
+        ));
+        assert!(matches!(a.items[2].value, ArgValue::Flag));
+        assert!(parse("").unwrap().items.is_empty());
+    }
+
+    #[test]
+    fn a_call_that_is_no_expression_is_kept_for_later() {
+        let a = parse("foo(1, 2)").unwrap();
+        assert!(matches!(&a.items[0].value, ArgValue::Call { expr: Err(_), .. }));
+    }
+
+    #[test]
+    fn syntax_errors_are_in_house_style() {
+        let e = parse("strength = , lambda = 2").err().unwrap().to_string();
+        assert!(
+            e.starts_with("cannot read `#[cover(…)]`: expected an expression\nhint: "),
+            "{e}"
+        );
+        assert!(parse("strength 2").is_err());
+    }
+
+    #[test]
+    fn from_a_source_attribute() {
+        let f: syn::ItemFn = syn::parse_str("#[cover] #[heddle::cover(lambda = 2)] fn f() {}").unwrap();
+        assert!(Args::from_attribute(&f.attrs[0]).unwrap().items.is_empty());
+        assert_eq!(Args::from_attribute(&f.attrs[1]).unwrap().items.len(), 1);
+        let f: syn::ItemFn = syn::parse_str("#[cover = 1] fn f() {}").unwrap();
+        assert!(Args::from_attribute(&f.attrs[0]).is_err());
+    }
+}

@@ -231,3 +231,55 @@ fn levels_of(attrs: &[Attribute]) -> Vec<LevelsAttr<'_>> {
         })
         .collect()
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn attributes_are_sorted_by_destination() {
+        let f: syn::ItemFn = syn::parse_str(
+            "/// doc\n#[ignore] #[cfg(unix)] #[allow(unused)] #[should_panic] #[test] #[tokio::test] \
+             #[heddle::cover] fn f(#[levels(1, 2)] a: u8, (b, c): (u8, u8), #[levels] d: u8) {}",
+        )
+        .unwrap();
+        let args = Args::parse_tokens(proc_macro2::TokenStream::new(), Span::call_site()).unwrap();
+        let c = CoverFn::new(&args, &f, None);
+        let paths = |v: &[&Attribute]| -> Vec<String> {
+            v.iter()
+                .map(|a| quote::ToTokens::to_token_stream(a.path()).to_string())
+                .collect()
+        };
+        assert_eq!(paths(&c.attrs.kept), ["doc", "cfg", "allow"]);
+        assert_eq!(paths(&c.attrs.cfgs), ["cfg"]);
+        assert_eq!(paths(&c.attrs.rows), ["ignore", "should_panic"]);
+        assert_eq!(paths(&c.attrs.test), ["test"]);
+        assert_eq!(paths(&c.attrs.runtime), ["tokio :: test"]);
+        assert_eq!(paths(&c.attrs.covers), ["heddle :: cover"]);
+        assert!(c.attrs.should_panic());
+        // the plugin passes the attribute it found, which is then not a duplicate
+        let own = CoverFn::new(&args, &f, Some(&f.attrs[7]));
+        assert!(own.attrs.covers.is_empty());
+
+        assert!(matches!(c.params[0].kind, ParamKind::Named { ident, .. } if ident == "a"));
+        assert_eq!(c.params[0].levels[0].levels.as_ref().unwrap().len(), 2);
+        assert!(matches!(c.params[1].kind, ParamKind::Pattern { .. }));
+        assert!(c.params[1].levels.is_empty());
+        assert!(c.params[2].levels[0].levels.is_err());
+    }
+
+    #[test]
+    fn cover_paths() {
+        for (p, yes) in [
+            ("cover", true),
+            ("heddle::cover", true),
+            ("heddle_macros::cover", true),
+            ("::cover", false),
+            ("other::cover", false),
+            ("heddle::levels", false),
+        ] {
+            let path: syn::Path = syn::parse_str(p).unwrap();
+            assert_eq!(is_cover_path(&path), yes, "{p}");
+        }
+    }
+}
