@@ -10,6 +10,8 @@
 //! without it: touch the test file (the plugin does) to make the build pick it up; later
 //! edits are tracked, since the expansion includes the file with `include_bytes!`.
 
+#![warn(missing_docs)]
+
 use std::path::PathBuf;
 
 use proc_macro::TokenStream;

@@ -6,6 +6,11 @@
 //! only through `::heddle::__private` (see the contract in the runtime's docs) and uses
 //! `::core`/`::std` paths and `__heddle`/`__HEDDLE` names only, so it cannot collide
 //! with the user's items.
+//!
+//! Level expressions are written into a child module (named after the function) that
+//! starts with `use super::*;`, so names visible where the attribute is written resolve
+//! as usual; a path starting with `self::` or `super::` inside a level, however, is
+//! read one module deeper than it was written.
 
 use std::path::{Path, PathBuf};
 

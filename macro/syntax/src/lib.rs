@@ -19,6 +19,8 @@
 //! of a file, [`Defaults::load`] reads the crate's defaults, [`PinsFile`] reads and
 //! writes pins, [`paths::relative_to_root`] names a test file as pins do.
 
+#![warn(missing_docs)]
+
 pub mod args;
 pub mod ast;
 pub mod defaults;
