@@ -1,0 +1,115 @@
+//! `exclude(...)` formulas written in Rust tokens, turned into the engine's [`Expr`].
+//!
+//! An exclude is a Rust boolean expression over comparisons `name == level` and
+//! `name != level`, combined with `&&`, `||`, `!` and parentheses. `name` is a parameter
+//! and `level` one of the expressions of its `#[levels(...)]`, matched by canonical text
+//! ([`crate::text`]), so `Codec :: Delta` finds the level `Codec::Delta`.
+
+use heddle_generator::{Expr, Factor};
+use syn::ext::IdentExt;
+use syn::{BinOp, UnOp};
+
+use crate::diag::{self, Errors};
+use crate::keywords as kw;
+use crate::text::canonical;
+
+const HINT: &str =
+    "write comparisons `name == level` or `name != level`, joined with `&&`, `||`, `!` and parentheses";
+
+/// Converts one exclude; every problem found is added to `errs` (all of them, not just
+/// the first), and `None` is returned when there was any.
+pub fn convert(e: &syn::Expr, factors: &[Factor], errs: &mut Errors) -> Option<Expr> {
+    match e {
+        syn::Expr::Paren(p) => convert(&p.expr, factors, errs),
+        syn::Expr::Group(g) => convert(&g.expr, factors, errs),
+        syn::Expr::Unary(u) if matches!(u.op, UnOp::Not(_)) => convert(&u.expr, factors, errs).map(Expr::not),
+        syn::Expr::Binary(b) => match b.op {
+            BinOp::And(_) | BinOp::Or(_) => {
+                let l = convert(&b.left, factors, errs);
+                let r = convert(&b.right, factors, errs);
+                let (l, r) = (l?, r?);
+                Some(if matches!(b.op, BinOp::And(_)) {
+                    l.and(r)
+                } else {
+                    l.or(r)
+                })
+            }
+            BinOp::Eq(_) | BinOp::Ne(_) => atom(b, factors, errs),
+            op => {
+                errs.at(
+                    op,
+                    format!("`{}` is not supported in `{}(…)`", canonical(&op), kw::EXCLUDE),
+                    HINT,
+                );
+                None
+            }
+        },
+        other => {
+            errs.at(
+                other,
+                format!(
+                    "expected a comparison `name == level` in `{}(…)`, found `{}`",
+                    kw::EXCLUDE,
+                    canonical(other)
+                ),
+                HINT,
+            );
+            None
+        }
+    }
+}
+
+fn atom(b: &syn::ExprBinary, factors: &[Factor], errs: &mut Errors) -> Option<Expr> {
+    let name = match &*b.left {
+        syn::Expr::Path(p) if p.qself.is_none() && p.attrs.is_empty() => p.path.get_ident(),
+        _ => None,
+    };
+    let Some(name) = name else {
+        errs.at(
+            &b.left,
+            format!(
+                "expected a parameter name on the left of `{}`, found `{}`",
+                canonical(&b.op),
+                canonical(&b.left)
+            ),
+            format!(
+                "write `name {} level` with one of {}",
+                canonical(&b.op),
+                diag::list(factors.iter().map(|f| &f.name))
+            ),
+        );
+        return None;
+    };
+    let name = name.unraw().to_string();
+    let Some(fi) = factors.iter().position(|f| f.name == name) else {
+        errs.at(
+            &b.left,
+            format!("unknown parameter `{name}` in `{}(…)`", kw::EXCLUDE),
+            format!(
+                "the parameters are {}",
+                diag::list(factors.iter().map(|f| &f.name))
+            ),
+        );
+        return None;
+    };
+    let f = &factors[fi];
+    let label = canonical(&b.right);
+    let Some(level) = f.level_index(&label) else {
+        errs.at(
+            &b.right,
+            format!("`{label}` is not a level of `{name}`"),
+            format!(
+                "write it as in `#[{}(…)]`; the levels of `{name}` are {}",
+                kw::LEVELS,
+                diag::list(&f.levels)
+            ),
+        );
+        return None;
+    };
+    let is = Expr::is(fi, level);
+    Some(if matches!(b.op, BinOp::Ne(_)) {
+        is.not()
+    } else {
+        is
+    })
+}

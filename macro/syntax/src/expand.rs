@@ -1,0 +1,338 @@
+//! The expansion of `#[cover]`, as a pure function of the attribute's tokens, the item's
+//! tokens and a [`Context`] holding everything read from disk.
+//!
+//! It lives here rather than in the proc-macro crate so that benchmarks and tests can
+//! call it (a proc-macro crate can export nothing else). The output touches the runtime
+//! only through `::heddle::__private` (see the contract in the runtime's docs) and uses
+//! `::core`/`::std` paths and `__heddle`/`__HEDDLE` names only, so it cannot collide
+//! with the user's items.
+//!
+//! Level expressions are written into a child module (named after the function) that
+//! starts with `use super::*;`, so names visible where the attribute is written resolve
+//! as usual; a path starting with `self::` or `super::` inside a level, however, is
+//! read one module deeper than it was written.
+
+use std::path::{Path, PathBuf};
+
+use proc_macro2::{Literal, Span, TokenStream};
+use quote::{ToTokens, format_ident, quote};
+use syn::{Attribute, FnArg, Item, ItemFn};
+
+use crate::args::Args;
+use crate::ast::{CoverFn, ParamKind, is_cover_path, is_levels_attr, is_runtime_test};
+use crate::defaults::{Defaults, DefaultsError};
+use crate::diag::{self, Errors};
+use crate::keywords as kw;
+use crate::pins::{PinKey, PinsError, PinsFile};
+use crate::rows::{Rows, rows_for};
+use crate::validate::{Checked, Returns, validate};
+
+/// Everything the expansion depends on besides the tokens.
+#[derive(Clone, Debug)]
+pub struct Context {
+    /// The crate root (`CARGO_MANIFEST_DIR`), absolute, when known.
+    pub crate_root: Option<PathBuf>,
+    /// The test file relative to the crate root, `/`-separated, when known.
+    pub file: Option<String>,
+    /// The crate's defaults, or why they could not be read.
+    pub defaults: Result<Defaults, DefaultsError>,
+    /// The crate's pins file (`None`: there is none), or why it could not be read.
+    pub pins: Result<Option<PinsFile>, PinsError>,
+    /// Whether the crate root holds a `Cargo.toml` (then it is tracked for rebuilds).
+    pub has_manifest: bool,
+}
+
+impl Context {
+    /// A context with no crate: built-in defaults, no pins, no file.
+    pub fn detached() -> Context {
+        Context {
+            crate_root: None,
+            file: None,
+            defaults: Ok(Defaults::default()),
+            pins: Ok(None),
+            has_manifest: false,
+        }
+    }
+
+    /// Reads the defaults and the pins file of the crate at `crate_root`.
+    pub fn load(crate_root: Option<&Path>, file: Option<String>) -> Context {
+        let Some(root) = crate_root else {
+            return Context {
+                file,
+                ..Context::detached()
+            };
+        };
+        Context {
+            crate_root: Some(root.to_path_buf()),
+            file,
+            defaults: Defaults::load(root),
+            pins: PinsFile::load(root),
+            has_manifest: root.join(kw::MANIFEST_FILE).is_file(),
+        }
+    }
+}
+
+/// Expands `#[cover(attr)] item`. Never fails: problems become compile errors placed
+/// at their tokens, followed by the plain function so that no follow-on errors appear.
+pub fn expand(attr: TokenStream, item: TokenStream, ctx: &Context) -> TokenStream {
+    let parsed: Item = match syn::parse2(item.clone()) {
+        Ok(i) => i,
+        Err(e) => return with_errors(e, item),
+    };
+    let f = match parsed {
+        Item::Fn(f) => f,
+        other => {
+            let (what, tokens) = item_kind(&other);
+            let e = diag::error_at(
+                tokens,
+                format!("`#[{}]` applies to functions, not to {what}", kw::COVER),
+                format!(
+                    "put it on a test function whose parameters carry `#[{}(…)]`",
+                    kw::LEVELS
+                ),
+            );
+            return with_errors(e, item);
+        }
+    };
+    let args = match Args::parse_tokens(attr, Span::call_site()) {
+        Ok(a) => a,
+        Err(e) => return with_errors(e, plain_fn(&f).into_token_stream()),
+    };
+    match expand_fn(&args, &f, ctx) {
+        Ok(ts) => ts,
+        Err(e) => with_errors(e, plain_fn(&f).into_token_stream()),
+    }
+}
+
+fn with_errors(e: syn::Error, fallback: TokenStream) -> TokenStream {
+    let mut out = e.to_compile_error();
+    out.extend(fallback);
+    out
+}
+
+fn expand_fn(args: &Args, f: &ItemFn, ctx: &Context) -> Result<TokenStream, syn::Error> {
+    let mut errs = Errors::default();
+    let defaults = match &ctx.defaults {
+        Ok(d) => *d,
+        Err(e) => {
+            errs.push(syn::Error::new(args.span, &e.0));
+            Defaults::default()
+        }
+    };
+    let checked = match validate(CoverFn::new(args, f, None), &defaults) {
+        Ok(c) => c,
+        Err(e) => {
+            errs.push(e);
+            return Err(errs
+                .into_error()
+                .unwrap_or_else(|| syn::Error::new(args.span, "invalid")));
+        }
+    };
+    let pins = match &ctx.pins {
+        Ok(p) => p.as_ref(),
+        Err(e) => {
+            errs.push(syn::Error::new(args.span, &e.message));
+            None
+        }
+    };
+    let key = ctx
+        .file
+        .as_ref()
+        .map(|file| PinKey::new(file.clone(), checked.spec.function.clone()));
+    let rows = match rows_for(&checked.spec, key.as_ref(), pins) {
+        Ok(r) => Some(r),
+        Err(e) => {
+            errs.push(syn::Error::new(args.span, e.to_string()));
+            None
+        }
+    };
+    match (errs.into_error(), rows) {
+        (None, Some(rows)) => Ok(generate_code(&checked, &rows, ctx)),
+        (Some(e), _) => Err(e),
+        (None, None) => Err(diag::error_at_span(args.span, "no rows", "see the other errors")),
+    }
+}
+
+/// The function as the user wrote it, minus what belongs to heddle or to the rows:
+/// `#[levels]` on parameters, `#[cover]`, `#[test]`, `#[ignore]`, `#[should_panic]` and
+/// a runtime's test attribute.
+pub fn plain_fn(f: &ItemFn) -> ItemFn {
+    let mut f = f.clone();
+    f.attrs.retain(|a| !moved_off_the_fn(a));
+    for input in &mut f.sig.inputs {
+        let attrs = match input {
+            FnArg::Receiver(r) => &mut r.attrs,
+            FnArg::Typed(t) => &mut t.attrs,
+        };
+        attrs.retain(|a| !is_levels_attr(a));
+    }
+    f
+}
+
+fn moved_off_the_fn(a: &Attribute) -> bool {
+    let p = a.path();
+    is_cover_path(p)
+        || p.is_ident(kw::TEST)
+        || p.is_ident(kw::IGNORE)
+        || p.is_ident(kw::SHOULD_PANIC)
+        || is_runtime_test(a)
+}
+
+fn item_kind(item: &Item) -> (&'static str, TokenStream) {
+    match item {
+        Item::Struct(s) => ("a struct", s.struct_token.into_token_stream()),
+        Item::Enum(e) => ("an enum", e.enum_token.into_token_stream()),
+        Item::Mod(m) => ("a module", m.mod_token.into_token_stream()),
+        Item::Impl(i) => ("an impl block", i.impl_token.into_token_stream()),
+        Item::Trait(t) => ("a trait", t.trait_token.into_token_stream()),
+        Item::Const(c) => ("a constant", c.const_token.into_token_stream()),
+        Item::Static(s) => ("a static", s.static_token.into_token_stream()),
+        Item::Type(t) => ("a type alias", t.type_token.into_token_stream()),
+        Item::Use(u) => ("a `use`", u.use_token.into_token_stream()),
+        other => ("this item", other.into_token_stream()),
+    }
+}
+
+/// The name of row `i` of `n`: zero-padded to the width of the largest index, at least
+/// two digits, so the names sort in row order.
+pub fn row_name(i: usize, n: usize) -> String {
+    let width = n.saturating_sub(1).to_string().len().max(2);
+    format!("row_{i:0width$}")
+}
+
+fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStream {
+    let cover = &checked.cover;
+    let cs = &checked.spec;
+    let spec = &cs.spec;
+    let name = cover.name();
+    let plain = plain_fn(cover.item);
+    let cfgs = &cover.attrs.cfgs;
+
+    let factors = spec.factors.iter().map(|f| {
+        let n = &f.name;
+        let labels = &f.levels;
+        quote!(::heddle::__private::Factor { name: #n, labels: &[#(#labels),*] })
+    });
+    let row_lits = rows.rows.iter().map(|r| {
+        let cells = r.iter().map(|&l| Literal::u8_unsuffixed(l));
+        quote!(&[#(#cells),*])
+    });
+    let file = ctx.file.as_deref().unwrap_or("");
+    let function = &cs.function;
+    let strength = Literal::u32_unsuffixed(spec.strength as u32);
+    let lambda = Literal::u32_unsuffixed(spec.lambda);
+    let seed = Literal::u64_unsuffixed(spec.seed);
+    let excludes = &cs.excludes;
+    let fingerprint = cs.fingerprint.to_string();
+    let pinned = rows.pinned;
+    let should_panic = checked.shape.should_panic;
+
+    let mut tracked = TokenStream::new();
+    if let Some(root) = &ctx.crate_root {
+        if let Ok(Some(_)) = &ctx.pins {
+            let p = PinsFile::path(root).to_string_lossy().into_owned();
+            tracked.extend(quote!(
+                const _: &[u8] = ::core::include_bytes!(#p);
+            ));
+        }
+        if ctx.has_manifest {
+            let p = root.join(kw::MANIFEST_FILE).to_string_lossy().into_owned();
+            tracked.extend(quote!(
+                const _: &[u8] = ::core::include_bytes!(#p);
+            ));
+        }
+    }
+
+    // level expressions per parameter, in `#[levels]` order
+    let levels: Vec<Vec<&syn::Expr>> = cover
+        .params
+        .iter()
+        .filter(|p| matches!(p.kind, ParamKind::Named { .. }))
+        .filter_map(|p| p.levels.first().and_then(|l| l.levels.as_ref().ok()))
+        .map(|list| list.iter().collect())
+        .collect();
+    let test_attr = match cover.attrs.runtime.first() {
+        Some(rt) => rt.to_token_stream(),
+        None => quote!(#[::core::prelude::v1::test]),
+    };
+    let row_attrs = &cover.attrs.rows;
+    let n = rows.rows.len();
+    let row_fns = rows.rows.iter().enumerate().map(|(i, row)| {
+        let fn_name = format_ident!("{}", row_name(i, n));
+        let index = Literal::usize_unsuffixed(i);
+        // every index was checked against the level counts (pin check or the engine's
+        // verification), so the lookups cannot fail
+        let args = row.iter().enumerate().map(|(c, &l)| levels[c][usize::from(l)]);
+        let call = quote!(super::#name(#(#args),*));
+        let (asyncness, output, body) = match (checked.shape.is_async, checked.shape.returns) {
+            (false, Returns::Unit) => (
+                quote!(),
+                quote!(),
+                quote!(::heddle::__private::run(&__HEDDLE_SUITE, #index, || #call)),
+            ),
+            (false, Returns::Result { error }) => (
+                quote!(),
+                match error {
+                    Some(e) => quote!(-> ::core::result::Result<(), ::heddle::__private::RowError<#e>>),
+                    None => quote!(-> impl ::std::process::Termination),
+                },
+                quote!(::heddle::__private::run_result(&__HEDDLE_SUITE, #index, || #call)),
+            ),
+            (true, Returns::Unit) => (
+                quote!(async),
+                quote!(),
+                quote!(::heddle::__private::run_async(&__HEDDLE_SUITE, #index, async move { #call.await }).await),
+            ),
+            (true, Returns::Result { error }) => (
+                quote!(async),
+                // validation requires the error type to be written out for async fns
+                error
+                    .map(|e| quote!(-> ::core::result::Result<(), ::heddle::__private::RowError<#e>>))
+                    .unwrap_or_default(),
+                quote!(
+                    ::heddle::__private::run_async_result(&__HEDDLE_SUITE, #index, async move { #call.await })
+                        .await
+                ),
+            ),
+        };
+        quote! {
+            #test_attr
+            #(#row_attrs)*
+            #asyncness fn #fn_name() #output {
+                #body
+            }
+        }
+    });
+
+    quote! {
+        #plain
+
+        #(#cfgs)*
+        #[cfg(test)]
+        #[doc(hidden)]
+        mod #name {
+            #[allow(unused_imports)]
+            use super::*;
+
+            #tracked
+
+            static __HEDDLE_SUITE: ::heddle::__private::Suite = ::heddle::__private::Suite {
+                krate: ::core::env!("CARGO_PKG_NAME"),
+                file: #file,
+                function: #function,
+                module: ::core::module_path!(),
+                factors: &[#(#factors),*],
+                strength: #strength,
+                lambda: #lambda,
+                seed: #seed,
+                excludes: &[#(#excludes),*],
+                rows: &[#(#row_lits),*],
+                fingerprint: #fingerprint,
+                pinned: #pinned,
+                should_panic: #should_panic,
+            };
+
+            #(#row_fns)*
+        }
+    }
+}

@@ -1,0 +1,45 @@
+//! The `#[cover]` attribute of heddle, minus the proc-macro glue: parsing, validation,
+//! conversion to an engine spec, fingerprints, crate defaults, the pins file and the
+//! expansion itself.
+//!
+//! It is a plain library so that the plugin reads test sources with the very code the
+//! macro uses: what the plugin pins is exactly what the build will look up.
+//!
+//! The passes, in order:
+//! 1. [`args`] — the attribute's argument tokens, parsed (owned `syn` trees);
+//! 2. [`ast`] — the function classified, borrowing from those trees and the `ItemFn`;
+//! 3. [`validate`] — every check, errors accumulated and located, giving a
+//!    [`CoverSpec`]: the engine's [`heddle_generator::Spec`] (labels are the canonical
+//!    text of each level, see [`text`]; excludes converted by [`exclude`]), the seed
+//!    ([`hash::default_seed`] unless given) and the [`Fingerprint`];
+//! 4. [`rows`] — the rows, from the [`pins`] file or the engine;
+//! 5. [`expand`] — the generated code.
+//!
+//! For the plugin: [`find::analyse_source`] finds and analyses every annotated function
+//! of a file, [`Defaults::load`] reads the crate's defaults, [`PinsFile`] reads and
+//! writes pins, [`paths::relative_to_root`] names a test file as pins do.
+
+#![warn(missing_docs)]
+
+pub mod args;
+pub mod ast;
+pub mod defaults;
+pub mod diag;
+pub mod exclude;
+pub mod expand;
+pub mod find;
+pub mod fingerprint;
+pub mod hash;
+pub mod keywords;
+pub mod paths;
+pub mod pins;
+pub mod rows;
+pub mod text;
+pub mod validate;
+
+pub use defaults::{Defaults, DefaultsError};
+pub use expand::{Context, expand};
+pub use fingerprint::{Fingerprint, fingerprint};
+pub use pins::{Pin, PinKey, PinsError, PinsFile};
+pub use rows::{Rows, RowsError, rows_for};
+pub use validate::{Checked, CoverSpec, validate};

@@ -1,0 +1,502 @@
+//! The pins file: rows fixed once (by `cargo heddle pin`, with the engine's thorough
+//! search) and then used verbatim by every build, so a test's rows never move under it.
+//!
+//! # Format
+//!
+//! One file per crate, `heddle-pins.toml` at the crate root (beside `Cargo.toml`), TOML:
+//!
+//! ```toml
+//! # Rows pinned by `cargo heddle pin`; `#[cover]` uses an entry's rows verbatim while
+//! # its fingerprint matches the spec in the source. Regenerate rather than edit.
+//! format = 1
+//!
+//! [pins."tests/codec.rs".roundtrip]
+//! fingerprint = "d0e48fe4e5c1a0e1"
+//! factors = ["batch", "codec", "checksum"]
+//! rows = [
+//!     [0, 0, 0],
+//!     [1, 2, 1],
+//! ]
+//! ```
+//!
+//! - `format` (required): the version of this layout, [`PINS_FORMAT`]; a reader refuses
+//!   any other.
+//! - `pins.FILE.FUNCTION`: one entry per annotated function. `FILE` is the test file's
+//!   path relative to the crate root with `/` separators (`..` components when the file
+//!   lies outside the root); `FUNCTION` is the function's name. Two annotated functions
+//!   of one file must have different names (the macro cannot see module nesting).
+//! - `fingerprint` (required): the spec's [`Fingerprint`], 16 lowercase hex digits.
+//! - `factors` (optional, informative): the parameter names, in column order.
+//! - `rows` (required): one array per row, the level index (0-based, in `#[levels]`
+//!   order) of each parameter.
+//!
+//! [`PinsFile::to_toml`] writes exactly this layout: entries sorted by file then
+//! function, one row per line, so the file diffs well and rewriting an unchanged file
+//! changes nothing.
+//!
+//! # Rebuilds
+//!
+//! The expansion of every annotated function includes the pins file with
+//! `include_bytes!` when it exists, so editing it rebuilds the crate's tests. Creating
+//! it for the first time is not noticed by a crate already built without it: touch the
+//! test file (the plugin does this after writing the file).
+
+use std::collections::BTreeMap;
+use std::fmt::Write as _;
+use std::path::{Path, PathBuf};
+
+use heddle_generator::Spec;
+use serde::Deserialize;
+use toml::Spanned;
+
+use crate::defaults::{at, line_col};
+use crate::diag;
+use crate::fingerprint::Fingerprint;
+use crate::keywords as kw;
+
+pub use crate::keywords::{PINS_FILE, PINS_FORMAT};
+
+/// Where a pin lives: the test file (relative to the crate root, `/`-separated) and the
+/// function's name.
+#[derive(Clone, Debug, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub struct PinKey {
+    /// The test file, relative to the crate root.
+    pub file: String,
+    /// The annotated function's name.
+    pub function: String,
+}
+
+impl PinKey {
+    /// A key.
+    pub fn new(file: impl Into<String>, function: impl Into<String>) -> Self {
+        PinKey {
+            file: file.into(),
+            function: function.into(),
+        }
+    }
+}
+
+/// The pinned rows of one function.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Pin {
+    /// Fingerprint of the spec the rows were made for.
+    pub fingerprint: Fingerprint,
+    /// Parameter names, in column order (informative).
+    pub factors: Vec<String>,
+    /// Level index of each parameter, per row.
+    pub rows: Vec<Vec<u8>>,
+}
+
+impl Pin {
+    /// Checks that the rows fit `spec`: one entry per factor, each an existing level, no
+    /// row excluded. The fingerprint is not compared here.
+    pub fn check(&self, spec: &Spec) -> Result<(), String> {
+        let levels = spec.levels();
+        if self.rows.is_empty() {
+            return Err("the pin has no rows".into());
+        }
+        for (i, row) in self.rows.iter().enumerate() {
+            if row.len() != levels.len() {
+                let plural =
+                    |n: usize, one: &str, many: &str| format!("{n} {}", if n == 1 { one } else { many });
+                return Err(format!(
+                    "row {i} of the pin has {} but the function has {}",
+                    plural(row.len(), "entry", "entries"),
+                    plural(levels.len(), "parameter", "parameters")
+                ));
+            }
+            for (c, (&l, &n)) in row.iter().zip(&levels).enumerate() {
+                if usize::from(l) >= n {
+                    return Err(format!(
+                        "row {i} of the pin uses level {l} of `{}`, which has {n} levels",
+                        spec.factors[c].name
+                    ));
+                }
+            }
+            if let Some(e) = spec.excludes.iter().position(|e| e.eval(row)) {
+                return Err(format!("row {i} of the pin is ruled out by exclude #{}", e + 1));
+            }
+        }
+        Ok(())
+    }
+}
+
+/// A pins file's contents.
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub struct PinsFile {
+    /// Every pin, by key.
+    pub pins: BTreeMap<PinKey, Pin>,
+    lines: BTreeMap<PinKey, usize>,
+}
+
+/// Why a pins file could not be read: a message in the house style, with the line and
+/// column when the problem has a place.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct PinsError {
+    /// 1-based line of the problem, when known.
+    pub line: Option<usize>,
+    /// 1-based column of the problem, when known.
+    pub column: Option<usize>,
+    /// What is wrong and what to do (lower case, `hint:` on its own line).
+    pub message: String,
+}
+
+impl std::fmt::Display for PinsError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(&self.message)
+    }
+}
+
+impl std::error::Error for PinsError {}
+
+#[derive(Deserialize)]
+struct Head {
+    format: Option<Spanned<toml::Value>>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawFile {
+    #[allow(dead_code)] // checked through `Head`
+    format: toml::Value,
+    #[serde(default)]
+    pins: BTreeMap<String, BTreeMap<String, Spanned<RawPin>>>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawPin {
+    fingerprint: Spanned<String>,
+    #[serde(default)]
+    factors: Vec<String>,
+    rows: Vec<Vec<u8>>,
+}
+
+fn located(text: &str, offset: Option<usize>, what: String) -> PinsError {
+    let (line, column) = match offset {
+        Some(o) => {
+            let (l, c) = line_col(text, o);
+            (Some(l), Some(c))
+        }
+        None => (None, None),
+    };
+    let place = at(text, offset.map(|o| o..o));
+    PinsError {
+        line,
+        column,
+        message: diag::message(
+            format!("cannot read `{}`{place}: {what}", kw::PINS_FILE),
+            format!(
+                "fix that line, or delete the file and run `{}` to write it anew",
+                kw::PIN_COMMAND
+            ),
+        ),
+    }
+}
+
+impl PinsFile {
+    /// The pins file's path for the crate whose root is `crate_root`.
+    pub fn path(crate_root: &Path) -> PathBuf {
+        crate_root.join(kw::PINS_FILE)
+    }
+
+    /// Parses the text of a pins file.
+    pub fn parse(text: &str) -> Result<PinsFile, PinsError> {
+        let head: Head = toml::from_str(text)
+            .map_err(|e| located(text, e.span().map(|s| s.start), e.message().to_string()))?;
+        let Some(format) = head.format else {
+            return Err(located(
+                text,
+                None,
+                format!("`format = {}` is missing", kw::PINS_FORMAT),
+            ));
+        };
+        if format.get_ref().as_integer() != Some(i64::from(kw::PINS_FORMAT)) {
+            return Err(PinsError {
+                message: diag::message(
+                    format!(
+                        "`{}`{} has `format = {}`, this heddle reads format {}",
+                        kw::PINS_FILE,
+                        at(text, Some(format.span())),
+                        format.get_ref(),
+                        kw::PINS_FORMAT
+                    ),
+                    format!(
+                        "use the heddle that wrote it, or run `{}` to rewrite it",
+                        kw::PIN_COMMAND
+                    ),
+                ),
+                ..located(text, Some(format.span().start), String::new())
+            });
+        }
+        let raw: RawFile = toml::from_str(text)
+            .map_err(|e| located(text, e.span().map(|s| s.start), e.message().to_string()))?;
+        let mut out = PinsFile::default();
+        for (file, fns) in raw.pins {
+            for (function, pin) in fns {
+                let start = pin.span().start;
+                let pin = pin.into_inner();
+                let fingerprint = pin
+                    .fingerprint
+                    .get_ref()
+                    .parse::<Fingerprint>()
+                    .map_err(|e| located(text, Some(pin.fingerprint.span().start), e))?;
+                let key = PinKey {
+                    file: file.clone(),
+                    function,
+                };
+                out.lines.insert(key.clone(), line_col(text, start).0);
+                out.pins.insert(
+                    key,
+                    Pin {
+                        fingerprint,
+                        factors: pin.factors,
+                        rows: pin.rows,
+                    },
+                );
+            }
+        }
+        Ok(out)
+    }
+
+    /// Reads the pins file of a crate: `None` when there is none.
+    pub fn load(crate_root: &Path) -> Result<Option<PinsFile>, PinsError> {
+        let path = PinsFile::path(crate_root);
+        match std::fs::read_to_string(&path) {
+            Ok(text) => PinsFile::parse(&text).map(Some),
+            Err(e) if e.kind() == std::io::ErrorKind::NotFound => Ok(None),
+            Err(e) => Err(PinsError {
+                line: None,
+                column: None,
+                message: diag::message(
+                    format!("cannot read `{}`: {e}", path.display()),
+                    "check the file's permissions",
+                ),
+            }),
+        }
+    }
+
+    /// The pin of a function.
+    pub fn get(&self, key: &PinKey) -> Option<&Pin> {
+        self.pins.get(key)
+    }
+
+    /// The line its entry starts on, for pins read from a file.
+    pub fn line_of(&self, key: &PinKey) -> Option<usize> {
+        self.lines.get(key).copied()
+    }
+
+    /// Adds or replaces a pin, returning the one replaced.
+    pub fn insert(&mut self, key: PinKey, pin: Pin) -> Option<Pin> {
+        self.lines.remove(&key);
+        self.pins.insert(key, pin)
+    }
+
+    /// Removes a pin.
+    pub fn remove(&mut self, key: &PinKey) -> Option<Pin> {
+        self.lines.remove(key);
+        self.pins.remove(key)
+    }
+
+    /// The file's text in the layout documented above: deterministic, sorted, one row
+    /// per line.
+    pub fn to_toml(&self) -> String {
+        let mut out = String::new();
+        out.push_str(&format!(
+            "# Rows pinned by `{}`; `#[{}]` uses an entry's rows verbatim while\n\
+             # its fingerprint matches the spec in the source. Regenerate rather than edit.\n",
+            kw::PIN_COMMAND,
+            kw::COVER
+        ));
+        // writing to a String cannot fail
+        let _ = writeln!(out, "format = {}", kw::PINS_FORMAT);
+        for (key, pin) in &self.pins {
+            let _ = writeln!(out, "\n[pins.{}.{}]", quoted(&key.file), toml_key(&key.function));
+            let _ = writeln!(out, "fingerprint = \"{}\"", pin.fingerprint);
+            let names: Vec<String> = pin.factors.iter().map(|f| quoted(f)).collect();
+            let _ = writeln!(out, "factors = [{}]", names.join(", "));
+            out.push_str("rows = [\n");
+            for row in &pin.rows {
+                let cells: Vec<String> = row.iter().map(u8::to_string).collect();
+                let _ = writeln!(out, "    [{}],", cells.join(", "));
+            }
+            out.push_str("]\n");
+        }
+        out
+    }
+}
+
+/// A TOML key: bare when TOML allows it, else a basic string.
+fn toml_key(k: &str) -> String {
+    if !k.is_empty()
+        && k.bytes()
+            .all(|b| b.is_ascii_alphanumeric() || b == b'_' || b == b'-')
+    {
+        k.to_string()
+    } else {
+        quoted(k)
+    }
+}
+
+/// A TOML basic string.
+fn quoted(s: &str) -> String {
+    let mut out = String::with_capacity(s.len() + 2);
+    out.push('"');
+    for c in s.chars() {
+        match c {
+            '"' => out.push_str("\\\""),
+            '\\' => out.push_str("\\\\"),
+            '\n' => out.push_str("\\n"),
+            '\t' => out.push_str("\\t"),
+            '\r' => out.push_str("\\r"),
+            c if c.is_control() => {
+                let _ = write!(out, "\\u{:04X}", c as u32);
+            }
+            c => out.push(c),
+        }
+    }
+    out.push('"');
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use heddle_generator::{Expr, Factor};
+
+    fn sample() -> PinsFile {
+        let mut p = PinsFile::default();
+        p.insert(
+            PinKey::new("tests/codec.rs", "roundtrip"),
+            Pin {
+                fingerprint: Fingerprint(0xd0e4_8fe4_e5c1_a0e1),
+                factors: vec!["batch".into(), "codec".into()],
+                rows: vec![vec![0, 0], vec![1, 2]],
+            },
+        );
+        p.insert(
+            PinKey::new("src/we\"ird\\dir/lib.rs", "r#type"),
+            Pin {
+                fingerprint: Fingerprint(1),
+                factors: vec!["x".into()],
+                rows: vec![vec![0], vec![1]],
+            },
+        );
+        p.insert(
+            PinKey::new("tests/a.rs", "b"),
+            Pin {
+                fingerprint: Fingerprint(2),
+                factors: vec![],
+                rows: vec![vec![3]],
+            },
+        );
+        p
+    }
+
+    #[test]
+    fn round_trip() {
+        let p = sample();
+        let text = p.to_toml();
+        let back = PinsFile::parse(&text).unwrap();
+        assert_eq!(back.pins, p.pins);
+        // writing what was read gives the same text: the writer is deterministic
+        assert_eq!(back.to_toml(), text);
+    }
+
+    #[test]
+    fn layout_is_sorted_and_one_row_per_line() {
+        let text = sample().to_toml();
+        let a = text.find("[pins.\"src/").unwrap();
+        let b = text.find("[pins.\"tests/a.rs\".b]").unwrap();
+        let c = text.find("[pins.\"tests/codec.rs\".roundtrip]").unwrap();
+        assert!(a < b && b < c, "{text}");
+        assert!(text.contains("\nformat = 1\n"));
+        assert!(text.contains("rows = [\n    [0, 0],\n    [1, 2],\n]\n"), "{text}");
+        assert!(text.contains("fingerprint = \"d0e48fe4e5c1a0e1\""));
+        assert!(text.contains(".\"r#type\"]"), "{text}");
+    }
+
+    #[test]
+    fn lines_of_entries() {
+        let text = "format = 1\n\n[pins.\"t.rs\".f]\nfingerprint = \"0000000000000001\"\nrows = [[0]]\n";
+        let p = PinsFile::parse(text).unwrap();
+        let key = PinKey::new("t.rs", "f");
+        assert_eq!(p.get(&key).unwrap().rows, vec![vec![0]]);
+        assert_eq!(p.get(&key).unwrap().factors, Vec::<String>::new());
+        assert!(p.line_of(&key).is_some());
+    }
+
+    #[test]
+    fn syntax_errors_are_located() {
+        let text = "format = 1\n\n[pins.\"t.rs\".f]\nfingerprint = \"0000000000000001\"\nrows = [[0, ]\n";
+        let e = PinsFile::parse(text).unwrap_err();
+        assert_eq!(e.line, Some(5), "{e}");
+        assert!(
+            e.message
+                .starts_with("cannot read `heddle-pins.toml` (line 5, column"),
+            "{e}"
+        );
+        assert!(e.message.contains("\nhint: "), "{e}");
+    }
+
+    #[test]
+    fn bad_values_are_located() {
+        let text = "format = 1\n[pins.\"t.rs\".f]\nfingerprint = \"xyz\"\nrows = [[0]]\n";
+        let e = PinsFile::parse(text).unwrap_err();
+        assert_eq!(e.line, Some(3), "{e}");
+        assert!(e.message.contains("`xyz` is not a fingerprint"), "{e}");
+
+        let text = "format = 1\n[pins.\"t.rs\".f]\nfingerprint = \"0000000000000001\"\nrows = [[300]]\n";
+        let e = PinsFile::parse(text).unwrap_err();
+        assert_eq!(e.line, Some(4), "{e}");
+
+        let text =
+            "format = 1\n[pins.\"t.rs\".f]\nfingerprint = \"0000000000000001\"\nrows = [[0]]\ncolour = 1\n";
+        let e = PinsFile::parse(text).unwrap_err();
+        assert!(e.message.contains("colour"), "{e}");
+    }
+
+    #[test]
+    fn format_is_required_and_checked() {
+        let e = PinsFile::parse("[pins]\n").unwrap_err();
+        assert!(e.message.contains("`format = 1` is missing"), "{e}");
+        let e = PinsFile::parse("format = 2\n").unwrap_err();
+        assert_eq!(e.line, Some(1));
+        assert!(
+            e.message.contains("has `format = 2`, this heddle reads format 1"),
+            "{e}"
+        );
+        assert!(PinsFile::parse("format = 1\n").unwrap().pins.is_empty());
+    }
+
+    #[test]
+    fn check_against_spec() {
+        let spec =
+            Spec::new(vec![Factor::numbered("a", 2), Factor::numbered("b", 3)]).exclude(Expr::is(0, 1));
+        let pin = |rows: Vec<Vec<u8>>| Pin {
+            fingerprint: Fingerprint(0),
+            factors: vec![],
+            rows,
+        };
+        assert!(pin(vec![vec![0, 2]]).check(&spec).is_ok());
+        assert!(
+            pin(vec![vec![0]])
+                .check(&spec)
+                .unwrap_err()
+                .contains("has 1 entry but the function has 2 parameters")
+        );
+        assert!(
+            pin(vec![vec![0, 3]])
+                .check(&spec)
+                .unwrap_err()
+                .contains("level 3 of `b`")
+        );
+        assert!(
+            pin(vec![vec![1, 0]])
+                .check(&spec)
+                .unwrap_err()
+                .contains("exclude #1")
+        );
+        assert!(pin(vec![]).check(&spec).is_err());
+    }
+}

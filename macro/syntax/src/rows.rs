@@ -1,0 +1,118 @@
+//! Where a function's rows come from: its pin when one matches, else the engine.
+//!
+//! The macro and the plugin's checks decide this with the same function, so "stale"
+//! means the same thing to both.
+
+use std::fmt;
+
+use heddle_generator::{Effort, generate};
+
+use crate::diag;
+use crate::fingerprint::Fingerprint;
+use crate::keywords as kw;
+use crate::pins::{PinKey, PinsFile};
+use crate::validate::CoverSpec;
+
+/// The rows of a function and where they came from.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Rows {
+    /// Level index per factor, per row.
+    pub rows: Vec<Vec<u8>>,
+    /// They came from the pins file.
+    pub pinned: bool,
+}
+
+/// Why no rows could be had.
+#[derive(Clone, Debug, PartialEq)]
+pub enum RowsError {
+    /// The pin exists but was made for another spec.
+    Stale {
+        /// The pin's key.
+        key: PinKey,
+        /// Its line in the pins file.
+        line: Option<usize>,
+        /// The pin's fingerprint.
+        pinned: Fingerprint,
+        /// The spec's fingerprint.
+        current: Fingerprint,
+    },
+    /// The pin matches but its rows do not fit the spec (a hand edit).
+    Corrupt {
+        /// The pin's key.
+        key: PinKey,
+        /// Its line in the pins file.
+        line: Option<usize>,
+        /// What is wrong.
+        reason: String,
+    },
+    /// The engine refused the spec.
+    Engine(heddle_generator::Error),
+}
+
+fn line(l: Option<usize>) -> String {
+    l.map(|l| format!(" (line {l})")).unwrap_or_default()
+}
+
+impl fmt::Display for RowsError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let text = match self {
+            RowsError::Stale { key, line: l, .. } => diag::message(
+                format!(
+                    "the pin of `{}` in `{}`{} is stale: the spec changed since it was pinned",
+                    key.function,
+                    kw::PINS_FILE,
+                    line(*l)
+                ),
+                format!("run `{}` to pin rows for the new spec", kw::PIN_COMMAND),
+            ),
+            RowsError::Corrupt { key, line: l, reason } => diag::message(
+                format!(
+                    "the pin of `{}` in `{}`{} does not fit the function: {reason}",
+                    key.function,
+                    kw::PINS_FILE,
+                    line(*l)
+                ),
+                format!("run `{}` to rewrite it", kw::PIN_COMMAND),
+            ),
+            RowsError::Engine(e) => diag::message(
+                format!("cannot generate rows: {e}"),
+                "lower the strength, lambda or the number of levels",
+            ),
+        };
+        f.write_str(&text)
+    }
+}
+
+impl std::error::Error for RowsError {}
+
+/// The rows of `spec`: its pin under `key` in `pins` when there is one (an error when
+/// the pin is stale or does not fit), else freshly generated with [`Effort::Fast`].
+pub fn rows_for(spec: &CoverSpec, key: Option<&PinKey>, pins: Option<&PinsFile>) -> Result<Rows, RowsError> {
+    let found = key
+        .zip(pins)
+        .and_then(|(key, pins)| Some((key, pins, pins.get(key)?)));
+    if let Some((key, pins, pin)) = found {
+        if pin.fingerprint != spec.fingerprint {
+            return Err(RowsError::Stale {
+                key: key.clone(),
+                line: pins.line_of(key),
+                pinned: pin.fingerprint,
+                current: spec.fingerprint,
+            });
+        }
+        pin.check(&spec.spec).map_err(|reason| RowsError::Corrupt {
+            key: key.clone(),
+            line: pins.line_of(key),
+            reason,
+        })?;
+        return Ok(Rows {
+            rows: pin.rows.clone(),
+            pinned: true,
+        });
+    }
+    let design = generate(&spec.spec, Effort::Fast).map_err(RowsError::Engine)?;
+    Ok(Rows {
+        rows: design.rows,
+        pinned: false,
+    })
+}

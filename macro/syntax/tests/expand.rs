@@ -1,0 +1,323 @@
+//! The expansion, inspected as a syntax tree: shape, rows, pins, fallbacks.
+
+use heddle_syntax::expand::{Context, expand, row_name};
+use heddle_syntax::{Fingerprint, Pin, PinKey, PinsFile};
+use proc_macro2::TokenStream;
+use quote::ToTokens;
+use syn::{Item, ItemFn, ItemMod};
+
+const ATTR: &str = "lambda = 2, seed = 11, exclude(codec == Codec::Delta && batch == 1)";
+const ITEM: &str = "/// doc stays
+fn roundtrip(
+    #[levels(1, 8, 64)] batch: usize,
+    #[levels(Codec::Plain, Codec::Rle, Codec::Delta)] codec: Codec,
+    #[levels(true, false)] checksum: bool,
+) {}";
+
+fn run(attr: &str, item: &str, ctx: &Context) -> syn::File {
+    let out = expand(ts(attr), ts(item), ctx);
+    syn::parse2(out).expect("the expansion parses as items")
+}
+
+fn ts(s: &str) -> TokenStream {
+    s.parse().expect("test input is valid token text")
+}
+
+fn ctx_in(file: &str) -> Context {
+    Context {
+        file: Some(file.into()),
+        ..Context::detached()
+    }
+}
+
+fn the_fn(f: &syn::File) -> &ItemFn {
+    f.items
+        .iter()
+        .find_map(|i| match i {
+            Item::Fn(f) => Some(f),
+            _ => None,
+        })
+        .expect("the function is emitted")
+}
+
+fn the_mod(f: &syn::File) -> Option<&ItemMod> {
+    f.items.iter().find_map(|i| match i {
+        Item::Mod(m) => Some(m),
+        _ => None,
+    })
+}
+
+fn row_fns(m: &ItemMod) -> Vec<&ItemFn> {
+    m.content
+        .as_ref()
+        .map(|(_, items)| {
+            items
+                .iter()
+                .filter_map(|i| match i {
+                    Item::Fn(f) => Some(f),
+                    _ => None,
+                })
+                .collect()
+        })
+        .unwrap_or_default()
+}
+
+fn errors(f: &syn::File) -> Vec<String> {
+    f.items
+        .iter()
+        .filter_map(|i| match i {
+            Item::Macro(m)
+                if m.mac
+                    .path
+                    .segments
+                    .last()
+                    .is_some_and(|s| s.ident == "compile_error") =>
+            {
+                let lit: syn::LitStr = m.mac.parse_body().ok()?;
+                Some(lit.value())
+            }
+            _ => None,
+        })
+        .collect()
+}
+
+fn text(t: &impl ToTokens) -> String {
+    t.to_token_stream().to_string()
+}
+
+#[test]
+fn shape_of_a_valid_expansion() {
+    let out = run(ATTR, ITEM, &ctx_in("tests/codec.rs"));
+    assert!(errors(&out).is_empty());
+    let f = the_fn(&out);
+    assert_eq!(f.sig.ident, "roundtrip");
+    assert!(f.attrs.iter().any(|a| a.path().is_ident("doc")));
+    assert!(text(&f.sig).find("levels").is_none(), "{}", text(&f.sig));
+    let m = the_mod(&out).expect("the rows module is emitted");
+    assert_eq!(m.ident, "roundtrip");
+    let attrs: Vec<String> = m.attrs.iter().map(text).collect();
+    assert!(attrs.contains(&"# [cfg (test)]".to_string()), "{attrs:?}");
+    let rows = row_fns(m);
+    // batch × codec has 3·3 pairs, one excluded; each of the other 8 needs λ = 2 rows of
+    // its own, so at least 16 rows (counting argument behind the bound λ·v1·v2; common
+    // practice)
+    assert!(rows.len() >= 16, "{}", rows.len());
+    for (i, r) in rows.iter().enumerate() {
+        assert_eq!(r.sig.ident, row_name(i, rows.len()));
+        assert!(r.sig.inputs.is_empty());
+        let a = text(&r.attrs[0]);
+        assert!(a.contains("test"), "{a}");
+        let body = text(&r.block);
+        assert!(
+            body.contains(":: heddle :: __private :: run (& __HEDDLE_SUITE"),
+            "{body}"
+        );
+        assert!(body.contains("super :: roundtrip ("), "{body}");
+        // the exclude holds: no row calls with Delta and batch 1
+        assert!(
+            !(body.contains("(1 ,") && body.contains("Codec :: Delta")),
+            "{body}"
+        );
+    }
+    let all = text(m);
+    assert!(all.contains("file : \"tests/codec.rs\""), "{all}");
+    assert!(all.contains("pinned : false"), "{all}");
+    assert!(
+        all.contains("excludes : & [\"codec == Codec::Delta && batch == 1\"]"),
+        "{all}"
+    );
+    assert!(
+        all.contains("labels : & [\"Codec::Plain\" , \"Codec::Rle\" , \"Codec::Delta\"]"),
+        "{all}"
+    );
+}
+
+#[test]
+fn expansion_is_a_function_of_its_inputs() {
+    let a = expand(ts(ATTR), ts(ITEM), &ctx_in("tests/codec.rs")).to_string();
+    let b = expand(ts(ATTR), ts(ITEM), &ctx_in("tests/codec.rs")).to_string();
+    assert_eq!(a, b);
+}
+
+fn pinned_ctx(rows: Vec<Vec<u8>>, fingerprint: Option<Fingerprint>) -> Context {
+    let spec = heddle_syntax::find::analyse_source(
+        &format!("#[cover({ATTR})]\n{ITEM}"),
+        &heddle_syntax::Defaults::default(),
+    )
+    .unwrap()
+    .remove(0)
+    .spec
+    .unwrap();
+    let mut pins = PinsFile::default();
+    pins.insert(
+        PinKey::new("tests/codec.rs", "roundtrip"),
+        Pin {
+            fingerprint: fingerprint.unwrap_or(spec.fingerprint),
+            factors: vec![],
+            rows,
+        },
+    );
+    Context {
+        crate_root: Some("/tmp/some-crate".into()),
+        pins: Ok(Some(pins)),
+        ..ctx_in("tests/codec.rs")
+    }
+}
+
+#[test]
+fn a_matching_pin_is_used_verbatim() {
+    let out = run(ATTR, ITEM, &pinned_ctx(vec![vec![2, 0, 1], vec![0, 1, 0]], None));
+    assert!(errors(&out).is_empty(), "{:?}", errors(&out));
+    let m = the_mod(&out).unwrap();
+    let rows = row_fns(m);
+    assert_eq!(rows.len(), 2);
+    assert!(text(&rows[0].block).contains("super :: roundtrip (64 , Codec :: Plain , false)"));
+    assert!(text(&rows[1].block).contains("super :: roundtrip (1 , Codec :: Rle , true)"));
+    let all = text(m);
+    assert!(all.contains("pinned : true"));
+    assert!(all.contains("rows : & [& [2 , 0 , 1] , & [0 , 1 , 0]]"), "{all}");
+    assert!(
+        all.contains("include_bytes ! (\"/tmp/some-crate/heddle-pins.toml\")"),
+        "{all}"
+    );
+}
+
+#[test]
+fn a_stale_or_broken_pin_is_an_error_and_the_fn_stays() {
+    let out = run(ATTR, ITEM, &pinned_ctx(vec![vec![0, 0, 0]], Some(Fingerprint(7))));
+    let errs = errors(&out);
+    assert_eq!(errs.len(), 1);
+    assert!(
+        errs[0].starts_with("the pin of `roundtrip` in `heddle-pins.toml` is stale"),
+        "{errs:?}"
+    );
+    assert!(errs[0].contains("`cargo heddle pin`"));
+    assert!(the_mod(&out).is_none());
+    assert_eq!(the_fn(&out).sig.ident, "roundtrip");
+
+    let out = run(ATTR, ITEM, &pinned_ctx(vec![vec![0, 2, 0]], None));
+    let errs = errors(&out);
+    assert!(errs[0].contains("is ruled out by exclude #1"), "{errs:?}");
+}
+
+#[test]
+fn invalid_input_gives_every_error_and_the_plain_fn() {
+    let out = run(
+        "strenght = 2",
+        "#[ignore] fn f(#[levels(1, 1)] a: u8, #[levels(2)] b: u8) {}",
+        &Context::detached(),
+    );
+    let errs = errors(&out);
+    assert_eq!(errs.len(), 2, "{errs:?}");
+    let f = the_fn(&out);
+    assert!(!text(f).contains("levels"), "{}", text(f));
+    assert!(f.attrs.is_empty());
+    assert!(the_mod(&out).is_none());
+}
+
+#[test]
+fn not_a_fn_is_left_alone() {
+    let out = run("", "#[derive(Debug)] struct S { a: u8 }", &Context::detached());
+    let errs = errors(&out);
+    assert!(errs[0].starts_with("`#[cover]` applies to functions, not to a struct"));
+    assert!(out.items.iter().any(|i| matches!(i, Item::Struct(_))));
+}
+
+#[test]
+fn test_attributes_move_to_the_rows() {
+    let out = run(
+        "",
+        "#[ignore] #[should_panic(expected = \"boom\")] #[cfg(unix)] fn f(#[levels(1, 2)] a: u8) {}",
+        &Context::detached(),
+    );
+    let f = the_fn(&out);
+    let kept: Vec<String> = f.attrs.iter().map(text).collect();
+    assert_eq!(kept, ["# [cfg (unix)]"]);
+    let m = the_mod(&out).unwrap();
+    assert!(text(&m.attrs[0]).contains("cfg (unix)"));
+    assert!(text(m).contains("should_panic : true"));
+    for r in row_fns(m) {
+        let attrs: Vec<String> = r.attrs.iter().map(text).collect();
+        assert_eq!(
+            attrs,
+            [
+                "# [:: core :: prelude :: v1 :: test]",
+                "# [ignore]",
+                "# [should_panic (expected = \"boom\")]"
+            ]
+        );
+    }
+}
+
+#[test]
+fn async_rows_take_the_runtime_attribute() {
+    let out = run(
+        "",
+        "#[tokio::test(flavor = \"current_thread\")] async fn f(#[levels(1, 2)] a: u8) -> Result<(), String> { Ok(()) }",
+        &Context::detached(),
+    );
+    assert!(errors(&out).is_empty(), "{:?}", errors(&out));
+    let f = the_fn(&out);
+    assert!(f.attrs.is_empty());
+    assert!(f.sig.asyncness.is_some());
+    for r in row_fns(the_mod(&out).unwrap()) {
+        assert_eq!(
+            text(&r.attrs[0]),
+            "# [tokio :: test (flavor = \"current_thread\")]"
+        );
+        assert!(r.sig.asyncness.is_some());
+        assert_eq!(
+            text(&r.sig.output),
+            "-> :: core :: result :: Result < () , :: heddle :: __private :: RowError < String > >"
+        );
+        let body = text(&r.block);
+        assert!(body.contains("run_async_result (& __HEDDLE_SUITE"), "{body}");
+        assert!(body.contains("async move { super :: f ("), "{body}");
+    }
+}
+
+#[test]
+fn result_fns_use_run_result() {
+    let out = run(
+        "",
+        "fn f(#[levels(1, 2)] a: u8) -> std::io::Result<()> { Ok(()) }",
+        &Context::detached(),
+    );
+    for r in row_fns(the_mod(&out).unwrap()) {
+        assert_eq!(text(&r.sig.output), "-> impl :: std :: process :: Termination");
+        assert!(text(&r.block).contains("run_result (& __HEDDLE_SUITE"));
+    }
+}
+
+#[test]
+fn row_names_sort() {
+    assert_eq!(row_name(0, 1), "row_00");
+    assert_eq!(row_name(9, 10), "row_09");
+    assert_eq!(row_name(99, 100), "row_99");
+    assert_eq!(row_name(7, 101), "row_007");
+    assert_eq!(row_name(100, 101), "row_100");
+}
+
+#[test]
+fn plugin_finds_annotated_fns_in_modules() {
+    let src = "
+use heddle::cover;
+#[cover]
+fn a(#[levels(1, 2)] x: u8) {}
+mod inner {
+    #[heddle::cover(strength = 1)]
+    fn b(#[levels(1, 2)] x: u8, #[levels(3)] y: u8) {}
+    #[cover(bogus = 1)]
+    fn c(#[levels(1)] x: u8) {}
+    fn not_annotated() {}
+}
+";
+    let found = heddle_syntax::find::analyse_source(src, &heddle_syntax::Defaults::default()).unwrap();
+    let names: Vec<&str> = found.iter().map(|f| f.function.as_str()).collect();
+    assert_eq!(names, ["a", "b", "c"]);
+    assert_eq!(found[0].line, 3);
+    assert_eq!(found[1].modules, ["inner"]);
+    assert_eq!(found[1].spec.as_ref().unwrap().spec.strength, 1);
+    assert!(found[2].spec.is_err());
+    assert_eq!(found[1].pin_key("tests/x.rs"), PinKey::new("tests/x.rs", "b"));
+}

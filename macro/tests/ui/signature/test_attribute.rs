@@ -1,0 +1,9 @@
+#![allow(dead_code, unused_variables)]
+
+use heddle_macros::cover;
+
+#[cover]
+#[test]
+fn f(#[levels(1, 2)] a: u8) {}
+
+fn main() {}
