@@ -30,6 +30,8 @@
 #![warn(missing_docs)]
 #![forbid(unsafe_code)]
 
+pub use heddle_macros::cover;
+
 pub mod layout;
 mod message;
 pub mod record;
