@@ -121,38 +121,42 @@ pub fn analyse(tallies: &Tallies) -> Analysis {
             )
         })
         .collect();
-    let purity = |i: usize| {
-        let c = &entries[i].count;
-        c.failures as f64 / c.runs.max(1) as f64
-    };
     let mut explained = vec![false; tallies.rows.len()];
-    // (candidate position, failures explained when picked)
-    let mut picked: Vec<(usize, u64)> = Vec::new();
+    // (candidate position, failures it explains, its runs not explained by earlier picks)
+    let mut picked: Vec<(usize, u64, u64)> = Vec::new();
     loop {
-        let gain = |rows: &[usize]| -> u64 {
-            rows.iter()
-                .filter(|&&r| !explained[r])
-                .map(|&r| row_failures[r])
-                .sum()
-        };
         let interaction = |c: usize| &entries[cands[c].0].interaction;
-        // best by (explained failures, purity, fewer factors); ties all kept
-        let mut best: Vec<(usize, u64)> = Vec::new();
-        for (c, (i, rows)) in cands.iter().enumerate() {
-            let g = gain(rows);
+        // a candidate's evidence: the failures no earlier pick explains (g), among its
+        // runs that no earlier pick explains (open); it is worth g · g/open — failures
+        // explained times the precision of the explanation — compared exactly
+        let evidence = |c: usize| {
+            let (i, rows) = &cands[c];
+            let (mut g, mut done) = (0u64, 0u64);
+            for &r in rows {
+                if explained[r] {
+                    done += row_failures[r]
+                } else {
+                    g += row_failures[r]
+                }
+            }
+            (g, entries[*i].count.runs.saturating_sub(done).max(1))
+        };
+        let mut best: Vec<(usize, u64, u64)> = Vec::new();
+        for c in 0..cands.len() {
+            let (g, open) = evidence(c);
             if g == 0 {
                 continue;
             }
             let ord = match best.first() {
                 None => Ordering::Greater,
-                Some(&(b, bg)) => g
-                    .cmp(&bg)
-                    .then(purity(*i).total_cmp(&purity(cands[b].0)))
+                Some(&(b, bg, bopen)) => ((g as u128 * g as u128) * bopen as u128)
+                    .cmp(&((bg as u128 * bg as u128) * open as u128))
+                    .then(g.cmp(&bg))
                     .then(interaction(b).arity().cmp(&interaction(c).arity())),
             };
             match ord {
-                Ordering::Greater => best = vec![(c, g)],
-                Ordering::Equal => best.push((c, g)),
+                Ordering::Greater => best = vec![(c, g, open)],
+                Ordering::Equal => best.push((c, g, open)),
                 Ordering::Less => {}
             }
         }
@@ -160,23 +164,23 @@ pub fn analyse(tallies: &Tallies) -> Analysis {
             break;
         }
         // an explanation that contains another equally good one adds nothing
-        let group: Vec<(usize, u64)> = best
+        let group: Vec<(usize, u64, u64)> = best
             .iter()
             .copied()
-            .filter(|&(c, _)| {
+            .filter(|&(c, _, _)| {
                 !best
                     .iter()
-                    .any(|&(d, _)| d != c && interaction(c).contains(interaction(d)))
+                    .any(|&(d, _, _)| d != c && interaction(c).contains(interaction(d)))
             })
             .collect();
-        for &(c, g) in &group {
-            picked.push((c, g));
+        for &(c, g, open) in &group {
+            picked.push((c, g, open));
             for &r in &cands[c].1 {
                 explained[r] = true;
             }
         }
     }
-    let suspect = |i: usize, g: u64| {
+    let suspect = |i: usize, g: u64, open: u64| {
         let c = &entries[i].count;
         let always = c.passes == 0;
         let reason = if always {
@@ -192,18 +196,21 @@ pub fn analyse(tallies: &Tallies) -> Analysis {
         };
         Suspect {
             interaction: i,
-            score: g as f64 / failures as f64 * purity(i),
+            score: g as f64 / failures as f64 * (g as f64 / open as f64).min(1.0),
             always,
             explains: g,
             reason,
         }
     };
-    let mut suspects: Vec<Suspect> = picked.iter().map(|&(c, g)| suspect(cands[c].0, g)).collect();
+    let mut suspects: Vec<Suspect> = picked
+        .iter()
+        .map(|&(c, g, open)| suspect(cands[c].0, g, open))
+        .collect();
     // strong suspects the explanation did not need: every run failed, but their failures
     // are already explained by something simpler or broader
     for (c, (i, _)) in cands.iter().enumerate() {
         let tally = &entries[*i].count;
-        if tally.passes == 0 && !picked.iter().any(|&(p, _)| p == c) {
+        if tally.passes == 0 && !picked.iter().any(|&(p, _, _)| p == c) {
             suspects.push(Suspect {
                 interaction: *i,
                 score: 0.5 * tally.failures as f64 / failures as f64,

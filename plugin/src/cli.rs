@@ -26,6 +26,10 @@ struct HeddleCli {
 enum Command {
     /// Generate a covering array for factors given on the command line.
     Design(crate::design::DesignArgs),
+    /// Run the tests under one run id and report on that run.
+    Test(crate::test_cmd::TestArgs),
+    /// Report on recorded runs: pass counts per interaction, suspects, flaky ones.
+    Report(crate::report::ReportArgs),
 }
 
 /// How hard the engine works.
@@ -51,5 +55,7 @@ pub fn run(args: impl IntoIterator<Item = OsString>) -> Result<ExitCode, Failure
     let CargoCli::Heddle(h) = cli;
     match h.command {
         Command::Design(a) => crate::design::run(a),
+        Command::Test(a) => crate::test_cmd::run(a),
+        Command::Report(a) => crate::report::run(a),
     }
 }

@@ -27,8 +27,13 @@ pub(crate) fn row_name(rows: usize, row: usize) -> String {
 
 /// The row's libtest name: `roundtrip::row_03`.
 pub(crate) fn test_name(suite: &Suite, row: usize) -> String {
-    let path = suite_path(suite.module);
-    let name = row_name(suite.rows.len(), row);
+    test_name_in(suite.module, suite.rows.len(), row)
+}
+
+/// The libtest name of row `row` of `rows` in the rows module at `module`.
+pub(crate) fn test_name_in(module: &str, rows: usize, row: usize) -> String {
+    let path = suite_path(module);
+    let name = row_name(rows, row);
     if path.is_empty() {
         name
     } else {
@@ -67,12 +72,18 @@ pub(crate) fn target_selector(file: &str, krate: &str, root: &str) -> Option<Str
 
 /// The command that reruns just this row.
 pub(crate) fn rerun_command(suite: &Suite, row: usize) -> String {
-    let mut cmd = format!("cargo test -p {}", suite.krate);
-    if let Some(sel) = target_selector(suite.file, suite.krate, crate_root(suite.module)) {
+    rerun_command_in(suite.krate, suite.file, suite.module, suite.rows.len(), row)
+}
+
+/// The command that reruns row `row` of `rows` of the suite at `module` in `file` of
+/// package `krate` (the report prints the same command the failing row printed).
+pub(crate) fn rerun_command_in(krate: &str, file: &str, module: &str, rows: usize, row: usize) -> String {
+    let mut cmd = format!("cargo test -p {krate}");
+    if let Some(sel) = target_selector(file, krate, crate_root(module)) {
         cmd.push(' ');
         cmd.push_str(&sel);
     }
-    let _ = write!(cmd, " {} -- --exact", test_name(suite, row));
+    let _ = write!(cmd, " {} -- --exact", test_name_in(module, rows, row));
     cmd
 }
 

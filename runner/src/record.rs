@@ -221,6 +221,16 @@ impl SpecRecord {
             .collect()
     }
 
+    /// The libtest name of a row (`roundtrip::row_03`).
+    pub fn row_test_name(&self, row: usize) -> String {
+        crate::message::test_name_in(&self.module, self.rows.len(), row)
+    }
+
+    /// The command that reruns just this row, as the failing row printed it.
+    pub fn rerun_command(&self, row: usize) -> String {
+        crate::message::rerun_command_in(&self.krate, &self.file, &self.module, self.rows.len(), row)
+    }
+
     /// Whether two spec lines describe the same spec (they differ only in run and time).
     pub fn same_spec(&self, other: &SpecRecord) -> bool {
         SpecRecord {

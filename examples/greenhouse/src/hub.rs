@@ -31,16 +31,29 @@ impl Hub {
         if c.workers == 0 {
             return Err(HubError::Config("workers must be at least 1"));
         }
-        let frames: Vec<Vec<u8>> = readings
+        // resent readings are dropped while the stream is cut into batches, before any
+        // worker sees them
+        let kept: Vec<Reading>;
+        let stream = if c.dedupe {
+            let mut seen: HashSet<(u16, u32)> = HashSet::new();
+            kept = readings
+                .iter()
+                .copied()
+                .filter(|r| seen.insert((r.sensor, r.seq)))
+                .collect();
+            &kept[..]
+        } else {
+            readings
+        };
+        let frames: Vec<Vec<u8>> = stream
             .chunks(c.batch)
             .map(|b| encode(b, c.unit, c.codec, c.checksum))
             .collect();
-        let seen: Mutex<HashSet<(u16, u32)>> = Mutex::new(HashSet::new());
         let summary: Mutex<Summary> = Mutex::new(Summary::new());
         let errors: Mutex<Vec<HubError>> = Mutex::new(Vec::new());
         std::thread::scope(|s| {
             for w in 0..c.workers {
-                let (frames, seen, summary, errors) = (&frames, &seen, &summary, &errors);
+                let (frames, summary, errors) = (&frames, &summary, &errors);
                 s.spawn(move || {
                     let mut local = Summary::new();
                     for (n, frame) in frames.iter().enumerate().skip(w).step_by(c.workers) {
@@ -51,15 +64,7 @@ impl Hub {
                                 continue;
                             }
                         };
-                        for (sensor, seq, value) in decoded {
-                            if c.dedupe
-                                && !seen
-                                    .lock()
-                                    .unwrap_or_else(|p| p.into_inner())
-                                    .insert((sensor, seq))
-                            {
-                                continue;
-                            }
+                        for (sensor, _seq, value) in decoded {
                             local
                                 .entry(sensor)
                                 .or_default()

@@ -18,8 +18,21 @@ fn summary_matches_reference(
     #[levels(Flush::EveryFrame, Flush::OnClose)] flush: Flush,
     #[levels(1, 3, 12)] sensors: u16,
 ) {
-    let config = Config { batch, codec, checksum, workers, unit, dedupe, flush, sensors };
+    let config = Config {
+        batch,
+        codec,
+        checksum,
+        workers,
+        unit,
+        dedupe,
+        flush,
+        sensors,
+    };
     let readings = sample::readings(sensors, 2_000, 42);
     let got = Hub::new(config).run(&readings).expect("valid frames decode");
-    assert_eq!(got, reference::summarize(&config, &readings), "summary differs for {config:?}");
+    assert_eq!(
+        got,
+        reference::summarize(&config, &readings),
+        "summary differs for {config:?}"
+    );
 }

@@ -1,0 +1,223 @@
+//! The JSON report, for scripts and dashboards.
+//!
+//! Schema, version [`REPORT_FORMAT`] (fields are only ever added within a version):
+//!
+//! ```text
+//! { "format": 1,
+//!   "runs": [run id, …],                      oldest first
+//!   "notes": [text, …],                       what reading skipped
+//!   "suites": [ {
+//!       "crate", "target", "file", "function", "test",   test = rows module path
+//!       "fingerprint", "strength", "lambda", "seed",
+//!       "rows", "passed", "failed", "not_run", "executions",
+//!       "interactions": [ { "levels": {parameter: label, …}, "runs", "passes", "failures" } ],
+//!                                              every single level and every 2..t-way one
+//!       "suspects": [ { "levels", "score", "reason", "always", "explains",
+//!                       "runs", "passes", "failures" } ],          best first
+//!       "flaky": [ { "levels", "runs", "passes", "low", "high" } ],  95% Wilson interval
+//!       "failing_rows": [ { "row", "test", "levels", "runs", "failures", "message", "rerun" } ],
+//!       "advice": { "confidence", "detectable_rate", "flake_rate", "lambda_needed", "rows_needed" }
+//!   } ] }
+//! ```
+//! `levels` objects list parameters in declaration order.
+
+use serde::Serialize;
+use serde::ser::SerializeMap;
+
+use super::{Report, SuiteReport, described};
+
+/// Version of the JSON report schema.
+pub const REPORT_FORMAT: u32 = 1;
+
+struct Levels<'a>(Vec<(&'a str, &'a str)>);
+
+impl Serialize for Levels<'_> {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        let mut m = s.serialize_map(Some(self.0.len()))?;
+        for (k, v) in &self.0 {
+            m.serialize_entry(k, v)?;
+        }
+        m.end()
+    }
+}
+
+#[derive(Serialize)]
+struct Doc<'a> {
+    format: u32,
+    runs: &'a [String],
+    notes: &'a [String],
+    suites: Vec<Suite<'a>>,
+}
+
+#[derive(Serialize)]
+struct Suite<'a> {
+    #[serde(rename = "crate")]
+    krate: &'a str,
+    target: &'a str,
+    file: &'a str,
+    function: &'a str,
+    test: &'a str,
+    fingerprint: &'a str,
+    strength: u32,
+    lambda: u32,
+    seed: u64,
+    rows: usize,
+    passed: usize,
+    failed: usize,
+    not_run: usize,
+    executions: u64,
+    interactions: Vec<Interaction<'a>>,
+    suspects: Vec<Suspect<'a>>,
+    flaky: Vec<Flaky<'a>>,
+    failing_rows: Vec<FailingRow<'a>>,
+    advice: Advice,
+}
+
+#[derive(Serialize)]
+struct Interaction<'a> {
+    levels: Levels<'a>,
+    runs: u64,
+    passes: u64,
+    failures: u64,
+}
+
+#[derive(Serialize)]
+struct Suspect<'a> {
+    levels: Levels<'a>,
+    score: f64,
+    reason: &'a str,
+    always: bool,
+    explains: u64,
+    runs: u64,
+    passes: u64,
+    failures: u64,
+}
+
+#[derive(Serialize)]
+struct Flaky<'a> {
+    levels: Levels<'a>,
+    runs: u64,
+    passes: u64,
+    low: f64,
+    high: f64,
+}
+
+#[derive(Serialize)]
+struct FailingRow<'a> {
+    row: usize,
+    test: String,
+    levels: Levels<'a>,
+    runs: u64,
+    failures: u64,
+    message: Option<&'a str>,
+    rerun: String,
+}
+
+#[derive(Serialize)]
+struct Advice {
+    confidence: f64,
+    detectable_rate: f64,
+    flake_rate: Option<f64>,
+    lambda_needed: Option<u32>,
+    rows_needed: Option<usize>,
+}
+
+fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
+    let spec = s.spec;
+    let entries = &s.tallies.entries;
+    Suite {
+        krate: &spec.krate,
+        target: &spec.target,
+        file: &spec.file,
+        function: &spec.function,
+        test: &spec.suite,
+        fingerprint: &spec.fingerprint,
+        strength: spec.strength,
+        lambda: spec.lambda,
+        seed: spec.seed,
+        rows: spec.rows.len(),
+        passed: s.passed,
+        failed: s.failed,
+        not_run: s.not_run,
+        executions: s.tallies.total().runs,
+        interactions: entries
+            .iter()
+            .map(|e| Interaction {
+                levels: Levels(described(spec, &e.interaction)),
+                runs: e.count.runs,
+                passes: e.count.passes,
+                failures: e.count.failures,
+            })
+            .collect(),
+        suspects: s
+            .analysis
+            .suspects
+            .iter()
+            .map(|x| {
+                let e = &entries[x.interaction];
+                Suspect {
+                    levels: Levels(described(spec, &e.interaction)),
+                    score: x.score,
+                    reason: &x.reason,
+                    always: x.always,
+                    explains: x.explains,
+                    runs: e.count.runs,
+                    passes: e.count.passes,
+                    failures: e.count.failures,
+                }
+            })
+            .collect(),
+        flaky: s
+            .analysis
+            .flaky
+            .iter()
+            .map(|f| Flaky {
+                levels: Levels(described(spec, &entries[f.interaction].interaction)),
+                runs: f.runs,
+                passes: f.passes,
+                low: f.low,
+                high: f.high,
+            })
+            .collect(),
+        failing_rows: s
+            .rows
+            .iter()
+            .filter(|r| r.count.failures > 0)
+            .map(|r| FailingRow {
+                row: r.row,
+                test: spec.row_test_name(r.row),
+                levels: Levels(
+                    spec.factors
+                        .iter()
+                        .map(|f| f.name.as_str())
+                        .zip(spec.row_labels(r.row).unwrap_or_default())
+                        .collect(),
+                ),
+                runs: r.count.runs,
+                failures: r.count.failures,
+                message: r.message.as_deref(),
+                rerun: spec.rerun_command(r.row),
+            })
+            .collect(),
+        advice: Advice {
+            confidence: s.advice.confidence,
+            detectable_rate: s.advice.detectable,
+            flake_rate: s.advice.flake.map(|f| f.0),
+            lambda_needed: s.advice.flake.map(|f| f.1),
+            rows_needed: s.advice.flake.and_then(|f| f.2),
+        },
+    }
+}
+
+/// Renders the report as pretty JSON.
+pub fn render(report: &Report<'_>) -> String {
+    let doc = Doc {
+        format: REPORT_FORMAT,
+        runs: &report.runs,
+        notes: &report.notes,
+        suites: report.suites.iter().map(suite).collect(),
+    };
+    let mut s = serde_json::to_string_pretty(&doc).unwrap_or_default();
+    s.push('\n');
+    s
+}

@@ -1,0 +1,73 @@
+//! A compact Markdown summary for CI job pages: one table row per suite, then the top
+//! suspects and flaky interactions.
+
+use std::fmt::Write as _;
+
+use super::{Report, described, levels_text};
+
+/// Escapes the characters that would break a table cell.
+fn cell(s: &str) -> String {
+    s.replace('|', "\\|").replace('\n', " ")
+}
+
+/// Renders the report as Markdown.
+pub fn render(report: &Report<'_>) -> String {
+    let mut out = String::from("## heddle report\n\n");
+    if report.suites.is_empty() {
+        out.push_str("No `#[cover]` suite recorded in the selected runs.\n");
+        return out;
+    }
+    out.push_str("| suite | t | λ | rows | passed | failed | top suspect |\n|---|---|---|---|---|---|---|\n");
+    for s in &report.suites {
+        let top = s.analysis.suspects.first().map_or("–".to_string(), |x| {
+            let e = &s.tallies.entries[x.interaction];
+            let kind = if x.always { "always" } else { "sometimes" };
+            format!(
+                "`{}` ({kind}, {:.2})",
+                levels_text(&described(s.spec, &e.interaction)),
+                x.score
+            )
+        });
+        let _ = writeln!(
+            out,
+            "| `{}` {} | {} | {} | {} | {} | {} | {} |",
+            cell(&s.spec.suite),
+            cell(&s.spec.file),
+            s.spec.strength,
+            s.spec.lambda,
+            s.spec.rows.len(),
+            s.passed,
+            s.failed,
+            cell(&top)
+        );
+    }
+    for s in report.suites.iter().filter(|s| !s.analysis.suspects.is_empty()) {
+        let _ = writeln!(out, "\n### `{}`\n", cell(&s.spec.suite));
+        for (n, x) in s.analysis.suspects.iter().take(3).enumerate() {
+            let e = &s.tallies.entries[x.interaction];
+            let _ = writeln!(
+                out,
+                "{}. `{}` — {}",
+                n + 1,
+                levels_text(&described(s.spec, &e.interaction)),
+                x.reason
+            );
+        }
+        for f in &s.analysis.flaky {
+            let e = &s.tallies.entries[f.interaction];
+            let _ = writeln!(
+                out,
+                "- flaky: `{}` passed {}/{} (95% interval {:.0}%–{:.0}%)",
+                levels_text(&described(s.spec, &e.interaction)),
+                f.passes,
+                f.runs,
+                f.low * 100.0,
+                f.high * 100.0
+            );
+        }
+    }
+    for n in &report.notes {
+        let _ = writeln!(out, "\n> note: {}", cell(n));
+    }
+    out
+}
