@@ -97,6 +97,20 @@ pub fn detectable_rate(lambda: u32, confidence: f64) -> f64 {
     1.0 - (1.0 - confidence).powf(1.0 / lambda as f64)
 }
 
+/// How much lower (natural log) an explanation's likelihood may be than the best one's
+/// and still be reported beside it: a likelihood ratio of e² ≈ 7.4 (common practice
+/// for "plausible" sets, e.g. likelihood intervals at 1/8).
+const PLAUSIBLE: f64 = 2.0;
+
+/// Log-likelihood of `g` failures in `n` runs at the failure rate that fits them best
+/// (g/n), binomial coefficient left out as it is the same for every explanation.
+fn log_likelihood(g: u64, n: u64) -> f64 {
+    let (g, n) = (g as f64, n.max(1) as f64);
+    let p = (g / n).min(1.0);
+    let term = |k: f64, q: f64| if k > 0.0 { k * q.ln() } else { 0.0 };
+    term(g, p) + term(n - g, 1.0 - p)
+}
+
 /// Names the interactions that explain the failures of a suite.
 pub fn analyse(tallies: &Tallies) -> Analysis {
     let row_failures: Vec<u64> = tallies.rows.iter().map(|c| c.failures).collect();
@@ -173,6 +187,26 @@ pub fn analyse(tallies: &Tallies) -> Analysis {
                     .any(|&(d, _, _)| d != c && interaction(c).contains(interaction(d)))
             })
             .collect();
+        // when the best explanation is itself only partial (its runs also passed), the
+        // rows cannot single it out: keep every explanation of as many failures whose
+        // likelihood is close to the best one's (a plausible set, not one guess)
+        let mut group = group;
+        let (_, bg, bopen) = group[0];
+        if bg < bopen {
+            let best_ll = log_likelihood(bg, bopen);
+            for c in 0..cands.len() {
+                let (g, open) = evidence(c);
+                if g == bg
+                    && !group.iter().any(|&(d, _, _)| d == c)
+                    && best_ll - log_likelihood(g, open) <= PLAUSIBLE
+                    && !group
+                        .iter()
+                        .any(|&(d, _, _)| interaction(c).contains(interaction(d)))
+                {
+                    group.push((c, g, open));
+                }
+            }
+        }
         for &(c, g, open) in &group {
             picked.push((c, g, open));
             for &r in &cands[c].1 {

@@ -116,7 +116,7 @@ pub(crate) fn nonce() -> u64 {
 }
 
 /// File name of one process's records.
-pub(crate) fn process_file_name(unix_ms: u64, pid: u32, nonce: u64) -> String {
+pub fn process_file_name(unix_ms: u64, pid: u32, nonce: u64) -> String {
     format!("{unix_ms:013}-{pid}-{nonce:016x}.{FILE_EXTENSION}")
 }
 

@@ -226,7 +226,12 @@ fn suite_report<'a>(
     let flake = analysis.flaky.first().map(|f| {
         let rate = 1.0 - f.passes as f64 / f.runs.max(1) as f64;
         let lambda = analysis::lambda_for(rate, confidence).unwrap_or(spec.lambda);
-        (rate, lambda, rows_at_lambda(spec, lambda))
+        let rows = if lambda <= MAX_PRICED_LAMBDA {
+            rows_at_lambda(spec, lambda)
+        } else {
+            None
+        };
+        (rate, lambda, rows)
     });
     let advice = Advice {
         confidence,
@@ -244,6 +249,10 @@ fn suite_report<'a>(
         advice,
     }
 }
+
+/// Highest λ the advice prices by generating the design; above it, repeating runs
+/// (`cargo heddle test --repeat`) is the cheaper way to the same confidence.
+pub const MAX_PRICED_LAMBDA: u32 = 16;
 
 /// Rows the engine needs for this spec at another λ (fast effort, as builds use).
 fn rows_at_lambda(spec: &SpecRecord, lambda: u32) -> Option<usize> {

@@ -177,9 +177,13 @@ fn advice(out: &mut String, s: &SuiteReport<'_>, st: Style) {
         pct(a.detectable)
     );
     if let Some((rate, lambda, rows)) = a.flake {
+        let repeat = lambda.div_ceil(s.spec.lambda.max(1));
         let cost = match rows {
-            Some(r) => format!("{r} rows for this spec, now {}", s.spec.rows.len()),
-            None => "rows unknown".to_string(),
+            Some(r) => format!(
+                "{r} rows for this spec, now {}; or `--repeat {repeat}`",
+                s.spec.rows.len()
+            ),
+            None => format!("or run it `--repeat {repeat}` times"),
         };
         let _ = writeln!(
             out,

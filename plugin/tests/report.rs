@@ -1,0 +1,384 @@
+//! `cargo heddle report` end to end, on stores written here record by record (the
+//! runner's own record types), so every outcome is known in advance.
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+use heddle::layout::{RUNS_DIR, STORE_DIR, process_file_name};
+use heddle::record::{FactorSpec, Line, Outcome, RowRecord, SpecRecord};
+
+/// OA(9; 2, 4, 3): every pair of levels of any two of the four factors appears exactly
+/// once (the orthogonal array of Bose 1938 over GF(3); Hedayat, Sloane & Stufken 1999).
+const OA9: [[u8; 4]; 9] = [
+    [0, 0, 0, 0],
+    [0, 1, 1, 2],
+    [0, 2, 2, 1],
+    [1, 0, 1, 1],
+    [1, 1, 2, 0],
+    [1, 2, 0, 2],
+    [2, 0, 2, 2],
+    [2, 1, 0, 1],
+    [2, 2, 1, 0],
+];
+
+fn spec(rows: Vec<Vec<u8>>, lambda: u32, run: &str) -> SpecRecord {
+    SpecRecord {
+        run: run.into(),
+        krate: "shop".into(),
+        target: "checkout".into(),
+        file: "tests/checkout.rs".into(),
+        function: "totals".into(),
+        module: "checkout::totals".into(),
+        suite: "totals".into(),
+        factors: ["currency", "tax", "coupon", "cart"]
+            .iter()
+            .map(|n| FactorSpec {
+                name: n.to_string(),
+                labels: (0..3).map(|l| format!("{n}{l}")).collect(),
+            })
+            .collect(),
+        strength: 2,
+        lambda,
+        seed: 4,
+        excludes: Vec::new(),
+        rows,
+        fingerprint: "00000000000000aa".into(),
+        pinned: false,
+        should_panic: false,
+        time: "2026-11-30T10:00:00Z".into(),
+    }
+}
+
+/// λ = 2: OA9 twice over.
+fn rows_l2() -> Vec<Vec<u8>> {
+    OA9.iter().chain(OA9.iter()).map(|r| r.to_vec()).collect()
+}
+
+fn row(spec: &SpecRecord, r: usize, outcome: Outcome, run: &str) -> RowRecord {
+    RowRecord {
+        run: run.into(),
+        krate: spec.krate.clone(),
+        target: spec.target.clone(),
+        test: spec.row_test_name(r),
+        fingerprint: spec.fingerprint.clone(),
+        row: r as u32,
+        labels: spec
+            .row_labels(r)
+            .unwrap()
+            .iter()
+            .map(|s| s.to_string())
+            .collect(),
+        outcome,
+        message: (!outcome.is_pass()).then(|| format!("row {r} broke")),
+        duration_ns: 1_000,
+        time: "2026-11-30T10:00:01Z".into(),
+    }
+}
+
+/// Writes one process file of a run under `dir/heddle/runs/<run>/`.
+fn write_process(dir: &Path, run: &str, ms: u64, lines: &[String]) -> PathBuf {
+    let d = dir.join(STORE_DIR).join(RUNS_DIR).join(run);
+    std::fs::create_dir_all(&d).unwrap();
+    let path = d.join(process_file_name(ms, 7, ms));
+    std::fs::write(&path, lines.join("")).unwrap();
+    path
+}
+
+/// A run of the λ = 2 suite in which the rows for `fails` fail.
+fn write_run(dir: &Path, run: &str, ms: u64, fails: impl Fn(usize, &[u8]) -> bool) -> SpecRecord {
+    let s = spec(rows_l2(), 2, run);
+    let mut lines = vec![Line::Spec(s.clone()).to_json_line()];
+    for r in 0..s.rows.len() {
+        let o = if fails(r, &s.rows[r]) {
+            Outcome::Failed
+        } else {
+            Outcome::Passed
+        };
+        lines.push(Line::Row(row(&s, r, o, run)).to_json_line());
+    }
+    write_process(dir, run, ms, &lines);
+    s
+}
+
+fn report(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_cargo-heddle"))
+        .args(["heddle", "report"])
+        .args(args)
+        .env("NO_COLOR", "1")
+        .output()
+        .unwrap()
+}
+
+fn text(b: &[u8]) -> String {
+    String::from_utf8_lossy(b).into_owned()
+}
+
+fn json(dir: &Path, extra: &[&str]) -> serde_json::Value {
+    let mut args = vec!["--store", dir.to_str().unwrap(), "--format", "json"];
+    args.extend_from_slice(extra);
+    let o = report(&args);
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    serde_json::from_slice(&o.stdout).expect("the JSON report parses")
+}
+
+/// currency = currency2 together with tax = tax1: a 2-way fault.
+fn planted(row: &[u8]) -> bool {
+    row[0] == 2 && row[1] == 1
+}
+
+#[test]
+fn json_names_the_planted_pair_first_and_follows_the_schema() {
+    let tmp = tempfile::tempdir().unwrap();
+    write_run(tmp.path(), "run-a", 1_700_000_000_000, |_, r| planted(r));
+    let v = json(tmp.path(), &[]);
+    assert_eq!(v["format"], 1);
+    assert_eq!(v["runs"], serde_json::json!(["run-a"]));
+    let s = &v["suites"][0];
+    for key in [
+        "test",
+        "strength",
+        "lambda",
+        "seed",
+        "rows",
+        "passed",
+        "failed",
+        "interactions",
+        "suspects",
+        "flaky",
+    ] {
+        assert!(!s[key].is_null(), "suite lacks `{key}`");
+    }
+    assert_eq!(s["test"], "totals");
+    assert_eq!(
+        (s["rows"].as_u64(), s["failed"].as_u64(), s["passed"].as_u64()),
+        (Some(18), Some(2), Some(16))
+    );
+    // OA9 at λ = 2: the pair appears in exactly 2 rows, both failing
+    let top = &s["suspects"][0];
+    assert_eq!(
+        top["levels"],
+        serde_json::json!({"currency": "currency2", "tax": "tax1"})
+    );
+    assert_eq!(top["always"], true);
+    assert_eq!(top["score"].as_f64(), Some(1.0));
+    assert!(
+        top["reason"]
+            .as_str()
+            .unwrap()
+            .contains("failed in all 2 of its runs")
+    );
+    assert_eq!(
+        s["flaky"].as_array().unwrap().len(),
+        0,
+        "a deterministic fault is not flaky"
+    );
+    // every single level (4 × 3) and every pair (6 × 9) is tallied
+    let inter = s["interactions"].as_array().unwrap();
+    assert_eq!(inter.len(), 12 + 54);
+    for i in inter {
+        let (runs, passes, failures) = (
+            i["runs"].as_u64().unwrap(),
+            i["passes"].as_u64().unwrap(),
+            i["failures"].as_u64().unwrap(),
+        );
+        assert_eq!(runs, passes + failures);
+        // each pair appears twice (λ = 2), each level six times
+        let arity = i["levels"].as_object().unwrap().len();
+        assert_eq!(runs, if arity == 2 { 2 } else { 6 });
+    }
+    let failing = s["failing_rows"].as_array().unwrap();
+    assert_eq!(failing.len(), 2);
+    assert!(
+        failing[0]["rerun"]
+            .as_str()
+            .unwrap()
+            .starts_with("cargo test -p shop --test checkout totals::row_")
+    );
+}
+
+#[test]
+fn flaky_rows_across_runs_get_a_wilson_interval() {
+    let tmp = tempfile::tempdir().unwrap();
+    // the pair's two rows fail in the first run and pass in the second
+    write_run(tmp.path(), "run-1", 1_700_000_000_000, |_, r| planted(r));
+    write_run(tmp.path(), "run-2", 1_700_000_100_000, |_, _| false);
+    let latest = json(tmp.path(), &[]);
+    assert_eq!(latest["runs"], serde_json::json!(["run-2"]));
+    assert_eq!(latest["suites"][0]["failed"], 0);
+    let both = json(tmp.path(), &["--runs", "2"]);
+    let s = &both["suites"][0];
+    assert_eq!(s["executions"], 36);
+    let flaky = s["flaky"].as_array().unwrap();
+    let f = flaky
+        .iter()
+        .find(|f| f["levels"] == serde_json::json!({"currency": "currency2", "tax": "tax1"}))
+        .expect("the pair is flagged flaky");
+    assert_eq!((f["runs"].as_u64(), f["passes"].as_u64()), (Some(4), Some(2)));
+    // Wilson (1927) 95% interval of 2/4: centre (0.5 + z²/8)/(1 + z²/4) = 0.5, half-width
+    // z·sqrt(1/16 + z²/64)/(1 + z²/4) with z = 1.95996: 0.15004 … 0.84996
+    assert!((f["low"].as_f64().unwrap() - 0.15004).abs() < 1e-4, "{f}");
+    assert!((f["high"].as_f64().unwrap() - 0.84996).abs() < 1e-4, "{f}");
+    let sus = &s["suspects"][0];
+    assert_eq!(sus["always"], false);
+    // one run id by name
+    let one = json(tmp.path(), &["--run", "run-1"]);
+    assert_eq!(one["suites"][0]["failed"], 2);
+}
+
+#[test]
+fn shards_merge_and_a_file_copied_twice_counts_once() {
+    let tmp = tempfile::tempdir().unwrap();
+    let s = spec(rows_l2(), 2, "ci-7");
+    // job 1 ran rows 0..9, job 2 rows 9..18, of the same run
+    let job = |name: &str, range: std::ops::Range<usize>, ms: u64| {
+        let mut lines = vec![Line::Spec(s.clone()).to_json_line()];
+        for r in range {
+            let o = if planted(&s.rows[r]) {
+                Outcome::Failed
+            } else {
+                Outcome::Passed
+            };
+            lines.push(Line::Row(row(&s, r, o, "ci-7")).to_json_line());
+        }
+        write_process(
+            &tmp.path().join("shards").join(name).join("target"),
+            "ci-7",
+            ms,
+            &lines,
+        )
+    };
+    job("job-1", 0..9, 1_700_000_000_000);
+    let second = job("job-2", 9..18, 1_700_000_000_500);
+    // the same shard downloaded twice
+    let copy = tmp.path().join("shards").join("job-2-again").join("target");
+    let dest = copy.join(STORE_DIR).join(RUNS_DIR).join("ci-7");
+    std::fs::create_dir_all(&dest).unwrap();
+    std::fs::copy(&second, dest.join(second.file_name().unwrap())).unwrap();
+    let v = json(&tmp.path().join("shards"), &[]);
+    let suite = &v["suites"][0];
+    assert_eq!(
+        suite["executions"], 18,
+        "each row once, the copied file not twice"
+    );
+    assert_eq!(suite["not_run"], 0);
+    assert_eq!(suite["failed"], 2);
+}
+
+#[test]
+fn junit_parses_and_lists_every_row() {
+    let tmp = tempfile::tempdir().unwrap();
+    write_run(tmp.path(), "run-j", 1_700_000_000_000, |_, r| planted(r));
+    let o = report(&["--store", tmp.path().to_str().unwrap(), "--format", "junit"]);
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    let xml = text(&o.stdout);
+    let parsed = quick_junit::Report::deserialize_from_str(&xml).expect("the JUnit report parses");
+    assert_eq!(parsed.test_suites.len(), 1);
+    let suite = &parsed.test_suites[0];
+    assert_eq!(suite.test_cases.len(), 18);
+    assert_eq!(suite.failures, 2);
+    let names: Vec<String> = suite.test_cases.iter().map(|c| c.name.to_string()).collect();
+    assert_eq!(names[0], "totals::row_00");
+    assert_eq!(names[17], "totals::row_17");
+    // labels travel as properties
+    let first = &suite.test_cases[0];
+    let props: Vec<(String, String)> = first
+        .properties
+        .iter()
+        .map(|p| (p.name.to_string(), p.value.to_string()))
+        .collect();
+    assert!(
+        props.contains(&("currency".to_string(), "currency0".to_string())),
+        "{props:?}"
+    );
+}
+
+#[test]
+fn table_and_markdown_say_the_same_thing() {
+    let tmp = tempfile::tempdir().unwrap();
+    write_run(tmp.path(), "run-t", 1_700_000_000_000, |_, r| planted(r));
+    let table = text(&report(&["--store", tmp.path().to_str().unwrap()]).stdout);
+    assert!(table.contains("suspects, best first"), "{table}");
+    assert!(table.contains("1. currency = currency2, tax = tax1"), "{table}");
+    assert!(table.contains("fails always"), "{table}");
+    assert!(
+        table.contains("rerun: cargo test -p shop --test checkout totals::row_"),
+        "{table}"
+    );
+    assert!(!table.contains('\x1b'), "no colours when not on a terminal");
+    let md = text(&report(&["--store", tmp.path().to_str().unwrap(), "--format", "markdown"]).stdout);
+    assert!(
+        md.contains("| suite | t | λ | rows | passed | failed | top suspect |"),
+        "{md}"
+    );
+    assert!(
+        md.contains("`currency = currency2, tax = tax1` (always, 1.00)"),
+        "{md}"
+    );
+}
+
+#[test]
+fn all_clear_reports_coverage() {
+    let tmp = tempfile::tempdir().unwrap();
+    write_run(tmp.path(), "run-ok", 1_700_000_000_000, |_, _| false);
+    let table = text(&report(&["--store", tmp.path().to_str().unwrap()]).stdout);
+    assert!(
+        table.contains("all clear: every one of the 54 2-way interactions passed, each run at least 2 times"),
+        "{table}"
+    );
+    let all = text(&report(&["--store", tmp.path().to_str().unwrap(), "--all"]).stdout);
+    assert!(all.contains("pass counts, every interaction"), "{all}");
+    assert!(
+        all.contains("   2/2    passed  currency = currency0, tax = tax0"),
+        "{all}"
+    );
+}
+
+#[test]
+fn damaged_and_foreign_lines_are_skipped_and_counted() {
+    let tmp = tempfile::tempdir().unwrap();
+    let s = write_run(tmp.path(), "run-d", 1_700_000_000_000, |_, r| planted(r));
+    let mut lines = vec![Line::Row(row(&s, 0, Outcome::Passed, "run-d")).to_json_line()];
+    let whole = Line::Row(row(&s, 1, Outcome::Passed, "run-d")).to_json_line();
+    lines.push(whole[..whole.len() / 2].to_string()); // truncated mid-line
+    lines.push("\n".into());
+    lines.push(whole.replacen("\"v\":1", "\"v\":0", 1)); // an older format version
+    write_process(tmp.path(), "run-d", 1_700_000_000_001, &lines);
+    let o = report(&["--store", tmp.path().to_str().unwrap(), "--format", "json"]);
+    assert!(o.status.success());
+    let err = text(&o.stderr);
+    assert!(
+        err.contains("skipped 1 corrupt or truncated record line"),
+        "{err}"
+    );
+    assert!(err.contains("older format version 0"), "{err}");
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(v["suites"][0]["executions"], 19, "the whole lines still count");
+    assert_eq!(v["notes"].as_array().unwrap().len(), 2);
+}
+
+#[test]
+fn bad_input_exits_with_2() {
+    let tmp = tempfile::tempdir().unwrap();
+    let empty = report(&["--store", tmp.path().to_str().unwrap()]);
+    assert_eq!(empty.status.code(), Some(2));
+    assert!(
+        text(&empty.stderr).contains("no heddle records found under"),
+        "{}",
+        text(&empty.stderr)
+    );
+    write_run(tmp.path(), "run-x", 1_700_000_000_000, |_, _| false);
+    let unknown = report(&["--store", tmp.path().to_str().unwrap(), "--run", "nope"]);
+    assert_eq!(unknown.status.code(), Some(2));
+    assert!(
+        text(&unknown.stderr).contains("nope"),
+        "{}",
+        text(&unknown.stderr)
+    );
+    let zero = report(&["--store", tmp.path().to_str().unwrap(), "--runs", "0"]);
+    assert_eq!(zero.status.code(), Some(2));
+    let conf = report(&["--store", tmp.path().to_str().unwrap(), "--confidence", "1.5"]);
+    assert_eq!(conf.status.code(), Some(2));
+    assert!(text(&conf.stderr).contains("`--confidence 1.5` is not between 0 and 1"));
+    let fmt = report(&["--format", "yaml"]);
+    assert_eq!(fmt.status.code(), Some(2));
+}
