@@ -1,7 +1,7 @@
 //! `cargo heddle test`: one `cargo test` (or `cargo nextest run`) invocation under one
 //! run id, then the report of exactly that run.
 
-use std::process::{Command, ExitCode};
+use std::process::{Command, ExitCode, Stdio};
 
 use clap::Args;
 use heddle::layout::{RUN_ID_VAR, new_run_id, validate_run_id};
@@ -32,6 +32,9 @@ pub struct TestArgs {
     /// Confidence the λ advice aims for.
     #[arg(long, value_name = "C", default_value_t = 0.95)]
     pub confidence: f64,
+    /// Hide the test run's own output; print only the report.
+    #[arg(long, short = 'q')]
+    pub quiet: bool,
     /// Arguments for `cargo test` (or nextest), after `--`.
     #[arg(last = true, value_name = "ARGS")]
     pub cargo_args: Vec<String>,
@@ -85,9 +88,15 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
             String::new()
         };
         eprintln!("heddle: run {id}{round_note}");
+        if args.quiet {
+            cmd.stdout(Stdio::null()).stderr(Stdio::null());
+        }
         let status = cmd
             .status()
             .map_err(|e| usage(format!("could not start `{}`: {e}", cargo.to_string_lossy())))?;
+        if args.quiet && !status.success() {
+            eprintln!("heddle: the test run exited with {status}");
+        }
         if !status.success() && status_code == 0 {
             status_code = status.code().map_or(1, |c| c.clamp(1, 255) as u8);
         }
