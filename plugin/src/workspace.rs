@@ -50,10 +50,10 @@ impl Project {
     /// Directories records may be under: the target directory, then the build directory.
     pub fn record_roots(&self) -> Vec<PathBuf> {
         let mut roots = vec![self.target_dir.clone()];
-        if let Some(b) = &self.build_dir {
-            if *b != self.target_dir {
-                roots.push(b.clone());
-            }
+        if let Some(b) = &self.build_dir
+            && *b != self.target_dir
+        {
+            roots.push(b.clone());
         }
         roots
     }
@@ -164,14 +164,14 @@ pub fn rust_files(root: &Path) -> Vec<String> {
                     continue;
                 }
                 walk(root, &path, out);
-            } else if name.ends_with(".rs") {
-                if let Ok(rel) = path.strip_prefix(root) {
-                    let parts: Vec<String> = rel
-                        .components()
-                        .map(|c| c.as_os_str().to_string_lossy().into_owned())
-                        .collect();
-                    out.push(parts.join("/"));
-                }
+            } else if name.ends_with(".rs")
+                && let Ok(rel) = path.strip_prefix(root)
+            {
+                let parts: Vec<String> = rel
+                    .components()
+                    .map(|c| c.as_os_str().to_string_lossy().into_owned())
+                    .collect();
+                out.push(parts.join("/"));
             }
         }
     }
