@@ -179,8 +179,8 @@ fn column_gain(layout: &Layout, row: &[u8], c: usize, short: impl Fn(usize) -> b
     gain
 }
 
-/// What changed between the spec a pin was made for and `spec`, in words, as far as
-/// the origin tells (empty when it cannot tell: the excludes or the engine changed).
+/// What changed between the spec a pin was made for and `spec` (which differ), in words,
+/// as far as the pin tells: without an origin only added and removed factors show.
 pub fn describe_change(pin: &Pin, origin: Option<&Origin>, spec: &Spec) -> Vec<String> {
     let mut out = Vec::new();
     for f in &spec.factors {
@@ -223,6 +223,10 @@ pub fn describe_change(pin: &Pin, origin: Option<&Origin>, spec: &Spec) -> Vec<S
     }
     if o.seed != spec.seed {
         out.push(format!("seed changed from {} to {}", o.seed, spec.seed));
+    }
+    if out.is_empty() {
+        // the fingerprint covers nothing else
+        out.push("the excludes or the engine version changed".to_string());
     }
     out
 }
@@ -364,6 +368,18 @@ mod tests {
         let c = carry_over(&pin, None, &spec);
         assert!(c.rows.is_empty() && c.fresh.is_some());
         assert_eq!(c.dropped(), pin.rows.len());
+    }
+
+    #[test]
+    fn an_exclude_change_is_named_by_elimination() {
+        let spec = base();
+        let (pin, origin) = pinned(&spec);
+        let new = base().exclude(Expr::is(0, 0));
+        assert_eq!(
+            describe_change(&pin, Some(&origin), &new),
+            ["the excludes or the engine version changed"]
+        );
+        assert!(describe_change(&pin, None, &new).is_empty());
     }
 
     #[test]

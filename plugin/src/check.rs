@@ -69,7 +69,7 @@ pub fn run(args: CheckArgs) -> Result<ExitCode, Failure> {
     let (mut unparsed, mut manifests) = (0usize, 0usize);
     for (pkg, pins) in scanned.iter().zip(&files) {
         for p in &pkg.problems {
-            eprintln!("error: {p}");
+            say_err!("error: {p}");
         }
         total += pkg.functions.len() + pkg.broken_keys.len();
         failing += pkg.broken_keys.len();
@@ -84,7 +84,7 @@ pub fn run(args: CheckArgs) -> Result<ExitCode, Failure> {
             }
             if let Some(why) = explain(f, &s) {
                 failing += 1;
-                eprintln!("error: {}:{}: {why}", pkg.display(&f.file), f.line);
+                say_err!("error: {}:{}: {why}", pkg.display(&f.file), f.line);
             }
         }
         if let Some(pins) = pins {
@@ -123,7 +123,7 @@ pub fn run(args: CheckArgs) -> Result<ExitCode, Failure> {
             plural(total, "annotated function", "annotated functions")
         )
     };
-    println!("{summary}");
+    say!("{summary}");
     Ok(ExitCode::SUCCESS)
 }
 
@@ -138,7 +138,7 @@ fn warn_orphans(pkg: &Scanned, pins: &heddle_syntax::PinsFile) {
             Some(l) => format!("{}:{l}", pkg.display(kw::PINS_FILE)),
             None => pkg.display(kw::PINS_FILE),
         };
-        eprintln!(
+        say_err!(
             "warning: {place}: the pin of `{}` in `{}` belongs to no function\n  hint: run `{}` to remove it",
             key.function,
             key.file,

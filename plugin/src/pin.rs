@@ -64,7 +64,7 @@ pub fn run(args: PinArgs) -> Result<ExitCode, Failure> {
     }
     let mut problems = 0usize;
     for p in scanned.iter().flat_map(|s| &s.problems) {
-        eprintln!("error: {p}");
+        say_err!("error: {p}");
         problems += 1;
     }
 
@@ -105,7 +105,7 @@ pub fn run(args: PinArgs) -> Result<ExitCode, Failure> {
                         }
                         Err(e) => {
                             problems += 1;
-                            bar.suspend(|| eprintln!("error: {}: {e}", place(pkg, f)));
+                            bar.suspend(|| say_err!("error: {}: {e}", place(pkg, f)));
                             continue;
                         }
                     }
@@ -139,13 +139,13 @@ pub fn run(args: PinArgs) -> Result<ExitCode, Failure> {
                         }
                         Err(e) => {
                             problems += 1;
-                            bar.suspend(|| eprintln!("error: {}: {e}", place(pkg, f)));
+                            bar.suspend(|| say_err!("error: {}: {e}", place(pkg, f)));
                             continue;
                         }
                     }
                 }
             };
-            bar.suspend(|| println!("{line}"));
+            bar.suspend(|| say!("{line}"));
         }
         // pins whose function is gone (never those of functions that could not be read)
         let live: BTreeSet<_> = pkg.functions.iter().map(Function::key).collect();
@@ -158,7 +158,7 @@ pub fn run(args: PinArgs) -> Result<ExitCode, Failure> {
         for key in &gone {
             pins.remove(key);
             bar.suspend(|| {
-                println!(
+                say!(
                     "{} {}: removed, the function no longer exists",
                     pkg.display(&key.file),
                     key.function
@@ -169,7 +169,7 @@ pub fn run(args: PinArgs) -> Result<ExitCode, Failure> {
         if !had_file && pins.pins.is_empty() {
             if pkg.functions.is_empty() && pkg.problems.is_empty() {
                 bar.suspend(|| {
-                    println!(
+                    say!(
                         "package `{}` has no `#[{}]` functions",
                         pkg.package.name,
                         kw::COVER
@@ -181,7 +181,7 @@ pub fn run(args: PinArgs) -> Result<ExitCode, Failure> {
         let text = pins.to_toml();
         let on_disk = std::fs::read_to_string(PinsFile::path(&pkg.package.root)).ok();
         if on_disk.as_deref() == Some(text.as_str()) {
-            bar.suspend(|| println!("{file}: up to date, {} pins", pins.pins.len()));
+            bar.suspend(|| say!("{file}: up to date, {} pins", pins.pins.len()));
             continue;
         }
         pinfile::save(pkg, &pins)?;
@@ -201,9 +201,9 @@ pub fn run(args: PinArgs) -> Result<ExitCode, Failure> {
             summary.push_str(&format!(", touched {} test file{plural}", touched.len()));
         }
         bar.suspend(|| {
-            println!("{summary}");
+            say!("{summary}");
             for t in &touch_failed {
-                eprintln!("warning: could not touch {t}; touch it so that cargo rebuilds it");
+                say_err!("warning: could not touch {t}; touch it so that cargo rebuilds it");
             }
         });
     }

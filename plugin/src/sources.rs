@@ -83,8 +83,6 @@ pub struct Scanned {
     pub broken_files: BTreeSet<String>,
     /// Annotated functions found but not usable (invalid spec, duplicate name).
     pub broken_keys: BTreeSet<PinKey>,
-    /// Line of the first `#[cover]` of every annotated function, usable or not.
-    pub lines: BTreeMap<PinKey, usize>,
 }
 
 impl Scanned {
@@ -135,7 +133,6 @@ fn scan_package(project: &Project, package: &Package) -> Scanned {
         defaults_ok: true,
         broken_files: BTreeSet::new(),
         broken_keys: BTreeSet::new(),
-        lines: BTreeMap::new(),
     };
     let defaults = match Defaults::load(&package.root) {
         Ok(d) => d,
@@ -209,7 +206,6 @@ fn scan_file(root: &Path, file: &str, defaults: &Defaults, out: &mut Scanned) {
     }
     for f in found {
         let key = PinKey::new(file, f.function.clone());
-        out.lines.entry(key.clone()).or_insert(f.line);
         if twice.contains(&f.function) {
             out.broken_keys.insert(key);
             continue;

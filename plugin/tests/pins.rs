@@ -691,3 +691,98 @@ fn show_of_an_ambiguous_name_asks_for_the_file() {
     );
     c.heddle(&["show", "tests/again.rs::small"]).ok();
 }
+
+#[test]
+fn workspaces_pin_each_member_in_its_own_file() {
+    let dir = tempfile::tempdir().unwrap();
+    let write = |rel: &str, text: &str| {
+        let p = dir.path().join(rel);
+        std::fs::create_dir_all(p.parent().unwrap()).unwrap();
+        std::fs::write(p, text).unwrap();
+    };
+    write(
+        "Cargo.toml",
+        "[workspace]\nresolver = \"3\"\nmembers = [\"crates/a\", \"crates/b\"]\n",
+    );
+    for name in ["a", "b"] {
+        write(
+            &format!("crates/{name}/Cargo.toml"),
+            &format!("[package]\nname = \"{name}\"\nversion = \"0.1.0\"\nedition = \"2024\"\n"),
+        );
+        write(&format!("crates/{name}/src/lib.rs"), "");
+        write(&format!("crates/{name}/tests/t.rs"), CODEC);
+    }
+    let heddle = |args: &[&str]| {
+        Run(Command::new(env!("CARGO_BIN_EXE_cargo-heddle"))
+            .arg("heddle")
+            .args(args)
+            .current_dir(dir.path())
+            .output()
+            .unwrap())
+    };
+    let r = heddle(&["pin", "-p", "b"]);
+    r.ok();
+    assert!(
+        r.stdout().contains("crates/b/tests/t.rs:3 roundtrip: new"),
+        "{}",
+        r.stdout()
+    );
+    assert!(
+        r.stdout().contains("crates/b/heddle-pins.toml: wrote 2 pins"),
+        "{}",
+        r.stdout()
+    );
+    assert!(!dir.path().join("crates/a/heddle-pins.toml").exists());
+    // a pins only where it was asked to; the workspace as a whole passes check (a
+    // generates at build time), and keys stay relative to each crate's root
+    let r = heddle(&["check", "--workspace"]);
+    r.ok();
+    assert!(
+        r.stdout()
+            .contains("4 annotated functions ok (2 pinned, 2 generated at build time; 2 packages)")
+    );
+    let text = std::fs::read_to_string(dir.path().join("crates/b/heddle-pins.toml")).unwrap();
+    assert!(text.contains("[pins.\"tests/t.rs\".roundtrip]"), "{text}");
+    // the same name in two packages needs the file to tell them apart
+    heddle(&["show", "roundtrip"]).fails(2);
+    heddle(&["show", "crates/a/tests/t.rs::roundtrip"]).ok();
+}
+
+#[test]
+fn check_warns_about_pins_without_a_function_and_show_refuses_stale_pins() {
+    let c = Crate::new(&[("tests/codec.rs", CODEC), ("tests/gone.rs", CODEC)]);
+    c.heddle(&["pin"]).ok();
+    std::fs::remove_file(c.path("tests/gone.rs")).unwrap();
+    let text = c.read("heddle-pins.toml");
+    let header = text.find("[pins.\"tests/gone.rs\".roundtrip]").unwrap();
+    let line = text[..header].matches('\n').count() + 1;
+    let r = c.heddle(&["check"]);
+    r.ok();
+    let want = format!(
+        "warning: heddle-pins.toml:{line}: the pin of `roundtrip` in `tests/gone.rs` belongs to no function"
+    );
+    assert!(r.stderr().contains(&want), "{want} in\n{}", r.stderr());
+    let r = c.heddle(&["pin"]);
+    r.ok();
+    assert!(
+        r.stdout().contains("tests/gone.rs roundtrip: removed"),
+        "{}",
+        r.stdout()
+    );
+    assert!(
+        r.stdout().contains("(0 new, 0 changed, 2 up to date, 2 removed)"),
+        "{}",
+        r.stdout()
+    );
+
+    c.write("tests/codec.rs", &CODEC.replace("lambda = 2", "lambda = 3"));
+    let r = c.heddle(&["show", "roundtrip"]);
+    r.fails(1);
+    assert!(
+        r.stderr().contains("tests/codec.rs:3: the pin of `roundtrip`"),
+        "{}",
+        r.stderr()
+    );
+    assert!(r.stderr().contains("is stale"), "{}", r.stderr());
+    assert_eq!(r.stdout(), "");
+}
