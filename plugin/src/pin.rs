@@ -124,7 +124,7 @@ pub fn run(args: PinArgs) -> Result<ExitCode, Failure> {
                             let mut line = format!(
                                 "{}: kept {kept}, added {}, dropped {}, {n} rows",
                                 place(pkg, f),
-                                n - kept,
+                                n.saturating_sub(kept),
                                 carried.dropped()
                             );
                             let why = carried.why_dropped();
