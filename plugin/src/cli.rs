@@ -26,6 +26,12 @@ struct HeddleCli {
 enum Command {
     /// Generate a covering array for factors given on the command line.
     Design(crate::design::DesignArgs),
+    /// Pin the rows of every `#[cover]` function in the crate's pins file.
+    Pin(crate::pin::PinArgs),
+    /// Fail when a pin is missing, stale or does not cover its spec (for CI).
+    Check(crate::check::CheckArgs),
+    /// Print the rows of one `#[cover]` function with coverage figures.
+    Show(crate::show::ShowArgs),
     /// Run the tests under one run id and report on that run.
     Test(crate::test_cmd::TestArgs),
     /// Report on recorded runs: pass counts per interaction, suspects, flaky ones.
@@ -55,6 +61,9 @@ pub fn run(args: impl IntoIterator<Item = OsString>) -> Result<ExitCode, Failure
     let CargoCli::Heddle(h) = cli;
     match h.command {
         Command::Design(a) => crate::design::run(a),
+        Command::Pin(a) => crate::pin::run(a),
+        Command::Check(a) => crate::check::run(a),
+        Command::Show(a) => crate::show::run(a),
         Command::Test(a) => crate::test_cmd::run(a),
         Command::Report(a) => crate::report::run(a),
     }

@@ -98,7 +98,7 @@ pub fn run(args: DesignArgs) -> Result<ExitCode, Failure> {
 }
 
 /// A CSV field, quoted when it holds a comma, quote or line break (RFC 4180).
-fn field(s: &str) -> String {
+pub(crate) fn field(s: &str) -> String {
     if s.contains([',', '"', '\n', '\r']) {
         format!("\"{}\"", s.replace('"', "\"\""))
     } else {

@@ -2,13 +2,31 @@
 //! that turns per-interaction tallies into suspects, flaky interactions and advice.
 //! The binary (`main.rs`) only calls [`cli::run`].
 
+/// `println!` that ignores a closed stdout (see [`say`]).
+macro_rules! say {
+    ($($t:tt)*) => { $crate::say::out(format_args!($($t)*)) };
+}
+
+/// `eprintln!` that ignores a failing stderr (see [`say`]).
+macro_rules! say_err {
+    ($($t:tt)*) => { $crate::say::err(format_args!($($t)*)) };
+}
+
 pub mod analysis;
+pub mod carry;
+pub mod check;
 pub mod cli;
 pub mod design;
 pub mod failure;
+pub mod pin;
+pub mod pinfile;
 pub mod report;
+pub mod say;
+pub mod show;
+pub mod sources;
 pub mod spec_args;
 pub mod spec_of;
+pub mod status;
 pub mod style;
 pub mod test_cmd;
 pub mod workspace;

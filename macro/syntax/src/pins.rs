@@ -13,6 +13,14 @@
 //! [pins."tests/codec.rs".roundtrip]
 //! fingerprint = "d0e48fe4e5c1a0e1"
 //! factors = ["batch", "codec", "checksum"]
+//! levels = [
+//!     ["1", "8", "64"],
+//!     ["Codec::Plain", "Codec::Rle", "Codec::Delta"],
+//!     ["true", "false"],
+//! ]
+//! strength = 2
+//! lambda = 2
+//! seed = "000000000000000b"
 //! rows = [
 //!     [0, 0, 0],
 //!     [1, 2, 1],
@@ -27,6 +35,12 @@
 //!   of one file must have different names (the macro cannot see module nesting).
 //! - `fingerprint` (required): the spec's [`Fingerprint`], 16 lowercase hex digits.
 //! - `factors` (optional, informative): the parameter names, in column order.
+//! - `levels`, `strength`, `lambda`, `seed` (optional, together: the [`Origin`]): the
+//!   level labels of each factor in index order, and the strength, λ and seed (16
+//!   lowercase hex digits; seeds span all of `u64`, TOML integers do not) the rows were
+//!   made for. Builds ignore them; `cargo heddle pin` reads them to carry rows over to a
+//!   changed spec (remapping level indices by label). An entry with only some of them is
+//!   read as having none.
 //! - `rows` (required): one array per row, the level index (0-based, in `#[levels]`
 //!   order) of each parameter.
 //!
@@ -121,12 +135,40 @@ impl Pin {
     }
 }
 
+/// What a pin's rows were made for, beyond the fingerprint (which only tells "same spec
+/// or not"): the labels behind the level indices, and the strength, λ and seed. Kept
+/// beside the pin rather than in it so that code building [`Pin`] values stays as is.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Origin {
+    /// Level labels of each factor (in the pin's column order), in index order.
+    pub levels: Vec<Vec<String>>,
+    /// Strength t.
+    pub strength: usize,
+    /// Index λ.
+    pub lambda: u32,
+    /// Seed of the engine's random choices.
+    pub seed: u64,
+}
+
+impl Origin {
+    /// The origin of rows made for `spec`.
+    pub fn of(spec: &Spec) -> Origin {
+        Origin {
+            levels: spec.factors.iter().map(|f| f.levels.clone()).collect(),
+            strength: spec.strength,
+            lambda: spec.lambda,
+            seed: spec.seed,
+        }
+    }
+}
+
 /// A pins file's contents.
 #[derive(Clone, Debug, Default, PartialEq, Eq)]
 pub struct PinsFile {
     /// Every pin, by key.
     pub pins: BTreeMap<PinKey, Pin>,
     lines: BTreeMap<PinKey, usize>,
+    origins: BTreeMap<PinKey, Origin>,
 }
 
 /// Why a pins file could not be read: a message in the house style, with the line and
@@ -169,6 +211,10 @@ struct RawPin {
     fingerprint: Spanned<String>,
     #[serde(default)]
     factors: Vec<String>,
+    levels: Option<Vec<Vec<String>>>,
+    strength: Option<usize>,
+    lambda: Option<u32>,
+    seed: Option<Spanned<String>>,
     rows: Vec<Vec<u8>>,
 }
 
@@ -245,6 +291,21 @@ impl PinsFile {
                     file: file.clone(),
                     function,
                 };
+                if let (Some(levels), Some(strength), Some(lambda), Some(seed)) =
+                    (pin.levels, pin.strength, pin.lambda, pin.seed)
+                {
+                    let seed =
+                        parse_seed(seed.get_ref()).map_err(|e| located(text, Some(seed.span().start), e))?;
+                    out.origins.insert(
+                        key.clone(),
+                        Origin {
+                            levels,
+                            strength,
+                            lambda,
+                            seed,
+                        },
+                    );
+                }
                 out.lines.insert(key.clone(), line_col(text, start).0);
                 out.pins.insert(
                     key,
@@ -286,15 +347,30 @@ impl PinsFile {
         self.lines.get(key).copied()
     }
 
-    /// Adds or replaces a pin, returning the one replaced.
+    /// What the pin's rows were made for, when the entry records it.
+    pub fn origin(&self, key: &PinKey) -> Option<&Origin> {
+        self.origins.get(key)
+    }
+
+    /// Adds or replaces a pin, returning the one replaced. The entry records no
+    /// [`Origin`] (the replaced one's would describe other rows).
     pub fn insert(&mut self, key: PinKey, pin: Pin) -> Option<Pin> {
         self.lines.remove(&key);
+        self.origins.remove(&key);
         self.pins.insert(key, pin)
+    }
+
+    /// Adds or replaces a pin together with what its rows were made for.
+    pub fn insert_with_origin(&mut self, key: PinKey, pin: Pin, origin: Origin) -> Option<Pin> {
+        let old = self.insert(key.clone(), pin);
+        self.origins.insert(key, origin);
+        old
     }
 
     /// Removes a pin.
     pub fn remove(&mut self, key: &PinKey) -> Option<Pin> {
         self.lines.remove(key);
+        self.origins.remove(key);
         self.pins.remove(key)
     }
 
@@ -315,6 +391,17 @@ impl PinsFile {
             let _ = writeln!(out, "fingerprint = \"{}\"", pin.fingerprint);
             let names: Vec<String> = pin.factors.iter().map(|f| quoted(f)).collect();
             let _ = writeln!(out, "factors = [{}]", names.join(", "));
+            if let Some(o) = self.origins.get(key) {
+                out.push_str("levels = [\n");
+                for labels in &o.levels {
+                    let labels: Vec<String> = labels.iter().map(|l| quoted(l)).collect();
+                    let _ = writeln!(out, "    [{}],", labels.join(", "));
+                }
+                out.push_str("]\n");
+                let _ = writeln!(out, "strength = {}", o.strength);
+                let _ = writeln!(out, "lambda = {}", o.lambda);
+                let _ = writeln!(out, "seed = \"{:016x}\"", o.seed);
+            }
             out.push_str("rows = [\n");
             for row in &pin.rows {
                 let cells: Vec<String> = row.iter().map(u8::to_string).collect();
@@ -323,6 +410,18 @@ impl PinsFile {
             out.push_str("]\n");
         }
         out
+    }
+}
+
+/// A seed as the file writes it: 16 lowercase hex digits.
+fn parse_seed(s: &str) -> Result<u64, String> {
+    if s.len() == 16
+        && s.bytes()
+            .all(|b| b.is_ascii_digit() || (b'a'..=b'f').contains(&b))
+    {
+        u64::from_str_radix(s, 16).map_err(|e| format!("`{s}` is not a seed: {e}"))
+    } else {
+        Err(format!("`{s}` is not a seed (16 lowercase hex digits)"))
     }
 }
 
@@ -401,6 +500,51 @@ mod tests {
         assert_eq!(back.pins, p.pins);
         // writing what was read gives the same text: the writer is deterministic
         assert_eq!(back.to_toml(), text);
+    }
+
+    #[test]
+    fn origin_round_trips_and_is_dropped_by_insert() {
+        let mut p = sample();
+        let key = PinKey::new("tests/codec.rs", "roundtrip");
+        let pin = p.get(&key).unwrap().clone();
+        let origin = Origin {
+            levels: vec![
+                vec!["1".into(), "8".into(), "6\"4".into()],
+                vec!["a".into(), "b".into()],
+            ],
+            strength: 2,
+            lambda: 3,
+            seed: u64::MAX - 1,
+        };
+        p.insert_with_origin(key.clone(), pin.clone(), origin.clone());
+        let text = p.to_toml();
+        assert!(text.contains("seed = \"fffffffffffffffe\"\n"), "{text}");
+        assert!(
+            text.contains("levels = [\n    [\"1\", \"8\", \"6\\\"4\"],\n    [\"a\", \"b\"],\n]\n"),
+            "{text}"
+        );
+        let back = PinsFile::parse(&text).unwrap();
+        assert_eq!(back.origin(&key), Some(&origin));
+        assert_eq!(back.to_toml(), text);
+        // entries without one have none
+        assert_eq!(back.origin(&PinKey::new("tests/a.rs", "b")), None);
+        // replacing the rows forgets what the old ones were made for
+        let mut back = back;
+        back.insert(key.clone(), pin);
+        assert_eq!(back.origin(&key), None);
+    }
+
+    #[test]
+    fn partial_origin_is_none_and_bad_seed_is_located() {
+        let text =
+            "format = 1\n[pins.\"t.rs\".f]\nfingerprint = \"0000000000000001\"\nlambda = 2\nrows = [[0]]\n";
+        let p = PinsFile::parse(text).unwrap();
+        assert_eq!(p.origin(&PinKey::new("t.rs", "f")), None);
+        let text = "format = 1\n[pins.\"t.rs\".f]\nfingerprint = \"0000000000000001\"\nlevels = [[\"x\"]]\n\
+                    strength = 1\nlambda = 1\nseed = \"12\"\nrows = [[0]]\n";
+        let e = PinsFile::parse(text).unwrap_err();
+        assert_eq!(e.line, Some(7), "{e}");
+        assert!(e.message.contains("`12` is not a seed"), "{e}");
     }
 
     #[test]

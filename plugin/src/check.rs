@@ -1,0 +1,153 @@
+//! `cargo heddle check`: the CI gate. Fails (exit code 1) naming each annotated function
+//! whose rows a build would refuse or that do not do their job: a pin missing from a
+//! crate that pins, a stale pin, a pin that does not fit or does not cover its spec, a
+//! spec the engine refuses, and every source problem the macro would report.
+
+use std::collections::BTreeSet;
+use std::process::ExitCode;
+
+use clap::Args;
+use heddle_syntax::keywords as kw;
+
+use crate::failure::Failure;
+use crate::pinfile;
+use crate::sources::{self, Function, Scanned};
+use crate::status::{Status, status};
+use crate::workspace::{self, Selection};
+
+/// Arguments of `check`.
+#[derive(Args, Debug)]
+pub struct CheckArgs {
+    #[command(flatten)]
+    selection: Selection,
+}
+
+/// Why one function fails, in words (house style).
+pub fn explain(f: &Function, s: &Status) -> Option<String> {
+    let name = &f.function;
+    Some(match s {
+        Status::Pinned(_) | Status::Generated(_) => return None,
+        Status::Missing => format!(
+            "`{name}` has no pin in `{}`\n  hint: run `{}`",
+            kw::PINS_FILE,
+            kw::PIN_COMMAND
+        ),
+        Status::Stale(changes) => {
+            let what = if changes.is_empty() {
+                "the spec changed since it was pinned".to_string()
+            } else {
+                changes.join("; ")
+            };
+            format!(
+                "the pin of `{name}` is stale: {what}\n  hint: run `{}` to carry its rows over to the new spec",
+                kw::PIN_COMMAND
+            )
+        }
+        Status::Misfit(reason) => format!(
+            "the pin of `{name}` does not fit the function: {reason}\n  hint: run `{}` to repair it",
+            kw::PIN_COMMAND
+        ),
+        Status::Uncovered(v) => format!(
+            "the rows of `{name}` do not cover its spec: {v}\n  hint: run `{}` to add the missing rows",
+            kw::PIN_COMMAND
+        ),
+        Status::Engine(e) => format!(
+            "the engine refuses the spec of `{name}`: {e}\n  hint: lower the strength, lambda or the number of levels"
+        ),
+    })
+}
+
+/// Runs `check`.
+pub fn run(args: CheckArgs) -> Result<ExitCode, Failure> {
+    let project = workspace::load(&args.selection)?;
+    let scanned = sources::scan(&project);
+    let mut files = Vec::with_capacity(scanned.len());
+    for pkg in &scanned {
+        files.push(pinfile::load(pkg)?);
+    }
+    let (mut total, mut failing, mut pinned, mut generated) = (0usize, 0, 0, 0);
+    let (mut unparsed, mut manifests) = (0usize, 0usize);
+    for (pkg, pins) in scanned.iter().zip(&files) {
+        for p in &pkg.problems {
+            say_err!("error: {p}");
+        }
+        total += pkg.functions.len() + pkg.broken_keys.len();
+        failing += pkg.broken_keys.len();
+        unparsed += pkg.broken_files.len();
+        manifests += usize::from(!pkg.defaults_ok);
+        for f in &pkg.functions {
+            let s = status(f, pins.as_ref());
+            match &s {
+                Status::Pinned(_) => pinned += 1,
+                Status::Generated(_) => generated += 1,
+                _ => {}
+            }
+            if let Some(why) = explain(f, &s) {
+                failing += 1;
+                say_err!("error: {}:{}: {why}", pkg.display(&f.file), f.line);
+            }
+        }
+        if let Some(pins) = pins {
+            warn_orphans(pkg, pins);
+        }
+    }
+    let packages = plural(scanned.len(), "package", "packages");
+    if failing > 0 || unparsed > 0 || manifests > 0 {
+        let mut msg = format!(
+            "{failing} of {} fail the check",
+            plural(total, "annotated function", "annotated functions")
+        );
+        if unparsed > 0 {
+            msg.push_str(&format!(
+                ", {} not parse",
+                plural(unparsed, "file does", "files do")
+            ));
+        }
+        if manifests > 0 {
+            msg.push_str(&format!(
+                ", {} not be read",
+                plural(manifests, "manifest could", "manifests could")
+            ));
+        }
+        msg.push_str(&format!(
+            " ({packages})\n  hint: `{}` fixes missing, stale and non-covering pins; source problems need an edit",
+            kw::PIN_COMMAND
+        ));
+        return Err(Failure::Found(msg));
+    }
+    let summary = if total == 0 {
+        format!("heddle check: no annotated functions ({packages})")
+    } else {
+        format!(
+            "heddle check: {} ok ({pinned} pinned, {generated} generated at build time; {packages})",
+            plural(total, "annotated function", "annotated functions")
+        )
+    };
+    say!("{summary}");
+    Ok(ExitCode::SUCCESS)
+}
+
+/// Pins no function claims: harmless to a build, so only a warning.
+fn warn_orphans(pkg: &Scanned, pins: &heddle_syntax::PinsFile) {
+    let live: BTreeSet<_> = pkg.functions.iter().map(Function::key).collect();
+    for key in pins.pins.keys() {
+        if live.contains(key) || pkg.protects(key) {
+            continue;
+        }
+        let place = match pins.line_of(key) {
+            Some(l) => format!("{}:{l}", pkg.display(kw::PINS_FILE)),
+            None => pkg.display(kw::PINS_FILE),
+        };
+        say_err!(
+            "warning: {place}: the pin of `{}` in `{}` belongs to no function\n  hint: run `{}` to remove it",
+            key.function,
+            key.file,
+            kw::PIN_COMMAND
+        );
+    }
+}
+
+/// `1 thing`, `2 things`.
+pub fn plural(n: usize, one: &str, many: &str) -> String {
+    format!("{n} {}", if n == 1 { one } else { many })
+}

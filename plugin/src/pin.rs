@@ -1,0 +1,285 @@
+//! `cargo heddle pin`: fix the rows of every annotated function in the crate's pins file,
+//! so builds use them verbatim instead of generating. A function whose spec changed keeps
+//! the old rows that are still valid ([`crate::carry`]) and the engine adds only what is
+//! missing; functions that are gone lose their pins; unchanged ones are left alone.
+
+use std::collections::BTreeSet;
+use std::io::IsTerminal;
+use std::process::ExitCode;
+use std::time::Duration;
+
+use clap::Args;
+use heddle_generator::{Effort, Spec, generate};
+use heddle_syntax::keywords as kw;
+use heddle_syntax::{Origin, Pin, PinsFile};
+use indicatif::{ProgressBar, ProgressStyle};
+
+use crate::carry::{Carried, carry_over, describe_change};
+use crate::cli::EffortArg;
+use crate::failure::{Failure, usage};
+use crate::pinfile;
+use crate::sources::{self, Function, Scanned};
+use crate::status::{Status, status};
+use crate::workspace::{self, Selection};
+
+/// Arguments of `pin`.
+#[derive(Args, Debug)]
+pub struct PinArgs {
+    #[command(flatten)]
+    selection: Selection,
+    /// `fast` (constructions and greedy) or `tight` (adds local search).
+    #[arg(long, value_enum, default_value_t = EffortArg::Fast)]
+    effort: EffortArg,
+    /// Move budget of the local search (with `--effort tight`).
+    #[arg(long, value_name = "N")]
+    budget: Option<u64>,
+}
+
+/// What happens to one function's pin.
+enum Plan<'a> {
+    UpToDate(&'a Function, usize),
+    New(&'a Function),
+    Changed(&'a Function, Carried, Vec<String>),
+}
+
+/// Runs `pin`.
+pub fn run(args: PinArgs) -> Result<ExitCode, Failure> {
+    if args.budget.is_some() && args.effort == EffortArg::Fast {
+        return Err(usage(
+            "`--budget` applies to `--effort tight` only\n  hint: add `--effort tight`",
+        ));
+    }
+    let effort = match args.effort {
+        EffortArg::Fast => Effort::Fast,
+        EffortArg::Tight => Effort::Tight {
+            budget: args.budget.unwrap_or(Effort::DEFAULT_TIGHT_BUDGET),
+        },
+    };
+    let project = workspace::load(&args.selection)?;
+    let scanned = sources::scan(&project);
+    // every pins file is read before anything is written: a broken one stops it all
+    let mut files = Vec::with_capacity(scanned.len());
+    for pkg in &scanned {
+        files.push(pinfile::load(pkg)?);
+    }
+    let mut problems = 0usize;
+    for p in scanned.iter().flat_map(|s| &s.problems) {
+        say_err!("error: {p}");
+        problems += 1;
+    }
+
+    let plans: Vec<Vec<Plan>> = scanned
+        .iter()
+        .zip(&files)
+        .map(|(pkg, pins)| plan(pkg, pins.as_ref()))
+        .collect();
+    let work = plans
+        .iter()
+        .flatten()
+        .filter(|p| !matches!(p, Plan::UpToDate(..)))
+        .count() as u64;
+    let bar = progress(work);
+
+    for ((pkg, old), plans) in scanned.iter().zip(files).zip(plans) {
+        let had_file = old.is_some();
+        let mut pins = old.unwrap_or_default();
+        let mut touched: BTreeSet<String> = BTreeSet::new();
+        let (mut new, mut changed, mut same) = (0usize, 0usize, 0usize);
+        for p in plans {
+            let line = match p {
+                Plan::UpToDate(f, rows) => {
+                    same += 1;
+                    format!("{}: up to date, {rows} rows", place(pkg, f))
+                }
+                Plan::New(f) => {
+                    bar.set_message(f.function.clone());
+                    let result = make(f, Vec::new(), effort);
+                    bar.inc(1);
+                    match result {
+                        Ok(rows) => {
+                            new += 1;
+                            let n = rows.len();
+                            store(&mut pins, f, rows);
+                            touched.insert(f.file.clone());
+                            format!("{}: new, {n} rows", place(pkg, f))
+                        }
+                        Err(e) => {
+                            problems += 1;
+                            bar.suspend(|| say_err!("error: {}: {e}", place(pkg, f)));
+                            continue;
+                        }
+                    }
+                }
+                Plan::Changed(f, carried, changes) => {
+                    bar.set_message(f.function.clone());
+                    let kept = carried.rows.len();
+                    let result = make(f, carried.rows.clone(), effort);
+                    bar.inc(1);
+                    match result {
+                        Ok(rows) => {
+                            changed += 1;
+                            let n = rows.len();
+                            store(&mut pins, f, rows);
+                            touched.insert(f.file.clone());
+                            let mut line = format!(
+                                "{}: kept {kept}, added {}, dropped {}, {n} rows",
+                                place(pkg, f),
+                                n.saturating_sub(kept),
+                                carried.dropped()
+                            );
+                            let why = carried.why_dropped();
+                            let mut notes: Vec<String> = changes;
+                            if !why.is_empty() {
+                                notes.push(format!("dropped: {why}"));
+                            }
+                            if !notes.is_empty() {
+                                line.push_str(&format!(" ({})", notes.join("; ")));
+                            }
+                            line
+                        }
+                        Err(e) => {
+                            problems += 1;
+                            bar.suspend(|| say_err!("error: {}: {e}", place(pkg, f)));
+                            continue;
+                        }
+                    }
+                }
+            };
+            bar.suspend(|| say!("{line}"));
+        }
+        // pins whose function is gone (never those of functions that could not be read)
+        let live: BTreeSet<_> = pkg.functions.iter().map(Function::key).collect();
+        let gone: Vec<_> = pins
+            .pins
+            .keys()
+            .filter(|k| !live.contains(k) && !pkg.protects(k))
+            .cloned()
+            .collect();
+        for key in &gone {
+            pins.remove(key);
+            bar.suspend(|| {
+                say!(
+                    "{} {}: removed, the function no longer exists",
+                    pkg.display(&key.file),
+                    key.function
+                )
+            });
+        }
+        let file = pkg.display(kw::PINS_FILE);
+        if !had_file && pins.pins.is_empty() {
+            if pkg.functions.is_empty() && pkg.problems.is_empty() {
+                bar.suspend(|| {
+                    say!(
+                        "package `{}` has no `#[{}]` functions",
+                        pkg.package.name,
+                        kw::COVER
+                    )
+                });
+            }
+            continue;
+        }
+        let text = pins.to_toml();
+        let on_disk = std::fs::read_to_string(PinsFile::path(&pkg.package.root)).ok();
+        if on_disk.as_deref() == Some(text.as_str()) {
+            bar.suspend(|| say!("{file}: up to date, {} pins", pins.pins.len()));
+            continue;
+        }
+        pinfile::save(pkg, &pins)?;
+        let mut touch_failed = Vec::new();
+        for f in &touched {
+            if let Err(e) = pinfile::touch(&pkg.package.root.join(f)) {
+                touch_failed.push(format!("{}: {e}", pkg.display(f)));
+            }
+        }
+        let mut summary = format!(
+            "{file}: wrote {} pins ({new} new, {changed} changed, {same} up to date, {} removed)",
+            pins.pins.len(),
+            gone.len()
+        );
+        if !touched.is_empty() {
+            let plural = if touched.len() == 1 { "" } else { "s" };
+            summary.push_str(&format!(", touched {} test file{plural}", touched.len()));
+        }
+        bar.suspend(|| {
+            say!("{summary}");
+            for t in &touch_failed {
+                say_err!("warning: could not touch {t}; touch it so that cargo rebuilds it");
+            }
+        });
+    }
+    bar.finish_and_clear();
+    if problems > 0 {
+        let plural = if problems == 1 { "" } else { "s" };
+        return Err(Failure::Found(format!(
+            "{problems} problem{plural} above; the functions they concern keep their pins as they were\n  \
+             hint: fix them and run `{}` again",
+            kw::PIN_COMMAND
+        )));
+    }
+    Ok(ExitCode::SUCCESS)
+}
+
+/// `file:line name`, as every line of `pin` names a function.
+fn place(pkg: &Scanned, f: &Function) -> String {
+    format!("{}:{} {}", pkg.display(&f.file), f.line, f.function)
+}
+
+fn plan<'a>(pkg: &'a Scanned, pins: Option<&PinsFile>) -> Vec<Plan<'a>> {
+    pkg.functions
+        .iter()
+        .map(|f| {
+            let key = f.key();
+            let Some(old) = pins.and_then(|p| p.get(&key)) else {
+                return Plan::New(f);
+            };
+            if let Status::Pinned(_) = status(f, pins) {
+                return Plan::UpToDate(f, old.rows.len());
+            }
+            let origin = pins.and_then(|p| p.origin(&key));
+            let spec = &f.spec.spec;
+            let changes = if old.fingerprint == f.spec.fingerprint {
+                // same spec, rows that do not fit or cover: a hand edit to repair
+                vec!["the pinned rows did not cover the spec".to_string()]
+            } else {
+                describe_change(old, origin, spec)
+            };
+            Plan::Changed(f, carry_over(old, origin, spec), changes)
+        })
+        .collect()
+}
+
+/// Rows for `f`: `required` first, then what the engine adds.
+fn make(f: &Function, required: Vec<Vec<u8>>, effort: Effort) -> Result<Vec<Vec<u8>>, String> {
+    let spec = Spec {
+        required,
+        ..f.spec.spec.clone()
+    };
+    generate(&spec, effort)
+        .map(|d| d.rows)
+        .map_err(|e| format!("the engine refuses this spec: {e}\n  hint: make the spec smaller"))
+}
+
+fn store(pins: &mut PinsFile, f: &Function, rows: Vec<Vec<u8>>) {
+    let spec = &f.spec.spec;
+    let pin = Pin {
+        fingerprint: f.spec.fingerprint,
+        factors: spec.factors.iter().map(|x| x.name.clone()).collect(),
+        rows,
+    };
+    pins.insert_with_origin(f.key(), pin, Origin::of(spec));
+}
+
+/// A progress bar on stderr when it is a terminal and there is work; hidden otherwise.
+fn progress(work: u64) -> ProgressBar {
+    if work == 0 || !std::io::stderr().is_terminal() {
+        return ProgressBar::hidden();
+    }
+    let bar = ProgressBar::new(work);
+    if let Ok(style) =
+        ProgressStyle::with_template("{spinner} pinning {pos}/{len} [{bar:30}] {elapsed} {msg}")
+    {
+        bar.set_style(style.progress_chars("=> "));
+    }
+    bar.enable_steady_tick(Duration::from_millis(120));
+    bar
+}
