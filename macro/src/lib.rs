@@ -3,7 +3,7 @@
 //!
 //! This crate is only the compiler glue: it gathers what the expansion depends on — the
 //! crate root, the test file's path, the crate's `Cargo.toml` defaults and its pins file
-//! — and hands it with the tokens to [`heddle_syntax::expand`], where parsing,
+//! — and hands it with the tokens to [`heddle_syntax::expand()`], where parsing,
 //! validation and code generation live (shared with the plugin). It never writes files.
 //!
 //! Creating the pins file for the first time is not noticed by tests already built

@@ -3,7 +3,7 @@
 //! The compiler hands an attribute macro its arguments as a bare token stream (and the
 //! plugin finds them inside an `Attribute`); this is their first, purely syntactic parse.
 //! Each argument is `key`, `key = EXPR` or `key(EXPR)`; what the keys mean is decided
-//! later ([`crate::ast`], [`crate::validate`]), so an unknown key is reported as such
+//! later ([`crate::ast`], [`mod@crate::validate`]), so an unknown key is reported as such
 //! rather than as a syntax error.
 
 use proc_macro2::{Span, TokenStream};

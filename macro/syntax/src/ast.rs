@@ -2,7 +2,7 @@
 //!
 //! Building it never fails: whatever is malformed (an unknown key, a parameter without
 //! levels, a level list that does not parse) is recorded as found, and
-//! [`crate::validate`] reports all of it at once. Only the level lists are parsed here
+//! [`mod@crate::validate`] reports all of it at once. Only the level lists are parsed here
 //! (they are attribute tokens), so they are owned.
 
 use proc_macro2::Span;

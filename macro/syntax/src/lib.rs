@@ -8,12 +8,12 @@
 //! The passes, in order:
 //! 1. [`args`] — the attribute's argument tokens, parsed (owned `syn` trees);
 //! 2. [`ast`] — the function classified, borrowing from those trees and the `ItemFn`;
-//! 3. [`validate`] — every check, errors accumulated and located, giving a
+//! 3. [`mod@validate`] — every check, errors accumulated and located, giving a
 //!    [`CoverSpec`]: the engine's [`heddle_generator::Spec`] (labels are the canonical
 //!    text of each level, see [`text`]; excludes converted by [`exclude`]), the seed
 //!    ([`hash::default_seed`] unless given) and the [`Fingerprint`];
 //! 4. [`rows`] — the rows, from the [`pins`] file or the engine;
-//! 5. [`expand`] — the generated code.
+//! 5. [`mod@expand`] — the generated code.
 //!
 //! For the plugin: [`find::analyse_source`] finds and analyses every annotated function
 //! of a file, [`Defaults::load`] reads the crate's defaults, [`PinsFile`] reads and

@@ -50,7 +50,7 @@ pub struct ReportArgs {
 pub enum Format {
     /// For the terminal (colours only on a terminal, never with NO_COLOR).
     Table,
-    /// The versioned JSON document (see [`json`]).
+    /// The versioned JSON document (schema in the `report::json` module docs).
     Json,
     /// JUnit XML, one testcase per row.
     Junit,
