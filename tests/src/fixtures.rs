@@ -172,6 +172,29 @@ fn gone(#[levels(1, 2)] a: u8, #[levels(1, 2)] b: u8) {
     let _ = (a, b);
 }
 
+/// Labels that JSON and messages must escape, one exclude over string and char
+/// levels; fails when `s == "ünï" && c == '\n'`.
+#[cover(seed = 3, exclude(s == "q\"uote" && c == 'é'))]
+fn escapes(
+    #[levels("q\"uote", "back\\slash", "ünï", r"raw")] s: &str,
+    #[levels('é', '\n', '"')] c: char,
+) {
+    assert!(!(s == "ünï" && c == '\n'), "planted defect: {s:?} with {c:?}");
+}
+
+/// More than 100 rows (strength 3 over four 5-level parameters): three-digit row
+/// names; fails when `a == b == c == 4`.
+#[cover(strength = 3, seed = 4)]
+fn wide(
+    #[levels(0, 1, 2, 3, 4)] a: u8,
+    #[levels(0, 1, 2, 3, 4)] b: u8,
+    #[levels(0, 1, 2, 3, 4)] c: u8,
+    #[levels(0, 1, 2, 3, 4)] d: u8,
+) {
+    let _ = d;
+    assert!(!(a == 4 && b == 4 && c == 4), "planted three-way defect");
+}
+
 mod nested {
     use super::*;
 
@@ -255,6 +278,16 @@ pub const SUITES_EXPECT: &[Expect] = &[
     Expect {
         function: "gone",
         fails: never,
+        allowed: always,
+    },
+    Expect {
+        function: "escapes",
+        fails: |l| l[0] == r#""ünï""# && l[1] == r"'\n'",
+        allowed: |l| !(l[0] == r#""q\"uote""# && l[1] == "'é'"),
+    },
+    Expect {
+        function: "wide",
+        fails: |l| l[0] == "4" && l[1] == "4" && l[2] == "4",
         allowed: always,
     },
     Expect {

@@ -238,6 +238,11 @@ impl Scratch {
         std::fs::write(&path, text).expect("the temporary directory is writable");
     }
 
+    /// Reads a file of the crate.
+    pub fn read(&self, path: &str) -> String {
+        std::fs::read_to_string(self.root().join(path)).expect("the file exists")
+    }
+
     /// Sets a file's modification time to now, as a user's `touch` would.
     pub fn touch(&self, path: &str) {
         let file = std::fs::File::options()

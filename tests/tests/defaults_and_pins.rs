@@ -1,7 +1,7 @@
 //! Crate defaults from `[package.metadata.heddle]` and the pins file, in one temporary
-//! crate built three times: with its defaults, with a pin written through
-//! heddle-syntax's writer (and the test file touched, as documented), and with that pin
-//! made stale.
+//! crate built four times: with its defaults, with a pin written through
+//! heddle-syntax's writer (and the test file touched, as documented), with a default
+//! edited in `Cargo.toml`, and with the pin made stale.
 
 use heddle::record::SpecRecord;
 use heddle::store::Records;
@@ -178,6 +178,31 @@ fn crate_defaults_and_pins() {
                 s.spec.function
             );
         }
+        Ok(())
+    });
+
+    steps.run("an edited default rebuilds without a touch", || {
+        let manifest = krate.read("Cargo.toml");
+        ensure!(
+            manifest.contains("\nlambda = 2\n"),
+            "unexpected manifest:\n{manifest}"
+        );
+        krate.write(
+            "Cargo.toml",
+            &manifest.replace("\nlambda = 2\n", "\nlambda = 3\n"),
+        );
+        let records = run_and_read(&krate, "lambda3")?;
+        for (function, want) in [("defaulted", (3, 3)), ("capped", (2, 3)), ("partly", (3, 1))] {
+            let rec = spec_of(&records, function)?;
+            ensure!(
+                (rec.strength, rec.lambda) == want,
+                "`{function}`: (t, λ) = {:?}, expected {want:?}",
+                (rec.strength, rec.lambda)
+            );
+        }
+        // `overridden` sets every key itself: its fingerprint, so its pin, still holds
+        let rec = spec_of(&records, PINNED_FN)?;
+        ensure!(rec.pinned && rec.rows == chosen, "`{PINNED_FN}` lost its pin");
         Ok(())
     });
 

@@ -290,10 +290,18 @@ fn covering(main: &Main) -> Result<(), String> {
                 }
                 ensure!(impossible.len() == 4, "`constrained`: impossible {impossible:?}");
             }
+            "escapes" => ensure!(
+                impossible == vec![vec![("s", r#""q\"uote""#), ("c", "'é'")]],
+                "`escapes`: impossible {impossible:?}"
+            ),
             other => ensure!(impossible.is_empty(), "`{other}`: impossible {impossible:?}"),
         }
-        if rec.function == "triple" {
-            ensure!(rec.strength == 3, "`triple`: strength {}", rec.strength);
+        if rec.function == "triple" || rec.function == "wide" {
+            ensure!(rec.strength == 3, "`{}`: strength {}", rec.function, rec.strength);
+        }
+        if rec.function == "wide" {
+            // 5^3 = 125 triples of (a, b, c) alone need 125 rows
+            ensure!(rec.rows.len() >= 125, "`wide`: {} rows", rec.rows.len());
         }
     }
     Ok(())
