@@ -1,0 +1,153 @@
+//! Checks that a suite's records are complete and agree with its spec and with what the
+//! test harness printed.
+
+use std::collections::{BTreeMap, BTreeSet};
+
+use heddle::record::Outcome;
+use heddle::store::SuiteRecords;
+
+use crate::coverage::labels;
+use crate::output::{Status, TestLine};
+
+/// A row's test name as the contract fixes it: `row_` and the index zero-padded to the
+/// width of the largest index, at least two digits.
+pub fn row_name(row: usize, rows: usize) -> String {
+    let width = rows.saturating_sub(1).to_string().len().max(2);
+    format!("row_{row:0width$}")
+}
+
+/// What [`check_suite`] counted.
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub struct Counted {
+    /// Rows recorded as failed.
+    pub failed: usize,
+    /// Rows recorded as passed or panicked-expected.
+    pub passed: usize,
+}
+
+/// Checks one suite's records, `fails` telling from a row's labels whether the planted
+/// defect is in it:
+/// - one row record per row of the spec, named `{suite}::row_NN`, with the labels of
+///   that row, the spec's run, crate, target and fingerprint, a time stamp, and a
+///   message exactly when it did not simply pass;
+/// - the harness ran exactly these tests, with the recorded outcomes, each marked
+///   ` - should panic` exactly when the spec says so;
+/// - a row failed exactly when it holds the planted defect.
+pub fn check_suite(
+    suite: &SuiteRecords,
+    tests: &BTreeMap<String, TestLine>,
+    fails: &dyn Fn(&[&str]) -> bool,
+) -> Result<Counted, String> {
+    let spec = &suite.spec;
+    let n = spec.rows.len();
+    let name = &spec.suite;
+    let mut by_row: BTreeMap<u32, Vec<&heddle::record::RowRecord>> = BTreeMap::new();
+    for r in &suite.rows {
+        by_row.entry(r.row).or_default().push(r);
+    }
+    let want: BTreeSet<u32> = (0..n as u32).collect();
+    let have: BTreeSet<u32> = by_row.keys().copied().collect();
+    if want != have {
+        return Err(format!("`{name}`: rows recorded {have:?}, the spec has {n} rows"));
+    }
+    let mut counted = Counted::default();
+    let mut recorded_tests = BTreeSet::new();
+    for (&row, records) in &by_row {
+        let [r] = records.as_slice() else {
+            return Err(format!("`{name}`: row {row} recorded {} times", records.len()));
+        };
+        let i = row as usize;
+        let test = format!("{name}::{}", row_name(i, n));
+        let want_labels = labels(spec, &spec.rows[i]);
+        let ctx = format!("`{test}`");
+        if r.test != test {
+            return Err(format!("{ctx}: recorded as `{}`", r.test));
+        }
+        if r.labels != want_labels {
+            return Err(format!(
+                "{ctx}: labels {:?}, the spec says {want_labels:?}",
+                r.labels
+            ));
+        }
+        if (&r.run, &r.krate, &r.target, &r.fingerprint)
+            != (&spec.run, &spec.krate, &spec.target, &spec.fingerprint)
+        {
+            return Err(format!(
+                "{ctx}: run, crate, target or fingerprint differ from the spec line"
+            ));
+        }
+        if !r.time.ends_with('Z') || r.time.len() < 20 {
+            return Err(format!("{ctx}: time stamp `{}`", r.time));
+        }
+        if r.message.is_some() != (r.outcome != Outcome::Passed) {
+            return Err(format!(
+                "{ctx}: outcome {:?} with message {:?}",
+                r.outcome, r.message
+            ));
+        }
+        let Some(line) = tests.get(&test) else {
+            return Err(format!("{ctx}: recorded but not reported by the test harness"));
+        };
+        let printed = match r.outcome {
+            Outcome::Failed => Status::Failed,
+            Outcome::Passed | Outcome::PanickedExpected => Status::Passed,
+        };
+        if line.status != printed {
+            return Err(format!(
+                "{ctx}: recorded {:?}, the harness printed {:?}",
+                r.outcome, line.status
+            ));
+        }
+        if line.should_panic != spec.should_panic {
+            return Err(format!("{ctx}: ` - should panic` is {}", line.should_panic));
+        }
+        if spec.should_panic && r.outcome == Outcome::Passed {
+            return Err(format!("{ctx}: passed without panicking under `#[should_panic]`"));
+        }
+        if !spec.should_panic && r.outcome == Outcome::PanickedExpected {
+            return Err(format!("{ctx}: panicked-expected without `#[should_panic]`"));
+        }
+        let planted = fails(&want_labels);
+        if planted != (r.outcome == Outcome::Failed) {
+            return Err(format!(
+                "{ctx} ({want_labels:?}): recorded {:?}, the planted defect says it {}",
+                r.outcome,
+                if planted { "fails" } else { "passes" }
+            ));
+        }
+        if planted {
+            counted.failed += 1;
+        } else {
+            counted.passed += 1;
+        }
+        recorded_tests.insert(test);
+    }
+    let prefix = format!("{name}::");
+    let reported: BTreeSet<String> = tests
+        .iter()
+        .filter(|(t, l)| t.starts_with(&prefix) && l.status != Status::Ignored)
+        .map(|(t, _)| t.clone())
+        .collect();
+    if reported != recorded_tests {
+        let missing: Vec<_> = reported.difference(&recorded_tests).collect();
+        return Err(format!(
+            "`{name}`: the harness ran {missing:?} but nothing was recorded for them"
+        ));
+    }
+    Ok(counted)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn row_names_are_padded_to_the_largest_index() {
+        // the contract's examples: row_0…row_9 would not sort past 9, so at least two
+        // digits; row_00…row_42 for 43 rows; three digits from 101 rows on
+        assert_eq!(row_name(3, 5), "row_03");
+        assert_eq!(row_name(42, 43), "row_42");
+        assert_eq!(row_name(7, 101), "row_007");
+        assert_eq!(row_name(0, 100), "row_00");
+    }
+}

@@ -1,0 +1,378 @@
+//! Temporary crates and the cargo invocations on them.
+//!
+//! Every temporary crate builds into one shared target directory,
+//! `<this workspace's target dir>/e2e-target`, so heddle and its dependencies (syn,
+//! serde, toml, …) compile once for all of them and stay built between runs of the
+//! suite. This workspace's `Cargo.lock` is copied into each crate, so they resolve to
+//! the versions already built, without the network; `--offline` is passed once a crate
+//! has resolved offline. Invocations are serialised by a process-wide lock (builds in
+//! one target directory would only queue on cargo's own lock) and each one prints its
+//! wall time on stderr, past libtest's capture.
+
+use std::cell::Cell;
+use std::ffi::OsString;
+use std::io::Write as _;
+use std::path::{Path, PathBuf};
+use std::process::Command;
+use std::sync::Mutex;
+use std::time::{Duration, Instant, SystemTime};
+
+/// The workspace this crate belongs to (its `Cargo.lock`, its `runner/`).
+pub fn workspace_root() -> PathBuf {
+    // the package lives in `<workspace>/tests`
+    Path::new(env!("CARGO_MANIFEST_DIR"))
+        .parent()
+        .map(Path::to_path_buf)
+        .unwrap_or_else(|| PathBuf::from(env!("CARGO_MANIFEST_DIR")))
+}
+
+/// The target directory every temporary crate builds into: `e2e-target` inside the
+/// directory cargo built this test executable in (found like the runtime finds its
+/// store, by cargo's `CACHEDIR.TAG`), else inside the workspace's `target/`.
+pub fn shared_target_dir() -> PathBuf {
+    let built_in = std::env::current_exe()
+        .ok()
+        .and_then(|exe| heddle::layout::find_build_dir(&exe))
+        .unwrap_or_else(|| workspace_root().join("target"));
+    built_in.join("e2e-target")
+}
+
+/// The cargo running these tests (cargo sets `CARGO` for test processes), so the
+/// temporary crates are built by the same toolchain.
+pub fn cargo_program() -> OsString {
+    std::env::var_os("CARGO")
+        .filter(|v| !v.is_empty())
+        .unwrap_or_else(|| OsString::from(env!("CARGO")))
+}
+
+static CARGO_LOCK: Mutex<()> = Mutex::new(());
+
+thread_local! {
+    static HOLDING: Cell<bool> = const { Cell::new(false) };
+}
+
+/// Runs `f` while holding the process-wide cargo lock; re-entrant, so a test can make
+/// several invocations one uninterrupted sequence (a clean followed by its rebuild).
+pub fn exclusive<R>(f: impl FnOnce() -> R) -> R {
+    if HOLDING.with(Cell::get) {
+        return f();
+    }
+    // a test that panicked while holding the lock left no state behind it
+    let _guard = CARGO_LOCK.lock().unwrap_or_else(|e| e.into_inner());
+    struct Release;
+    impl Drop for Release {
+        fn drop(&mut self) {
+            HOLDING.with(|h| h.set(false));
+        }
+    }
+    HOLDING.with(|h| h.set(true));
+    let _release = Release;
+    f()
+}
+
+/// Prints one line on the process's real stderr, so it shows even for passing tests.
+pub fn note(text: &str) {
+    let _ = std::io::stderr()
+        .lock()
+        .write_all(format!("heddle-e2e: {text}\n").as_bytes());
+}
+
+/// What a temporary crate is made of.
+#[derive(Clone, Debug, Default)]
+pub struct CrateDef<'a> {
+    /// Package name; unique per test, since all crates share a target directory.
+    pub name: &'a str,
+    /// Body of `[package.metadata.heddle]`, if any.
+    pub metadata: Option<&'a str>,
+    /// Extra `[dev-dependencies]` lines (heddle is always there).
+    pub dev_dependencies: &'a [&'a str],
+    /// Files, by path relative to the crate root.
+    pub files: &'a [(&'a str, &'a str)],
+}
+
+/// One finished cargo invocation.
+#[derive(Debug)]
+pub struct Run {
+    /// The command line, for messages.
+    pub command: String,
+    /// Exit status code (`None` when killed by a signal).
+    pub code: Option<i32>,
+    /// Its stdout.
+    pub stdout: String,
+    /// Its stderr.
+    pub stderr: String,
+    /// Wall time.
+    pub elapsed: Duration,
+}
+
+impl Run {
+    /// Whether cargo exited with 0.
+    pub fn succeeded(&self) -> bool {
+        self.code == Some(0)
+    }
+
+    /// Whether every target compiled (the run may still have failing tests).
+    pub fn compiled(&self) -> bool {
+        !self.stderr.contains("could not compile") && !self.stderr.contains("error: failed to ")
+    }
+
+    /// Both streams, for parsing output that may go to either.
+    pub fn all_output(&self) -> String {
+        format!("{}\n{}", self.stdout, self.stderr)
+    }
+
+    /// Panics with the full output unless everything compiled.
+    pub fn assert_compiled(&self) -> &Run {
+        assert!(
+            self.compiled() && self.code.is_some(),
+            "`{}` did not build:\n{}\n{}",
+            self.command,
+            self.stderr,
+            self.stdout
+        );
+        self
+    }
+}
+
+/// A crate in a temporary directory, removed on drop.
+pub struct Scratch {
+    dir: tempfile::TempDir,
+    name: String,
+    offline: bool,
+}
+
+/// Escapes a string for a TOML basic string.
+fn toml_string(s: &str) -> String {
+    let mut out = String::from("\"");
+    for c in s.chars() {
+        match c {
+            '\\' => out.push_str("\\\\"),
+            '"' => out.push_str("\\\""),
+            c => out.push(c),
+        }
+    }
+    out.push('"');
+    out
+}
+
+impl Scratch {
+    /// Writes the crate and resolves its dependencies. `Err` carries why resolution
+    /// failed both offline and online (for tests that skip without a dependency).
+    pub fn create(def: &CrateDef<'_>) -> Result<Scratch, String> {
+        let dir = tempfile::Builder::new()
+            .prefix(&format!("heddle-e2e-{}-", def.name))
+            .tempdir()
+            .map_err(|e| format!("cannot create a temporary directory: {e}"))?;
+        let runner = workspace_root().join("runner");
+        let mut manifest = format!(
+            "[package]\nname = \"{}\"\nversion = \"0.0.0\"\nedition = \"2024\"\npublish = false\n\n",
+            def.name
+        );
+        if let Some(meta) = def.metadata {
+            manifest.push_str(&format!("[package.metadata.heddle]\n{meta}\n\n"));
+        }
+        // a workspace of its own, whatever directory the temporary one lies in
+        manifest.push_str("[workspace]\n\n[dev-dependencies]\n");
+        manifest.push_str(&format!(
+            "heddle = {{ path = {} }}\n",
+            toml_string(&runner.to_string_lossy())
+        ));
+        for line in def.dev_dependencies {
+            manifest.push_str(line);
+            manifest.push('\n');
+        }
+        let mut krate = Scratch {
+            dir,
+            name: def.name.to_string(),
+            offline: false,
+        };
+        krate.write("Cargo.toml", &manifest);
+        krate.write("src/lib.rs", "//! Nothing: the suites are integration tests.\n");
+        for (path, text) in def.files {
+            krate.write(path, text);
+        }
+        let lock = workspace_root().join("Cargo.lock");
+        std::fs::copy(&lock, krate.root().join("Cargo.lock"))
+            .map_err(|e| format!("cannot copy `{}`: {e}", lock.display()))?;
+        krate.resolve()?;
+        Ok(krate)
+    }
+
+    /// Resolves offline when the copied lock file and the local registry cache allow it
+    /// (the usual case), else online once; later invocations then pass `--offline`.
+    fn resolve(&mut self) -> Result<(), String> {
+        let offline = self.cargo_raw(&["metadata", "--offline", "--format-version", "1"], None, &[]);
+        if offline.succeeded() {
+            self.offline = true;
+            return Ok(());
+        }
+        let online = self.cargo_raw(&["metadata", "--format-version", "1"], None, &[]);
+        if online.succeeded() {
+            self.offline = true;
+            return Ok(());
+        }
+        Err(format!(
+            "cannot resolve the dependencies of `{}` offline ({}) or online ({})",
+            self.name,
+            first_error(&offline.stderr),
+            first_error(&online.stderr)
+        ))
+    }
+
+    /// The crate root.
+    pub fn root(&self) -> &Path {
+        self.dir.path()
+    }
+
+    /// The package name.
+    pub fn name(&self) -> &str {
+        &self.name
+    }
+
+    /// Writes a file (parent directories created).
+    pub fn write(&self, path: &str, text: &str) {
+        let path = self.root().join(path);
+        if let Some(parent) = path.parent() {
+            std::fs::create_dir_all(parent).expect("the temporary directory is writable");
+        }
+        std::fs::write(&path, text).expect("the temporary directory is writable");
+    }
+
+    /// Reads a file of the crate.
+    pub fn read(&self, path: &str) -> String {
+        std::fs::read_to_string(self.root().join(path)).expect("the file exists")
+    }
+
+    /// Sets a file's modification time to now, as a user's `touch` would.
+    pub fn touch(&self, path: &str) {
+        let file = std::fs::File::options()
+            .append(true)
+            .open(self.root().join(path))
+            .expect("the file to touch exists");
+        file.set_modified(SystemTime::now())
+            .expect("the file's time can be set");
+    }
+
+    /// A fresh, empty directory for one invocation's store (`HEDDLE_TARGET_DIR`).
+    pub fn store_dir(&self, label: &str) -> PathBuf {
+        let dir = self.root().join("stores").join(label);
+        assert!(!dir.exists(), "store `{label}` is used twice");
+        std::fs::create_dir_all(&dir).expect("the temporary directory is writable");
+        dir
+    }
+
+    /// Runs cargo in the crate with `args` (`--offline` added after the subcommand when
+    /// resolution allowed it), recording into `store` (`None`: `HEDDLE_TARGET_DIR`
+    /// unset, so the runtime finds the target directory itself), with extra env vars.
+    pub fn cargo(&self, args: &[&str], store: Option<&Path>, env: &[(&str, &str)]) -> Run {
+        // the flag goes after the subcommand (`cargo nextest run`: after `run`)
+        let at = match args {
+            ["nextest", "run", ..] => Some(2),
+            ["nextest", ..] => None,
+            [] => None,
+            _ => Some(1),
+        };
+        let mut full: Vec<&str> = Vec::with_capacity(args.len() + 1);
+        match at.filter(|_| self.offline) {
+            Some(at) => {
+                full.extend(&args[..at]);
+                full.push("--offline");
+                full.extend(&args[at..]);
+            }
+            None => full.extend(args),
+        }
+        self.cargo_raw(&full, store, env)
+    }
+
+    fn cargo_raw(&self, args: &[&str], store: Option<&Path>, env: &[(&str, &str)]) -> Run {
+        exclusive(|| {
+            let mut cmd = Command::new(cargo_program());
+            cmd.args(args).current_dir(self.root());
+            for (key, _) in std::env::vars_os() {
+                let k = key.to_string_lossy();
+                if k.starts_with("HEDDLE_") || k.starts_with("NEXTEST") || INHERITED_NOT.contains(&&*k) {
+                    cmd.env_remove(&key);
+                }
+            }
+            cmd.env("CARGO_TARGET_DIR", shared_target_dir())
+                .env("CARGO_TERM_COLOR", "never")
+                .env("RUST_BACKTRACE", "0");
+            if let Some(store) = store {
+                cmd.env(heddle::layout::TARGET_DIR_VAR, store);
+            }
+            for (k, v) in env {
+                cmd.env(k, v);
+            }
+            let command = format!("cargo {}", args.join(" "));
+            let start = Instant::now();
+            let out = cmd
+                .output()
+                .unwrap_or_else(|e| panic!("cannot run `{command}`: {e}"));
+            let elapsed = start.elapsed();
+            note(&format!(
+                "[{}] `{command}` took {:.1} s",
+                self.name,
+                elapsed.as_secs_f64()
+            ));
+            Run {
+                command,
+                code: out.status.code(),
+                stdout: String::from_utf8_lossy(&out.stdout).into_owned(),
+                stderr: String::from_utf8_lossy(&out.stderr).into_owned(),
+                elapsed,
+            }
+        })
+    }
+}
+
+/// Variables cargo sets for this test process that must not leak into the builds it
+/// starts: they describe this package, or would move the temporary crates' output.
+const INHERITED_NOT: &[&str] = &[
+    "CARGO_TARGET_DIR",
+    "CARGO_BUILD_TARGET_DIR",
+    "CARGO_BUILD_BUILD_DIR",
+    "CARGO_MANIFEST_DIR",
+    "CARGO_MANIFEST_PATH",
+    "CARGO_PKG_NAME",
+    "CARGO_CRATE_NAME",
+    "CARGO_PRIMARY_PACKAGE",
+    "CARGO_TARGET_TMPDIR",
+    "RUST_TEST_THREADS",
+];
+
+/// The first `error` line of cargo's stderr, for a one-line reason.
+fn first_error(stderr: &str) -> String {
+    stderr
+        .lines()
+        .find(|l| l.starts_with("error"))
+        .unwrap_or("no error line")
+        .to_string()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn toml_strings_are_escaped() {
+        assert_eq!(toml_string("/a/b"), "\"/a/b\"");
+        assert_eq!(toml_string("C:\\x\"y"), "\"C:\\\\x\\\"y\"");
+    }
+
+    #[test]
+    fn the_shared_target_dir_is_inside_a_cargo_target_dir() {
+        let dir = shared_target_dir();
+        assert_eq!(dir.file_name().and_then(|n| n.to_str()), Some("e2e-target"));
+        let parent = dir.parent().expect("e2e-target has a parent");
+        assert!(
+            parent.join(heddle::layout::CACHEDIR_TAG).is_file(),
+            "{}",
+            dir.display()
+        );
+    }
+
+    #[test]
+    fn exclusive_is_reentrant() {
+        assert_eq!(exclusive(|| exclusive(|| 7)), 7);
+    }
+}
