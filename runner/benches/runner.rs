@@ -58,6 +58,7 @@ static SUITE: Suite = Suite {
     fingerprint: "bench-fp",
     pinned: false,
     should_panic: false,
+    should_panic_expected: None,
 };
 
 /// A small, real amount of work, like a quick unit test: build and sort a vector.

@@ -160,6 +160,7 @@ mod tests {
         fingerprint: "abc",
         pinned: false,
         should_panic: false,
+        should_panic_expected: None,
     };
 
     #[test]

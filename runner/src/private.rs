@@ -56,6 +56,9 @@ pub struct Suite {
     pub pinned: bool,
     /// Whether the function carries `#[should_panic]`.
     pub should_panic: bool,
+    /// The `expected = "…"` text of its `#[should_panic]`: a panic whose message does not
+    /// contain it is a failure, as libtest decides.
+    pub should_panic_expected: Option<&'static str>,
 }
 
 /// The process-wide recorder every row test writes through.
@@ -257,13 +260,16 @@ fn panicked(
     duration: std::time::Duration,
 ) -> ! {
     let text = panic_text(&*payload);
-    let (outcome, headline) = if suite.should_panic {
-        (
+    let (outcome, headline) = match (suite.should_panic, suite.should_panic_expected) {
+        (true, Some(expected)) if !text.contains(expected) => (
+            Outcome::Failed,
+            "panicked, but without the text `#[should_panic(expected = …)]` asks for",
+        ),
+        (true, _) => (
             Outcome::PanickedExpected,
             "panicked (expected by `#[should_panic]`)",
-        )
-    } else {
-        (Outcome::Failed, "panicked")
+        ),
+        (false, _) => (Outcome::Failed, "panicked"),
     };
     explain(&message::context(suite, row, headline));
     rec.record(
@@ -318,6 +324,7 @@ mod tests {
         fingerprint: "fp",
         pinned: false,
         should_panic: false,
+        should_panic_expected: None,
     };
 
     fn off() -> Result<Config, SetupError> {

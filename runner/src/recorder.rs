@@ -215,6 +215,7 @@ mod tests {
         fingerprint: "fp",
         pinned: true,
         should_panic: false,
+        should_panic_expected: None,
     };
 
     static WARNINGS: AtomicUsize = AtomicUsize::new(0);

@@ -82,6 +82,7 @@ mod roundtrip {
         fingerprint: "roundtrip-fp",
         pinned: false,
         should_panic: false,
+        should_panic_expected: None,
     };
 
     #[test]
@@ -159,10 +160,11 @@ mod expected_panic {
         lambda: 1,
         seed: 3,
         excludes: &[],
-        rows: &[&[0], &[1]],
+        rows: &[&[0], &[1], &[0]],
         fingerprint: "expected-fp",
         pinned: true,
         should_panic: true,
+        should_panic_expected: Some("kaboom"),
     };
 
     #[test]
@@ -177,13 +179,24 @@ mod expected_panic {
 
     #[test]
     #[ignore = "run as a child by the tests below"]
-    #[should_panic]
+    #[should_panic(expected = "kaboom")]
     fn row_01() {
         if is_child() {
             run(&SUITE, 1, || {});
         } else {
-            panic!("not run as a child");
+            panic!("kaboom: not run as a child");
         }
+    }
+
+    /// Panics, but not with the expected text: libtest fails it, and so must the record.
+    #[test]
+    #[ignore = "run as a child by the tests below"]
+    #[should_panic(expected = "kaboom")]
+    fn row_02() {
+        if is_child() {
+            run(&SUITE, 2, || panic!("fizzle"));
+        }
+        panic!("kaboom: not run as a child");
     }
 }
 
@@ -208,6 +221,7 @@ mod threads {
         fingerprint: "threads-fp",
         pinned: false,
         should_panic: false,
+        should_panic_expected: None,
     };
 
     pub const THREADS: usize = 16;
@@ -302,7 +316,7 @@ fn store_files(store_root: &Path) -> Vec<PathBuf> {
     files
 }
 
-const ALL_ROWS: [&str; 8] = [
+const ALL_ROWS: [&str; 9] = [
     "roundtrip::row_00",
     "roundtrip::row_01",
     "roundtrip::row_02",
@@ -311,6 +325,7 @@ const ALL_ROWS: [&str; 8] = [
     "roundtrip::row_05",
     "expected_panic::row_00",
     "expected_panic::row_01",
+    "expected_panic::row_02",
 ];
 
 #[test]
@@ -333,13 +348,14 @@ fn every_outcome_is_recorded_and_libtest_still_judges_the_rows() {
         ("roundtrip::row_05", "ok"),
         ("expected_panic::row_00 - should panic", "ok"),
         ("expected_panic::row_01 - should panic", "FAILED"),
+        ("expected_panic::row_02 - should panic", "FAILED"),
     ] {
         assert!(
             stdout.contains(&format!("test {test} ... {verdict}")),
             "{test}: {stdout}"
         );
     }
-    assert!(stdout.contains("5 failed"), "{stdout}");
+    assert!(stdout.contains("6 failed"), "{stdout}");
 
     // the failure messages name function, row, every parameter, seed and rerun command
     let panicked = "heddle: `roundtrip` row 2 of 6 (`roundtrip::row_02`) panicked\n  \
@@ -395,6 +411,7 @@ fn every_outcome_is_recorded_and_libtest_still_judges_the_rows() {
             Outcome::Failed,
             Some("did not panic as `#[should_panic]` expects"),
         ),
+        ("expected_panic::row_02", Outcome::Failed, Some("fizzle")),
     ];
     for (test, outcome, message) in expect {
         let r = find(test);
@@ -416,7 +433,7 @@ fn every_outcome_is_recorded_and_libtest_still_judges_the_rows() {
     assert_eq!(spec.rows.len(), 6);
     assert_eq!((spec.strength, spec.lambda, spec.seed), (2, 1, 11));
     let t = records.stats.row_lines;
-    assert_eq!(t, 8);
+    assert_eq!(t, 9);
     let durations_ok = records
         .suites
         .iter()

@@ -120,6 +120,23 @@ impl FnAttrs<'_> {
     pub fn should_panic(&self) -> bool {
         self.rows.iter().any(|a| a.path().is_ident(kw::SHOULD_PANIC))
     }
+
+    /// The text of `#[should_panic(expected = "…")]`, which the runtime checks the panic
+    /// message against as libtest does (a substring match).
+    pub fn should_panic_expected(&self) -> Option<String> {
+        let attr = self.rows.iter().find(|a| a.path().is_ident(kw::SHOULD_PANIC))?;
+        let nv: syn::MetaNameValue = attr.parse_args().ok()?;
+        if !nv.path.is_ident("expected") {
+            return None;
+        }
+        match nv.value {
+            syn::Expr::Lit(syn::ExprLit {
+                lit: syn::Lit::Str(s),
+                ..
+            }) => Some(s.value()),
+            _ => None,
+        }
+    }
 }
 
 /// Whether a path names the attribute: `cover`, `heddle::cover`, `::heddle::cover` or

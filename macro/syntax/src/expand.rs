@@ -226,6 +226,10 @@ fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStre
     let fingerprint = cs.fingerprint.to_string();
     let pinned = rows.pinned;
     let should_panic = checked.shape.should_panic;
+    let expected = match &checked.shape.should_panic_expected {
+        Some(text) => quote!(::core::option::Option::Some(#text)),
+        None => quote!(::core::option::Option::None),
+    };
 
     let mut tracked = TokenStream::new();
     if let Some(root) = &ctx.crate_root {
@@ -330,6 +334,7 @@ fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStre
                 fingerprint: #fingerprint,
                 pinned: #pinned,
                 should_panic: #should_panic,
+                should_panic_expected: #expected,
             };
 
             #(#row_fns)*

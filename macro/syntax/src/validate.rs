@@ -39,7 +39,7 @@ pub struct CoverSpec {
 }
 
 /// How the function is called, which decides the shape of each row test.
-#[derive(Clone, Copy, Debug)]
+#[derive(Clone, Debug)]
 pub struct Shape<'a> {
     /// `async fn`.
     pub is_async: bool,
@@ -47,6 +47,8 @@ pub struct Shape<'a> {
     pub returns: Returns<'a>,
     /// The rows carry `#[should_panic]`.
     pub should_panic: bool,
+    /// Its `expected = "…"` text, if any.
+    pub should_panic_expected: Option<String>,
 }
 
 /// What the function returns.
@@ -452,6 +454,7 @@ fn check_signature<'a>(cover: &CoverFn<'a>, errs: &mut Errors) -> Shape<'a> {
         is_async: sig.asyncness.is_some(),
         returns,
         should_panic,
+        should_panic_expected: attrs.should_panic_expected(),
     }
 }
 

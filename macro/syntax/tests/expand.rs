@@ -236,6 +236,12 @@ fn test_attributes_move_to_the_rows() {
     let m = the_mod(&out).unwrap();
     assert!(text(&m.attrs[0]).contains("cfg (unix)"));
     assert!(text(m).contains("should_panic : true"));
+    // the runtime checks the panic text against it, as libtest does
+    assert!(
+        text(m).contains("should_panic_expected : :: core :: option :: Option :: Some (\"boom\")"),
+        "{}",
+        text(m)
+    );
     for r in row_fns(m) {
         let attrs: Vec<String> = r.attrs.iter().map(text).collect();
         assert_eq!(
