@@ -351,3 +351,69 @@ fn nothing_for_impossible_parameters() {
     assert_eq!(best(&[3, 3, 3], 2, 0), None);
     assert_eq!(best(&[3, 0, 3], 2, 1), None);
 }
+
+mod random_specs {
+    use super::*;
+    use proptest::prelude::*;
+
+    /// Whatever construction is returned, the independent checker accepts it, and it is
+    /// never below the counting bound (common practice: a covering array needs λ rows per
+    /// combination of the t largest factors), where it claims optimality it is at a bound.
+    fn check_random(levels: &[usize], t: usize, lambda: u32) -> Result<(), TestCaseError> {
+        if let Some(c) = best(levels, t, lambda) {
+            let s = spec(levels, t, lambda);
+            prop_assert!(
+                verify(&s, &c.rows).is_ok(),
+                "{} for {levels:?} t={t} λ={lambda}",
+                c.method
+            );
+            let mut sorted = levels.to_vec();
+            sorted.sort_unstable_by(|a, b| b.cmp(a));
+            let bound = lambda as usize * sorted[..t].iter().product::<usize>();
+            prop_assert!(c.rows.len() >= bound);
+            let binary = levels.iter().all(|&v| v == 2);
+            if c.optimal && c.rows.len() != bound {
+                prop_assert!(binary && lambda == 1 && (t == 2 || levels.len() == t + 2));
+            }
+        }
+        Ok(())
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig { cases: 150, ..ProptestConfig::default() })]
+
+        /// Random level counts, strength and index.
+        #[test]
+        fn every_construction_is_valid(
+            t in 1usize..=3,
+            extra in 0usize..=9,
+            lambda in 1u32..=3,
+            raw in proptest::collection::vec(1usize..=9, 12),
+        ) {
+            check_random(&raw[..t + extra], t, lambda)?;
+        }
+
+        /// Strength 4 with fewer levels, so that the checker stays quick in debug builds.
+        #[test]
+        fn every_strength_four_construction_is_valid(
+            extra in 0usize..=5,
+            lambda in 1u32..=2,
+            raw in proptest::collection::vec(1usize..=5, 9),
+        ) {
+            check_random(&raw[..4 + extra], 4, lambda)?;
+        }
+
+        /// Binary specs, where the two-level constructions apply.
+        #[test]
+        fn every_binary_construction_is_valid(
+            t in 2usize..=3,
+            k in 4usize..=40,
+            lambda in 1u32..=4,
+            ones in proptest::collection::vec(any::<bool>(), 40),
+        ) {
+            prop_assume!(k > t);
+            let levels: Vec<usize> = (0..k).map(|i| if ones[i] && i % 5 == 0 { 1 } else { 2 }).collect();
+            check_random(&levels, t, lambda)?;
+        }
+    }
+}

@@ -1,6 +1,8 @@
 //! Two-level constructions: Kleitman–Spencer / Katona for strength 2, Johnson–Entringer
 //! for k = t + 2, and strength 3 from Hadamard arrays and Roux's doubling.
 
+use std::sync::OnceLock;
+
 use super::hadamard;
 use crate::model::Row;
 
@@ -132,8 +134,14 @@ struct Base {
 /// Base arrays: the zero-sum OA(8; 3, 4, 2), the weight class for 5 columns, fold-overs
 /// and the strength-2 arrays of Hadamard matrices of order ≤ [`MAX_BASE_ORDER`] with
 /// their counted strength-3 prefix (the 12-run Paley array covers all triples of its 11
-/// columns; the code finds this rather than assuming it).
-fn bases() -> Vec<Base> {
+/// columns; the code finds this rather than assuming it). Built once per process: they do
+/// not depend on the spec.
+fn bases() -> &'static [Base] {
+    static BASES: OnceLock<Vec<Base>> = OnceLock::new();
+    BASES.get_or_init(build_bases)
+}
+
+fn build_bases() -> Vec<Base> {
     let mut out = vec![
         Base {
             name: "zero-sum".into(),
@@ -191,8 +199,8 @@ pub fn strength_three(k: usize) -> Option<(String, Vec<Row>)> {
         return None;
     }
     let bases = bases();
-    let (size, plan) = plan_three(k, &bases);
-    let (base, doublings, rows) = build_three(k, &plan, &bases);
+    let (size, plan) = plan_three(k, bases);
+    let (base, doublings, rows) = build_three(k, &plan, bases);
     debug_assert_eq!(rows.len(), size);
     let name = match doublings {
         0 => base,

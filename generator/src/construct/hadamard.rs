@@ -25,7 +25,7 @@ pub enum Recipe {
 }
 
 /// Largest order searched for (it bounds memory: one byte per entry).
-pub const MAX_ORDER: usize = 8192;
+pub const MAX_ORDER: usize = 4096;
 
 impl Recipe {
     /// The order of the matrix it builds.

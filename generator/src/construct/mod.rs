@@ -37,6 +37,9 @@ pub struct Construction {
 /// beat the greedy anyway.
 const MAX_CELLS: usize = 1 << 26;
 
+/// Most single constructions tried besides the cheapest stack when rows can be removed.
+const MAX_ALTERNATIVES: usize = 4;
+
 /// The constructions, each fitted to the spec by dropping columns and collapsing levels.
 #[derive(Clone, Debug)]
 enum Source {
@@ -171,14 +174,22 @@ pub fn best(levels: &[usize], t: usize, lambda: u32) -> Option<Construction> {
     if total > limit {
         return None;
     }
-    // Redundant-row removal can reorder the sizes, so where it applies, copies of each
-    // single construction are tried too and the smallest result after removal wins.
+    // Removing redundant rows after collapsing can reorder the sizes, so a few single
+    // collapsed constructions (in copies) are tried too; the smallest result wins.
     let mut plans = vec![counts];
-    let prunable = transform::prunable(levels, t);
-    for (i, c) in candidates.iter().enumerate() {
-        let copies = lambda.div_ceil(c.offer.index) as usize;
-        let slack = c.collapsed || copies as u64 * c.offer.index as u64 > lambda as u64;
-        if prunable && slack && copies * c.offer.rows <= limit.min(2 * total) {
+    {
+        let mut alternatives: Vec<(usize, usize, usize)> = candidates
+            .iter()
+            .enumerate()
+            .filter(|(_, c)| c.collapsed)
+            .map(|(i, c)| {
+                let copies = lambda.div_ceil(c.offer.index) as usize;
+                (copies * c.offer.rows, i, copies)
+            })
+            .filter(|&(rows, _, _)| rows <= limit.min(2 * total) && transform::prunable(levels, t, rows))
+            .collect();
+        alternatives.sort_unstable();
+        for (_, i, copies) in alternatives.into_iter().take(MAX_ALTERNATIVES) {
             let mut plan = vec![0; candidates.len()];
             plan[i] = copies;
             if !plans.contains(&plan) {
@@ -244,12 +255,13 @@ fn is_proven_optimal(levels: &[usize], t: usize, lambda: u32, rows: usize) -> bo
         || (binary && lambda == 1 && k == t + 2 && rows == (1usize << k) / 3)
 }
 
-/// The most rows worth building: a construction more than twice the expected-value bound
-/// (about what a greedy reaches) is never kept, and memory stays bounded.
+/// The most rows worth building: the expected-value bound (a greedy that picks the row
+/// meeting the most demand stays below it, as the density argument that proves the bound
+/// shows), and a memory cap.
 fn row_limit(levels: &[usize], t: usize, lambda: u32) -> usize {
     let expected = bounds::expected_bound(levels, t, lambda);
     let cells = MAX_CELLS / levels.len().max(1);
-    (expected.saturating_mul(2).min(MAX_ROWS) as usize).min(cells)
+    (expected.min(MAX_ROWS) as usize).min(cells)
 }
 
 /// Every construction that fits, with its index and size.
@@ -316,20 +328,27 @@ fn candidates(levels: &[usize], t: usize, lambda: u32) -> Vec<Candidate> {
                 collapses(q),
             );
         }
-        // Rao–Hamming: index q^(m−2), far more columns
-        if t == 2 {
-            let top = bush_q.unwrap_or(gf::MAX_ORDER);
-            for q in (vmax.max(3)..=top).filter(|&q| gf::prime_power(q).is_some()) {
+        // Rao–Hamming: index q^(m−2), far more columns. The smallest field at every
+        // dimension, and the smallest field with enough columns at dimension 3 (larger
+        // fields only cost rows; q = 2 is Sylvester's Hadamard array, offered below).
+        if t == 2 && vmax >= 3 {
+            let fields = || (vmax..=gf::MAX_ORDER).filter(|&q| gf::prime_power(q).is_some());
+            let mut tries: Vec<(usize, u32)> = Vec::new();
+            if let Some(q0) = fields().next() {
                 let mut m = 3;
-                while let Some(n) = q.checked_pow(m) {
-                    if n > limit {
-                        break;
-                    }
-                    if orthogonal::rao_hamming_capacity(q, m) >= k {
-                        let index = q.pow(m - 2).min(u32::MAX as usize) as u32;
-                        offer(Source::RaoHamming { q, m }, index, n, collapses(q));
-                    }
+                while q0.checked_pow(m).is_some_and(|n| n <= limit) {
+                    tries.push((q0, m));
                     m += 1;
+                }
+            }
+            if let Some(q3) = fields().find(|&q| orthogonal::rao_hamming_capacity(q, 3) >= k) {
+                tries.push((q3, 3));
+            }
+            for (q, m) in tries {
+                let n = q.pow(m);
+                if n <= limit && orthogonal::rao_hamming_capacity(q, m) >= k {
+                    let index = q.pow(m - 2).min(u32::MAX as usize) as u32;
+                    offer(Source::RaoHamming { q, m }, index, n, collapses(q));
                 }
             }
         }

@@ -14,6 +14,10 @@ use crate::order;
 /// Most interactions for which redundant rows are looked for (counters cost 5 bytes each).
 const MAX_PRUNE_INTERACTIONS: u128 = 1 << 22;
 
+/// Most (row, t-set) visits spent looking for redundant rows: a few passes of this size
+/// cost about what checking the result does.
+const MAX_PRUNE_WORK: u128 = 1 << 23;
+
 /// The first `levels.len()` columns, symbol l of a column shown as level l mod v.
 pub fn collapse(rows: &[Row], levels: &[usize]) -> Vec<Row> {
     rows.iter()
@@ -63,15 +67,18 @@ pub fn fuse(rows: &[Row], q: usize, levels: &[usize]) -> Vec<Row> {
         .collect()
 }
 
-/// Whether the spec is small enough for [`drop_redundant`] to count its interactions.
-pub fn prunable(levels: &[usize], t: usize) -> bool {
+/// Whether [`drop_redundant`] looks at `rows` rows of this spec: its interactions fit the
+/// counters and the work stays bounded.
+pub fn prunable(levels: &[usize], t: usize, rows: usize) -> bool {
+    let tsets = interactions::count(&vec![1; levels.len()], t);
     interactions::count(levels, t) <= MAX_PRUNE_INTERACTIONS
+        && tsets.saturating_mul(rows as u128) <= MAX_PRUNE_WORK
 }
 
 /// Removes rows whose every interaction the others cover λ times (later rows first),
 /// when the spec is small enough to count; returns how many went.
 pub fn drop_redundant(rows: &mut Vec<Row>, levels: &[usize], t: usize, lambda: u32) -> usize {
-    if !prunable(levels, t) {
+    if !prunable(levels, t, rows.len()) {
         return 0;
     }
     let layout = Layout::new(levels, t);
