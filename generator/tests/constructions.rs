@@ -350,6 +350,16 @@ fn nothing_for_impossible_parameters() {
     assert_eq!(best(&[3, 3, 3], 0, 1), None);
     assert_eq!(best(&[3, 3, 3], 2, 0), None);
     assert_eq!(best(&[3, 0, 3], 2, 1), None);
+    // extreme strengths and sizes: no panic, and anything returned has the right shape
+    for (levels, t, lambda) in [
+        (vec![2usize; 70], 68usize, 1u32),
+        (vec![2; 64], 62, 3),
+        (vec![255; 300], 2, 1),
+    ] {
+        if let Some(c) = best(&levels, t, lambda) {
+            assert!(c.rows.iter().all(|r| r.len() == levels.len()));
+        }
+    }
 }
 
 mod random_specs {

@@ -1,5 +1,5 @@
 //! Finite fields GF(q), q = p^m ≤ 256: the arithmetic under Bose, Bush, Rao–Hamming and
-//! Paley. Extension fields are GF(p)[x] modulo a monic irreducible polynomial found at run
+//! Paley. Extension fields are GF(p)\[x\] modulo a monic irreducible polynomial found at run
 //! time by trial division (no polynomial is tabled), so every q that can index a level
 //! (and 256, which collapses onto 255 levels) is available.
 //!

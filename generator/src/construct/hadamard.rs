@@ -14,7 +14,7 @@ use crate::model::Row;
 /// How to build a Hadamard matrix of some order.
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub enum Recipe {
-    /// Sylvester's doubling, applied a times to [1]: order 2^a.
+    /// Sylvester's doubling, applied a times to (1): order 2^a.
     Sylvester(u32),
     /// Paley's first construction over GF(q), q ≡ 3 (mod 4): order q + 1.
     PaleyI(usize),

@@ -4,7 +4,7 @@
 //! [`best`] gathers every construction that fits the level counts — after dropping
 //! columns and collapsing levels where a construction has more of either — together with
 //! the index each gives, stacks copies to reach λ as cheaply as possible
-//! ([`stack::cheapest`]), and removes rows that the result covers more than needed.
+//! (a knapsack over the index), and removes rows that the result covers more than needed.
 
 mod binary;
 pub mod gf;
@@ -24,8 +24,9 @@ use crate::model::{MAX_LEVELS, MAX_ROWS, Row};
 pub struct Construction {
     /// The rows, one entry per factor, levels below each factor's count.
     pub rows: Vec<Row>,
-    /// Which construction, with its parameters (e.g. `bose(q=5)`, `3×hadamard(n=12…)`),
-    /// for reports.
+    /// Which construction, with its parameters, for reports: e.g. `bose(q=5)`,
+    /// `3×rao-hamming(q=3,m=3)` for stacked copies, `a+b` for a stack of two kinds, and a
+    /// final `-n` when n redundant rows were removed afterwards.
     pub method: String,
     /// Whether the size is a proven minimum: the counting bound λ·(product of the t
     /// largest level counts), Kleitman–Spencer/Katona (binary, t = 2, λ = 1) or
@@ -36,6 +37,9 @@ pub struct Construction {
 /// Most cells (rows × factors) of a construction that is built; larger ones would never
 /// beat the greedy anyway.
 const MAX_CELLS: usize = 1 << 26;
+
+/// Most columns for the Johnson–Entringer weight class (it lists 2^k vectors).
+const MAX_WEIGHT_CLASS_COLUMNS: usize = 24;
 
 /// Most single constructions tried besides the cheapest stack when rows can be removed.
 const MAX_ALTERNATIVES: usize = 4;
@@ -174,29 +178,7 @@ pub fn best(levels: &[usize], t: usize, lambda: u32) -> Option<Construction> {
     if total > limit {
         return None;
     }
-    // Removing redundant rows after collapsing can reorder the sizes, so a few single
-    // collapsed constructions (in copies) are tried too; the smallest result wins.
-    let mut plans = vec![counts];
-    {
-        let mut alternatives: Vec<(usize, usize, usize)> = candidates
-            .iter()
-            .enumerate()
-            .filter(|(_, c)| c.collapsed)
-            .map(|(i, c)| {
-                let copies = lambda.div_ceil(c.offer.index) as usize;
-                (copies * c.offer.rows, i, copies)
-            })
-            .filter(|&(rows, _, _)| rows <= limit.min(2 * total) && transform::prunable(levels, t, rows))
-            .collect();
-        alternatives.sort_unstable();
-        for (_, i, copies) in alternatives.into_iter().take(MAX_ALTERNATIVES) {
-            let mut plan = vec![0; candidates.len()];
-            plan[i] = copies;
-            if !plans.contains(&plan) {
-                plans.push(plan);
-            }
-        }
-    }
+    let plans = plans(&candidates, counts, levels, t, lambda, limit.min(2 * total));
     let (rows, method) = plans
         .iter()
         .map(|plan| assemble(&candidates, plan, levels, t, lambda))
@@ -207,6 +189,39 @@ pub fn best(levels: &[usize], t: usize, lambda: u32) -> Option<Construction> {
         method,
         optimal,
     })
+}
+
+/// The stacks worth building: the cheapest one, and — because removing redundant rows
+/// after collapsing can reorder the sizes — copies of each of a few collapsed
+/// constructions alone, those of at most `limit` rows whose redundancy can be searched.
+fn plans(
+    candidates: &[Candidate],
+    cheapest: Vec<usize>,
+    levels: &[usize],
+    t: usize,
+    lambda: u32,
+    limit: usize,
+) -> Vec<Vec<usize>> {
+    let mut alternatives: Vec<(usize, usize, usize)> = candidates
+        .iter()
+        .enumerate()
+        .filter(|(_, c)| c.collapsed)
+        .map(|(i, c)| {
+            let copies = lambda.div_ceil(c.offer.index) as usize;
+            (copies * c.offer.rows, i, copies)
+        })
+        .filter(|&(rows, _, _)| rows <= limit && transform::prunable(levels, t, rows))
+        .collect();
+    alternatives.sort_unstable();
+    let mut plans = vec![cheapest];
+    for (_, i, copies) in alternatives.into_iter().take(MAX_ALTERNATIVES) {
+        let mut plan = vec![0; candidates.len()];
+        plan[i] = copies;
+        if !plans.contains(&plan) {
+            plans.push(plan);
+        }
+    }
+    plans
 }
 
 /// The rows of a stack (`counts[i]` copies of candidate i), with redundant rows removed
@@ -252,7 +267,10 @@ fn is_proven_optimal(levels: &[usize], t: usize, lambda: u32, rows: usize) -> bo
     let binary = levels.iter().all(|&v| v == 2);
     rows as u128 == bounds::lower_bound(levels, t, lambda)
         || (binary && lambda == 1 && t == 2 && rows == binary::ks_rows(k))
-        || (binary && lambda == 1 && k == t + 2 && rows == (1usize << k) / 3)
+        || (binary
+            && lambda == 1
+            && k == t + 2
+            && 1usize.checked_shl(k as u32).is_some_and(|n| rows == n / 3))
 }
 
 /// The most rows worth building: the expected-value bound (a greedy that picks the row
@@ -395,7 +413,7 @@ fn candidates(levels: &[usize], t: usize, lambda: u32) -> Vec<Candidate> {
                 }
             }
         }
-        if k == t + 2 {
+        if k == t + 2 && k <= MAX_WEIGHT_CLASS_COLUMNS {
             offer(Source::WeightMod3, 1, (1 << k) / 3, collapsed);
         }
     }
