@@ -224,6 +224,30 @@ fn roux_doubling_covers_triples() {
 }
 
 #[test]
+fn doubling_for_more_levels() {
+    // v-ary doubling (Chateauneuf & Kreher 2002, from memory):
+    // CAN(3, 2h, v) ≤ CAN(3, h, v) + (v − 1)·CAN(2, h, v); with the optima
+    // CAN(3, 4, 3) = 27, CAN(2, 4, 3) = 9 (Bose 1938) and CAN(3, 5, 4) = 64 (Bush 1952),
+    // CAN(2, 5, 4) = 16 (Bose 1938)
+    let c = checked(&[3; 8], 3, 1);
+    assert!(
+        c.rows.len() <= 27 + 2 * 9,
+        "{} rows by {}",
+        c.rows.len(),
+        c.method
+    );
+    let c = checked(&[4; 10], 3, 1);
+    assert!(
+        c.rows.len() <= 64 + 3 * 16,
+        "{} rows by {}",
+        c.rows.len(),
+        c.method
+    );
+    checked(&[3; 16], 3, 1);
+    checked(&[5, 4, 3, 5, 5, 2, 4, 5, 5, 3, 5, 1], 3, 1);
+}
+
+#[test]
 fn zero_sum_and_copies_meet_lambda_v_to_the_t() {
     // CAN_λ(t, t+1, v) = λ·v^t: the zero-sum orthogonal array meets the counting bound
     // (common practice; Hedayat, Sloane & Stufken 1999, ch. 2), stacked λ times

@@ -66,13 +66,17 @@ impl Field {
             d
         };
         let undigits = |d: &[usize]| d.iter().rev().fold(0, |acc, &c| acc * p + c);
+        let all_digits: Vec<Vec<usize>> = (0..q).map(digits).collect();
         let mut add = vec![0u8; q * q];
-        for a in 0..q {
-            let da = digits(a);
-            for b in 0..q {
-                let db = digits(b);
-                let s: Vec<usize> = da.iter().zip(&db).map(|(x, y)| (x + y) % p).collect();
-                add[a * q + b] = undigits(&s) as u8;
+        for (a, da) in all_digits.iter().enumerate() {
+            for (b, db) in all_digits.iter().enumerate() {
+                // digit-wise sum mod p, read back as Σ cᵢ·pⁱ
+                let sum = da
+                    .iter()
+                    .zip(db)
+                    .rev()
+                    .fold(0, |acc, (x, y)| acc * p + (x + y) % p);
+                add[a * q + b] = sum as u8;
             }
         }
         let slow_mul = |a: usize, b: usize| undigits(&poly_mul_mod(&digits(a), &digits(b), &modulus, p));

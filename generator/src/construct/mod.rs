@@ -149,11 +149,12 @@ impl Source {
 }
 
 /// An offered construction: what it is, its index at the wanted strength, its rows, and
-/// whether collapsing leaves some interactions covered more than that index.
+/// whether some interactions may be covered more than that index (collapsed levels, or
+/// a composite of smaller constructions), so that rows may be redundant.
 struct Candidate {
     source: Source,
     offer: Offer,
-    collapsed: bool,
+    slack: bool,
 }
 
 /// The smallest construction that applies to these level counts at strength `t` and
@@ -167,12 +168,17 @@ struct Candidate {
 /// assert!(c.optimal);
 /// ```
 pub fn best(levels: &[usize], t: usize, lambda: u32) -> Option<Construction> {
+    best_within(levels, t, lambda, row_limit(levels, t, lambda))
+}
+
+/// [`best`] with at most `limit` rows (a composite construction lets its parts be larger
+/// than their own spec would allow).
+fn best_within(levels: &[usize], t: usize, lambda: u32, limit: usize) -> Option<Construction> {
     let k = levels.len();
     if t == 0 || t > k || lambda == 0 || levels.iter().any(|&v| v == 0 || v > MAX_LEVELS) {
         return None;
     }
-    let candidates = candidates(levels, t, lambda);
-    let limit = row_limit(levels, t, lambda);
+    let candidates = candidates(levels, t, lambda, limit);
     let offers: Vec<Offer> = candidates.iter().map(|c| c.offer).collect();
     let (total, counts) = stack::cheapest(&offers, lambda)?;
     if total > limit {
@@ -192,8 +198,8 @@ pub fn best(levels: &[usize], t: usize, lambda: u32) -> Option<Construction> {
 }
 
 /// The stacks worth building: the cheapest one, and — because removing redundant rows
-/// after collapsing can reorder the sizes — copies of each of a few collapsed
-/// constructions alone, those of at most `limit` rows whose redundancy can be searched.
+/// after collapsing can reorder the sizes — copies of each of a few constructions with
+/// slack alone, those of at most `limit` rows whose redundancy can be searched.
 fn plans(
     candidates: &[Candidate],
     cheapest: Vec<usize>,
@@ -205,7 +211,7 @@ fn plans(
     let mut alternatives: Vec<(usize, usize, usize)> = candidates
         .iter()
         .enumerate()
-        .filter(|(_, c)| c.collapsed)
+        .filter(|(_, c)| c.slack)
         .map(|(i, c)| {
             let copies = lambda.div_ceil(c.offer.index) as usize;
             (copies * c.offer.rows, i, copies)
@@ -236,7 +242,7 @@ fn assemble(
     let mut rows = Vec::new();
     let mut parts = Vec::new();
     let mut index = 0u64;
-    let mut collapsed = false;
+    let mut slack = false;
     for (cand, &n) in candidates.iter().zip(counts) {
         if n == 0 {
             continue;
@@ -247,12 +253,12 @@ fn assemble(
             rows.extend(block.iter().cloned());
         }
         index += n as u64 * cand.offer.index as u64;
-        collapsed |= cand.collapsed;
+        slack |= cand.slack;
         let name = cand.source.name();
         parts.push(if n == 1 { name } else { format!("{n}×{name}") });
     }
     let mut method = parts.join("+");
-    if collapsed || index > lambda as u64 {
+    if slack || index > lambda as u64 {
         let dropped = transform::drop_redundant(&mut rows, levels, t, lambda);
         if dropped > 0 {
             method.push_str(&format!("-{dropped}"));
@@ -283,17 +289,16 @@ fn row_limit(levels: &[usize], t: usize, lambda: u32) -> usize {
 }
 
 /// Every construction that fits, with its index and size.
-fn candidates(levels: &[usize], t: usize, lambda: u32) -> Vec<Candidate> {
+fn candidates(levels: &[usize], t: usize, lambda: u32, limit: usize) -> Vec<Candidate> {
     let k = levels.len();
     let vmax = levels.iter().copied().max().unwrap_or(1);
-    let limit = row_limit(levels, t, lambda);
     let mut out = Vec::new();
-    let mut offer = |source: Source, index: u32, rows: usize, collapsed: bool| {
+    let mut offer = |source: Source, index: u32, rows: usize, slack: bool| {
         if index >= 1 && rows >= 1 && rows <= limit {
             out.push(Candidate {
                 source,
                 offer: Offer { index, rows },
-                collapsed,
+                slack,
             });
         }
     };
@@ -372,22 +377,32 @@ fn candidates(levels: &[usize], t: usize, lambda: u32) -> Vec<Candidate> {
         }
     }
 
+    // strength 3 on twice the columns from strength 3 and 2 on half (v ≥ 3; the binary
+    // case is Roux's, inside `binary::strength_three`)
+    if t == 3 && lambda == 1 && vmax >= 3 && k >= 6 {
+        if let Some((name, rows)) = doubling(vmax, k, limit) {
+            let n = rows.len();
+            // its parts had their redundant rows removed already
+            offer(Source::Rows(name, rows), 1, n, collapses(vmax));
+        }
+    }
+
     if vmax <= 2 && t >= 2 && k > t + 1 {
-        let collapsed = collapses(2);
+        let slack = collapses(2);
         if t == 2 {
-            offer(Source::KleitmanSpencer, 1, binary::ks_rows(k), collapsed);
+            offer(Source::KleitmanSpencer, 1, binary::ks_rows(k), slack);
             for (n, r) in hadamard_range(k + 1, 4 * lambda as usize, limit) {
-                offer(Source::Hadamard(r), (n / 4) as u32, n, collapsed);
+                offer(Source::Hadamard(r), (n / 4) as u32, n, slack);
             }
         }
         if t == 3 {
             for (n, r) in hadamard_range(k, 4 * lambda as usize, limit / 2) {
-                offer(Source::FoldOver(r), (n / 4) as u32, 2 * n, collapsed);
+                offer(Source::FoldOver(r), (n / 4) as u32, 2 * n, slack);
             }
             // the best index-1 array from bases and doubling
             if let Some((name, rows)) = binary::strength_three(k) {
                 let n = rows.len();
-                offer(Source::Rows(name, rows), 1, n, collapsed);
+                offer(Source::Rows(name, rows), 1, n, slack);
             }
             // strength-2 Hadamard arrays that happen to cover every triple several times
             if lambda >= 2 {
@@ -407,17 +422,46 @@ fn candidates(levels: &[usize], t: usize, lambda: u32) -> Vec<Candidate> {
                         if index >= 2 {
                             let rows = rows.into_iter().map(|row| row[..k].to_vec()).collect();
                             let name = format!("hadamard(n={n},{},strength 3 by count)", r.name());
-                            offer(Source::Rows(name, rows), index, n, collapsed);
+                            offer(Source::Rows(name, rows), index, n, slack);
                         }
                     }
                 }
             }
         }
         if k == t + 2 && k <= MAX_WEIGHT_CLASS_COLUMNS {
-            offer(Source::WeightMod3, 1, (1 << k) / 3, collapsed);
+            offer(Source::WeightMod3, 1, (1 << k) / 3, slack);
         }
     }
     prune_dominated(out)
+}
+
+/// CA(N + (v − 1)M; 3, 2h, v) from A = CA(N; 3, h, v) and B = CA(M; 2, h, v): the rows
+/// [A A] and [B B+s] for s = 1 … v − 1 (levels added mod v), the v-ary form of Roux's
+/// doubling (Chateauneuf & Kreher 2002, from memory), with h = ⌈k/2⌉ and A, B the best
+/// constructions for v^h; the first k columns are kept.
+///
+/// Why it covers: a triple on three different original columns lies in A. A triple
+/// (i, j, i′) with i′ the right copy of i shows level difference 0 between i and i′ in
+/// [A A] and s in [B B+s]; B covers every pair on (i, j) (or (i, l) for (i, i′, l′)).
+fn doubling(v: usize, k: usize, limit: usize) -> Option<(String, Vec<Row>)> {
+    let h = k.div_ceil(2);
+    let a = best_within(&vec![v; h], 3, 1, limit)?;
+    let b = best_within(&vec![v; h], 2, 1, limit)?;
+    let mut rows: Vec<Row> = a
+        .rows
+        .iter()
+        .map(|r| [r.as_slice(), r.as_slice()].concat())
+        .collect();
+    for s in 1..v {
+        rows.extend(b.rows.iter().map(|r| {
+            let shifted: Vec<u8> = r.iter().map(|&x| ((x as usize + s) % v) as u8).collect();
+            [r.as_slice(), shifted.as_slice()].concat()
+        }));
+    }
+    for r in &mut rows {
+        r.truncate(k);
+    }
+    Some((format!("doubling({}; {})", a.method, b.method), rows))
 }
 
 /// The known Hadamard orders n ≥ `from` (multiples of 4) up to the first one ≥ `enough`,
