@@ -199,7 +199,7 @@ fn best_within(levels: &[usize], t: usize, lambda: u32, limit: usize) -> Option<
 
 /// The stacks worth building: the cheapest one, and — because removing redundant rows
 /// after collapsing can reorder the sizes — copies of each of a few constructions with
-/// slack alone, those of at most `limit` rows whose redundancy can be searched.
+/// slack (collapsed levels, or more index than needed) alone, those of at most `limit` rows whose redundancy can be searched.
 fn plans(
     candidates: &[Candidate],
     cheapest: Vec<usize>,
@@ -211,10 +211,10 @@ fn plans(
     let mut alternatives: Vec<(usize, usize, usize)> = candidates
         .iter()
         .enumerate()
-        .filter(|(_, c)| c.slack)
-        .map(|(i, c)| {
+        .filter_map(|(i, c)| {
             let copies = lambda.div_ceil(c.offer.index) as usize;
-            (copies * c.offer.rows, i, copies)
+            let surplus = copies as u64 * c.offer.index as u64 > lambda as u64;
+            (c.slack || surplus).then_some((copies * c.offer.rows, i, copies))
         })
         .filter(|&(rows, _, _)| rows <= limit && transform::prunable(levels, t, rows))
         .collect();
@@ -279,9 +279,10 @@ fn is_proven_optimal(levels: &[usize], t: usize, lambda: u32, rows: usize) -> bo
             && 1usize.checked_shl(k as u32).is_some_and(|n| rows == n / 3))
 }
 
-/// The most rows worth building: the expected-value bound (a greedy that picks the row
-/// meeting the most demand stays below it, as the density argument that proves the bound
-/// shows), and a memory cap.
+/// The most rows worth building: the expected-value bound, and a memory cap. A greedy
+/// that always takes a row covering at least the average share of what is left reaches
+/// the expected-value bound for λ = 1 (the same first-moment count), and greedy results
+/// are well below it in practice, so a larger construction would never be kept.
 fn row_limit(levels: &[usize], t: usize, lambda: u32) -> usize {
     let expected = bounds::expected_bound(levels, t, lambda);
     let cells = MAX_CELLS / levels.len().max(1);
