@@ -285,8 +285,22 @@ impl Scratch {
     }
 
     fn cargo_raw(&self, args: &[&str], store: Option<&Path>, env: &[(&str, &str)]) -> Run {
+        self.run_program(&cargo_program(), args, store, env)
+    }
+
+    /// Runs any program in the crate's directory with the environment the cargo
+    /// invocations get (this process's package variables removed, the shared target
+    /// directory, `store` as `HEDDLE_TARGET_DIR`): for `cargo-heddle`, which runs cargo
+    /// itself.
+    pub fn run_program(
+        &self,
+        program: &std::ffi::OsStr,
+        args: &[&str],
+        store: Option<&Path>,
+        env: &[(&str, &str)],
+    ) -> Run {
         exclusive(|| {
-            let mut cmd = Command::new(cargo_program());
+            let mut cmd = Command::new(program);
             cmd.args(args).current_dir(self.root());
             for (key, _) in std::env::vars_os() {
                 let k = key.to_string_lossy();
@@ -294,7 +308,8 @@ impl Scratch {
                     cmd.env_remove(&key);
                 }
             }
-            cmd.env("CARGO_TARGET_DIR", shared_target_dir())
+            cmd.env("CARGO", cargo_program())
+                .env("CARGO_TARGET_DIR", shared_target_dir())
                 .env("CARGO_TERM_COLOR", "never")
                 .env("RUST_BACKTRACE", "0");
             if let Some(store) = store {
@@ -303,7 +318,10 @@ impl Scratch {
             for (k, v) in env {
                 cmd.env(k, v);
             }
-            let command = format!("cargo {}", args.join(" "));
+            let name = Path::new(program)
+                .file_name()
+                .map_or_else(|| "?".into(), |n| n.to_string_lossy());
+            let command = format!("{name} {}", args.join(" "));
             let start = Instant::now();
             let out = cmd
                 .output()
