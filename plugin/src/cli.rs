@@ -47,6 +47,22 @@ pub enum EffortArg {
     Tight,
 }
 
+impl EffortArg {
+    /// The engine's effort for this choice and an optional `--budget`, which only
+    /// `tight` takes.
+    pub fn with_budget(self, budget: Option<u64>) -> Result<heddle_generator::Effort, Failure> {
+        match (self, budget) {
+            (EffortArg::Fast, Some(_)) => Err(crate::failure::usage(
+                "`--budget` applies to `--effort tight` only\n  hint: add `--effort tight`",
+            )),
+            (EffortArg::Fast, None) => Ok(heddle_generator::Effort::Fast),
+            (EffortArg::Tight, b) => Ok(heddle_generator::Effort::Tight {
+                budget: b.unwrap_or(heddle_generator::Effort::DEFAULT_TIGHT_BUDGET),
+            }),
+        }
+    }
+}
+
 /// Parses the arguments and runs the chosen subcommand.
 pub fn run(args: impl IntoIterator<Item = OsString>) -> Result<ExitCode, Failure> {
     let cli = match CargoCli::try_parse_from(args) {

@@ -5,7 +5,7 @@ use std::process::ExitCode;
 use std::time::Instant;
 
 use clap::{Args, ValueEnum};
-use heddle_generator::{Design, Effort, Expr, Spec, generate};
+use heddle_generator::{Design, Expr, Spec, generate};
 use serde::Serialize;
 
 use crate::cli::EffortArg;
@@ -62,17 +62,7 @@ pub fn run(args: DesignArgs) -> Result<ExitCode, Failure> {
         .lambda(args.lambda)
         .seed(args.seed);
     spec.excludes = excludes;
-    if args.budget.is_some() && args.effort == EffortArg::Fast {
-        return Err(usage(
-            "`--budget` applies to `--effort tight` only\n  hint: add `--effort tight`",
-        ));
-    }
-    let effort = match args.effort {
-        EffortArg::Fast => Effort::Fast,
-        EffortArg::Tight => Effort::Tight {
-            budget: args.budget.unwrap_or(Effort::DEFAULT_TIGHT_BUDGET),
-        },
-    };
+    let effort = args.effort.with_budget(args.budget)?;
     let started = Instant::now();
     let design = generate(&spec, effort).map_err(|e| match e {
         heddle_generator::Error::Internal(m) => Failure::Found(m),

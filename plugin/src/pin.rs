@@ -16,7 +16,7 @@ use indicatif::{ProgressBar, ProgressStyle};
 
 use crate::carry::{Carried, carry_over, describe_change};
 use crate::cli::EffortArg;
-use crate::failure::{Failure, usage};
+use crate::failure::Failure;
 use crate::pinfile;
 use crate::sources::{self, Function, Scanned};
 use crate::status::{Status, status};
@@ -44,17 +44,7 @@ enum Plan<'a> {
 
 /// Runs `pin`.
 pub fn run(args: PinArgs) -> Result<ExitCode, Failure> {
-    if args.budget.is_some() && args.effort == EffortArg::Fast {
-        return Err(usage(
-            "`--budget` applies to `--effort tight` only\n  hint: add `--effort tight`",
-        ));
-    }
-    let effort = match args.effort {
-        EffortArg::Fast => Effort::Fast,
-        EffortArg::Tight => Effort::Tight {
-            budget: args.budget.unwrap_or(Effort::DEFAULT_TIGHT_BUDGET),
-        },
-    };
+    let effort = args.effort.with_budget(args.budget)?;
     let project = workspace::load(&args.selection)?;
     let scanned = sources::scan(&project);
     // every pins file is read before anything is written: a broken one stops it all

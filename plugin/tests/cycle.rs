@@ -4,6 +4,9 @@
 //! runs the pinned rows. One crate, built incrementally (heddle's end-to-end harness:
 //! shared target directory, serialised builds).
 
+mod common;
+
+use common::csv_rows;
 use heddle_e2e::scratch::{CrateDef, Run, Scratch};
 use heddle_generator::{Factor, Spec, verify};
 
@@ -38,14 +41,6 @@ fn heddle(krate: &Scratch, args: &[&str]) -> Run {
         None,
         &[("NO_COLOR", "1")],
     )
-}
-
-/// A CSV field without its RFC 4180 quoting.
-fn unquote(cell: &str) -> String {
-    match cell.strip_prefix('"').and_then(|c| c.strip_suffix('"')) {
-        Some(inner) => inner.replace("\"\"", "\""),
-        None => cell.to_string(),
-    }
 }
 
 fn planted(labels: &[&str]) -> bool {
@@ -148,21 +143,7 @@ fn test_report_pin_check_cycle() {
         Factor::new("items", ["1", "10"]),
         Factor::new("gift", ["true", "false"]),
     ];
-    let shown: Vec<Vec<u8>> = csv
-        .stdout
-        .lines()
-        .skip(1)
-        .map(|l| {
-            l.split(',')
-                .zip(&factors)
-                .map(|(cell, f)| {
-                    let label = unquote(cell);
-                    f.level_index(&label)
-                        .unwrap_or_else(|| panic!("`{label}` is not a level of `{}`", f.name))
-                })
-                .collect()
-        })
-        .collect();
+    let shown = csv_rows(&csv.stdout, &factors);
     verify(&Spec::new(factors).lambda(2), &shown).expect("the re-pinned rows cover the new spec twice");
     // 5. the rebuilt suite runs exactly the pinned rows
     let rerun = heddle(&krate, &["test", "--quiet", "--format", "json"]);

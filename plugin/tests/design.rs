@@ -2,6 +2,9 @@
 
 use std::process::{Command, Output};
 
+mod common;
+
+use common::csv_rows;
 use heddle_generator::{Expr, Factor, Spec, verify};
 
 fn design(args: &[&str]) -> Output {
@@ -21,25 +24,6 @@ fn stderr(o: &Output) -> String {
     String::from_utf8(o.stderr.clone()).expect("utf-8 stderr")
 }
 
-/// Reads the CSV back into level indices, checking the header and labels on the way.
-fn rows_of(csv: &str, factors: &[Factor]) -> Vec<Vec<u8>> {
-    let mut lines = csv.lines();
-    let header: Vec<&str> = lines.next().expect("a header").split(',').collect();
-    let names: Vec<&str> = factors.iter().map(|f| f.name.as_str()).collect();
-    assert_eq!(header, names);
-    lines
-        .map(|l| {
-            l.split(',')
-                .zip(factors)
-                .map(|(cell, f)| {
-                    f.level_index(cell)
-                        .unwrap_or_else(|| panic!("`{cell}` is not a level"))
-                })
-                .collect()
-        })
-        .collect()
-}
-
 #[test]
 fn csv_is_a_valid_covering_array() {
     let o = design(&[
@@ -53,7 +37,7 @@ fn csv_is_a_valid_covering_array() {
     assert!(o.status.success(), "{}", stderr(&o));
     let mut factors: Vec<Factor> = (1..=4).map(|i| Factor::numbered(format!("f{i}"), 3)).collect();
     factors.push(Factor::new("os", ["linux", "mac"]));
-    let rows = rows_of(&stdout(&o), &factors);
+    let rows = csv_rows(&stdout(&o), &factors);
     let ex = Expr::parse("f1 == 0 && os == mac", &factors).unwrap();
     let spec = Spec::new(factors).lambda(2).exclude(ex);
     let cov = verify(&spec, &rows).expect("the printed rows cover every possible pair twice");

@@ -10,6 +10,9 @@ use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 use std::time::{Duration, SystemTime};
 
+mod common;
+
+use common::csv_rows;
 use heddle_generator::{Expr, Factor, Spec, verify};
 use heddle_syntax::{PinKey, PinsFile};
 
@@ -582,25 +585,6 @@ fn show_unknown_names_list_near_matches() {
         "{}",
         r.stderr()
     );
-}
-
-/// Reads CSV rows back into level indices, checking the header on the way.
-fn csv_rows(csv: &str, factors: &[Factor]) -> Vec<Vec<u8>> {
-    let mut lines = csv.lines();
-    let header: Vec<&str> = lines.next().expect("a header").split(',').collect();
-    let names: Vec<&str> = factors.iter().map(|f| f.name.as_str()).collect();
-    assert_eq!(header, names);
-    lines
-        .map(|l| {
-            l.split(',')
-                .zip(factors)
-                .map(|(cell, f)| {
-                    f.level_index(cell)
-                        .unwrap_or_else(|| panic!("`{cell}` is not a level"))
-                })
-                .collect()
-        })
-        .collect()
 }
 
 #[test]
