@@ -19,7 +19,6 @@ pub fn drop_redundant(
     for row in rows.iter() {
         layout.for_each_in_row(row, |i| count[i] += 1);
     }
-    let lambda = lambda as u32;
     let mut keep = vec![true; rows.len()];
     for r in (fixed..rows.len()).rev() {
         let mut needed = false;
