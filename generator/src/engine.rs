@@ -93,7 +93,7 @@ pub fn generate(spec: &Spec, effort: Effort) -> Result<Design, Error> {
                 &mut demand,
                 &mut cons,
                 &mut rng,
-                greedy::Params::default(),
+                greedy::Params::for_layout(&layout),
             ));
             order::drop_redundant(&layout, &possible, spec.lambda, &mut rows, spec.required.len());
             match construction {
@@ -119,7 +119,7 @@ pub fn generate(spec: &Spec, effort: Effort) -> Result<Design, Error> {
             spec.required.len(),
             lower as usize,
             &mut rng,
-            tighten::Params::with_budget(budget),
+            tighten::Params::new(budget, t),
         );
         if out.rows.len() < rows.len() {
             rows = out.rows;

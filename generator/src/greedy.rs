@@ -36,6 +36,23 @@ impl Default for Params {
     }
 }
 
+impl Params {
+    /// Level choices (t-set × level) one emitted row may cost across its candidates.
+    const ROW_WORK: u64 = 480_000;
+
+    /// The default, with fewer candidates on specs so wide that 24 would make each row
+    /// cost more than [`Self::ROW_WORK`] level choices (at least 2 candidates remain).
+    pub fn for_layout(layout: &Layout) -> Self {
+        let vmax = layout.levels.iter().copied().max().unwrap_or(1) as u64;
+        let per_candidate = (layout.sets() as u64).saturating_mul(vmax).max(1);
+        let d = Params::default();
+        Params {
+            candidates: (Self::ROW_WORK / per_candidate).clamp(2, d.candidates as u64) as usize,
+            ..d
+        }
+    }
+}
+
 /// Fixed-point scale of the look-ahead (an expectation with denominators up to 255).
 const SCALE: u64 = 1 << 20;
 
