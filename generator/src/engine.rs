@@ -7,11 +7,18 @@ use crate::construct;
 use crate::demand::Demand;
 use crate::error::Error;
 use crate::greedy;
+use crate::incidence::Incidence;
 use crate::interactions::Layout;
 use crate::model::{Effort, Row, Spec};
 use crate::order;
 use crate::rng::{Rng, stream};
+use crate::tighten;
 use crate::verify::verify;
+
+/// Move budget of the local search in [`Effort::Fast`]: small enough that an ordinary spec
+/// finishes in milliseconds even in an unoptimised build (the macro runs there), large
+/// enough to take a greedy result most of the way to what the search reaches at all.
+pub const FAST_BUDGET: u64 = 40_000;
 
 /// A generated design and what is known about it.
 #[derive(Clone, Debug, PartialEq)]
@@ -65,39 +72,66 @@ pub fn generate(spec: &Spec, effort: Effort) -> Result<Design, Error> {
     }
     let (possible, impossible) = cons.possible(&layout);
 
-    let greedy_rows = {
-        let mut demand = Demand::new(&possible, spec.lambda);
-        for row in &spec.required {
-            demand.cover(&layout, row);
-        }
-        let mut rng = Rng::new(spec.seed, stream::GREEDY);
-        let mut rows = spec.required.clone();
-        rows.extend(greedy::extend(
-            &layout,
-            &mut demand,
-            &mut cons,
-            &mut rng,
-            greedy::Params::default(),
-        ));
-        order::drop_redundant(&layout, &possible, spec.lambda, &mut rows, spec.required.len());
-        rows
+    let lower = bounds::lower_bound(&levels, t, spec.lambda);
+    let construction = if spec.excludes.is_empty() && spec.required.is_empty() {
+        construct::best(&levels, t, spec.lambda)
+    } else {
+        None
     };
-    let (mut method, mut rows) = ("greedy".to_string(), greedy_rows);
-    if spec.excludes.is_empty() && spec.required.is_empty() {
-        // a construction wins ties: its structure is the optimum where it applies
-        if let Some(c) = construct::best(&levels, t, spec.lambda).filter(|c| c.rows.len() <= rows.len()) {
-            (method, rows) = (c.method, c.rows);
+    let (mut method, mut rows) = match construction {
+        // at the counting bound nothing can be smaller: skip the search
+        Some(c) if c.rows.len() as u128 <= lower => (c.method, c.rows),
+        construction => {
+            let mut demand = Demand::new(&possible, spec.lambda);
+            for row in &spec.required {
+                demand.cover(&layout, row);
+            }
+            let mut rng = Rng::new(spec.seed, stream::GREEDY);
+            let mut rows = spec.required.clone();
+            rows.extend(greedy::extend(
+                &layout,
+                &mut demand,
+                &mut cons,
+                &mut rng,
+                greedy::Params::for_layout(&layout),
+            ));
+            order::drop_redundant(&layout, &possible, spec.lambda, &mut rows, spec.required.len());
+            match construction {
+                // a construction wins ties: its structure is the optimum where it applies
+                Some(c) if c.rows.len() <= rows.len() => (c.method, c.rows),
+                _ => ("greedy".to_string(), rows),
+            }
         }
-    }
-    if let Effort::Tight { budget: _ } = effort {
-        method.push_str("+tight");
+    };
+    let budget = match effort {
+        Effort::Fast => FAST_BUDGET,
+        Effort::Tight { budget } => budget,
+    };
+    if budget > 0 && (rows.len() as u128) > lower {
+        let inc = Incidence::new(&layout);
+        let mut rng = Rng::new(spec.seed, stream::TIGHTEN);
+        let out = tighten::tighten(
+            &inc,
+            &possible,
+            spec.lambda,
+            &cons,
+            &rows,
+            spec.required.len(),
+            lower as usize,
+            &mut rng,
+            tighten::Params::new(budget, t),
+        );
+        if out.rows.len() < rows.len() {
+            rows = out.rows;
+            method.push_str("+tabu");
+        }
     }
     order::order_by_gain(&layout, &possible, spec.lambda, &mut rows, spec.required.len());
     verify(spec, &rows).map_err(|v| Error::Internal(format!("{method} produced an invalid design: {v}")))?;
     let coverage_curve = order::coverage_curve(&layout, &possible, spec.lambda, &rows);
     let stats = Stats {
         method,
-        lower_bound: bounds::lower_bound(&levels, t, spec.lambda) as u64,
+        lower_bound: lower as u64,
         expected_bound: bounds::expected_bound(&levels, t, spec.lambda),
         interactions: layout.total() as u64,
         impossible,

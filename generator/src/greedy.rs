@@ -1,13 +1,20 @@
 //! One-row-at-a-time greedy in the manner of AETG (Cohen, Dalal, Fredman and Patton
 //! 1997): each new row starts from an interaction that still needs rows, fills the other
 //! factors in a random order choosing the level that meets the most remaining demand
-//! among interactions it completes, and the best of several such candidates is kept.
+//! among the interactions it completes, and the best of several such candidates is kept.
 //! Demand is counted per interaction (λ minus times covered), so index λ costs only the
 //! rows it needs rather than λ copies.
+//!
+//! The level choice looks ahead as in the density algorithms of Colbourn, Cohen and
+//! Turban (2004) and Bryce and Colbourn (2007): besides the demand a level meets with the
+//! factors already fixed, it counts the demand it would meet on average with the factors
+//! still open, as if they were filled uniformly at random. Exact for t = 2; for larger t
+//! the look-ahead counts the t-sets with a single open factor besides the one chosen
+//! (those with more are ignored), which is where most of the signal is.
 
 use crate::constraints::Constraints;
 use crate::demand::Demand;
-use crate::interactions::{Layout, for_each_subset};
+use crate::interactions::Layout;
 use crate::model::{Row, UNSET};
 use crate::rng::Rng;
 
@@ -16,12 +23,115 @@ use crate::rng::Rng;
 pub struct Params {
     /// Candidate rows built per emitted row.
     pub candidates: usize,
+    /// Weight of the look-ahead term, in sixteenths (0 turns it off).
+    pub lookahead: u64,
 }
 
 impl Default for Params {
     fn default() -> Self {
-        Params { candidates: 24 }
+        Params {
+            candidates: 24,
+            lookahead: 16,
+        }
     }
+}
+
+impl Params {
+    /// Level choices (t-set × level) one emitted row may cost across its candidates.
+    const ROW_WORK: u64 = 480_000;
+
+    /// The default, with fewer candidates on specs so wide that 24 would make each row
+    /// cost more than [`Self::ROW_WORK`] level choices (at least 2 candidates remain).
+    pub fn for_layout(layout: &Layout) -> Self {
+        let vmax = layout.levels.iter().copied().max().unwrap_or(1) as u64;
+        let per_candidate = (layout.sets() as u64).saturating_mul(vmax).max(1);
+        let d = Params::default();
+        Params {
+            candidates: (Self::ROW_WORK / per_candidate).clamp(2, d.candidates as u64) as usize,
+            ..d
+        }
+    }
+}
+
+/// Fixed-point scale of the look-ahead (an expectation with denominators up to 255).
+const SCALE: u64 = 1 << 20;
+
+/// Pairwise marginals for the look-ahead at t = 2: `marg[(f·k + g)·vmax + l]` counts the
+/// interactions (f = l, g = any) that still need a row, and `tot[f·vmax + l]` is
+/// Σ_g marg/v_g in fixed point, kept exactly in step.
+struct Marginals {
+    k: usize,
+    vmax: usize,
+    marg: Vec<u32>,
+    /// `q(marg, v_g)` beside every entry of `marg`, so scoring never divides.
+    scaled: Vec<u32>,
+    tot: Vec<u64>,
+}
+
+impl Marginals {
+    /// Most entries the table may have; past that the look-ahead is off (it would cost
+    /// more memory than the counters themselves).
+    const LIMIT: usize = 1 << 22;
+
+    fn new(layout: &Layout, need: &[u16]) -> Option<Self> {
+        let k = layout.columns();
+        let vmax = layout.levels.iter().copied().max().unwrap_or(1);
+        if layout.t != 2 || k.saturating_mul(k).saturating_mul(vmax) > Self::LIMIT {
+            return None;
+        }
+        let mut m = Marginals {
+            k,
+            vmax,
+            marg: vec![0; k * k * vmax],
+            scaled: vec![0; k * k * vmax],
+            tot: vec![0; k * vmax],
+        };
+        let lv = &layout.levels;
+        let mut rank = 0;
+        for g in 1..k {
+            for f in 0..g {
+                let off = layout.offset(rank);
+                for b in 0..lv[g] {
+                    for a in 0..lv[f] {
+                        if need[off + a + b * lv[f]] > 0 {
+                            m.marg[(f * k + g) * vmax + a] += 1;
+                            m.marg[(g * k + f) * vmax + b] += 1;
+                        }
+                    }
+                }
+                rank += 1;
+            }
+        }
+        for f in 0..k {
+            for g in 0..k {
+                for l in 0..lv[f] {
+                    let at = (f * k + g) * vmax + l;
+                    m.scaled[at] = q(m.marg[at], lv[g]) as u32;
+                    m.tot[f * vmax + l] += m.scaled[at] as u64;
+                }
+            }
+        }
+        Some(m)
+    }
+
+    /// One interaction (f = a, g = b) stops needing rows.
+    fn drop(&mut self, lv: &[usize], f: usize, a: usize, g: usize, b: usize) {
+        let (k, vm) = (self.k, self.vmax);
+        for (at, t, v) in [
+            ((f * k + g) * vm + a, f * vm + a, lv[g]),
+            ((g * k + f) * vm + b, g * vm + b, lv[f]),
+        ] {
+            self.marg[at] -= 1;
+            let new = q(self.marg[at], v) as u32;
+            self.tot[t] -= (self.scaled[at] - new) as u64;
+            self.scaled[at] = new;
+        }
+    }
+}
+
+/// `m / v` in fixed point.
+fn q(m: u32, v: usize) -> u64 {
+    m as u64 * SCALE / v as u64
 }
 
 /// Live interactions to start rows from, compacted lazily.
@@ -65,6 +175,146 @@ impl Pool {
     }
 }
 
+/// Working memory of one greedy run, allocated once.
+struct Builder<'a> {
+    layout: &'a Layout,
+    t: usize,
+    /// `binom[n * (t + 1) + j]` = C(n, j).
+    binom: Vec<u32>,
+    score: Vec<u64>,
+    met: Vec<u64>,
+    look: Vec<u64>,
+    pick: Vec<usize>,
+}
+
+impl<'a> Builder<'a> {
+    fn new(layout: &'a Layout) -> Self {
+        let t = layout.t;
+        let k = layout.columns();
+        let mut binom = vec![0u32; (k + 1) * (t + 1)];
+        for n in 0..=k {
+            for j in 0..=t {
+                binom[n * (t + 1) + j] = layout.binom(n, j) as u32;
+            }
+        }
+        let vmax = layout.levels.iter().copied().max().unwrap_or(1);
+        Builder {
+            layout,
+            t,
+            binom,
+            score: vec![0; vmax],
+            met: vec![0; vmax],
+            look: vec![0; vmax],
+            pick: Vec::with_capacity(t),
+        }
+    }
+
+    /// The t = 2 case of [`Self::score_completed`], plus the look-ahead over the open
+    /// factors when `marg` is given (weight `alpha` sixteenths).
+    fn score_pairs(
+        &mut self,
+        need: &[u16],
+        row: &[u8],
+        fixed: &[usize],
+        f: usize,
+        marg: Option<&Marginals>,
+        alpha: u64,
+    ) {
+        let lv = &self.layout.levels;
+        let v = lv[f];
+        self.look[..v].fill(0);
+        for &g in fixed {
+            let (rank, base, wf) = if g < f {
+                (g + f * (f - 1) / 2, row[g] as usize, lv[g])
+            } else {
+                (f + g * (g - 1) / 2, row[g] as usize * v, 1)
+            };
+            let off = self.layout.offset(rank) + base;
+            for l in 0..v {
+                let n = need[off + l * wf];
+                self.score[l] += n as u64 * SCALE;
+                self.met[l] += (n > 0) as u64;
+            }
+            if let Some(m) = marg {
+                let at = (f * m.k + g) * m.vmax;
+                for l in 0..v {
+                    self.look[l] += m.scaled[at + l] as u64;
+                }
+            }
+        }
+        if let Some(m) = marg {
+            for l in 0..v {
+                self.score[l] += alpha * (m.tot[f * m.vmax + l] - self.look[l]) / 16;
+            }
+        }
+    }
+
+    /// Adds, for every level of `f`, the remaining demand of the interactions that `f`
+    /// completes with the `t - 1`-subsets of `fixed` (sorted) on `row`. `met` gets the
+    /// number of those interactions that still need a row.
+    fn score_completed(&mut self, need: &[u16], row: &[u8], fixed: &[usize], f: usize) {
+        let t = self.t;
+        let v = self.layout.levels[f];
+        let j = t - 1;
+        if fixed.len() < j {
+            return;
+        }
+        let tb = t + 1;
+        let levels = &self.layout.levels;
+        self.pick.clear();
+        self.pick.extend(0..j);
+        loop {
+            // rank and mixed-radix base of the t-set pick ∪ {f}
+            let mut rank = 0usize;
+            let mut base = 0usize;
+            let mut w = 1usize;
+            let mut wf = 0usize;
+            let mut pos = 0usize;
+            let mut placed = false;
+            for &p in &self.pick {
+                let s = fixed[p];
+                if !placed && s > f {
+                    rank += self.binom[f * tb + pos + 1] as usize;
+                    wf = w;
+                    w *= v;
+                    pos += 1;
+                    placed = true;
+                }
+                rank += self.binom[s * tb + pos + 1] as usize;
+                base += row[s] as usize * w;
+                w *= levels[s];
+                pos += 1;
+            }
+            if !placed {
+                rank += self.binom[f * tb + pos + 1] as usize;
+                wf = w;
+            }
+            let off = self.layout.offset(rank) + base;
+            for l in 0..v {
+                let n = need[off + l * wf];
+                self.score[l] += n as u64;
+                self.met[l] += (n > 0) as u64;
+            }
+            // next j-subset of positions
+            let n = fixed.len();
+            let mut i = j;
+            loop {
+                if i == 0 {
+                    return;
+                }
+                i -= 1;
+                if self.pick[i] < n - j + i {
+                    self.pick[i] += 1;
+                    for q in i + 1..j {
+                        self.pick[q] = self.pick[q - 1] + 1;
+                    }
+                    break;
+                }
+            }
+        }
+    }
+}
+
 /// Rows that, added after those already counted in `demand`, bring every demand to zero.
 /// Every row is allowed by `cons`.
 pub fn extend(
@@ -78,6 +328,13 @@ pub fn extend(
     let mut pool = Pool::new(demand);
     let k = layout.columns();
     let mut order: Vec<usize> = (0..k).collect();
+    let mut b = Builder::new(layout);
+    let mut marg = if params.lookahead > 0 {
+        Marginals::new(layout, &demand.need)
+    } else {
+        None
+    };
+    let mut fixed: Vec<usize> = Vec::with_capacity(k);
     while demand.remaining > 0 {
         let mut best: Option<(u64, Row)> = None;
         for _ in 0..params.candidates.max(1) {
@@ -95,71 +352,70 @@ pub fn extend(
                 continue;
             }
             rng.shuffle(&mut order);
-            let mut fixed: Vec<usize> = cols.clone();
+            fixed.clear();
+            fixed.extend_from_slice(&cols);
+            let mut gain = 1u64;
             for &f in order.iter() {
                 if row[f] != UNSET {
                     continue;
                 }
-                row[f] = choose_level(layout, demand, cons, rng, &mut row, &fixed, f);
+                let v = layout.levels[f];
+                b.score[..v].fill(0);
+                b.met[..v].fill(0);
+                if layout.t == 2 {
+                    b.score_pairs(&demand.need, &row, &fixed, f, marg.as_ref(), params.lookahead);
+                } else {
+                    b.score_completed(&demand.need, &row, &fixed, f);
+                }
+                let l = choose_level(&b.score[..v], cons, rng, &mut row, f);
+                gain += b.met[l as usize];
+                row[f] = l;
                 let pos = fixed.binary_search(&f).unwrap_or_else(|p| p);
                 fixed.insert(pos, f);
             }
-            let g = demand.gain(layout, &row);
-            if best.as_ref().is_none_or(|(bg, _)| g > *bg) {
-                best = Some((g, row));
+            if best.as_ref().is_none_or(|(bg, _)| gain > *bg) {
+                best = Some((gain, row));
             }
         }
         let Some((g, row)) = best else { break };
         if g == 0 {
             break;
         }
-        demand.cover(layout, &row);
+        match marg.as_mut() {
+            Some(m) => {
+                let lv = &layout.levels;
+                let mut met = 0;
+                let mut rank = 0;
+                for g in 1..k {
+                    for f in 0..g {
+                        let (a, bl) = (row[f] as usize, row[g] as usize);
+                        let i = layout.offset(rank) + a + bl * lv[f];
+                        let n = &mut demand.need[i];
+                        if *n > 0 {
+                            *n -= 1;
+                            met += 1;
+                            if *n == 0 {
+                                m.drop(lv, f, a, g, bl);
+                            }
+                        }
+                        rank += 1;
+                    }
+                }
+                demand.remaining -= met;
+            }
+            None => {
+                demand.cover(layout, &row);
+            }
+        }
         rows.push(row);
     }
     rows
 }
 
-/// The level of `f` meeting the most remaining demand among the interactions it completes
-/// with the already fixed factors; ties go to the first from a random starting level.
-fn choose_level(
-    layout: &Layout,
-    demand: &Demand,
-    cons: &mut Constraints,
-    rng: &mut Rng,
-    row: &mut [u8],
-    fixed: &[usize],
-    f: usize,
-) -> u8 {
-    let v = layout.levels[f];
-    let t = layout.t;
-    let mut score = vec![0u64; v];
-    let mut cols = vec![0usize; t];
-    for_each_subset(fixed, t - 1, |s| {
-        // merge f into the sorted subset
-        let mut wf = 1usize;
-        let mut base = 0usize;
-        let mut w = 1usize;
-        let mut j = 0;
-        let mut placed = false;
-        for slot in cols.iter_mut() {
-            let c = if !placed && (j == s.len() || s[j] > f) {
-                placed = true;
-                wf = w;
-                f
-            } else {
-                let c = s[j];
-                j += 1;
-                base += row[c] as usize * w;
-                c
-            };
-            *slot = c;
-            w *= layout.levels[c];
-        }
-        let off = layout.offset(layout.rank(&cols)) + base;
-        for (l, sc) in score.iter_mut().enumerate() {
-            *sc += demand.need[off + l * wf] as u64;
-        }
-    });
+/// The level of `f` with the highest score whose choice keeps the row extendable; ties go
+/// to the first from a random starting level.
+fn choose_level(score: &[u64], cons: &mut Constraints, rng: &mut Rng, row: &mut [u8], f: usize) -> u8 {
+    let v = score.len();
     let start = rng.index(v);
     let mut best: Option<(u64, u8)> = None;
     for i in 0..v {

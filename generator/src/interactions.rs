@@ -41,7 +41,7 @@ impl Layout {
         for n in 0..=k {
             binom[n][0] = 1;
             for j in 1..=t.min(n) {
-                binom[n][j] = binom[n - 1][j - 1] + if j <= n - 1 { binom[n - 1][j] } else { 0 };
+                binom[n][j] = binom[n - 1][j - 1] + if j < n { binom[n - 1][j] } else { 0 };
             }
         }
         let sets = binom[k][t] as usize;

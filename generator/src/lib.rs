@@ -22,10 +22,12 @@ mod engine;
 mod error;
 mod expr;
 pub mod greedy;
+pub mod incidence;
 pub mod interactions;
 mod model;
 pub mod order;
 mod rng;
+pub mod tighten;
 mod verify;
 
 pub use engine::{Design, Stats, generate};

@@ -2,6 +2,7 @@
 //! that every prefix meets as much demand as possible (a run cut short has still covered
 //! the most it could), and the coverage curve that shows it.
 
+use std::cmp::Reverse;
 use std::collections::BinaryHeap;
 
 use crate::interactions::Layout;
@@ -19,7 +20,6 @@ pub fn drop_redundant(
     for row in rows.iter() {
         layout.for_each_in_row(row, |i| count[i] += 1);
     }
-    let lambda = lambda as u32;
     let mut keep = vec![true; rows.len()];
     for r in (fixed..rows.len()).rev() {
         let mut needed = false;
@@ -37,7 +37,10 @@ pub fn drop_redundant(
 }
 
 /// Reorders the rows after the first `fixed` so each prefix meets the most demand (lazy
-/// greedy: a row's gain only shrinks as others are chosen). Ties keep the earlier row.
+/// greedy: a row's gain only shrinks as others are chosen, so a row whose fresh gain still
+/// beats every other row's stale gain is the best). Ties keep the earlier row. When the
+/// work could grow large (rows × t-sets above [`EXACT_ORDER_LIMIT`]) a row is taken once
+/// its fresh gain is within 1/16 of the best stale gain, which bounds the re-evaluations.
 pub fn order_by_gain(layout: &Layout, possible: &[bool], lambda: u32, rows: &mut [Vec<u8>], fixed: usize) {
     let mut need: Vec<u16> = possible
         .iter()
@@ -46,21 +49,51 @@ pub fn order_by_gain(layout: &Layout, possible: &[bool], lambda: u32, rows: &mut
     for row in &rows[..fixed] {
         layout.for_each_in_row(row, |i| need[i] = need[i].saturating_sub(1));
     }
-    let gain = |need: &[u16], row: &[u8]| {
-        let mut g = 0u64;
-        layout.for_each_in_row(row, |i| g += (need[i] > 0) as u64);
-        g
+    let cells = (rows.len() as u64).saturating_mul(layout.sets() as u64);
+    let approximate = cells > EXACT_ORDER_LIMIT;
+    // the interactions of every row, listed once, when that fits: re-evaluating a gain is
+    // then a scan instead of an enumeration of t-sets
+    let sets = layout.sets();
+    let shown: Vec<u32> = if cells <= SHOWN_LIMIT {
+        let mut v = Vec::with_capacity(cells as usize);
+        for row in rows.iter() {
+            // interaction indices fit u32: the layout numbers them with u32 offsets
+            layout.for_each_in_row(row, |i| v.push(i as u32));
+        }
+        v
+    } else {
+        Vec::new()
+    };
+    let gain = |need: &[u16], r: usize, row: &[u8]| {
+        if shown.is_empty() {
+            let mut g = 0u64;
+            layout.for_each_in_row(row, |i| g += (need[i] > 0) as u64);
+            g
+        } else {
+            shown[r * sets..(r + 1) * sets]
+                .iter()
+                .filter(|&&i| need[i as usize] > 0)
+                .count() as u64
+        }
     };
     // max-heap on (gain, reversed position)
-    let mut heap: BinaryHeap<(u64, std::cmp::Reverse<usize>)> = (fixed..rows.len())
-        .map(|r| (gain(&need, &rows[r]), std::cmp::Reverse(r)))
+    let mut heap: BinaryHeap<(u64, Reverse<usize>)> = (fixed..rows.len())
+        .map(|r| (gain(&need, r, &rows[r]), Reverse(r)))
         .collect();
     let mut order = Vec::with_capacity(rows.len() - fixed);
-    while let Some((g, std::cmp::Reverse(r))) = heap.pop() {
-        let fresh = gain(&need, &rows[r]);
+    while let Some((g, Reverse(r))) = heap.pop() {
+        let fresh = gain(&need, r, &rows[r]);
         if fresh < g {
-            heap.push((fresh, std::cmp::Reverse(r)));
-            continue;
+            let beats = match heap.peek() {
+                None => true,
+                Some(&(top, Reverse(tr))) => {
+                    (fresh, Reverse(r)) > (top, Reverse(tr)) || (approximate && fresh * 16 >= top * 15)
+                }
+            };
+            if !beats {
+                heap.push((fresh, Reverse(r)));
+                continue;
+            }
         }
         layout.for_each_in_row(&rows[r], |i| need[i] = need[i].saturating_sub(1));
         order.push(r);
@@ -70,6 +103,13 @@ pub fn order_by_gain(layout: &Layout, possible: &[bool], lambda: u32, rows: &mut
         *slot = row;
     }
 }
+
+/// Rows × t-sets up to which [`order_by_gain`] lists every row's interactions (4 bytes
+/// each) rather than enumerating them again per evaluation.
+pub const SHOWN_LIMIT: u64 = 1 << 24;
+
+/// Rows × t-sets up to which [`order_by_gain`] orders exactly.
+pub const EXACT_ORDER_LIMIT: u64 = 1 << 23;
 
 /// Fraction of the total demand (λ per possible interaction) met after each row.
 pub fn coverage_curve(layout: &Layout, possible: &[bool], lambda: u32, rows: &[Vec<u8>]) -> Vec<f64> {

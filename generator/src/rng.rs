@@ -16,6 +16,11 @@ impl Rng {
         Rng(r)
     }
 
+    /// Uniform 32-bit value.
+    pub fn next_u32(&mut self) -> u32 {
+        self.0.next_u32()
+    }
+
     /// Uniform in `0..n` (n ≥ 1), by multiply-shift on 64 bits.
     pub fn below(&mut self, n: u32) -> u32 {
         ((self.0.next_u32() as u64 * n as u64) >> 32) as u32
@@ -47,5 +52,6 @@ pub mod stream {
     /// The local search.
     pub const TIGHTEN: u64 = 2;
     /// Constructions that randomise (level relabelling, column choice).
+    #[allow(dead_code)] // reserved for the constructions
     pub const CONSTRUCT: u64 = 3;
 }
