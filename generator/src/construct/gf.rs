@@ -16,7 +16,10 @@ pub fn prime_power(q: usize) -> Option<(usize, u32)> {
     if q < 2 {
         return None;
     }
-    let p = (2..).take_while(|d| d * d <= q).find(|d| q % d == 0).unwrap_or(q);
+    let p = (2..)
+        .take_while(|d| d * d <= q)
+        .find(|d| q.is_multiple_of(*d))
+        .unwrap_or(q);
     let (mut rest, mut m) = (q, 0);
     while rest % p == 0 {
         rest /= p;
@@ -27,7 +30,7 @@ pub fn prime_power(q: usize) -> Option<(usize, u32)> {
 
 /// Whether n is prime (trial division; n is small wherever this is used).
 pub fn is_prime(n: usize) -> bool {
-    n >= 2 && (2..).take_while(|d| d * d <= n).all(|d| n % d != 0)
+    n >= 2 && (2..).take_while(|d| d * d <= n).all(|d| !n.is_multiple_of(d))
 }
 
 /// The field GF(q) as lookup tables.

@@ -83,7 +83,7 @@ pub fn direct_recipes(n: usize) -> Vec<Recipe> {
     if n.is_power_of_two() {
         out.push(Recipe::Sylvester(n.trailing_zeros()));
     }
-    if n >= 4 && n % 4 == 0 {
+    if n >= 4 && n.is_multiple_of(4) {
         let q = n - 1;
         if q % 4 == 3 && paley_field(q) {
             out.push(Recipe::PaleyI(q));

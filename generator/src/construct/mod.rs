@@ -380,12 +380,15 @@ fn candidates(levels: &[usize], t: usize, lambda: u32, limit: usize) -> Vec<Cand
 
     // strength 3 on twice the columns from strength 3 and 2 on half (v ≥ 3; the binary
     // case is Roux's, inside `binary::strength_three`)
-    if t == 3 && lambda == 1 && vmax >= 3 && k >= 6 {
-        if let Some((name, rows)) = doubling(vmax, k, limit) {
-            let n = rows.len();
-            // its parts had their redundant rows removed already
-            offer(Source::Rows(name, rows), 1, n, collapses(vmax));
-        }
+    if t == 3
+        && lambda == 1
+        && vmax >= 3
+        && k >= 6
+        && let Some((name, rows)) = doubling(vmax, k, limit)
+    {
+        let n = rows.len();
+        // its parts had their redundant rows removed already
+        offer(Source::Rows(name, rows), 1, n, collapses(vmax));
     }
 
     if vmax <= 2 && t >= 2 && k > t + 1 {

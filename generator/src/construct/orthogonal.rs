@@ -75,7 +75,7 @@ pub fn bush_columns(field: &Field, t: usize, nucleus: bool) -> Vec<Vec<u8>> {
     let mut inf = vec![0u8; t];
     inf[t - 1] = 1;
     cols.push(inf);
-    if nucleus && t == 3 && q % 2 == 0 {
+    if nucleus && t == 3 && q.is_multiple_of(2) {
         cols.push(vec![0, 1, 0]);
     }
     cols
@@ -86,7 +86,7 @@ pub fn bush_capacity(q: usize, t: usize) -> usize {
     if t > q {
         return t + 1;
     }
-    q + 1 + usize::from(t == 3 && q % 2 == 0)
+    q + 1 + usize::from(t == 3 && q.is_multiple_of(2))
 }
 
 /// The column vectors of the Rao–Hamming array (Rao 1947): one nonzero vector of GF(q)^m
