@@ -382,3 +382,62 @@ fn bad_input_exits_with_2() {
     let fmt = report(&["--format", "yaml"]);
     assert_eq!(fmt.status.code(), Some(2));
 }
+
+/// A crate with no build at all: `report` finds the store where cargo says the target
+/// (or build) directory is, however that was configured.
+fn bare_crate(dir: &Path) -> PathBuf {
+    std::fs::create_dir_all(dir.join("src")).unwrap();
+    std::fs::write(
+        dir.join("Cargo.toml"),
+        "[package]\nname = \"bare\"\nversion = \"0.0.0\"\nedition = \"2024\"\n\n[workspace]\n",
+    )
+    .unwrap();
+    std::fs::write(dir.join("src/lib.rs"), "").unwrap();
+    dir.join("Cargo.toml")
+}
+
+fn report_in(manifest: &Path, env: &[(&str, &Path)]) -> Output {
+    let mut cmd = Command::new(env!("CARGO_BIN_EXE_cargo-heddle"));
+    cmd.args(["heddle", "report", "--format", "json", "--manifest-path"])
+        .arg(manifest);
+    for key in [
+        "CARGO_TARGET_DIR",
+        "CARGO_BUILD_TARGET_DIR",
+        "CARGO_BUILD_BUILD_DIR",
+    ] {
+        cmd.env_remove(key);
+    }
+    for (k, v) in env {
+        cmd.env(k, v);
+    }
+    cmd.output().unwrap()
+}
+
+#[test]
+fn the_store_is_found_in_a_custom_target_dir_and_build_dir() {
+    let tmp = tempfile::tempdir().unwrap();
+    let manifest = bare_crate(&tmp.path().join("bare"));
+    // CARGO_TARGET_DIR moves the target directory
+    let target = tmp.path().join("elsewhere");
+    write_run(&target, "run-t", 1_700_000_000_000, |_, r| planted(r));
+    let o = report_in(&manifest, &[("CARGO_TARGET_DIR", &target)]);
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(v["runs"], serde_json::json!(["run-t"]));
+    // without it, the default target directory has no store: a usage error naming it
+    let none = report_in(&manifest, &[]);
+    assert_eq!(none.status.code(), Some(2));
+    assert!(
+        text(&none.stderr).contains("no heddle records found in"),
+        "{}",
+        text(&none.stderr)
+    );
+    // a build directory apart from the target directory is where test binaries run
+    // from, so records land there
+    let build = tmp.path().join("build-here");
+    write_run(&build, "run-b", 1_700_000_000_000, |_, _| false);
+    let o = report_in(&manifest, &[("CARGO_BUILD_BUILD_DIR", &build)]);
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(v["runs"], serde_json::json!(["run-b"]));
+}
