@@ -98,9 +98,10 @@ pub fn detectable_rate(lambda: u32, confidence: f64) -> f64 {
 }
 
 /// How much lower (natural log) an explanation's likelihood may be than the best one's
-/// and still be reported beside it: a likelihood ratio of e² ≈ 7.4 (common practice
-/// for "plausible" sets, e.g. likelihood intervals at 1/8).
-const PLAUSIBLE: f64 = 2.0;
+/// and still be reported beside it: a likelihood ratio of e^1.5 ≈ 4.5. Tuned with the
+/// localisation benchmark (`plugin/benches/localise.rs`): lower values miss planted flaky
+/// interactions, higher ones let alternatives crowd out later explanations.
+const PLAUSIBLE: f64 = 1.5;
 
 /// Log-likelihood of `g` failures in `n` runs at the failure rate that fits them best
 /// (g/n), binomial coefficient left out as it is the same for every explanation.

@@ -18,6 +18,7 @@ use stack::Offer;
 
 use crate::bounds;
 use crate::model::{MAX_LEVELS, MAX_ROWS, Row};
+use crate::rng::{Rng, stream};
 
 /// A design produced by a construction.
 #[derive(Clone, Debug, PartialEq, Eq)]
@@ -243,6 +244,7 @@ fn assemble(
     let mut parts = Vec::new();
     let mut index = 0u64;
     let mut slack = false;
+    let mut copies = 0u64;
     for (cand, &n) in candidates.iter().zip(counts) {
         if n == 0 {
             continue;
@@ -250,7 +252,8 @@ fn assemble(
         let block = cand.source.build(levels, t);
         debug_assert_eq!(block.len(), cand.offer.rows);
         for _ in 0..n {
-            rows.extend(block.iter().cloned());
+            rows.extend(relabelled(&block, levels, copies));
+            copies += 1;
         }
         index += n as u64 * cand.offer.index as u64;
         slack |= cand.slack;
@@ -265,6 +268,33 @@ fn assemble(
         }
     }
     (rows, method)
+}
+
+/// Copy number `copy` of a block in a stack: the first as built, every further one with
+/// the levels of each column permuted (a different permutation per column and copy).
+///
+/// A permutation of a column's levels maps a covering array to a covering array, so the
+/// stack covers just the same; but identical copies would make every pair of levels
+/// that shares a row in the block share all its λ rows, and then a failure could never
+/// be pinned on one of them — the reason λ ≥ 2 is asked for. Relabelled copies put
+/// each interaction beside different company in each copy.
+fn relabelled(block: &[Row], levels: &[usize], copy: u64) -> Vec<Row> {
+    if copy == 0 {
+        return block.to_vec();
+    }
+    let mut rng = Rng::new(copy, stream::CONSTRUCT);
+    let perms: Vec<Vec<u8>> = levels
+        .iter()
+        .map(|&v| {
+            let mut p: Vec<u8> = (0..v as u8).collect();
+            rng.shuffle(&mut p);
+            p
+        })
+        .collect();
+    block
+        .iter()
+        .map(|row| row.iter().zip(&perms).map(|(&l, p)| p[l as usize]).collect())
+        .collect()
 }
 
 /// Whether `rows` rows is a proven minimum for these parameters.
@@ -370,6 +400,15 @@ fn candidates(levels: &[usize], t: usize, lambda: u32, limit: usize) -> Vec<Cand
             }
             for (q, m) in tries {
                 let n = q.pow(m);
+                // A linear array of index q^(m-2) ≥ 3: the rows holding a pair of levels
+                // form a coset that many other pairs share (measured on 3^13: every pair
+                // shares all its rows with another), so the λ ≥ 2 a user asks for to tell
+                // interactions apart would tell none apart. Other methods cost a few rows
+                // more. (Sylvester's Hadamard arrays are linear too, but are the only
+                // optimum for some orders, e.g. CAN_4(2, 15, 2) = 16, so they stay.)
+                if lambda >= 2 {
+                    continue;
+                }
                 if n <= limit && orthogonal::rao_hamming_capacity(q, m) >= k {
                     let index = q.pow(m - 2).min(u32::MAX as usize) as u32;
                     offer(Source::RaoHamming { q, m }, index, n, collapses(q));
