@@ -141,6 +141,7 @@ pub fn analyse(tallies: &Tallies) -> Analysis {
     let mut picked: Vec<(usize, u64, u64)> = Vec::new();
     loop {
         let interaction = |c: usize| &entries[cands[c].0].interaction;
+        let always = |c: usize| entries[cands[c].0].count.passes == 0;
         // a candidate's evidence: the failures no earlier pick explains (g), among its
         // runs that no earlier pick explains (open); it is worth g · g/open — failures
         // explained times the precision of the explanation — compared exactly
@@ -164,8 +165,13 @@ pub fn analyse(tallies: &Tallies) -> Analysis {
             }
             let ord = match best.first() {
                 None => Ordering::Greater,
-                Some(&(b, bg, bopen)) => ((g as u128 * g as u128) * bopen as u128)
-                    .cmp(&((bg as u128 * bg as u128) * open as u128))
+                // an interaction every run of which failed is the stronger suspect
+                Some(&(b, bg, bopen)) => always(c)
+                    .cmp(&always(b))
+                    .then(
+                        ((g as u128 * g as u128) * bopen as u128)
+                            .cmp(&((bg as u128 * bg as u128) * open as u128)),
+                    )
                     .then(g.cmp(&bg))
                     .then(interaction(b).arity().cmp(&interaction(c).arity())),
             };
@@ -258,10 +264,12 @@ pub fn analyse(tallies: &Tallies) -> Analysis {
             });
         }
     }
-    // explanations first, then the redundant strong suspects
+    // explanations first, the ones that always failed before the others, then the
+    // redundant strong suspects
     suspects.sort_by(|a, b| {
         (b.explains > 0)
             .cmp(&(a.explains > 0))
+            .then(b.always.cmp(&a.always))
             .then(b.score.total_cmp(&a.score))
             .then(b.explains.cmp(&a.explains))
             .then(

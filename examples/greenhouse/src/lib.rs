@@ -14,10 +14,13 @@
 //!    its deltas in Celsius and scales each one on decoding with integer division, so the
 //!    rounding error accumulates along a batch (see [`codec::decode`]). Every row with
 //!    that pair fails, every time.
-//! 2. **Race** — `workers = 4` with `dedupe = true`: the shared duplicate filter checks
-//!    and records a reading under two separate lock acquisitions (see
-//!    [`hub::Hub::run`]), so two workers holding the two copies of a resent reading can
-//!    both count it. It fails only when the threads interleave badly: sometimes.
+//! 2. **Race** — `workers = 4` with `flush = OnClose`: at close, each worker merges its
+//!    statistics into a copy of the summary and writes the copy back, taking the lock
+//!    separately for the read and for the write (see [`hub`]'s `publish_on_close`), so
+//!    when two workers close at the same moment one overwrites the other's statistics.
+//!    It fails only when the threads interleave badly: sometimes.
+//!
+//! Both are marked `PLANTED DEFECT` in the source.
 
 pub mod codec;
 pub mod hub;
