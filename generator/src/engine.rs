@@ -114,7 +114,7 @@ pub fn generate(spec: &Spec, effort: Effort) -> Result<Design, Error> {
             &inc,
             &possible,
             spec.lambda,
-            &cons,
+            &mut cons,
             &rows,
             spec.required.len(),
             lower as usize,

@@ -30,7 +30,7 @@ mod rng;
 pub mod tighten;
 mod verify;
 
-pub use engine::{Design, Stats, generate};
+pub use engine::{Design, FAST_BUDGET, Stats, generate};
 pub use error::Error;
 pub use expr::{Expr, ParseError};
 pub use model::{

@@ -15,7 +15,7 @@
 
 use crate::constraints::Constraints;
 use crate::incidence::Incidence;
-use crate::model::Row;
+use crate::model::{Row, UNSET};
 use crate::rng::Rng;
 
 /// Tuning of the search.
@@ -89,7 +89,7 @@ struct Search<'a> {
     /// Step until which each cell is tabu.
     tabu: Vec<u64>,
     /// Per column: 0, or 1 + its position in the change being evaluated.
-    mark: Vec<u8>,
+    mark: Vec<u16>,
 }
 
 impl<'a> Search<'a> {
@@ -208,7 +208,8 @@ impl<'a> Search<'a> {
             return d;
         }
         for (j, &(c, _)) in changes.iter().enumerate() {
-            self.mark[c] = j as u8 + 1;
+            // at most one change per column, and columns are below MAX_FACTORS = 4096
+            self.mark[c] = j as u16 + 1;
         }
         for (j, &(c, _)) in changes.iter().enumerate() {
             'sets: for &rank in inc.through(c) {
@@ -290,7 +291,7 @@ pub fn tighten(
     inc: &Incidence,
     possible: &[bool],
     lambda: u32,
-    cons: &Constraints,
+    cons: &mut Constraints,
     rows: &[Row],
     fixed: usize,
     floor: usize,
@@ -315,6 +316,7 @@ pub fn tighten(
     let mut changes: Vec<(usize, u8)> = Vec::with_capacity(inc.t());
     let mut best_changes: Vec<(usize, u8)> = Vec::with_capacity(inc.t());
     let mut scratch: Row = vec![0; s.k];
+    let mut partial: Row = vec![UNSET; s.k];
     let k = s.k;
     // a move on a column in more than 64 t-sets counts as proportionally more moves, so a
     // budget bounds the time whatever the spec
@@ -347,6 +349,7 @@ pub fn tighten(
         let mut best_d = i64::MAX;
         let mut best_r = usize::MAX;
         let mut ties = 0u32;
+        let moves_before = moves;
         for r in s.fixed..s.n {
             if mismatches(&s, r) != fewest {
                 continue;
@@ -367,7 +370,17 @@ pub fn tighten(
                     scratch[c] = l;
                 }
                 if !cons.allows(&scratch) {
-                    continue;
+                    // change other constrained cells of the row as well, as few as it takes
+                    if !repair(cons, inc, &mut scratch, &cols, &mut partial) {
+                        continue;
+                    }
+                    changes.clear();
+                    for (c, &l) in scratch.iter().enumerate() {
+                        if l != s.cells[r * k + c] {
+                            changes.push((c, l));
+                            tabu |= s.tabu[r * k + c] > step;
+                        }
+                    }
                 }
             }
             let d = s.delta(r, &changes);
@@ -400,9 +413,54 @@ pub fn tighten(
                 s.tabu[best_r * k + c] = step + params.tenure;
             }
         }
+        if moves == moves_before {
+            // nothing could be examined (every change excluded): the step still costs
+            moves += 1;
+        }
         step += 1;
     }
     Outcome { rows: best, moves }
+}
+
+/// Makes `row`, whose cells on `keep` are set as wanted, allowed by changing only its
+/// other constrained cells, each kept as it is when the row stays completable. False when
+/// no allowed row shows the kept cells.
+fn repair(
+    cons: &mut Constraints,
+    inc: &Incidence,
+    row: &mut [u8],
+    keep: &[usize],
+    partial: &mut [u8],
+) -> bool {
+    partial.fill(UNSET);
+    for &c in keep {
+        partial[c] = row[c];
+    }
+    if !cons.extendable(partial) {
+        return false;
+    }
+    for c in 0..row.len() {
+        if partial[c] != UNSET || !cons.involves(c) {
+            continue;
+        }
+        partial[c] = row[c];
+        if !cons.extendable(partial) {
+            // some level keeps it completable: the partial row was completable before
+            let Some(l) = (0..inc.level_count(c) as u8).find(|&l| {
+                partial[c] = l;
+                cons.extendable(partial)
+            }) else {
+                return false;
+            };
+            partial[c] = l;
+        }
+    }
+    for (cell, &p) in row.iter_mut().zip(partial.iter()) {
+        if p != UNSET {
+            *cell = p;
+        }
+    }
+    true
 }
 
 /// Thresholds on a uniform u32 for accepting a move that worsens the cost by d (index d):

@@ -1,0 +1,225 @@
+//! Every way the model refuses a spec, with the figures its message must carry. Messages
+//! are lower case with no final period (project rule, common practice for error chains).
+
+use heddle_generator::{
+    Effort, Error, Expr, Factor, MAX_FACTORS, MAX_INTERACTIONS, MAX_LAMBDA, MAX_LEVELS, MAX_ROWS,
+    MAX_STRENGTH, Spec, generate,
+};
+
+fn numbered(levels: &[usize]) -> Vec<Factor> {
+    levels
+        .iter()
+        .enumerate()
+        .map(|(i, &v)| Factor::numbered(format!("f{}", i + 1), v))
+        .collect()
+}
+
+/// Runs `generate` (which validates first), expects `want`, and checks the message style
+/// and that it mentions each of `parts`.
+fn refused(spec: &Spec, want: Error, parts: &[&str]) {
+    let got = generate(spec, Effort::Fast).expect_err("spec must be refused");
+    assert_eq!(got, want);
+    assert_eq!(
+        spec.validate().err().is_some(),
+        !matches!(want, Error::NothingAllowed)
+    );
+    let msg = got.to_string();
+    assert!(!msg.ends_with('.'), "final period: {msg}");
+    assert!(
+        msg.chars().next().is_some_and(|c| !c.is_uppercase()),
+        "capitalised: {msg}"
+    );
+    for p in parts {
+        assert!(msg.contains(p), "`{msg}` lacks `{p}`");
+    }
+}
+
+#[test]
+fn shape_errors() {
+    refused(&Spec::new(vec![]), Error::NoFactors, &["no factors"]);
+    let many = numbered(&vec![2; MAX_FACTORS + 1]);
+    refused(
+        &Spec::new(many),
+        Error::TooManyFactors {
+            count: MAX_FACTORS + 1,
+            limit: MAX_FACTORS,
+        },
+        &["4097", "4096"],
+    );
+    refused(
+        &Spec::new(vec![Factor::numbered("", 2), Factor::numbered("b", 2)]),
+        Error::EmptyName,
+        &["empty name"],
+    );
+    refused(
+        &Spec::new(vec![Factor::numbered("a", 2), Factor::numbered("a", 3)]),
+        Error::DuplicateFactor { name: "a".into() },
+        &["`a`"],
+    );
+    refused(
+        &Spec::new(vec![
+            Factor::new("a", Vec::<String>::new()),
+            Factor::numbered("b", 2),
+        ]),
+        Error::NoLevels { factor: "a".into() },
+        &["`a`", "no levels"],
+    );
+    refused(
+        &Spec::new(vec![
+            Factor::numbered("a", MAX_LEVELS + 1),
+            Factor::numbered("b", 2),
+        ]),
+        Error::TooManyLevels {
+            factor: "a".into(),
+            count: MAX_LEVELS + 1,
+            limit: MAX_LEVELS,
+        },
+        &["`a`", "256", "255"],
+    );
+    refused(
+        &Spec::new(vec![Factor::new("a", ["x", "y", "x"]), Factor::numbered("b", 2)]),
+        Error::DuplicateLevel {
+            factor: "a".into(),
+            label: "x".into(),
+        },
+        &["`a`", "`x`"],
+    );
+}
+
+#[test]
+fn parameter_errors() {
+    let f = numbered(&[2; 10]);
+    refused(
+        &Spec::new(f.clone()).strength(0),
+        Error::StrengthZero,
+        &["at least 1"],
+    );
+    refused(
+        &Spec::new(numbered(&[2; 3])).strength(4),
+        Error::StrengthAboveFactors {
+            strength: 4,
+            factors: 3,
+        },
+        &["4", "(3)"],
+    );
+    refused(
+        &Spec::new(f.clone()).strength(MAX_STRENGTH + 1),
+        Error::StrengthTooHigh {
+            strength: MAX_STRENGTH + 1,
+            limit: MAX_STRENGTH,
+        },
+        &["9", "8"],
+    );
+    refused(
+        &Spec::new(f.clone()).lambda(0),
+        Error::LambdaZero,
+        &["at least 1"],
+    );
+    refused(
+        &Spec::new(f).lambda(MAX_LAMBDA + 1),
+        Error::LambdaTooHigh {
+            lambda: MAX_LAMBDA + 1,
+            limit: MAX_LAMBDA,
+        },
+        &["1001", "1000"],
+    );
+}
+
+#[test]
+fn constraint_and_required_row_errors() {
+    let f = numbered(&[2, 3]);
+    refused(
+        &Spec::new(f.clone()).exclude(Expr::is(5, 0)),
+        Error::BadConstraintRef {
+            constraint: 0,
+            factor: 5,
+            level: 0,
+        },
+        &["exclude #1", "#5"],
+    );
+    refused(
+        &Spec::new(f.clone())
+            .exclude(Expr::is(0, 1))
+            .exclude(Expr::is(1, 3)),
+        Error::BadConstraintRef {
+            constraint: 1,
+            factor: 1,
+            level: 3,
+        },
+        &["exclude #2", "level #3"],
+    );
+    refused(
+        &Spec::new(f.clone()).require(vec![0]),
+        Error::RequiredRowWidth {
+            row: 0,
+            width: 1,
+            factors: 2,
+        },
+        &["#1", "1 entries", "2 factors"],
+    );
+    refused(
+        &Spec::new(f.clone()).require(vec![0, 0]).require(vec![1, 3]),
+        Error::RequiredRowLevel {
+            row: 1,
+            factor: "f2".into(),
+            level: 3,
+        },
+        &["#2", "`f2`", "#3"],
+    );
+    let ex = Expr::parse("f1 == 1 && f2 == 2", &f).expect("valid");
+    refused(
+        &Spec::new(f.clone()).exclude(ex).require(vec![1, 2]),
+        Error::RequiredRowExcluded {
+            row: 0,
+            constraint: 0,
+        },
+        &["#1", "exclude #1"],
+    );
+    // f1 == 0 and f1 == 1 excluded: no row is left (found by search, not by validate)
+    let none = Spec::new(f.clone())
+        .exclude(Expr::parse("f1 == 0", &f).expect("valid"))
+        .exclude(Expr::parse("f1 != 0", &f).expect("valid"));
+    refused(&none, Error::NothingAllowed, &["every row"]);
+    // a chain that only a search can see through: f1=0 → f2=0, f2=0 → f1=1, f1=1 excluded
+    let chain = Spec::new(f.clone())
+        .exclude(Expr::parse("f1 == 0 && f2 != 0", &f).expect("valid"))
+        .exclude(Expr::parse("f2 == 0 && f1 == 0", &f).expect("valid"))
+        .exclude(Expr::parse("f1 == 1", &f).expect("valid"));
+    refused(&chain, Error::NothingAllowed, &["every row"]);
+}
+
+#[test]
+fn size_errors_state_the_count_and_the_limit() {
+    // 255^4 at t = 4: one t-set of 255^4 = 4228250625 interactions
+    let big = Spec::new(numbered(&[255; 4])).strength(4);
+    refused(
+        &big,
+        Error::TooLarge {
+            interactions: 4_228_250_625,
+            limit: MAX_INTERACTIONS,
+        },
+        &["4228250625", &MAX_INTERACTIONS.to_string(), "lower the strength"],
+    );
+    // 200 × 200 at t = 2, λ = 1000: 40000 interactions, but 4·10^7 rows at least
+    let rows = Spec::new(numbered(&[200, 200])).lambda(1000);
+    refused(
+        &rows,
+        Error::TooManyRows {
+            lower_bound: 40_000_000,
+            limit: MAX_ROWS,
+        },
+        &["40000000", &MAX_ROWS.to_string(), "lower lambda"],
+    );
+}
+
+#[test]
+fn parse_errors_point_at_the_text() {
+    let f = numbered(&[2, 3]);
+    let e = Expr::parse("f1 == 0 && f9 == 1", &f).expect_err("unknown factor");
+    assert_eq!((e.offset, e.len), (11, 2));
+    assert!(e.message.contains("unknown factor `f9`"));
+    assert!(e.hint.contains("f1, f2"));
+    let e = Expr::parse("f2 == 3", &f).expect_err("no such level");
+    assert!(e.message.contains("`3` is not a level of factor `f2`"));
+    assert!(e.hint.contains("0, 1, 2"));
+}
