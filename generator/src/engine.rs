@@ -78,9 +78,13 @@ pub fn generate(spec: &Spec, effort: Effort) -> Result<Design, Error> {
     } else {
         None
     };
+    let proven = construction
+        .as_ref()
+        .is_some_and(|c| c.optimal || c.rows.len() as u128 <= lower);
     let (mut method, mut rows) = match construction {
-        // at the counting bound nothing can be smaller: skip the search
-        Some(c) if c.rows.len() as u128 <= lower => (c.method, c.rows),
+        // at the counting bound, or at a proven minimum (e.g. Kleitman–Spencer), nothing
+        // can be smaller: skip the search
+        Some(c) if proven => (c.method, c.rows),
         construction => {
             let mut demand = Demand::new(&possible, spec.lambda);
             for row in &spec.required {
@@ -107,7 +111,7 @@ pub fn generate(spec: &Spec, effort: Effort) -> Result<Design, Error> {
         Effort::Fast => FAST_BUDGET,
         Effort::Tight { budget } => budget,
     };
-    if budget > 0 && (rows.len() as u128) > lower {
+    if budget > 0 && !proven && (rows.len() as u128) > lower {
         let inc = Incidence::new(&layout);
         let mut rng = Rng::new(spec.seed, stream::TIGHTEN);
         let out = tighten::tighten(
