@@ -14,6 +14,8 @@
 //! assert_eq!(design.rows.len(), 9); // an orthogonal array OA(9; 2, 4, 3)
 //! ```
 
+#![warn(missing_docs)]
+
 pub mod bounds;
 pub mod constraints;
 pub mod construct;

@@ -60,6 +60,12 @@ pub const Z95: f64 = 1.959_963_984_540_054;
 
 /// Wilson (1927) score interval for a proportion of `k` successes in `n` trials.
 /// Returns `(0, 1)` when `n` is 0.
+///
+/// ```
+/// use cargo_heddle::analysis::{wilson, Z95};
+/// let (low, high) = wilson(2, 4, Z95); // passed 2 of 4 runs
+/// assert!((low - 0.150).abs() < 1e-3 && (high - 0.850).abs() < 1e-3);
+/// ```
 pub fn wilson(k: u64, n: u64, z: f64) -> (f64, f64) {
     if n == 0 {
         return (0.0, 1.0);
@@ -76,6 +82,11 @@ pub fn wilson(k: u64, n: u64, z: f64) -> (f64, f64) {
 /// The least λ at which an interaction failing with probability `p` on each run is seen
 /// failing at least once with probability at least `confidence`: 1 − (1 − p)^λ ≥ c.
 /// `None` when p is not in (0, 1] or c is not in (0, 1).
+///
+/// ```
+/// // a flake failing half the time is seen within 5 runs with 95% confidence
+/// assert_eq!(cargo_heddle::analysis::lambda_for(0.5, 0.95), Some(5));
+/// ```
 pub fn lambda_for(p: f64, confidence: f64) -> Option<u32> {
     if !(p > 0.0 && p <= 1.0 && confidence > 0.0 && confidence < 1.0) {
         return None;
@@ -93,6 +104,11 @@ pub fn lambda_for(p: f64, confidence: f64) -> Option<u32> {
 }
 
 /// The smallest failure probability that λ runs catch with probability `confidence`.
+///
+/// ```
+/// let p = cargo_heddle::analysis::detectable_rate(3, 0.95);
+/// assert!((p - 0.6316).abs() < 1e-4); // 1 − 0.05^(1/3)
+/// ```
 pub fn detectable_rate(lambda: u32, confidence: f64) -> f64 {
     1.0 - (1.0 - confidence).powf(1.0 / lambda as f64)
 }

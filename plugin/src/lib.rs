@@ -1,6 +1,15 @@
 //! The library behind `cargo heddle`: command-line grammar, subcommands and the analysis
 //! that turns per-interaction tallies into suspects, flaky interactions and advice.
-//! The binary (`main.rs`) only calls [`cli::run`].
+//! The binary (`main.rs`) only calls [`cli::run`], which takes the arguments as cargo
+//! passes them:
+//!
+//! ```no_run
+//! use std::process::ExitCode;
+//! let args = ["cargo-heddle", "heddle", "design", "3^4", "--lambda", "2"];
+//! let code: ExitCode = cargo_heddle::cli::run(args.map(Into::into)).unwrap_or(ExitCode::FAILURE);
+//! ```
+
+#![warn(missing_docs)]
 
 /// `println!` that ignores a closed stdout (see [`say`]).
 macro_rules! say {

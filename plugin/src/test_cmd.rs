@@ -14,6 +14,7 @@ use crate::workspace::{self, Selection};
 /// Arguments of `test`.
 #[derive(Args, Debug)]
 pub struct TestArgs {
+    /// Which packages (and so which target directory) to read.
     #[command(flatten)]
     pub selection: Selection,
     /// Run the tests with `cargo nextest run` instead of `cargo test`.

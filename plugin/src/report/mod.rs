@@ -22,6 +22,7 @@ use crate::workspace::{self, Selection};
 /// Arguments of `report`.
 #[derive(Args, Debug, Clone)]
 pub struct ReportArgs {
+    /// Which packages (and so which target directory) to read.
     #[command(flatten)]
     pub selection: Selection,
     /// Run to report: `latest` or a run id.
