@@ -119,7 +119,7 @@ pub fn generate(spec: &Spec, effort: Effort) -> Result<Design, Error> {
             spec.required.len(),
             lower as usize,
             &mut rng,
-            tighten::Params::new(budget, t),
+            tighten::Params::new(budget, t, levels.iter().copied().max().unwrap_or(1)),
         );
         if out.rows.len() < rows.len() {
             rows = out.rows;

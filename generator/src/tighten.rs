@@ -35,16 +35,18 @@ pub struct Params {
 }
 
 impl Params {
-    /// The tuning used for a move budget at strength `t`: tenure t + 1 steps, and a
-    /// worsening step made with probability about 0.46 per unit of cost (tuned on the
-    /// benchmark's t = 2 and t = 3 instances; always making it, as in Nurmela's search,
-    /// stalls a row or two higher on 4^15 and 5^20).
-    pub fn new(budget: u64, t: usize) -> Self {
+    /// The tuning used for a move budget at strength `t` on factors of at most `vmax`
+    /// levels: tenure t + 1 steps; a worsening best change is always made, as in
+    /// Nurmela's search, except with 4 or more levels, where it is made with probability
+    /// about 0.46 per unit of cost. (Tuned on the benchmark: always moving stalls a row
+    /// higher on 4^15 and 5^20 at t = 2; moving less often loses rows on binary arrays of
+    /// index λ > 1 and of high strength.)
+    pub fn new(budget: u64, t: usize, vmax: usize) -> Self {
         Params {
             budget,
             patience: u64::MAX,
             tenure: t as u64 + 1,
-            accept: 30_000,
+            accept: if vmax >= 4 { 30_000 } else { 1 << 16 },
         }
     }
 }
