@@ -222,29 +222,49 @@ impl<'a> Builder<'a> {
     ) {
         let lv = &self.layout.levels;
         let v = lv[f];
-        self.look[..v].fill(0);
+        let score = &mut self.score[..v];
+        let met = &mut self.met[..v];
+        let look = &mut self.look[..v];
+        look.fill(0);
         for &g in fixed {
             let (rank, base, wf) = if g < f {
                 (g + f * (f - 1) / 2, row[g] as usize, lv[g])
             } else {
                 (f + g * (g - 1) / 2, row[g] as usize * v, 1)
             };
-            let off = self.layout.offset(rank) + base;
-            for l in 0..v {
-                let n = need[off + l * wf];
-                self.score[l] += n as u64 * SCALE;
-                self.met[l] += (n > 0) as u64;
+            let col = &need[self.layout.offset(rank) + base..];
+            if wf == 1 {
+                for ((s, m), &n) in score.iter_mut().zip(met.iter_mut()).zip(&col[..v]) {
+                    *s += n as u64;
+                    *m += (n > 0) as u64;
+                }
+            } else {
+                for ((s, m), &n) in score.iter_mut().zip(met.iter_mut()).zip(col.iter().step_by(wf)) {
+                    *s += n as u64;
+                    *m += (n > 0) as u64;
+                }
             }
             if let Some(m) = marg {
                 let at = (f * m.k + g) * m.vmax;
-                for l in 0..v {
-                    self.look[l] += m.scaled[at + l] as u64;
+                for (x, &q) in look.iter_mut().zip(&m.scaled[at..at + v]) {
+                    *x += q as u64;
                 }
             }
         }
-        if let Some(m) = marg {
-            for l in 0..v {
-                self.score[l] += alpha * (m.tot[f * m.vmax + l] - self.look[l]) / 16;
+        match marg {
+            Some(m) => {
+                for ((s, &x), &tot) in score
+                    .iter_mut()
+                    .zip(look.iter())
+                    .zip(&m.tot[f * m.vmax..f * m.vmax + v])
+                {
+                    *s = *s * SCALE + alpha * (tot - x) / 16;
+                }
+            }
+            None => {
+                for s in score.iter_mut() {
+                    *s *= SCALE;
+                }
             }
         }
     }
