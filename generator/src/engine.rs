@@ -115,7 +115,7 @@ pub fn generate(spec: &Spec, effort: Effort) -> Result<Design, Error> {
         Effort::Fast => FAST_BUDGET,
         Effort::Tight { budget } => budget,
     };
-    if budget > 0 && (rows.len() as u128) > lower {
+    if budget > 0 && (rows.len() as u128) > lower && tighten::fits(rows.len(), layout.sets()) {
         let inc = Incidence::new(&layout);
         let mut rng = Rng::new(spec.seed, stream::TIGHTEN);
         let out = tighten::tighten(

@@ -58,7 +58,7 @@ pub const MAX_ROWS: usize = 30_000;
 pub const MOVE_SETS: u64 = 64;
 
 /// Most (row, t-set) pairs the search caches the shown interaction of (4 bytes each).
-pub const MAX_SHOWN: usize = 1 << 25;
+pub const MAX_SHOWN: usize = 1 << 24;
 
 const ABSENT: u32 = u32::MAX;
 
@@ -285,6 +285,12 @@ impl<'a> Search<'a> {
     }
 }
 
+/// Whether the search takes a design of `rows` rows over `sets` t-sets at all (it refuses
+/// beyond [`MAX_ROWS`] rows or [`MAX_SHOWN`] cached interactions, keeping memory bounded).
+pub fn fits(rows: usize, sets: usize) -> bool {
+    rows <= MAX_ROWS && rows.saturating_mul(sets) <= MAX_SHOWN
+}
+
 /// Searches for a smaller design than `rows` (which must be valid: every possible
 /// interaction covered λ times, every row allowed), never going below `floor` rows,
 /// never touching the first `fixed` rows. Deterministic for a given `rng` state and budget.
@@ -301,7 +307,7 @@ pub fn tighten(
     params: Params,
 ) -> Outcome {
     let floor = floor.max(fixed).max(1);
-    if rows.len() <= floor || rows.len() > MAX_ROWS || rows.len().saturating_mul(inc.sets()) > MAX_SHOWN {
+    if rows.len() <= floor || !fits(rows.len(), inc.sets()) {
         return Outcome {
             rows: rows.to_vec(),
             moves: 0,
