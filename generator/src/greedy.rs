@@ -5,12 +5,13 @@
 //! Demand is counted per interaction (λ minus times covered), so index λ costs only the
 //! rows it needs rather than λ copies.
 //!
-//! The level choice looks ahead as in the density algorithms of Colbourn, Cohen and
-//! Turban (2004) and Bryce and Colbourn (2007): besides the demand a level meets with the
-//! factors already fixed, it counts the demand it would meet on average with the factors
-//! still open, as if they were filled uniformly at random. Exact for t = 2; for larger t
-//! the look-ahead counts the t-sets with a single open factor besides the one chosen
-//! (those with more are ignored), which is where most of the signal is.
+//! At t = 2 the level choice looks ahead as in the density algorithms of Colbourn, Cohen
+//! and Turban (2004) and Bryce and Colbourn (2007): besides the demand a level meets with
+//! the factors already fixed, it counts the demand it would meet on average with the
+//! factors still open, as if they were filled uniformly at random (kept in step through
+//! per-pair marginal counts, so it costs no more than the plain count). At larger t the
+//! choice counts completed interactions only, as AETG does; the local search that follows
+//! does the rest.
 
 use crate::constraints::Constraints;
 use crate::demand::Demand;
@@ -38,7 +39,7 @@ impl Default for Params {
 
 impl Params {
     /// Level choices (t-set × level) one emitted row may cost across its candidates.
-    const ROW_WORK: u64 = 480_000;
+    pub const ROW_WORK: u64 = 480_000;
 
     /// The default, with fewer candidates on specs so wide that 24 would make each row
     /// cost more than [`Self::ROW_WORK`] level choices (at least 2 candidates remain).

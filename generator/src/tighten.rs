@@ -4,14 +4,21 @@
 //! The search is the tabu search of Nurmela (2004, "Upper bounds for covering arrays by
 //! tabu search"): the cost of an array is its total shortfall (Σ over possible
 //! interactions of λ minus times covered, when positive); each step picks an interaction
-//! that is short at random and considers, for every row, the change of that row's cells
-//! on the interaction's t columns that makes the row show it; the best change is made,
-//! except that a cell changed within the last few steps may not change again unless that
-//! reaches cost 0. Cost changes are computed incrementally: changing one cell only
-//! touches the t-sets through its column. The start-and-shrink loop around it (remove
-//! the row the others depend on least, repair, repeat) follows the row-reduction scheme of
-//! Cohen, Colbourn and Ling (2003). Rows before `fixed` (required rows) never change and
-//! are never removed, and no change may produce a row the constraints exclude.
+//! that is short at random and considers, for the rows that need the fewest cell changes
+//! to show it, the change of those cells; the best change is made, except that a cell
+//! changed within the last few steps may not change again unless that reaches cost 0.
+//! With many levels a change that makes the cost worse is made only with a probability
+//! falling geometrically in how much worse (a Metropolis-style rule as in simulated
+//! annealing, Cohen, Colbourn and Ling 2003). Cost changes are computed incrementally:
+//! changing one cell only touches the t-sets through its column, and the interaction each
+//! row shows on each t-set is cached. The start-and-shrink loop around it (remove the row
+//! the others depend on least, repair, repeat) follows the row-reduction scheme of Cohen,
+//! Colbourn and Ling (2003).
+//!
+//! Rows before `fixed` (required rows) never change and are never removed. No change may
+//! produce a row the constraints exclude: when the cells that show the interaction make the
+//! row excluded, the row's other constrained cells are changed too, as few as the exact
+//! extendability search allows, or the row is not a candidate.
 
 use crate::constraints::Constraints;
 use crate::incidence::Incidence;
