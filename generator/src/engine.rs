@@ -1,5 +1,12 @@
 //! Orchestration: validate, find what is possible, run every applicable method, keep the
 //! smallest result, finish it, check it independently.
+//!
+//! Order of work: a construction at the counting bound ends the search at once; otherwise
+//! the greedy runs, a construction replaces it when no larger, and the tabu search of
+//! [`crate::tighten`] then tries to remove rows from what was kept — briefly in
+//! [`Effort::Fast`] ([`FAST_BUDGET`] moves), for the given budget in [`Effort::Tight`].
+//! Redundant rows are dropped, the rest ordered by gain, and the independent checker has
+//! the last word.
 
 use crate::bounds;
 use crate::constraints::Constraints;
@@ -33,7 +40,8 @@ pub struct Design {
 /// Figures reported beside every design.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Stats {
-    /// The method whose result was kept (e.g. `bose(q=5)`, `greedy`, `greedy+anneal`).
+    /// The method whose result was kept: a construction (e.g. `bose(q=5)`), `greedy`, or
+    /// either followed by `+tabu` when the local search removed rows from it.
     pub method: String,
     /// λ · (product of the t largest level counts).
     pub lower_bound: u64,
@@ -111,7 +119,7 @@ pub fn generate(spec: &Spec, effort: Effort) -> Result<Design, Error> {
         Effort::Fast => FAST_BUDGET,
         Effort::Tight { budget } => budget,
     };
-    if budget > 0 && !proven && (rows.len() as u128) > lower {
+    if budget > 0 && !proven && (rows.len() as u128) > lower && tighten::fits(rows.len(), layout.sets()) {
         let inc = Incidence::new(&layout);
         let mut rng = Rng::new(spec.seed, stream::TIGHTEN);
         let out = tighten::tighten(
@@ -123,7 +131,7 @@ pub fn generate(spec: &Spec, effort: Effort) -> Result<Design, Error> {
             spec.required.len(),
             lower as usize,
             &mut rng,
-            tighten::Params::new(budget, t),
+            tighten::Params::new(budget, t, levels.iter().copied().max().unwrap_or(1)),
         );
         if out.rows.len() < rows.len() {
             rows = out.rows;

@@ -5,12 +5,13 @@
 //! Demand is counted per interaction (λ minus times covered), so index λ costs only the
 //! rows it needs rather than λ copies.
 //!
-//! The level choice looks ahead as in the density algorithms of Colbourn, Cohen and
-//! Turban (2004) and Bryce and Colbourn (2007): besides the demand a level meets with the
-//! factors already fixed, it counts the demand it would meet on average with the factors
-//! still open, as if they were filled uniformly at random. Exact for t = 2; for larger t
-//! the look-ahead counts the t-sets with a single open factor besides the one chosen
-//! (those with more are ignored), which is where most of the signal is.
+//! At t = 2 the level choice looks ahead as in the density algorithms of Colbourn, Cohen
+//! and Turban (2004) and Bryce and Colbourn (2007): besides the demand a level meets with
+//! the factors already fixed, it counts the demand it would meet on average with the
+//! factors still open, as if they were filled uniformly at random (kept in step through
+//! per-pair marginal counts, so it costs no more than the plain count). At larger t the
+//! choice counts completed interactions only, as AETG does; the local search that follows
+//! does the rest.
 
 use crate::constraints::Constraints;
 use crate::demand::Demand;
@@ -38,7 +39,7 @@ impl Default for Params {
 
 impl Params {
     /// Level choices (t-set × level) one emitted row may cost across its candidates.
-    const ROW_WORK: u64 = 480_000;
+    pub const ROW_WORK: u64 = 480_000;
 
     /// The default, with fewer candidates on specs so wide that 24 would make each row
     /// cost more than [`Self::ROW_WORK`] level choices (at least 2 candidates remain).
@@ -222,29 +223,49 @@ impl<'a> Builder<'a> {
     ) {
         let lv = &self.layout.levels;
         let v = lv[f];
-        self.look[..v].fill(0);
+        let score = &mut self.score[..v];
+        let met = &mut self.met[..v];
+        let look = &mut self.look[..v];
+        look.fill(0);
         for &g in fixed {
             let (rank, base, wf) = if g < f {
                 (g + f * (f - 1) / 2, row[g] as usize, lv[g])
             } else {
                 (f + g * (g - 1) / 2, row[g] as usize * v, 1)
             };
-            let off = self.layout.offset(rank) + base;
-            for l in 0..v {
-                let n = need[off + l * wf];
-                self.score[l] += n as u64 * SCALE;
-                self.met[l] += (n > 0) as u64;
+            let col = &need[self.layout.offset(rank) + base..];
+            if wf == 1 {
+                for ((s, m), &n) in score.iter_mut().zip(met.iter_mut()).zip(&col[..v]) {
+                    *s += n as u64;
+                    *m += (n > 0) as u64;
+                }
+            } else {
+                for ((s, m), &n) in score.iter_mut().zip(met.iter_mut()).zip(col.iter().step_by(wf)) {
+                    *s += n as u64;
+                    *m += (n > 0) as u64;
+                }
             }
             if let Some(m) = marg {
                 let at = (f * m.k + g) * m.vmax;
-                for l in 0..v {
-                    self.look[l] += m.scaled[at + l] as u64;
+                for (x, &q) in look.iter_mut().zip(&m.scaled[at..at + v]) {
+                    *x += q as u64;
                 }
             }
         }
-        if let Some(m) = marg {
-            for l in 0..v {
-                self.score[l] += alpha * (m.tot[f * m.vmax + l] - self.look[l]) / 16;
+        match marg {
+            Some(m) => {
+                for ((s, &x), &tot) in score
+                    .iter_mut()
+                    .zip(look.iter())
+                    .zip(&m.tot[f * m.vmax..f * m.vmax + v])
+                {
+                    *s = *s * SCALE + alpha * (tot - x) / 16;
+                }
+            }
+            None => {
+                for s in score.iter_mut() {
+                    *s *= SCALE;
+                }
             }
         }
     }

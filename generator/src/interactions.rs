@@ -145,6 +145,18 @@ impl Layout {
     pub fn for_each_in_row(&self, row: &[u8], mut f: impl FnMut(usize)) {
         let t = self.t;
         let k = self.columns();
+        if t == 2 {
+            // pairs {a < b} in colex order: b outer, a inner
+            let mut rank = 0usize;
+            for b in 1..k {
+                let hi = row[b] as usize;
+                for (&lo, &va) in row[..b].iter().zip(&self.levels[..b]) {
+                    f(self.offsets[rank] as usize + lo as usize + hi * va);
+                    rank += 1;
+                }
+            }
+            return;
+        }
         let mut cols: Vec<usize> = (0..t).collect();
         let mut rank = 0usize;
         loop {

@@ -40,8 +40,14 @@ pub fn drop_redundant(
 /// greedy: a row's gain only shrinks as others are chosen, so a row whose fresh gain still
 /// beats every other row's stale gain is the best). Ties keep the earlier row. When the
 /// work could grow large (rows × t-sets above [`EXACT_ORDER_LIMIT`]) a row is taken once
-/// its fresh gain is within 1/16 of the best stale gain, which bounds the re-evaluations.
+/// its fresh gain is within 1/16 of the best stale gain, which bounds the re-evaluations;
+/// past [`SHOWN_LIMIT`] the rows keep their order (the greedy's, which already took the
+/// best of its candidate rows at every step), as re-evaluating gains would cost minutes.
 pub fn order_by_gain(layout: &Layout, possible: &[bool], lambda: u32, rows: &mut [Vec<u8>], fixed: usize) {
+    let cells = (rows.len() as u64).saturating_mul(layout.sets() as u64);
+    if cells > SHOWN_LIMIT {
+        return;
+    }
     let mut need: Vec<u16> = possible
         .iter()
         .map(|&p| if p { lambda as u16 } else { 0 })
@@ -49,40 +55,28 @@ pub fn order_by_gain(layout: &Layout, possible: &[bool], lambda: u32, rows: &mut
     for row in &rows[..fixed] {
         layout.for_each_in_row(row, |i| need[i] = need[i].saturating_sub(1));
     }
-    let cells = (rows.len() as u64).saturating_mul(layout.sets() as u64);
     let approximate = cells > EXACT_ORDER_LIMIT;
     // the interactions of every row, listed once, when that fits: re-evaluating a gain is
     // then a scan instead of an enumeration of t-sets
     let sets = layout.sets();
-    let shown: Vec<u32> = if cells <= SHOWN_LIMIT {
-        let mut v = Vec::with_capacity(cells as usize);
-        for row in rows.iter() {
-            // interaction indices fit u32: the layout numbers them with u32 offsets
-            layout.for_each_in_row(row, |i| v.push(i as u32));
-        }
-        v
-    } else {
-        Vec::new()
-    };
-    let gain = |need: &[u16], r: usize, row: &[u8]| {
-        if shown.is_empty() {
-            let mut g = 0u64;
-            layout.for_each_in_row(row, |i| g += (need[i] > 0) as u64);
-            g
-        } else {
-            shown[r * sets..(r + 1) * sets]
-                .iter()
-                .filter(|&&i| need[i as usize] > 0)
-                .count() as u64
-        }
+    let mut shown: Vec<u32> = Vec::with_capacity(cells as usize);
+    for row in rows.iter() {
+        // interaction indices fit u32: the layout numbers them with u32 offsets
+        layout.for_each_in_row(row, |i| shown.push(i as u32));
+    }
+    let gain = |need: &[u16], r: usize| {
+        shown[r * sets..(r + 1) * sets]
+            .iter()
+            .filter(|&&i| need[i as usize] > 0)
+            .count() as u64
     };
     // max-heap on (gain, reversed position)
     let mut heap: BinaryHeap<(u64, Reverse<usize>)> = (fixed..rows.len())
-        .map(|r| (gain(&need, r, &rows[r]), Reverse(r)))
+        .map(|r| (gain(&need, r), Reverse(r)))
         .collect();
     let mut order = Vec::with_capacity(rows.len() - fixed);
     while let Some((g, Reverse(r))) = heap.pop() {
-        let fresh = gain(&need, r, &rows[r]);
+        let fresh = gain(&need, r);
         if fresh < g {
             let beats = match heap.peek() {
                 None => true,
@@ -104,8 +98,8 @@ pub fn order_by_gain(layout: &Layout, possible: &[bool], lambda: u32, rows: &mut
     }
 }
 
-/// Rows × t-sets up to which [`order_by_gain`] lists every row's interactions (4 bytes
-/// each) rather than enumerating them again per evaluation.
+/// Rows × t-sets up to which [`order_by_gain`] reorders, listing every row's interactions
+/// once (4 bytes each) so that re-evaluating a gain is a scan.
 pub const SHOWN_LIMIT: u64 = 1 << 24;
 
 /// Rows × t-sets up to which [`order_by_gain`] orders exactly.

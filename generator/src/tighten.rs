@@ -4,14 +4,21 @@
 //! The search is the tabu search of Nurmela (2004, "Upper bounds for covering arrays by
 //! tabu search"): the cost of an array is its total shortfall (Σ over possible
 //! interactions of λ minus times covered, when positive); each step picks an interaction
-//! that is short at random and considers, for every row, the change of that row's cells
-//! on the interaction's t columns that makes the row show it; the best change is made,
-//! except that a cell changed within the last few steps may not change again unless that
-//! reaches cost 0. Cost changes are computed incrementally: changing one cell only
-//! touches the t-sets through its column. The start-and-shrink loop around it (remove
-//! the row the others depend on least, repair, repeat) follows the row-reduction scheme of
-//! Cohen, Colbourn and Ling (2003). Rows before `fixed` (required rows) never change and
-//! are never removed, and no change may produce a row the constraints exclude.
+//! that is short at random and considers, for the rows that need the fewest cell changes
+//! to show it, the change of those cells; the best change is made, except that a cell
+//! changed within the last few steps may not change again unless that reaches cost 0.
+//! With many levels a change that makes the cost worse is made only with a probability
+//! falling geometrically in how much worse (a Metropolis-style rule as in simulated
+//! annealing, Cohen, Colbourn and Ling 2003). Cost changes are computed incrementally:
+//! changing one cell only touches the t-sets through its column, and the interaction each
+//! row shows on each t-set is cached. The start-and-shrink loop around it (remove the row
+//! the others depend on least, repair, repeat) follows the row-reduction scheme of Cohen,
+//! Colbourn and Ling (2003).
+//!
+//! Rows before `fixed` (required rows) never change and are never removed. No change may
+//! produce a row the constraints exclude: when the cells that show the interaction make the
+//! row excluded, the row's other constrained cells are changed too, as few as the exact
+//! extendability search allows, or the row is not a candidate.
 
 use crate::constraints::Constraints;
 use crate::incidence::Incidence;
@@ -35,16 +42,18 @@ pub struct Params {
 }
 
 impl Params {
-    /// The tuning used for a move budget at strength `t`: tenure t + 1 steps, and a
-    /// worsening step made with probability about 0.46 per unit of cost (tuned on the
-    /// benchmark's t = 2 and t = 3 instances; always making it, as in Nurmela's search,
-    /// stalls a row or two higher on 4^15 and 5^20).
-    pub fn new(budget: u64, t: usize) -> Self {
+    /// The tuning used for a move budget at strength `t` on factors of at most `vmax`
+    /// levels: tenure t + 1 steps; a worsening best change is always made, as in
+    /// Nurmela's search, except with 4 or more levels, where it is made with probability
+    /// about 0.46 per unit of cost. (Tuned on the benchmark: always moving stalls a row
+    /// higher on 4^15 and 5^20 at t = 2; moving less often loses rows on binary arrays of
+    /// index λ > 1 and of high strength.)
+    pub fn new(budget: u64, t: usize, vmax: usize) -> Self {
         Params {
             budget,
             patience: u64::MAX,
             tenure: t as u64 + 1,
-            accept: 30_000,
+            accept: if vmax >= 4 { 30_000 } else { 1 << 16 },
         }
     }
 }
@@ -56,7 +65,7 @@ pub const MAX_ROWS: usize = 30_000;
 pub const MOVE_SETS: u64 = 64;
 
 /// Most (row, t-set) pairs the search caches the shown interaction of (4 bytes each).
-pub const MAX_SHOWN: usize = 1 << 25;
+pub const MAX_SHOWN: usize = 1 << 24;
 
 const ABSENT: u32 = u32::MAX;
 
@@ -283,6 +292,12 @@ impl<'a> Search<'a> {
     }
 }
 
+/// Whether the search takes a design of `rows` rows over `sets` t-sets at all (it refuses
+/// beyond [`MAX_ROWS`] rows or [`MAX_SHOWN`] cached interactions, keeping memory bounded).
+pub fn fits(rows: usize, sets: usize) -> bool {
+    rows <= MAX_ROWS && rows.saturating_mul(sets) <= MAX_SHOWN
+}
+
 /// Searches for a smaller design than `rows` (which must be valid: every possible
 /// interaction covered λ times, every row allowed), never going below `floor` rows,
 /// never touching the first `fixed` rows. Deterministic for a given `rng` state and budget.
@@ -299,7 +314,7 @@ pub fn tighten(
     params: Params,
 ) -> Outcome {
     let floor = floor.max(fixed).max(1);
-    if rows.len() <= floor || rows.len() > MAX_ROWS || rows.len().saturating_mul(inc.sets()) > MAX_SHOWN {
+    if rows.len() <= floor || !fits(rows.len(), inc.sets()) {
         return Outcome {
             rows: rows.to_vec(),
             moves: 0,
