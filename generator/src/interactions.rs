@@ -195,6 +195,24 @@ pub fn next_colex(cols: &mut [usize]) -> bool {
     false
 }
 
+/// Advances a sorted subset of `0..n` to the next one of the same size in lexicographic
+/// order; false (and `pick` unchanged) after the last.
+pub fn next_lex(pick: &mut [usize], n: usize) -> bool {
+    let j = pick.len();
+    let mut i = j;
+    while i > 0 {
+        i -= 1;
+        if pick[i] < n - j + i {
+            pick[i] += 1;
+            for q in i + 1..j {
+                pick[q] = pick[q - 1] + 1;
+            }
+            return true;
+        }
+    }
+    false
+}
+
 /// Calls `f` with every sorted `j`-subset of `items` (given sorted), in lexicographic order.
 pub fn for_each_subset(items: &[usize], j: usize, mut f: impl FnMut(&[usize])) {
     if j > items.len() {
@@ -207,21 +225,8 @@ pub fn for_each_subset(items: &[usize], j: usize, mut f: impl FnMut(&[usize])) {
             *b = items[p];
         }
         f(&buf);
-        // advance
-        let n = items.len();
-        let mut i = j;
-        loop {
-            if i == 0 {
-                return;
-            }
-            i -= 1;
-            if pick[i] < n - j + i {
-                pick[i] += 1;
-                for q in i + 1..j {
-                    pick[q] = pick[q - 1] + 1;
-                }
-                break;
-            }
+        if !next_lex(&mut pick, items.len()) {
+            return;
         }
     }
 }

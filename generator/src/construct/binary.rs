@@ -46,18 +46,7 @@ pub fn kleitman_spencer(k: usize) -> Vec<Row> {
         columns.push(subset.clone());
         // next w-subset of {0 … n − 2} in lexicographic order (there are enough: n is
         // chosen so that C(n − 1, w) ≥ k)
-        let top = n - 1;
-        let mut i = w;
-        while i > 0 {
-            i -= 1;
-            if subset[i] < top - w + i {
-                subset[i] += 1;
-                for j in i + 1..w {
-                    subset[j] = subset[j - 1] + 1;
-                }
-                break;
-            }
-        }
+        crate::interactions::next_lex(&mut subset, n - 1);
     }
     let mut rows = vec![vec![0u8; k]; n];
     for (col, set) in columns.iter().enumerate() {
