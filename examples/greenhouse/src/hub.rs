@@ -93,32 +93,27 @@ impl Hub {
 }
 
 mod log {
-    use std::sync::atomic::{AtomicU64, Ordering};
+    use std::hash::{BuildHasher, Hasher};
+    use std::time::Duration;
 
-    use crate::Summary;
+    /// Longest pause before a close-time write, so that workers closing together do not
+    /// all hit the audit log at once.
+    const MAX_JITTER_US: u64 = 2_000;
+    /// How long one audit write takes (the site's log is synced on every entry).
+    const WRITE_US: u64 = 50;
 
-    /// Rounds of mixing in the audit digest (the site's log format asks for a slow one).
-    const AUDIT_ROUNDS: u64 = 60_000;
+    /// Waits a random time below [`MAX_JITTER_US`] (fresh entropy from the standard
+    /// library's hasher keys).
+    pub fn jitter() {
+        let r = std::collections::hash_map::RandomState::new()
+            .build_hasher()
+            .finish();
+        std::thread::sleep(Duration::from_micros(r % MAX_JITTER_US));
+    }
 
-    /// Audit entries written by this process.
-    static ENTRIES: AtomicU64 = AtomicU64::new(0);
-
-    /// The digest of a summary that the close path writes to the audit log; every
-    /// second entry also seals the log page, which takes a while.
-    pub fn audit(summary: &Summary) -> u64 {
-        let seal = ENTRIES.fetch_add(1, Ordering::Relaxed) % 2 == 1;
-        let mut h = 0xcbf2_9ce4_8422_2325u64;
-        for (sensor, s) in summary {
-            for x in [*sensor as i64, s.count as i64, s.min, s.max, s.sum] {
-                h = (h ^ x as u64).wrapping_mul(0x0000_0100_0000_01b3);
-            }
-        }
-        if seal {
-            for _ in 0..AUDIT_ROUNDS {
-                h = std::hint::black_box(h.rotate_left(5) ^ 0x9e37_79b9);
-            }
-        }
-        h
+    /// Writes a summary's entry to the audit log.
+    pub fn audit(_summary: &crate::Summary) {
+        std::thread::sleep(Duration::from_micros(WRITE_US));
     }
 }
 
@@ -137,6 +132,7 @@ fn merge_locked(summary: &Mutex<Summary>, local: &mut Summary) {
 /// the later write overwrites the other's statistics (a lost update). With one worker,
 /// or with `EveryFrame` (which merges under the lock), nothing is lost.
 fn publish_on_close(summary: &Mutex<Summary>, local: &mut Summary) {
+    log::jitter();
     let mut merged = summary.lock().unwrap_or_else(|p| p.into_inner()).clone();
     for (sensor, stats) in std::mem::take(local) {
         merged.entry(sensor).or_default().merge(&stats);
