@@ -18,8 +18,11 @@ use heddle::tally::Tallies;
 pub struct Suspect {
     /// Index into [`Tallies::entries`].
     pub interaction: usize,
-    /// Between 0 and 1: share of all failures it explains times the share of its own
-    /// runs that failed.
+    /// Between 0 and 1, in the order suspects are ranked: above 0.5 for an interaction
+    /// every run of which failed (0.5 + half the share of all failures it explains);
+    /// below 0.5 for one that also passed (half the share of failures it explains times
+    /// the share of its own unexplained runs that failed); 0 for one whose failures are
+    /// already explained by others.
     pub score: f64,
     /// True when every run containing it failed ("fails always").
     pub always: bool,
@@ -240,6 +243,7 @@ pub fn analyse(tallies: &Tallies) -> Analysis {
     let suspect = |i: usize, g: u64, open: u64| {
         let c = &entries[i].count;
         let always = c.passes == 0;
+        let share = g as f64 / failures as f64;
         let reason = if always {
             format!(
                 "failed in all {} of its runs; explains {g} of {failures} failures",
@@ -253,7 +257,11 @@ pub fn analyse(tallies: &Tallies) -> Analysis {
         };
         Suspect {
             interaction: i,
-            score: g as f64 / failures as f64 * (g as f64 / open as f64).min(1.0),
+            score: if always {
+                0.5 + 0.5 * share
+            } else {
+                0.5 * share * (g as f64 / open as f64).min(1.0)
+            },
             always,
             explains: g,
             reason,
@@ -270,7 +278,7 @@ pub fn analyse(tallies: &Tallies) -> Analysis {
         if tally.passes == 0 && !picked.iter().any(|&(p, _, _)| p == c) {
             suspects.push(Suspect {
                 interaction: *i,
-                score: 0.5 * tally.failures as f64 / failures as f64,
+                score: 0.0,
                 always: true,
                 explains: 0,
                 reason: format!(
@@ -288,6 +296,12 @@ pub fn analyse(tallies: &Tallies) -> Analysis {
             .then(b.always.cmp(&a.always))
             .then(b.score.total_cmp(&a.score))
             .then(b.explains.cmp(&a.explains))
+            .then(
+                entries[b.interaction]
+                    .count
+                    .failures
+                    .cmp(&entries[a.interaction].count.failures),
+            )
             .then(
                 entries[a.interaction]
                     .interaction
@@ -321,6 +335,100 @@ pub fn analyse(tallies: &Tallies) -> Analysis {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    use heddle::record::{FactorSpec, Outcome, SpecRecord};
+
+    /// OA(9; 2, 4, 3) (Bose 1938 over GF(3)) twice, second copy with the levels of each
+    /// column shifted: λ = 2, every pair in exactly two rows.
+    fn rows() -> Vec<Vec<u8>> {
+        let oa = [
+            [0, 0, 0, 0],
+            [0, 1, 1, 2],
+            [0, 2, 2, 1],
+            [1, 0, 1, 1],
+            [1, 1, 2, 0],
+            [1, 2, 0, 2],
+            [2, 0, 2, 2],
+            [2, 1, 0, 1],
+            [2, 2, 1, 0],
+        ];
+        let mut out: Vec<Vec<u8>> = oa.iter().map(|r| r.to_vec()).collect();
+        out.extend(oa.iter().map(|r| {
+            r.iter()
+                .enumerate()
+                .map(|(c, &l)| ((l as usize + c) % 3) as u8)
+                .collect()
+        }));
+        out
+    }
+
+    fn spec() -> SpecRecord {
+        SpecRecord {
+            run: "r".into(),
+            krate: "k".into(),
+            target: "t".into(),
+            file: "tests/t.rs".into(),
+            function: "f".into(),
+            module: "t::f".into(),
+            suite: "f".into(),
+            factors: (0..4)
+                .map(|i| FactorSpec {
+                    name: format!("p{i}"),
+                    labels: vec!["a".into(), "b".into(), "c".into()],
+                })
+                .collect(),
+            strength: 2,
+            lambda: 2,
+            seed: 0,
+            excludes: Vec::new(),
+            rows: rows(),
+            fingerprint: "0".into(),
+            pinned: false,
+            should_panic: false,
+            time: String::new(),
+        }
+    }
+
+    #[test]
+    fn an_always_failing_pair_outranks_a_broader_flaky_one() {
+        // (p0 = a, p1 = a) always fails; (p2 = c, p3 = c) fails in one of its two rows,
+        // run three times each; more failures come from the flaky pair
+        let sp = spec();
+        let det = |r: &[u8]| r[0] == 0 && r[1] == 0;
+        let flaky_rows: Vec<usize> = (0..18)
+            .filter(|&i| sp.rows[i][2] == 2 && sp.rows[i][3] == 2)
+            .collect();
+        assert_eq!(flaky_rows.len(), 2);
+        let mut outcomes = Vec::new();
+        for round in 0..6 {
+            for (i, r) in sp.rows.iter().enumerate() {
+                let fail =
+                    det(r) || (i == flaky_rows[0] && round % 2 == 0) || (i == flaky_rows[1] && round < 4);
+                outcomes.push((i, if fail { Outcome::Failed } else { Outcome::Passed }));
+            }
+        }
+        let t = heddle::tally::tally(&sp, outcomes).unwrap();
+        let a = analyse(&t);
+        let name = |s: &Suspect| t.entries[s.interaction].interaction.clone();
+        assert_eq!(name(&a.suspects[0]).levels, vec![0, 0]);
+        assert_eq!(name(&a.suspects[0]).factors, vec![0, 1]);
+        assert!(a.suspects[0].always && a.suspects[0].score > 0.5);
+        let flaky: Vec<_> = a
+            .flaky
+            .iter()
+            .map(|f| t.entries[f.interaction].interaction.clone())
+            .collect();
+        assert!(
+            flaky
+                .iter()
+                .any(|i| i.factors == vec![2, 3] && i.levels == vec![2, 2]),
+            "{flaky:?}"
+        );
+        // scores fall with the rank
+        for w in a.suspects.windows(2) {
+            assert!(w[0].score >= w[1].score, "{:?}", a.suspects);
+        }
+    }
 
     #[test]
     fn wilson_matches_published_examples() {

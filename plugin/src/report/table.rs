@@ -8,6 +8,8 @@ use crate::style::Style;
 
 /// Suspects shown before "and N more".
 const SHOWN_SUSPECTS: usize = 5;
+/// Failing rows shown before "and N more".
+const SHOWN_ROWS: usize = 8;
 /// Interaction lines shown without `--all`.
 const SHOWN_INTERACTIONS: usize = 12;
 
@@ -134,7 +136,8 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, st: Style) {
     advice(out, s, st);
 
     let _ = writeln!(out, "\n  {}", st.bold("failing rows"));
-    for r in s.rows.iter().filter(|r| r.count.failures > 0) {
+    let failing: Vec<_> = s.rows.iter().filter(|r| r.count.failures > 0).collect();
+    for r in failing.iter().take(SHOWN_ROWS) {
         let labels = spec.row_labels(r.row).unwrap_or_default();
         let pairs: Vec<(&str, &str)> = spec
             .factors
@@ -163,6 +166,16 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, st: Style) {
         }
         let _ = writeln!(out, "      rerun: {}", spec.rerun_command(r.row));
     }
+    if failing.len() > SHOWN_ROWS {
+        let _ = writeln!(
+            out,
+            "    {}",
+            st.dim(&format!(
+                "and {} more (all in `--format json`)",
+                failing.len() - SHOWN_ROWS
+            ))
+        );
+    }
     interactions(out, s, all, st);
 }
 
@@ -177,19 +190,28 @@ fn advice(out: &mut String, s: &SuiteReport<'_>, st: Style) {
         pct(a.detectable)
     );
     if let Some((rate, lambda, rows)) = a.flake {
-        let repeat = lambda.div_ceil(s.spec.lambda.max(1));
-        let cost = match rows {
-            Some(r) => format!(
-                "{r} rows for this spec, now {}; or `--repeat {repeat}`",
-                s.spec.rows.len()
-            ),
-            None => format!("or run it `--repeat {repeat}` times"),
-        };
-        let _ = writeln!(
-            out,
-            "    the top flaky interaction fails {} of the time: lambda {lambda} sees it with {c} confidence ({cost})",
-            pct(rate)
-        );
+        if lambda <= s.spec.lambda {
+            let _ = writeln!(
+                out,
+                "    the top flaky interaction fails {} of the time: lambda {} already sees it with {c} confidence",
+                pct(rate),
+                s.spec.lambda
+            );
+        } else {
+            let repeat = lambda.div_ceil(s.spec.lambda.max(1));
+            let cost = match rows {
+                Some(r) => format!(
+                    "{r} rows for this spec, now {}; or `--repeat {repeat}`",
+                    s.spec.rows.len()
+                ),
+                None => format!("or run it `--repeat {repeat}` times"),
+            };
+            let _ = writeln!(
+                out,
+                "    the top flaky interaction fails {} of the time: lambda {lambda} sees it with {c} confidence ({cost})",
+                pct(rate)
+            );
+        }
     }
 }
 
