@@ -155,10 +155,13 @@ fn expand_fn(args: &Args, f: &ItemFn, ctx: &Context) -> Result<TokenStream, syn:
 
 /// The function as the user wrote it, minus what belongs to heddle or to the rows:
 /// `#[levels]` on parameters, `#[cover]`, `#[test]`, `#[ignore]`, `#[should_panic]` and
-/// a runtime's test attribute.
+/// a runtime's test attribute. One parameter per knob is the point of `#[cover]`, so
+/// clippy's `too_many_arguments` is allowed on it.
 pub fn plain_fn(f: &ItemFn) -> ItemFn {
     let mut f = f.clone();
     f.attrs.retain(|a| !moved_off_the_fn(a));
+    f.attrs
+        .push(syn::parse_quote!(#[allow(clippy::too_many_arguments)]));
     for input in &mut f.sig.inputs {
         let attrs = match input {
             FnArg::Receiver(r) => &mut r.attrs,
