@@ -60,7 +60,7 @@ fn ui() {
         "params",
         "levels",
         "excludes",
-        "target",
+        "item",
         "signature",
         "accumulated",
         "pins",
