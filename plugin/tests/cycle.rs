@@ -95,6 +95,34 @@ fn test_report_pin_check_cycle() {
         assert_eq!(failed, failing.contains(&(i as u64)));
     }
 
+    // 1b. the same under nextest (one process per row, one run id for all of them)
+    let nextest = std::process::Command::new(heddle_e2e::scratch::cargo_program())
+        .args(["nextest", "--version"])
+        .output();
+    if nextest.is_ok_and(|o| o.status.success()) {
+        let run = heddle(&krate, &["test", "--nextest", "--quiet", "--format", "json"]);
+        assert_ne!(
+            run.code,
+            Some(0),
+            "the planted fault fails the run: {}",
+            run.stderr
+        );
+        let v: serde_json::Value =
+            serde_json::from_str(&run.stdout).unwrap_or_else(|e| panic!("{e}: {}", run.stdout));
+        assert_eq!(
+            v["runs"].as_array().map(Vec::len),
+            Some(1),
+            "one run id across processes"
+        );
+        assert_eq!(v["suites"][0]["executions"].as_u64(), Some(rows as u64));
+        assert_eq!(
+            v["suites"][0]["suspects"][0]["levels"],
+            serde_json::json!({"currency": "\"JPY\"", "rounding": "Rounding::Half"})
+        );
+    } else {
+        heddle_e2e::scratch::note("cargo-nextest is not installed: skipping `cargo heddle test --nextest`");
+    }
+
     // 2. `pin` writes the pins file, `check` passes, the build now uses the pinned rows
     let pin = heddle(&krate, &["pin"]);
     assert_eq!(pin.code, Some(0), "{}", pin.stderr);
