@@ -14,6 +14,27 @@
 //! Recording is best effort: when the store cannot be written, the test process prints
 //! one warning and the tests run as they would without heddle.
 //!
+//! ```
+//! use heddle::cover;
+//!
+//! #[derive(Clone, Copy, Debug, PartialEq)]
+//! enum Codec { Plain, Delta }
+//!
+//! // under `cargo test`: tests `roundtrip::row_00`, `roundtrip::row_01`, …, every pair
+//! // of levels twice, never `Delta` with a batch of 1
+//! #[cover(lambda = 2, exclude(codec == Codec::Delta && batch == 1))]
+//! fn roundtrip(
+//!     #[levels(1, 8, 64)] batch: usize,
+//!     #[levels(Codec::Plain, Codec::Delta)] codec: Codec,
+//!     #[levels(true, false)] checksum: bool,
+//! ) {
+//!     assert!(batch > 1 || codec == Codec::Plain || checksum);
+//! }
+//!
+//! // and the function itself stays an ordinary function
+//! roundtrip(8, Codec::Delta, true);
+//! ```
+//!
 //! # Environment
 //! Empty values count as unset; an invalid value turns recording off with a one-line
 //! warning naming the variable (tests still run and pass or fail as usual).
