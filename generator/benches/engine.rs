@@ -356,9 +356,16 @@ fn main() -> ExitCode {
         if rs.is_empty() {
             continue;
         }
-        let mean = |f: fn(&(&str, f64, f64)) -> f64| rs.iter().map(|r| f(r)).sum::<f64>() / rs.len() as f64;
+        let mean = |f: fn(&(&str, f64, f64)) -> f64| {
+            let m = rs.iter().map(|r| f(r)).sum::<f64>() / rs.len() as f64;
+            if m.is_nan() {
+                "-".to_string()
+            } else {
+                format!("{m:.3}")
+            }
+        };
         println!(
-            "mean ratio over {} {g} instances: fast {:.3}, tight {:.3}",
+            "mean ratio over {} {g} instances: fast {}, tight {}",
             rs.len(),
             mean(|r| r.1),
             mean(|r| r.2)
