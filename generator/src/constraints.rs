@@ -8,8 +8,8 @@
 use std::collections::HashMap;
 
 use crate::expr::Expr;
+use crate::factor::UNSET;
 use crate::interactions::Layout;
-use crate::model::UNSET;
 
 struct Component {
     factors: Vec<usize>,
@@ -91,11 +91,6 @@ impl Constraints {
             comps,
             memo: HashMap::new(),
         }
-    }
-
-    /// True when there are no excludes at all.
-    pub fn is_empty(&self) -> bool {
-        self.excludes.is_empty()
     }
 
     /// True when some exclude mentions factor `f`.
@@ -224,7 +219,7 @@ impl Constraints {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::model::Factor;
+    use crate::factor::Factor;
 
     fn fs(n: usize, v: usize) -> Vec<Factor> {
         (0..n)

@@ -9,14 +9,16 @@
 //! the last word.
 
 use crate::bounds;
+use crate::complete::complete_valid;
 use crate::constraints::Constraints;
 use crate::construct;
 use crate::demand::Demand;
 use crate::error::Error;
+use crate::factor::{Row, UNSET};
 use crate::greedy;
 use crate::incidence::Incidence;
 use crate::interactions::Layout;
-use crate::model::{Effort, Row, Spec};
+use crate::model::{Effort, Spec};
 use crate::order;
 use crate::rng::{Rng, stream};
 use crate::tighten;
@@ -79,6 +81,13 @@ pub fn generate(spec: &Spec, effort: Effort) -> Result<Design, Error> {
         return Err(Error::NothingAllowed);
     }
     let (possible, impossible) = cons.possible(&layout);
+    // required rows with unset cells are completed first, as `complete` does (kept even
+    // where they add nothing: they are required)
+    let required: Vec<Row> = if spec.required.iter().any(|r| r.contains(&UNSET)) {
+        complete_valid(spec, &spec.required, true).rows
+    } else {
+        spec.required.clone()
+    };
 
     let lower = bounds::lower_bound(&levels, t, spec.lambda);
     let construction = if spec.excludes.is_empty() && spec.required.is_empty() {
@@ -95,11 +104,11 @@ pub fn generate(spec: &Spec, effort: Effort) -> Result<Design, Error> {
         Some(c) if proven => (c.method, c.rows),
         construction => {
             let mut demand = Demand::new(&possible, spec.lambda);
-            for row in &spec.required {
+            for row in &required {
                 demand.cover(&layout, row);
             }
             let mut rng = Rng::new(spec.seed, stream::GREEDY);
-            let mut rows = spec.required.clone();
+            let mut rows = required.clone();
             rows.extend(greedy::extend(
                 &layout,
                 &mut demand,
@@ -107,7 +116,7 @@ pub fn generate(spec: &Spec, effort: Effort) -> Result<Design, Error> {
                 &mut rng,
                 greedy::Params::for_layout(&layout),
             ));
-            order::drop_redundant(&layout, &possible, spec.lambda, &mut rows, spec.required.len());
+            order::drop_redundant(&layout, &possible, spec.lambda, &mut rows, required.len());
             match construction {
                 // a construction wins ties: its structure is the optimum where it applies
                 Some(c) if c.rows.len() <= rows.len() => (c.method, c.rows),
@@ -128,7 +137,7 @@ pub fn generate(spec: &Spec, effort: Effort) -> Result<Design, Error> {
             spec.lambda,
             &mut cons,
             &rows,
-            spec.required.len(),
+            required.len(),
             lower as usize,
             &mut rng,
             tighten::Params::new(budget, t, levels.iter().copied().max().unwrap_or(1)),
@@ -138,7 +147,7 @@ pub fn generate(spec: &Spec, effort: Effort) -> Result<Design, Error> {
             method.push_str("+tabu");
         }
     }
-    order::order_by_gain(&layout, &possible, spec.lambda, &mut rows, spec.required.len());
+    order::order_by_gain(&layout, &possible, spec.lambda, &mut rows, required.len());
     verify(spec, &rows).map_err(|v| Error::Internal(format!("{method} produced an invalid design: {v}")))?;
     let coverage_curve = order::coverage_curve(&layout, &possible, spec.lambda, &rows);
     let stats = Stats {

@@ -54,8 +54,8 @@ pub enum Error {
     },
     /// Strength above what the engine supports.
     StrengthTooHigh {
-        /// Strength given.
-        strength: usize,
+        /// Strength given (as parsed, before narrowing).
+        strength: u64,
         /// The limit.
         limit: usize,
     },
@@ -63,8 +63,8 @@ pub enum Error {
     LambdaZero,
     /// λ above what the counters hold.
     LambdaTooHigh {
-        /// λ given.
-        lambda: u32,
+        /// λ given (as parsed, before narrowing).
+        lambda: u64,
         /// The limit.
         limit: u32,
     },
@@ -76,6 +76,13 @@ pub enum Error {
         factor: usize,
         /// Level index used.
         level: u8,
+    },
+    /// An exclude nests deeper than [`crate::MAX_FORMULA_DEPTH`].
+    ExcludeTooDeep {
+        /// Position of the constraint among the excludes.
+        constraint: usize,
+        /// The limit.
+        limit: usize,
     },
     /// A required row has the wrong number of entries.
     RequiredRowWidth {
@@ -101,6 +108,11 @@ pub enum Error {
         row: usize,
         /// Position of the constraint that excludes it.
         constraint: usize,
+    },
+    /// A required row with unset cells has no allowed completion.
+    RequiredRowNotCompletable {
+        /// Position among the required rows.
+        row: usize,
     },
     /// The constraints exclude every row.
     NothingAllowed,
@@ -178,6 +190,14 @@ impl fmt::Display for Error {
                 row + 1,
                 constraint + 1
             ),
+            Error::ExcludeTooDeep { constraint, limit } => {
+                write!(f, "exclude #{} nests deeper than {limit} levels", constraint + 1)
+            }
+            Error::RequiredRowNotCompletable { row } => write!(
+                f,
+                "required row #{} cannot be completed: the excludes rule out every level of its unset cells",
+                row + 1
+            ),
             Error::NothingAllowed => write!(f, "the excludes rule out every row"),
             Error::TooLarge { interactions, limit } => write!(
                 f,
@@ -190,6 +210,39 @@ impl fmt::Display for Error {
                  lower lambda, the strength or the number of levels"
             ),
             Error::Internal(msg) => write!(f, "internal error (please report): {msg}"),
+        }
+    }
+}
+
+impl Error {
+    /// What the user can do about it, for a front end to show after the message (as
+    /// `hint: …`); the message itself stays one clause that callers can prefix.
+    pub fn hint(&self) -> &'static str {
+        match self {
+            Error::NoFactors => "declare at least one factor",
+            Error::TooManyFactors { .. } => "split the factors over several specs",
+            Error::EmptyName => "give every factor a name",
+            Error::DuplicateFactor { .. } => "rename one of the two factors",
+            Error::NoLevels { .. } => "give the factor at least one level",
+            Error::TooManyLevels { .. } => "group the levels into classes",
+            Error::DuplicateLevel { .. } => "remove or rename the repeated level",
+            Error::StrengthZero => "use `strength = 1` or more",
+            Error::StrengthAboveFactors { .. } => {
+                "lower the strength to the number of factors, or add factors"
+            }
+            Error::StrengthTooHigh { .. } => "lower the strength",
+            Error::LambdaZero => "use `lambda = 1` or more",
+            Error::LambdaTooHigh { .. } => "lower lambda",
+            Error::BadConstraintRef { .. } => "refer only to declared factors and levels",
+            Error::ExcludeTooDeep { .. } => "split the exclude into several simpler excludes",
+            Error::RequiredRowWidth { .. } => "give every required row one entry per factor",
+            Error::RequiredRowLevel { .. } => "use only declared levels in required rows",
+            Error::RequiredRowExcluded { .. } => "drop the row or loosen the exclude",
+            Error::RequiredRowNotCompletable { .. } => "set the unset cells yourself or loosen the excludes",
+            Error::NothingAllowed => "loosen the excludes so that at least one combination stays allowed",
+            Error::TooLarge { .. } => "lower the strength or the number of levels",
+            Error::TooManyRows { .. } => "lower lambda, the strength or the number of levels",
+            Error::Internal(_) => "report this, with the spec, as an engine bug",
         }
     }
 }

@@ -15,8 +15,8 @@
 
 use crate::constraints::Constraints;
 use crate::demand::Demand;
-use crate::interactions::Layout;
-use crate::model::{Row, UNSET};
+use crate::factor::{Row, UNSET};
+use crate::interactions::{Layout, next_lex};
 use crate::rng::Rng;
 
 /// Tuning of the greedy.
@@ -316,21 +316,8 @@ impl<'a> Builder<'a> {
                 self.score[l] += n as u64;
                 self.met[l] += (n > 0) as u64;
             }
-            // next j-subset of positions
-            let n = fixed.len();
-            let mut i = j;
-            loop {
-                if i == 0 {
-                    return;
-                }
-                i -= 1;
-                if self.pick[i] < n - j + i {
-                    self.pick[i] += 1;
-                    for q in i + 1..j {
-                        self.pick[q] = self.pick[q - 1] + 1;
-                    }
-                    break;
-                }
+            if !next_lex(&mut self.pick, fixed.len()) {
+                return;
             }
         }
     }

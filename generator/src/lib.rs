@@ -3,9 +3,9 @@
 //! Given factors and their levels, a strength t, an index λ, exclude constraints and a
 //! seed, [`generate`] returns a small set of rows in which every t-way combination of
 //! levels that some allowed row contains appears at least λ times. It tries algebraic
-//! constructions, a greedy and (with [`Effort::Tight`]) a local search, keeps the
-//! smallest, and checks it with an independent checker ([`verify`]) before returning.
-//! Everything is deterministic: the same spec gives the same rows on every platform.
+//! constructions, a greedy and a local search, keeps the smallest, and checks it with an
+//! independent checker ([`verify`]) before returning. Everything is deterministic: the
+//! same spec gives the same rows on every platform.
 //!
 //! ```
 //! use heddle_generator::{generate, Effort, Factor, Spec};
@@ -13,32 +13,56 @@
 //! let design = generate(&spec, Effort::Fast).unwrap();
 //! assert_eq!(design.rows.len(), 9); // an orthogonal array OA(9; 2, 4, 3)
 //! ```
+//!
+//! # Modules
+//!
+//! The public surface is the crate root; the modules behind it:
+//! - `factor`, `expr`, `model`, `limits`, `error`: the problem statement — factors,
+//!   exclude formulas and their two text forms, the spec, the limits and range checks,
+//!   and every way a spec is refused;
+//! - `engine`: [`generate`], which runs the methods below and keeps the smallest result;
+//!   `complete`: [`complete`], rows with unset cells filled in;
+//! - `construct`: algebraic constructions (orthogonal arrays, Hadamard, binary families,
+//!   recursions), fitted to a spec by dropping columns, collapsing levels and stacking;
+//! - `greedy`, `tighten`, `order`: the one-row-at-a-time greedy, the local search that
+//!   removes rows, and the finishing passes;
+//! - `interactions`, `incidence`, `demand`, `constraints`: numbering of t-way
+//!   interactions, per-column t-set tables, remaining demand, and exact answers to "can
+//!   this partial row still be allowed?";
+//! - `verify`: the independent checker; `bounds`: the counting and first-moment bounds;
+//!   `rng`: the one source of randomness.
 
 #![warn(missing_docs)]
 
 pub mod bounds;
-pub mod constraints;
-pub mod construct;
+mod complete;
+mod constraints;
+mod construct;
 mod demand;
 mod engine;
 mod error;
 mod expr;
-pub mod greedy;
-pub mod incidence;
-pub mod interactions;
+mod factor;
+mod greedy;
+mod incidence;
+mod interactions;
+mod limits;
 mod model;
-pub mod order;
+mod order;
 mod rng;
-pub mod tighten;
+mod tighten;
 mod verify;
 
+pub use complete::{Completion, complete};
 pub use engine::{Design, FAST_BUDGET, Stats, generate};
 pub use error::Error;
-pub use expr::{Expr, ParseError};
-pub use model::{
-    Effort, Factor, MAX_FACTORS, MAX_INTERACTIONS, MAX_LAMBDA, MAX_LEVELS, MAX_ROWS, MAX_STRENGTH, Row, Spec,
-    UNSET,
+pub use expr::{Expr, FORMULA_VERSION, ParseError};
+pub use factor::{Factor, Row, UNSET};
+pub use limits::{
+    MAX_FACTORS, MAX_FORMULA_DEPTH, MAX_INTERACTIONS, MAX_LAMBDA, MAX_LEVELS, MAX_ROWS, MAX_STRENGTH,
+    check_lambda, check_strength,
 };
+pub use model::{Effort, Spec};
 pub use verify::{Coverage, Violation, verify};
 
 /// Version of the generation algorithms. Any change that can alter the rows produced for

@@ -1,65 +1,14 @@
-//! The problem statement the engine accepts, and the limits that keep it in bounded memory.
+//! The problem statement the engine accepts and how hard to work on it.
 
 use std::collections::BTreeSet;
 
+use crate::constraints::Constraints;
 use crate::error::Error;
 use crate::expr::Expr;
-
-/// One row of a design: the level index chosen for every factor, in factor order.
-pub type Row = Vec<u8>;
-
-/// Sentinel for "no level chosen yet" in partial rows; level indices never reach it
-/// because a factor has at most [`MAX_LEVELS`] levels.
-pub const UNSET: u8 = u8::MAX;
-
-/// Most levels one factor may have (indices `0..MAX_LEVELS` fit a `u8` below [`UNSET`]).
-pub const MAX_LEVELS: usize = 255;
-/// Most factors in one spec.
-pub const MAX_FACTORS: usize = 4096;
-/// Highest strength accepted.
-pub const MAX_STRENGTH: usize = 8;
-/// Highest index accepted; per-interaction counters are 16 bits wide.
-pub const MAX_LAMBDA: u32 = 1000;
-/// Most t-way interactions the engine tracks; each costs a few bytes of counters, so this
-/// keeps generation well under a gigabyte whatever the spec.
-pub const MAX_INTERACTIONS: u64 = 1 << 24;
-/// Most rows the engine will produce (the lower bound alone may exceed it).
-pub const MAX_ROWS: u64 = 1 << 20;
-
-/// A factor: a name and the labels of its levels, in order.
-///
-/// ```
-/// use heddle_generator::Factor;
-/// let codec = Factor::new("codec", ["plain", "rle", "delta"]);
-/// assert_eq!(codec.levels.len(), 3);
-/// ```
-#[derive(Clone, Debug, PartialEq, Eq)]
-pub struct Factor {
-    /// Name, unique within the spec; constraints refer to it.
-    pub name: String,
-    /// Level labels, unique within the factor; constraints refer to them.
-    pub levels: Vec<String>,
-}
-
-impl Factor {
-    /// A factor from a name and its level labels.
-    pub fn new<S: Into<String>>(name: impl Into<String>, levels: impl IntoIterator<Item = S>) -> Self {
-        Factor {
-            name: name.into(),
-            levels: levels.into_iter().map(Into::into).collect(),
-        }
-    }
-
-    /// A factor with `count` levels labelled `0`, `1`, … (the form `V^N` specs use).
-    pub fn numbered(name: impl Into<String>, count: usize) -> Self {
-        Factor::new(name, (0..count).map(|i| i.to_string()))
-    }
-
-    /// The index of the level with this label.
-    pub fn level_index(&self, label: &str) -> Option<u8> {
-        self.levels.iter().position(|l| l == label).map(|i| i as u8)
-    }
-}
+use crate::factor::{Factor, Row, UNSET};
+use crate::limits::{
+    MAX_FACTORS, MAX_FORMULA_DEPTH, MAX_INTERACTIONS, MAX_LEVELS, MAX_ROWS, check_lambda, check_strength,
+};
 
 /// Everything that determines a design: the same spec gives the same rows everywhere.
 ///
@@ -83,7 +32,10 @@ pub struct Spec {
     pub seed: u64,
     /// A row is allowed when none of these is true for it.
     pub excludes: Vec<Expr>,
-    /// Rows the design must contain (counted toward coverage), in this order, first.
+    /// Rows the design must contain (counted toward coverage), in this order, first. A
+    /// cell may be [`UNSET`]: the design then starts with the row completed as
+    /// [`crate::complete`] does, the cell at the level that covers most of what the rows
+    /// before it left short of λ, among the levels the excludes allow.
     pub required: Vec<Row>,
 }
 
@@ -124,7 +76,8 @@ impl Spec {
         self
     }
 
-    /// Adds a required row.
+    /// Adds a required row. Cells may be [`UNSET`]: the engine fills them (see
+    /// [`crate::complete`]) before it counts the row.
     pub fn require(mut self, row: Row) -> Self {
         self.required.push(row);
         self
@@ -140,9 +93,42 @@ impl Spec {
         self.factors.iter().position(|f| f.name == name)
     }
 
+    /// Whether some complete row satisfies none of the excludes: an exact search over the
+    /// factors the excludes mention, so that a front end can refuse excludes that rule out
+    /// everything, and say which, before asking for a design. Excludes that
+    /// [`Spec::validate`] would refuse (a reference outside the factors, too deep) are
+    /// left out of the question.
+    ///
+    /// ```
+    /// use heddle_generator::{Expr, Factor, Spec};
+    /// let f = vec![Factor::numbered("a", 2), Factor::numbered("b", 2)];
+    /// let spec = Spec::new(f).exclude(Expr::is(0, 0).and(Expr::is(1, 0)));
+    /// assert!(spec.any_allowed());
+    /// // a = 0 forces b = 1, and a = 1 is excluded outright: still a = 0, b = 1
+    /// let spec = spec.exclude(Expr::is(0, 1));
+    /// assert!(spec.any_allowed());
+    /// assert!(!spec.exclude(Expr::is(1, 1)).any_allowed());
+    /// ```
+    pub fn any_allowed(&self) -> bool {
+        let levels = self.levels();
+        let usable: Vec<Expr> = self
+            .excludes
+            .iter()
+            .filter(|e| !e.depth_exceeds(MAX_FORMULA_DEPTH) && e.check_refs(&levels).is_ok())
+            .cloned()
+            .collect();
+        Constraints::new(&usable, &levels).any_allowed()
+    }
+
     /// Checks everything that can be checked without searching: shape, limits, names,
     /// constraint references and required rows. Generation calls it first.
     pub fn validate(&self) -> Result<(), Error> {
+        self.validate_problem()?;
+        self.validate_rows(&self.required, true)
+    }
+
+    /// [`Spec::validate`] without the required rows.
+    pub(crate) fn validate_problem(&self) -> Result<(), Error> {
         let k = self.factors.len();
         if k == 0 {
             return Err(Error::NoFactors);
@@ -192,53 +178,22 @@ impl Spec {
                 factors: k,
             });
         }
-        if self.strength > MAX_STRENGTH {
-            return Err(Error::StrengthTooHigh {
-                strength: self.strength,
-                limit: MAX_STRENGTH,
-            });
-        }
-        if self.lambda == 0 {
-            return Err(Error::LambdaZero);
-        }
-        if self.lambda > MAX_LAMBDA {
-            return Err(Error::LambdaTooHigh {
-                lambda: self.lambda,
-                limit: MAX_LAMBDA,
-            });
-        }
+        check_strength(self.strength as u64)?;
+        check_lambda(u64::from(self.lambda))?;
         let levels = self.levels();
         for (i, e) in self.excludes.iter().enumerate() {
+            if e.depth_exceeds(MAX_FORMULA_DEPTH) {
+                return Err(Error::ExcludeTooDeep {
+                    constraint: i,
+                    limit: MAX_FORMULA_DEPTH,
+                });
+            }
             e.check_refs(&levels)
                 .map_err(|(factor, level)| Error::BadConstraintRef {
                     constraint: i,
                     factor,
                     level,
                 })?;
-        }
-        for (i, row) in self.required.iter().enumerate() {
-            if row.len() != k {
-                return Err(Error::RequiredRowWidth {
-                    row: i,
-                    width: row.len(),
-                    factors: k,
-                });
-            }
-            for (c, &l) in row.iter().enumerate() {
-                if l as usize >= levels[c] {
-                    return Err(Error::RequiredRowLevel {
-                        row: i,
-                        factor: self.factors[c].name.clone(),
-                        level: l,
-                    });
-                }
-            }
-            if let Some(e) = self.excludes.iter().position(|e| e.eval(row)) {
-                return Err(Error::RequiredRowExcluded {
-                    row: i,
-                    constraint: e,
-                });
-            }
         }
         let interactions = crate::interactions::count(&levels, self.strength);
         if interactions > MAX_INTERACTIONS as u128 {
@@ -253,6 +208,50 @@ impl Spec {
                 lower_bound: lower,
                 limit: MAX_ROWS,
             });
+        }
+        Ok(())
+    }
+
+    /// Checks rows meant to be required: width, levels (cells may be [`UNSET`]) and, with
+    /// `allowed`, that the excludes allow each (some completion of it, if it has unset
+    /// cells).
+    pub(crate) fn validate_rows(&self, rows: &[Row], allowed: bool) -> Result<(), Error> {
+        let k = self.factors.len();
+        let levels = self.levels();
+        let mut cons = None;
+        for (i, row) in rows.iter().enumerate() {
+            if row.len() != k {
+                return Err(Error::RequiredRowWidth {
+                    row: i,
+                    width: row.len(),
+                    factors: k,
+                });
+            }
+            for (c, &l) in row.iter().enumerate() {
+                if l != UNSET && l as usize >= levels[c] {
+                    return Err(Error::RequiredRowLevel {
+                        row: i,
+                        factor: self.factors[c].name.clone(),
+                        level: l,
+                    });
+                }
+            }
+            if !allowed {
+                continue;
+            }
+            if row.contains(&UNSET) {
+                // unset cells are filled by the engine (see `crate::complete`); some fill
+                // must be allowed
+                let cons = cons.get_or_insert_with(|| Constraints::new(&self.excludes, &levels));
+                if !cons.extendable(row) {
+                    return Err(Error::RequiredRowNotCompletable { row: i });
+                }
+            } else if let Some(e) = self.excludes.iter().position(|e| e.eval(row)) {
+                return Err(Error::RequiredRowExcluded {
+                    row: i,
+                    constraint: e,
+                });
+            }
         }
         Ok(())
     }

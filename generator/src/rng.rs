@@ -31,11 +31,6 @@ impl Rng {
         self.below(n as u32) as usize
     }
 
-    /// Uniform in [0, 1).
-    pub fn unit(&mut self) -> f64 {
-        (self.0.next_u64() >> 11) as f64 * (1.0 / (1u64 << 53) as f64)
-    }
-
     /// Shuffles in place (Fisher–Yates).
     pub fn shuffle<T>(&mut self, items: &mut [T]) {
         for i in (1..items.len()).rev() {

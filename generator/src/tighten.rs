@@ -21,8 +21,8 @@
 //! extendability search allows, or the row is not a candidate.
 
 use crate::constraints::Constraints;
+use crate::factor::{Row, UNSET};
 use crate::incidence::Incidence;
-use crate::model::{Row, UNSET};
 use crate::rng::Rng;
 
 /// Tuning of the search.
@@ -59,7 +59,7 @@ impl Params {
 }
 
 /// Most rows the search works on: per-interaction slack is kept in 16 bits.
-pub const MAX_ROWS: usize = 30_000;
+pub const SEARCH_MAX_ROWS: usize = 30_000;
 
 /// t-sets through the changed column that one move pays for (see [`Params::budget`]).
 pub const MOVE_SETS: u64 = 64;
@@ -74,8 +74,6 @@ const ABSENT: u32 = u32::MAX;
 pub struct Outcome {
     /// The smallest valid design found (the input when nothing better was found).
     pub rows: Vec<Row>,
-    /// Moves spent.
-    pub moves: u64,
 }
 
 struct Search<'a> {
@@ -293,9 +291,9 @@ impl<'a> Search<'a> {
 }
 
 /// Whether the search takes a design of `rows` rows over `sets` t-sets at all (it refuses
-/// beyond [`MAX_ROWS`] rows or [`MAX_SHOWN`] cached interactions, keeping memory bounded).
+/// beyond [`SEARCH_MAX_ROWS`] rows or [`MAX_SHOWN`] cached interactions, keeping memory bounded).
 pub fn fits(rows: usize, sets: usize) -> bool {
-    rows <= MAX_ROWS && rows.saturating_mul(sets) <= MAX_SHOWN
+    rows <= SEARCH_MAX_ROWS && rows.saturating_mul(sets) <= MAX_SHOWN
 }
 
 /// Searches for a smaller design than `rows` (which must be valid: every possible
@@ -315,10 +313,7 @@ pub fn tighten(
 ) -> Outcome {
     let floor = floor.max(fixed).max(1);
     if rows.len() <= floor || !fits(rows.len(), inc.sets()) {
-        return Outcome {
-            rows: rows.to_vec(),
-            moves: 0,
-        };
+        return Outcome { rows: rows.to_vec() };
     }
     let mut s = Search::new(inc, possible, lambda, rows, fixed);
     let mut best = rows.to_vec();
@@ -434,7 +429,7 @@ pub fn tighten(
         }
         step += 1;
     }
-    Outcome { rows: best, moves }
+    Outcome { rows: best }
 }
 
 /// Makes `row`, whose cells on `keep` are set as wanted, allowed by changing only its

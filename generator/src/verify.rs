@@ -6,7 +6,8 @@
 use std::fmt;
 
 use crate::expr::Expr;
-use crate::model::{Spec, UNSET};
+use crate::factor::UNSET;
+use crate::model::Spec;
 
 /// What the checker found on a valid design.
 #[derive(Clone, Debug, PartialEq, Eq)]
@@ -95,7 +96,8 @@ impl fmt::Display for Violation {
 
 /// Checks that `rows` is a covering array of strength `spec.strength` and index
 /// `spec.lambda` for every interaction some allowed row contains, that no row is
-/// excluded, and that the rows begin with the spec's required rows.
+/// excluded, and that the rows begin with the spec's required rows (an [`UNSET`] cell of a
+/// required row matches any level).
 ///
 /// ```
 /// use heddle_generator::{verify, Factor, Spec};
@@ -131,7 +133,11 @@ pub fn verify(spec: &Spec, rows: &[Vec<u8>]) -> Result<Coverage, Violation> {
         }
     }
     for (i, req) in spec.required.iter().enumerate() {
-        if rows.get(i) != Some(req) {
+        // an unset cell of a required row matches whatever level fills it
+        let matches = rows.get(i).is_some_and(|row| {
+            row.len() == req.len() && row.iter().zip(req).all(|(&a, &b)| b == UNSET || a == b)
+        });
+        if !matches {
             return Err(Violation::MissingRequired { required: i });
         }
     }

@@ -36,27 +36,17 @@ fn direct_below(n: u64, p: f64, lambda: u32) -> f64 {
 /// Σ over t-sets of Πv · P[Bin(N, 1/Πv) < λ], with the t-sets enumerated directly.
 fn expected_short(levels: &[usize], t: usize, lambda: u32, n: u64, below: fn(u64, f64, u32) -> f64) -> f64 {
     let k = levels.len();
-    let mut total = 0.0;
-    let mut pick: Vec<usize> = (0..t).collect();
-    loop {
-        let prod: f64 = pick.iter().map(|&c| levels[c] as f64).product();
-        total += prod * below(n, 1.0 / prod, lambda);
-        // next t-subset in lexicographic order
-        let mut i = t;
-        loop {
-            if i == 0 {
-                return total;
-            }
-            i -= 1;
-            if pick[i] < k - t + i {
-                pick[i] += 1;
-                for q in i + 1..t {
-                    pick[q] = pick[q - 1] + 1;
-                }
-                break;
-            }
-        }
-    }
+    // t-sets as the bit masks of k bits with t ones (k ≤ 20 here)
+    (0u32..1 << k)
+        .filter(|m| m.count_ones() as usize == t)
+        .map(|m| {
+            let prod: f64 = (0..k)
+                .filter(|&c| m >> c & 1 == 1)
+                .map(|c| levels[c] as f64)
+                .product();
+            prod * below(n, 1.0 / prod, lambda)
+        })
+        .sum()
 }
 
 const CASES: &[(&[usize], usize, u32)] = &[

@@ -105,7 +105,7 @@ fn parameter_errors() {
     refused(
         &Spec::new(f.clone()).strength(MAX_STRENGTH + 1),
         Error::StrengthTooHigh {
-            strength: MAX_STRENGTH + 1,
+            strength: MAX_STRENGTH as u64 + 1,
             limit: MAX_STRENGTH,
         },
         &["9", "8"],
@@ -118,7 +118,7 @@ fn parameter_errors() {
     refused(
         &Spec::new(f).lambda(MAX_LAMBDA + 1),
         Error::LambdaTooHigh {
-            lambda: MAX_LAMBDA + 1,
+            lambda: u64::from(MAX_LAMBDA) + 1,
             limit: MAX_LAMBDA,
         },
         &["1001", "1000"],

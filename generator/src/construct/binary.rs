@@ -4,7 +4,7 @@
 use std::sync::OnceLock;
 
 use super::hadamard;
-use crate::model::Row;
+use crate::factor::Row;
 
 /// C(n, r), saturating at `u128::MAX`.
 fn binomial(n: usize, r: usize) -> u128 {

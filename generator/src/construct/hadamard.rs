@@ -9,7 +9,7 @@
 use std::collections::BTreeMap;
 
 use super::gf::{self, Field};
-use crate::model::Row;
+use crate::factor::Row;
 
 /// How to build a Hadamard matrix of some order.
 #[derive(Clone, Debug, PartialEq, Eq)]
@@ -129,6 +129,7 @@ pub struct Hadamard {
 
 impl Hadamard {
     /// The order.
+    #[cfg(test)]
     pub fn order(&self) -> usize {
         self.n
     }
@@ -139,6 +140,7 @@ impl Hadamard {
     }
 
     /// Whether H·Hᵀ = n·I and every entry is ±1 (checked in full).
+    #[cfg(test)]
     pub fn is_hadamard(&self) -> bool {
         let n = self.n;
         if self.h.iter().any(|&x| x != 1 && x != -1) {

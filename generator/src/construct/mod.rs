@@ -7,17 +7,22 @@
 //! (a knapsack over the index), and removes rows that the result covers more than needed.
 
 mod binary;
-pub mod gf;
-pub mod hadamard;
+mod gf;
+mod hadamard;
+mod offers;
 mod orthogonal;
 mod stack;
+#[cfg(test)]
+mod tests;
 mod transform;
 
 use hadamard::Recipe;
+use offers::{Candidate, candidates};
 use stack::Offer;
 
 use crate::bounds;
-use crate::model::{MAX_LEVELS, MAX_ROWS, Row};
+use crate::factor::Row;
+use crate::limits::{MAX_LEVELS, MAX_ROWS};
 use crate::rng::{Rng, stream};
 
 /// A design produced by a construction.
@@ -149,25 +154,8 @@ impl Source {
     }
 }
 
-/// An offered construction: what it is, its index at the wanted strength, its rows, and
-/// whether some interactions may be covered more than that index (collapsed levels, or
-/// a composite of smaller constructions), so that rows may be redundant.
-struct Candidate {
-    source: Source,
-    offer: Offer,
-    slack: bool,
-}
-
 /// The smallest construction that applies to these level counts at strength `t` and
-/// index `lambda`, if any.
-///
-/// ```
-/// use heddle_generator::construct::best;
-/// // Bose (1938): OA(25; 2, 6, 5)
-/// let c = best(&[5; 6], 2, 1).unwrap();
-/// assert_eq!(c.rows.len(), 25);
-/// assert!(c.optimal);
-/// ```
+/// index `lambda`, if any (e.g. Bose 1938's OA(25; 2, 6, 5) for 5^6, see the tests).
 pub fn best(levels: &[usize], t: usize, lambda: u32) -> Option<Construction> {
     best_within(levels, t, lambda, row_limit(levels, t, lambda))
 }
@@ -317,240 +305,4 @@ fn row_limit(levels: &[usize], t: usize, lambda: u32) -> usize {
     let expected = bounds::expected_bound(levels, t, lambda);
     let cells = MAX_CELLS / levels.len().max(1);
     (expected.min(MAX_ROWS) as usize).min(cells)
-}
-
-/// Every construction that fits, with its index and size.
-fn candidates(levels: &[usize], t: usize, lambda: u32, limit: usize) -> Vec<Candidate> {
-    let k = levels.len();
-    let vmax = levels.iter().copied().max().unwrap_or(1);
-    let mut out = Vec::new();
-    let mut offer = |source: Source, index: u32, rows: usize, slack: bool| {
-        if index >= 1 && rows >= 1 && rows <= limit {
-            out.push(Candidate {
-                source,
-                offer: Offer { index, rows },
-                slack,
-            });
-        }
-    };
-    // a factor's levels collapse when it has fewer than the construction's q symbols
-    let collapses = |q: usize| levels.iter().any(|&v| v < q);
-
-    if t == 1 {
-        offer(Source::Strength1, 1, vmax, false);
-    }
-    // all combinations: a t-set is covered (product of the other k − t counts) times
-    if let Some(n) = checked_product(levels.iter().copied()) {
-        let mut sorted = levels.to_vec();
-        sorted.sort_unstable();
-        let index = sorted[..k - t]
-            .iter()
-            .try_fold(1u32, |acc, &v| acc.checked_mul(v as u32))
-            .unwrap_or(u32::MAX)
-            .min(lambda.max(1));
-        offer(Source::FullFactorial, index, n, false);
-    }
-    if k == t + 1 {
-        let mut sorted = levels.to_vec();
-        sorted.sort_unstable_by(|a, b| b.cmp(a));
-        if let Some(n) = checked_product(sorted[..t].iter().copied()) {
-            offer(Source::ZeroSum, 1, n, false);
-        }
-    }
-    if let (true, Some(n)) = (k == t + 2 && vmax >= 2, vmax.checked_pow(t as u32 + 1)) {
-        // strength t + 1 has index vmax at strength t
-        offer(
-            Source::ZeroSumUniform { q: vmax, s: t + 1 },
-            vmax as u32,
-            n,
-            collapses(vmax),
-        );
-    }
-
-    if t >= 2 && k > t + 1 {
-        // Bush / Bose: the smallest field with enough columns
-        let bush_q = (vmax.max(t + 1)..=gf::MAX_ORDER)
-            .filter(|&q| gf::prime_power(q).is_some())
-            .find(|&q| orthogonal::bush_capacity(q, t) >= k);
-        if let Some((q, n)) = bush_q.and_then(|q| Some((q, q.checked_pow(t as u32)?))) {
-            let nucleus = k > q + 1;
-            let fuse = vmax < q;
-            offer(
-                Source::Bush { q, t, nucleus, fuse },
-                1,
-                n - if fuse { 2 } else { 0 },
-                collapses(q),
-            );
-        }
-        // Rao–Hamming: index q^(m−2), far more columns. The smallest field at every
-        // dimension, and the smallest field with enough columns at dimension 3 (larger
-        // fields only cost rows; q = 2 is Sylvester's Hadamard array, offered below).
-        if t == 2 && vmax >= 3 {
-            let fields = || (vmax..=gf::MAX_ORDER).filter(|&q| gf::prime_power(q).is_some());
-            let mut tries: Vec<(usize, u32)> = Vec::new();
-            if let Some(q0) = fields().next() {
-                let mut m = 3;
-                while q0.checked_pow(m).is_some_and(|n| n <= limit) {
-                    tries.push((q0, m));
-                    m += 1;
-                }
-            }
-            if let Some(q3) = fields().find(|&q| orthogonal::rao_hamming_capacity(q, 3) >= k) {
-                tries.push((q3, 3));
-            }
-            for (q, m) in tries {
-                let n = q.pow(m);
-                // A linear array of index q^(m-2) ≥ 3: the rows holding a pair of levels
-                // form a coset that many other pairs share (measured on 3^13: every pair
-                // shares all its rows with another), so the λ ≥ 2 a user asks for to tell
-                // interactions apart would tell none apart. Other methods cost a few rows
-                // more. (Sylvester's Hadamard arrays are linear too, but are the only
-                // optimum for some orders, e.g. CAN_4(2, 15, 2) = 16, so they stay.)
-                if lambda >= 2 {
-                    continue;
-                }
-                if n <= limit && orthogonal::rao_hamming_capacity(q, m) >= k {
-                    let index = q.pow(m - 2).min(u32::MAX as usize) as u32;
-                    offer(Source::RaoHamming { q, m }, index, n, collapses(q));
-                }
-            }
-        }
-    }
-
-    // strength 3 on twice the columns from strength 3 and 2 on half (v ≥ 3; the binary
-    // case is Roux's, inside `binary::strength_three`)
-    if t == 3
-        && lambda == 1
-        && vmax >= 3
-        && k >= 6
-        && let Some((name, rows)) = doubling(vmax, k, limit)
-    {
-        let n = rows.len();
-        // its parts had their redundant rows removed already
-        offer(Source::Rows(name, rows), 1, n, collapses(vmax));
-    }
-
-    if vmax <= 2 && t >= 2 && k > t + 1 {
-        let slack = collapses(2);
-        if t == 2 {
-            offer(Source::KleitmanSpencer, 1, binary::ks_rows(k), slack);
-            for (n, r) in hadamard_range(k + 1, 4 * lambda as usize, limit) {
-                offer(Source::Hadamard(r), (n / 4) as u32, n, slack);
-            }
-        }
-        if t == 3 {
-            for (n, r) in hadamard_range(k, 4 * lambda as usize, limit / 2) {
-                offer(Source::FoldOver(r), (n / 4) as u32, 2 * n, slack);
-            }
-            // the best index-1 array from bases and doubling
-            if let Some((name, rows)) = binary::strength_three(k) {
-                let n = rows.len();
-                offer(Source::Rows(name, rows), 1, n, slack);
-            }
-            // strength-2 Hadamard arrays that happen to cover every triple several times
-            if lambda >= 2 {
-                let fold = hadamard_range(k, 0, limit / 2).first().map(|(n, _)| 2 * n);
-                let top = binary::MAX_BASE_ORDER;
-                for (n, r) in hadamard_range(k + 1, top, top) {
-                    if fold.is_some_and(|f| n >= f) {
-                        break;
-                    }
-                    let mut recipes = hadamard::direct_recipes(n);
-                    if !recipes.contains(&r) {
-                        recipes.push(r);
-                    }
-                    for r in recipes {
-                        let rows: Vec<Row> = r.build().strength_two();
-                        let (index, _) = binary::triple_coverage(&rows, k);
-                        if index >= 2 {
-                            let rows = rows.into_iter().map(|row| row[..k].to_vec()).collect();
-                            let name = format!("hadamard(n={n},{},strength 3 by count)", r.name());
-                            offer(Source::Rows(name, rows), index, n, slack);
-                        }
-                    }
-                }
-            }
-        }
-        if k == t + 2 && k <= MAX_WEIGHT_CLASS_COLUMNS {
-            offer(Source::WeightMod3, 1, (1 << k) / 3, slack);
-        }
-    }
-    prune_dominated(out)
-}
-
-/// CA(N + (v − 1)M; 3, 2h, v) from A = CA(N; 3, h, v) and B = CA(M; 2, h, v): the rows
-/// [A A] and [B B+s] for s = 1 … v − 1 (levels added mod v), the v-ary form of Roux's
-/// doubling (Chateauneuf & Kreher 2002, from memory), with h = ⌈k/2⌉ and A, B the best
-/// constructions for v^h; the first k columns are kept.
-///
-/// Why it covers: a triple on three different original columns lies in A. A triple
-/// (i, j, i′) with i′ the right copy of i shows level difference 0 between i and i′ in
-/// [A A] and s in [B B+s]; B covers every pair on (i, j) (or (i, l) for (i, i′, l′)).
-fn doubling(v: usize, k: usize, limit: usize) -> Option<(String, Vec<Row>)> {
-    let h = k.div_ceil(2);
-    let a = best_within(&vec![v; h], 3, 1, limit)?;
-    let b = best_within(&vec![v; h], 2, 1, limit)?;
-    let mut rows: Vec<Row> = a
-        .rows
-        .iter()
-        .map(|r| [r.as_slice(), r.as_slice()].concat())
-        .collect();
-    for s in 1..v {
-        rows.extend(b.rows.iter().map(|r| {
-            let shifted: Vec<u8> = r.iter().map(|&x| ((x as usize + s) % v) as u8).collect();
-            [r.as_slice(), shifted.as_slice()].concat()
-        }));
-    }
-    for r in &mut rows {
-        r.truncate(k);
-    }
-    Some((format!("doubling({}; {})", a.method, b.method), rows))
-}
-
-/// The known Hadamard orders n ≥ `from` (multiples of 4) up to the first one ≥ `enough`,
-/// never beyond `limit`, each with its recipe.
-fn hadamard_range(from: usize, enough: usize, limit: usize) -> Vec<(usize, Recipe)> {
-    let from = from.max(4);
-    let want = from.max(enough);
-    let cap = limit.min(hadamard::MAX_ORDER);
-    if from > cap {
-        return Vec::new();
-    }
-    // known orders are dense among multiples of 4 in this range, so a margin suffices
-    let known = hadamard::known_orders((want + 256).min(cap));
-    let mut out = Vec::new();
-    for (n, r) in known.into_iter().filter(|&(n, _)| n >= from) {
-        let last = n >= want;
-        out.push((n, r));
-        if last {
-            break;
-        }
-    }
-    out
-}
-
-/// Drops offers that another offer matches or beats on both index and rows (the earlier
-/// of two equal ones stays).
-fn prune_dominated(cands: Vec<Candidate>) -> Vec<Candidate> {
-    let keep: Vec<bool> = (0..cands.len())
-        .map(|i| {
-            let a = cands[i].offer;
-            !cands.iter().enumerate().any(|(j, b)| {
-                let b = b.offer;
-                j != i
-                    && b.index >= a.index
-                    && b.rows <= a.rows
-                    && ((b.index, b.rows) != (a.index, a.rows) || j < i)
-            })
-        })
-        .collect();
-    cands
-        .into_iter()
-        .zip(keep)
-        .filter_map(|(c, k)| k.then_some(c))
-        .collect()
-}
-
-fn checked_product(it: impl IntoIterator<Item = usize>) -> Option<usize> {
-    it.into_iter().try_fold(1usize, |acc, v| acc.checked_mul(v))
 }

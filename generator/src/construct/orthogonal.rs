@@ -6,7 +6,7 @@
 //! q^(m−t) times — an orthogonal array of strength t and index q^(m−t).
 
 use super::gf::Field;
-use crate::model::Row;
+use crate::factor::Row;
 
 /// Every combination of the levels, first column fastest.
 pub fn full_factorial(levels: &[usize]) -> Vec<Row> {
@@ -159,10 +159,10 @@ mod tests {
     /// Exact index of an array at strength t: every t-set shows every combination the
     /// same number of times (brute force, independent of the construction).
     fn oa_index(rows: &[Row], levels: &[usize], t: usize) -> Option<usize> {
-        let k = levels.len();
+        let all: Vec<usize> = (0..levels.len()).collect();
         let mut index = None;
-        let mut cols: Vec<usize> = (0..t).collect();
-        loop {
+        let mut uniform = true;
+        crate::interactions::for_each_subset(&all, t, |cols| {
             let size: usize = cols.iter().map(|&c| levels[c]).product();
             let mut counts = vec![0usize; size];
             for r in rows {
@@ -170,26 +170,10 @@ mod tests {
                 counts[idx] += 1;
             }
             let first = counts[0];
-            if counts.iter().any(|&n| n != first) || index.is_some_and(|i| i != first) {
-                return None;
-            }
+            uniform &= counts.iter().all(|&n| n == first) && index.is_none_or(|i| i == first);
             index = Some(first);
-            // next t-set, lexicographic
-            let mut i = t;
-            loop {
-                if i == 0 {
-                    return index;
-                }
-                i -= 1;
-                if cols[i] < k - t + i {
-                    cols[i] += 1;
-                    for j in i + 1..t {
-                        cols[j] = cols[j - 1] + 1;
-                    }
-                    break;
-                }
-            }
-        }
+        });
+        index.filter(|_| uniform)
     }
 
     #[test]

@@ -2,8 +2,8 @@
 //! independent checker (`verify`) and its size compared with the value in the literature;
 //! the source is named beside each check.
 
-use heddle_generator::construct::{Construction, best};
-use heddle_generator::{Effort, Factor, Spec, generate, verify};
+use super::{Construction, best};
+use crate::{Effort, Factor, Spec, generate, verify};
 
 fn spec(levels: &[usize], t: usize, lambda: u32) -> Spec {
     let factors = levels
@@ -423,7 +423,12 @@ mod random_specs {
     }
 
     proptest! {
-        #![proptest_config(ProptestConfig { cases: 150, ..ProptestConfig::default() })]
+        #![proptest_config(ProptestConfig {
+            cases: 150,
+            // a failure prints its inputs; no regressions file beside the sources
+            failure_persistence: None,
+            ..ProptestConfig::default()
+        })]
 
         /// Random level counts, strength and index.
         #[test]

@@ -7,8 +7,8 @@
 //! rows map onto the target tuple. It usually covers more than needed, so some rows can
 //! go; [`fuse`] chooses the map so that two rows provably can.
 
+use crate::factor::Row;
 use crate::interactions::{self, Layout};
-use crate::model::Row;
 use crate::order;
 
 /// Most interactions for which redundant rows are looked for (counters cost 5 bytes each).
