@@ -1,5 +1,5 @@
 //! The `#[cover]` attribute of heddle. Use it through the `heddle` crate
-//! (`use heddle::cover;`), which also carries the runtime the expansion calls.
+//! (`use heddle_test::cover;`), which also carries the runtime the expansion calls.
 //!
 //! This crate is only the compiler glue: it gathers what the expansion depends on — the
 //! crate root, the test file's path, the crate's `Cargo.toml` defaults and its pins file
@@ -17,22 +17,7 @@ use std::path::PathBuf;
 use proc_macro::TokenStream;
 
 /// Turns a test function whose parameters list their levels into one test per row of a
-/// covering array.
-///
-/// ```ignore
-/// #[cover(strength = 2, lambda = 2, seed = 11, exclude(codec == Codec::Delta && batch == 1))]
-/// fn roundtrip(
-///     #[levels(1, 8, 64)] batch: usize,
-///     #[levels(Codec::Plain, Codec::Rle, Codec::Delta)] codec: Codec,
-///     #[levels(true, false)] checksum: bool,
-/// ) {
-///     // ordinary test body
-/// }
-/// ```
-///
-/// Keys: `strength` (default 2, or `[package.metadata.heddle]`), `lambda` (default 1),
-/// `seed` (default: from the function's name), `exclude(EXPR)` (repeatable). The
-/// function stays; a module of the same name holds `row_00`, `row_01`, ….
+/// covering array. Documented, with examples, where users meet it: `heddle_test::cover`.
 #[proc_macro_attribute]
 pub fn cover(attr: TokenStream, item: TokenStream) -> TokenStream {
     let root = std::env::var_os("CARGO_MANIFEST_DIR")
@@ -44,6 +29,34 @@ pub fn cover(attr: TokenStream, item: TokenStream) -> TokenStream {
         (Some(root), Some(file)) => Some(heddle_syntax::paths::relative_to_root(root, file, cwd.as_deref())),
         _ => None,
     };
-    let ctx = heddle_syntax::Context::load(root.as_deref(), rel);
+    let mut ctx = heddle_syntax::Context::load(root.as_deref(), rel);
+    if let Some(path) = runtime_path() {
+        ctx.runtime = path;
+    }
+    ctx.package = env_var("CARGO_PKG_NAME");
+    ctx.crate_name = env_var("CARGO_CRATE_NAME");
     heddle_syntax::expand(attr.into(), item.into(), &ctx).into()
 }
+
+fn env_var(name: &str) -> Option<String> {
+    std::env::var(name).ok().filter(|v| !v.is_empty())
+}
+
+/// The path of the runtime crate as the crate being compiled names it: a renamed
+/// dependency (`rt = { package = "heddle-test", … }`) is found through the manifest.
+/// `None` keeps the default `::heddle_test` (the runtime itself, whose root declares
+/// `extern crate self as heddle_test`, or a manifest that cannot be read: the compiler
+/// then names the missing crate).
+fn runtime_path() -> Option<syn::Path> {
+    use proc_macro_crate::{FoundCrate, crate_name};
+    match crate_name(RUNTIME_PACKAGE).ok()? {
+        FoundCrate::Itself => None,
+        FoundCrate::Name(name) => {
+            let ident = syn::Ident::new(&name, proc_macro2::Span::call_site());
+            Some(syn::parse_quote!(::#ident))
+        }
+    }
+}
+
+/// The package name of the runtime crate on the registry.
+const RUNTIME_PACKAGE: &str = "heddle-test";

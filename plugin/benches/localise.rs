@@ -17,10 +17,11 @@ use std::time::Instant;
 
 use cargo_heddle::analysis::analyse;
 use cargo_heddle::report::{self, Format};
-use heddle::record::{FactorSpec, Outcome, RowRecord, SpecRecord};
-use heddle::store::{ReadStats, Records, SuiteRecords};
-use heddle::tally::{Interaction, tally};
 use heddle_generator::{Effort, Factor, Spec, generate};
+use heddle_store::fixture::{self, SpecBuilder};
+use heddle_store::{Interaction, tally};
+use heddle_store::{ReadStats, Records, SuiteRecords};
+use heddle_test::record::{Outcome, SpecRecord};
 
 /// splitmix64: the bench's own randomness, seeded per trial (reproducible figures).
 struct Mix(u64);
@@ -44,32 +45,17 @@ impl Mix {
 }
 
 fn record(levels: &[usize], lambda: u32, seed: u64, rows: Vec<Vec<u8>>, name: &str) -> SpecRecord {
-    SpecRecord {
-        run: "bench".into(),
-        krate: "bench".into(),
-        target: "bench".into(),
-        file: "tests/bench.rs".into(),
-        function: name.into(),
-        module: format!("bench::{name}"),
-        suite: name.into(),
-        factors: levels
-            .iter()
-            .enumerate()
-            .map(|(i, &v)| FactorSpec {
-                name: format!("f{i}"),
-                labels: (0..v).map(|l| l.to_string()).collect(),
-            })
-            .collect(),
-        strength: 2,
-        lambda,
-        seed,
-        excludes: Vec::new(),
-        rows,
-        fingerprint: format!("{seed:016x}"),
-        pinned: false,
-        should_panic: false,
-        time: "2026-01-01T00:00:00Z".into(),
-    }
+    SpecBuilder::new(name)
+        .test_target("bench")
+        .krate("bench")
+        .run("bench")
+        .numbered(levels)
+        .strength(2)
+        .lambda(lambda)
+        .seed(seed)
+        .fingerprint(&format!("{seed:016x}"))
+        .rows(rows)
+        .build()
 }
 
 /// A random spec and its fast-mode rows.
@@ -206,24 +192,10 @@ fn report_speed() {
         for i in 0..per_suite {
             let row = i % rec.rows.len();
             let fail = rng.unit() < 0.02;
-            recs.push(RowRecord {
-                run: "bench".into(),
-                krate: rec.krate.clone(),
-                target: rec.target.clone(),
-                test: rec.row_test_name(row),
-                fingerprint: rec.fingerprint.clone(),
-                row: row as u32,
-                labels: rec
-                    .row_labels(row)
-                    .unwrap_or_default()
-                    .iter()
-                    .map(|s| s.to_string())
-                    .collect(),
-                outcome: if fail { Outcome::Failed } else { Outcome::Passed },
-                message: fail.then(|| "assertion failed".to_string()),
-                duration_ns: 1000,
-                time: "2026-01-01T00:00:00Z".into(),
-            });
+            let mut rec_row = fixture::row(&rec, row, if fail { Outcome::Failed } else { Outcome::Passed });
+            rec_row.run = "bench".into();
+            rec_row.message = fail.then(|| "assertion failed".to_string());
+            recs.push(rec_row);
         }
         total += recs.len();
         suites.push(SuiteRecords {

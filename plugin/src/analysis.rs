@@ -11,7 +11,7 @@
 
 use std::cmp::Ordering;
 
-use heddle::tally::Tallies;
+use heddle_store::Tallies;
 
 /// An interaction that explains failures.
 #[derive(Clone, Debug, PartialEq)]
@@ -336,7 +336,8 @@ pub fn analyse(tallies: &Tallies) -> Analysis {
 mod tests {
     use super::*;
 
-    use heddle::record::{FactorSpec, Outcome, SpecRecord};
+    use heddle_store::fixture::SpecBuilder;
+    use heddle_test::record::{Outcome, SpecRecord};
 
     /// OA(9; 2, 4, 3) (Bose 1938 over GF(3)) twice, second copy with the levels of each
     /// column shifted: λ = 2, every pair in exactly two rows.
@@ -363,30 +364,11 @@ mod tests {
     }
 
     fn spec() -> SpecRecord {
-        SpecRecord {
-            run: "r".into(),
-            krate: "k".into(),
-            target: "t".into(),
-            file: "tests/t.rs".into(),
-            function: "f".into(),
-            module: "t::f".into(),
-            suite: "f".into(),
-            factors: (0..4)
-                .map(|i| FactorSpec {
-                    name: format!("p{i}"),
-                    labels: vec!["a".into(), "b".into(), "c".into()],
-                })
-                .collect(),
-            strength: 2,
-            lambda: 2,
-            seed: 0,
-            excludes: Vec::new(),
-            rows: rows(),
-            fingerprint: "0".into(),
-            pinned: false,
-            should_panic: false,
-            time: String::new(),
+        let mut b = SpecBuilder::new("f").strength(2).lambda(2).rows(rows());
+        for i in 0..4 {
+            b = b.factor(&format!("p{i}"), &["a", "b", "c"]);
         }
+        b.build()
     }
 
     #[test]
@@ -407,7 +389,7 @@ mod tests {
                 outcomes.push((i, if fail { Outcome::Failed } else { Outcome::Passed }));
             }
         }
-        let t = heddle::tally::tally(&sp, outcomes).unwrap();
+        let t = heddle_store::tally(&sp, outcomes).unwrap();
         let a = analyse(&t);
         let name = |s: &Suspect| t.entries[s.interaction].interaction.clone();
         assert_eq!(name(&a.suspects[0]).levels, vec![0, 0]);

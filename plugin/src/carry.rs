@@ -23,9 +23,7 @@
 //! keeping the rows would silently ignore it. A pin without a recorded origin cannot be
 //! remapped (its indices have no labels) and is drawn anew as well.
 
-use heddle_generator::constraints::Constraints;
-use heddle_generator::interactions::{Layout, for_each_subset};
-use heddle_generator::{Row, Spec, UNSET};
+use heddle_generator::{Row, Spec, UNSET, complete};
 use heddle_syntax::{Origin, Pin};
 
 /// Old rows carried over to the new spec and what became of the others.
@@ -83,7 +81,6 @@ pub fn carry_over(pin: &Pin, origin: Option<&Origin>, spec: &Spec) -> Carried {
         return all_dropped("the seed changed, so the rows are drawn anew");
     }
     let k = spec.factors.len();
-    let levels = spec.levels();
     // for each new column, its old column and the old→new level map
     let maps: Vec<Option<(usize, Vec<Option<u8>>)>> = spec
         .factors
@@ -97,15 +94,8 @@ pub fn carry_over(pin: &Pin, origin: Option<&Origin>, spec: &Spec) -> Carried {
             Some((old, map))
         })
         .collect();
-    let added: Vec<usize> = (0..k).filter(|&c| maps[c].is_none()).collect();
-
-    let layout = Layout::new(&levels, spec.strength);
-    let mut cons = Constraints::new(&spec.excludes, &levels);
-    let (possible, _) = cons.possible(&layout);
-    let mut count = vec![0u32; layout.total()];
-    let short = |count: &[u32], i: usize| possible[i] && count[i] < spec.lambda;
-
     let mut out = Carried::default();
+    let mut partials: Vec<Row> = Vec::with_capacity(pin.rows.len());
     'rows: for old in &pin.rows {
         let mut row: Row = vec![UNSET; k];
         for (c, m) in maps.iter().enumerate() {
@@ -123,60 +113,19 @@ pub fn carry_over(pin: &Pin, origin: Option<&Origin>, spec: &Spec) -> Carried {
                 }
             }
         }
-        if !cons.extendable(&row) {
-            out.excluded += 1;
-            continue;
-        }
-        for &c in &added {
-            let mut best: Option<(usize, u8)> = None;
-            for l in 0..levels[c] {
-                row[c] = l as u8;
-                if !cons.extendable(&row) {
-                    continue;
-                }
-                let g = column_gain(&layout, &row, c, |i| short(&count, i));
-                if best.is_none_or(|(bg, _)| g > bg) {
-                    best = Some((g, l as u8));
-                }
-            }
-            match best {
-                Some((_, l)) => row[c] = l,
-                None => {
-                    out.excluded += 1;
-                    continue 'rows;
-                }
-            }
-        }
-        if !cons.allows(&row) {
-            out.excluded += 1;
-            continue;
-        }
-        let mut gain = 0usize;
-        layout.for_each_in_row(&row, |i| gain += usize::from(short(&count, i)));
-        if gain == 0 {
-            out.redundant += 1;
-            continue;
-        }
-        layout.for_each_in_row(&row, |i| count[i] += 1);
-        out.rows.push(row);
+        partials.push(row);
     }
-    out
-}
-
-/// Interactions still short of λ that the t-sets through column `c` of the assigned
-/// columns of `row` would cover.
-fn column_gain(layout: &Layout, row: &[u8], c: usize, short: impl Fn(usize) -> bool) -> usize {
-    let others: Vec<usize> = (0..row.len()).filter(|&o| o != c && row[o] != UNSET).collect();
-    let mut gain = 0;
-    let mut cols = Vec::with_capacity(layout.t);
-    for_each_subset(&others, layout.t - 1, |sub| {
-        cols.clear();
-        cols.extend_from_slice(sub);
-        let at = cols.partition_point(|&o| o < c);
-        cols.insert(at, c);
-        gain += usize::from(short(layout.index(&cols, row)));
-    });
-    gain
+    // the added columns are filled, excluded and redundant rows dropped, by the engine
+    match complete(spec, &partials) {
+        Ok(done) => {
+            out.rows = done.rows;
+            out.excluded = done.excluded.len();
+            out.redundant = done.redundant.len();
+            out
+        }
+        // the spec itself is refused: nothing can be carried over to it
+        Err(_) => all_dropped("the engine refuses the new spec"),
+    }
 }
 
 /// What changed between the spec a pin was made for and `spec` (which differ), in words,

@@ -7,7 +7,6 @@ use std::collections::BTreeSet;
 use std::process::ExitCode;
 
 use clap::Args;
-use heddle_syntax::keywords as kw;
 
 use crate::failure::Failure;
 use crate::pinfile;
@@ -29,8 +28,8 @@ pub fn explain(f: &Function, s: &Status) -> Option<String> {
         Status::Pinned(_) | Status::Generated(_) => return None,
         Status::Missing => format!(
             "`{name}` has no pin in `{}`\n  hint: run `{}`",
-            kw::PINS_FILE,
-            kw::PIN_COMMAND
+            heddle_syntax::pins::PINS_FILE,
+            heddle_syntax::pins::PIN_COMMAND
         ),
         Status::Stale(changes) => {
             let what = if changes.is_empty() {
@@ -40,16 +39,16 @@ pub fn explain(f: &Function, s: &Status) -> Option<String> {
             };
             format!(
                 "the pin of `{name}` is stale: {what}\n  hint: run `{}` to carry its rows over to the new spec",
-                kw::PIN_COMMAND
+                heddle_syntax::pins::PIN_COMMAND
             )
         }
         Status::Misfit(reason) => format!(
             "the pin of `{name}` does not fit the function: {reason}\n  hint: run `{}` to repair it",
-            kw::PIN_COMMAND
+            heddle_syntax::pins::PIN_COMMAND
         ),
         Status::Uncovered(v) => format!(
             "the rows of `{name}` do not cover its spec: {v}\n  hint: run `{}` to add the missing rows",
-            kw::PIN_COMMAND
+            heddle_syntax::pins::PIN_COMMAND
         ),
         Status::Engine(e) => format!(
             "the engine refuses the spec of `{name}`: {e}\n  hint: lower the strength, lambda or the number of levels"
@@ -111,7 +110,7 @@ pub fn run(args: CheckArgs) -> Result<ExitCode, Failure> {
         }
         msg.push_str(&format!(
             " ({packages})\n  hint: `{}` fixes missing, stale and non-covering pins; source problems need an edit",
-            kw::PIN_COMMAND
+            heddle_syntax::pins::PIN_COMMAND
         ));
         return Err(Failure::Found(msg));
     }
@@ -135,14 +134,14 @@ fn warn_orphans(pkg: &Scanned, pins: &heddle_syntax::PinsFile) {
             continue;
         }
         let place = match pins.line_of(key) {
-            Some(l) => format!("{}:{l}", pkg.display(kw::PINS_FILE)),
-            None => pkg.display(kw::PINS_FILE),
+            Some(l) => format!("{}:{l}", pkg.display(heddle_syntax::pins::PINS_FILE)),
+            None => pkg.display(heddle_syntax::pins::PINS_FILE),
         };
         say_err!(
             "warning: {place}: the pin of `{}` in `{}` belongs to no function\n  hint: run `{}` to remove it",
             key.function,
             key.file,
-            kw::PIN_COMMAND
+            heddle_syntax::pins::PIN_COMMAND
         );
     }
 }

@@ -4,7 +4,7 @@
 use std::ffi::OsString;
 use std::process::ExitCode;
 
-use clap::{Parser, Subcommand, ValueEnum};
+use clap::{Parser, Subcommand};
 
 use crate::failure::Failure;
 
@@ -36,31 +36,6 @@ enum Command {
     Test(crate::test_cmd::TestArgs),
     /// Report on recorded runs: pass counts per interaction, suspects, flaky ones.
     Report(crate::report::ReportArgs),
-}
-
-/// How hard the engine works.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
-pub enum EffortArg {
-    /// Constructions and greedy, as builds use.
-    Fast,
-    /// Adds local search that removes rows.
-    Tight,
-}
-
-impl EffortArg {
-    /// The engine's effort for this choice and an optional `--budget`, which only
-    /// `tight` takes.
-    pub fn with_budget(self, budget: Option<u64>) -> Result<heddle_generator::Effort, Failure> {
-        match (self, budget) {
-            (EffortArg::Fast, Some(_)) => Err(crate::failure::usage(
-                "`--budget` applies to `--effort tight` only\n  hint: add `--effort tight`",
-            )),
-            (EffortArg::Fast, None) => Ok(heddle_generator::Effort::Fast),
-            (EffortArg::Tight, b) => Ok(heddle_generator::Effort::Tight {
-                budget: b.unwrap_or(heddle_generator::Effort::DEFAULT_TIGHT_BUDGET),
-            }),
-        }
-    }
 }
 
 /// Parses the arguments and runs the chosen subcommand.

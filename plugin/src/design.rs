@@ -8,7 +8,7 @@ use clap::{Args, ValueEnum};
 use heddle_generator::{Design, Expr, Spec, generate};
 use serde::Serialize;
 
-use crate::cli::EffortArg;
+use crate::effort::EffortArg;
 use crate::failure::{Failure, usage};
 use crate::spec_args::parse_specs;
 

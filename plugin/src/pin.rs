@@ -15,7 +15,7 @@ use heddle_syntax::{Origin, Pin, PinsFile};
 use indicatif::{ProgressBar, ProgressStyle};
 
 use crate::carry::{Carried, carry_over, describe_change};
-use crate::cli::EffortArg;
+use crate::effort::EffortArg;
 use crate::failure::Failure;
 use crate::pinfile;
 use crate::sources::{self, Function, Scanned};
@@ -155,7 +155,7 @@ pub fn run(args: PinArgs) -> Result<ExitCode, Failure> {
                 )
             });
         }
-        let file = pkg.display(kw::PINS_FILE);
+        let file = pkg.display(heddle_syntax::pins::PINS_FILE);
         if !had_file && pins.pins.is_empty() {
             if pkg.functions.is_empty() && pkg.problems.is_empty() {
                 bar.suspend(|| {
@@ -203,7 +203,7 @@ pub fn run(args: PinArgs) -> Result<ExitCode, Failure> {
         return Err(Failure::Found(format!(
             "{problems} problem{plural} above; the functions they concern keep their pins as they were\n  \
              hint: fix them and run `{}` again",
-            kw::PIN_COMMAND
+            heddle_syntax::pins::PIN_COMMAND
         )));
     }
     Ok(ExitCode::SUCCESS)

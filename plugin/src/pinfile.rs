@@ -9,7 +9,6 @@ use std::path::Path;
 use std::time::SystemTime;
 
 use heddle_syntax::PinsFile;
-use heddle_syntax::keywords as kw;
 
 use crate::failure::{Failure, usage};
 use crate::sources::Scanned;
@@ -19,9 +18,9 @@ use crate::sources::Scanned;
 pub fn load(pkg: &Scanned) -> Result<Option<PinsFile>, Failure> {
     PinsFile::load(&pkg.package.root).map_err(|e| {
         let place = match (e.line, e.column) {
-            (Some(l), Some(c)) => format!("{}:{l}:{c}", pkg.display(kw::PINS_FILE)),
-            (Some(l), None) => format!("{}:{l}", pkg.display(kw::PINS_FILE)),
-            _ => pkg.display(kw::PINS_FILE),
+            (Some(l), Some(c)) => format!("{}:{l}:{c}", pkg.display(heddle_syntax::pins::PINS_FILE)),
+            (Some(l), None) => format!("{}:{l}", pkg.display(heddle_syntax::pins::PINS_FILE)),
+            _ => pkg.display(heddle_syntax::pins::PINS_FILE),
         };
         usage(format!("{place}: {}", e.message.replace('\n', "\n  ")))
     })
@@ -62,7 +61,7 @@ pub fn save(pkg: &Scanned, pins: &PinsFile) -> Result<(), Failure> {
     write_atomically(&path, &pins.to_toml()).map_err(|e| {
         Failure::Found(format!(
             "cannot write `{}`: {e}\n  hint: check that the directory is writable",
-            pkg.display(kw::PINS_FILE)
+            pkg.display(heddle_syntax::pins::PINS_FILE)
         ))
     })
 }

@@ -138,7 +138,7 @@ fn scan_package(project: &Project, package: &Package) -> Scanned {
         Ok(d) => d,
         Err(e) => {
             out.problems.push(Problem {
-                place: out.display(kw::MANIFEST_FILE),
+                place: out.display(heddle_syntax::defaults::MANIFEST_FILE),
                 message: e.0,
             });
             out.defaults_ok = false;

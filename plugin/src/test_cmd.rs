@@ -4,8 +4,8 @@
 use std::process::{Command, ExitCode, Stdio};
 
 use clap::Args;
-use heddle::layout::{RUN_ID_VAR, new_run_id, validate_run_id};
-use heddle::store::{Store, find_root};
+use heddle_store::{Store, find_root};
+use heddle_test::record::layout::{RUN_ID_VAR, new_run_id, validate_run_id};
 
 use crate::failure::{Failure, usage};
 use crate::report::{self, Format, ReportArgs};

@@ -20,7 +20,7 @@ fn total(cents: u64, currency: &str, rounding: Rounding) -> u64 {
     if currency == "JPY" && rounding == Rounding::Half { cents + 1 } else { cents }
 }
 
-#[heddle::cover(strength = 2, lambda = 2, seed = 5)]
+#[heddle_test::cover(strength = 2, lambda = 2, seed = 5)]
 fn cart_total(
     #[levels("EUR", "USD", "JPY")] currency: &str,
     #[levels(Rounding::Down, Rounding::Half, Rounding::Up)] rounding: Rounding,

@@ -114,7 +114,7 @@ impl Run {
 }
 
 const CODEC: &str = "\
-use heddle::cover;
+use heddle_test::cover;
 
 #[cover(strength = 2, lambda = 2, seed = 11)]
 fn roundtrip(
@@ -424,7 +424,7 @@ fn a_missing_pin_fails_check_only_in_a_crate_that_pins() {
     c.heddle(&["pin"]).ok();
     c.write(
         "tests/more.rs",
-        "#[heddle::cover]\nfn extra(#[levels(1, 2)] x: u8, #[levels(3, 4)] y: u8) {}\n",
+        "#[heddle_test::cover]\nfn extra(#[levels(1, 2)] x: u8, #[levels(3, 4)] y: u8) {}\n",
     );
     let r = c.heddle(&["check"]);
     r.fails(1);

@@ -4,8 +4,9 @@
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
-use heddle::layout::{RUNS_DIR, STORE_DIR, process_file_name};
-use heddle::record::{FactorSpec, Line, Outcome, RowRecord, SpecRecord};
+use heddle_store::fixture::{self, SpecBuilder};
+use heddle_test::record::layout::{RUNS_DIR, STORE_DIR, process_file_name};
+use heddle_test::record::{Line, Outcome, RowRecord, SpecRecord};
 
 /// OA(9; 2, 4, 3): every pair of levels of any two of the four factors appears exactly
 /// once (the orthogonal array of Bose 1938 over GF(3); Hedayat, Sloane & Stufken 1999).
@@ -22,31 +23,21 @@ const OA9: [[u8; 4]; 9] = [
 ];
 
 fn spec(rows: Vec<Vec<u8>>, lambda: u32, run: &str) -> SpecRecord {
-    SpecRecord {
-        run: run.into(),
-        krate: "shop".into(),
-        target: "checkout".into(),
-        file: "tests/checkout.rs".into(),
-        function: "totals".into(),
-        module: "checkout::totals".into(),
-        suite: "totals".into(),
-        factors: ["currency", "tax", "coupon", "cart"]
-            .iter()
-            .map(|n| FactorSpec {
-                name: n.to_string(),
-                labels: (0..3).map(|l| format!("{n}{l}")).collect(),
-            })
-            .collect(),
-        strength: 2,
-        lambda,
-        seed: 4,
-        excludes: Vec::new(),
-        rows,
-        fingerprint: "00000000000000aa".into(),
-        pinned: false,
-        should_panic: false,
-        time: "2026-11-30T10:00:00Z".into(),
+    let mut b = SpecBuilder::new("totals")
+        .krate("shop")
+        .test_target("checkout")
+        .run(run)
+        .strength(2)
+        .lambda(lambda)
+        .seed(4)
+        .fingerprint("00000000000000aa")
+        .rows(rows);
+    for n in ["currency", "tax", "coupon", "cart"] {
+        let labels: Vec<String> = (0..3).map(|l| format!("{n}{l}")).collect();
+        let labels: Vec<&str> = labels.iter().map(String::as_str).collect();
+        b = b.factor(n, &labels);
     }
+    b.build()
 }
 
 /// λ = 2: OA9 twice over.
@@ -55,24 +46,10 @@ fn rows_l2() -> Vec<Vec<u8>> {
 }
 
 fn row(spec: &SpecRecord, r: usize, outcome: Outcome, run: &str) -> RowRecord {
-    RowRecord {
-        run: run.into(),
-        krate: spec.krate.clone(),
-        target: spec.target.clone(),
-        test: spec.row_test_name(r),
-        fingerprint: spec.fingerprint.clone(),
-        row: r as u32,
-        labels: spec
-            .row_labels(r)
-            .unwrap()
-            .iter()
-            .map(|s| s.to_string())
-            .collect(),
-        outcome,
-        message: (!outcome.is_pass()).then(|| format!("row {r} broke")),
-        duration_ns: 1_000,
-        time: "2026-11-30T10:00:01Z".into(),
-    }
+    let mut rec = fixture::row(spec, r, outcome);
+    rec.run = run.into();
+    rec.message = (!outcome.is_pass()).then(|| format!("row {r} broke"));
+    rec
 }
 
 /// Writes one process file of a run under `dir/heddle/runs/<run>/`.
@@ -341,7 +318,7 @@ fn damaged_and_foreign_lines_are_skipped_and_counted() {
     let whole = Line::Row(row(&s, 1, Outcome::Passed, "run-d")).to_json_line();
     lines.push(whole[..whole.len() / 2].to_string()); // truncated mid-line
     lines.push("\n".into());
-    lines.push(whole.replacen("\"v\":1", "\"v\":0", 1)); // an older format version
+    lines.push(whole.replacen("\"v\":2", "\"v\":1", 1)); // an older format version
     write_process(tmp.path(), "run-d", 1_700_000_000_001, &lines);
     let o = report(&["--store", tmp.path().to_str().unwrap(), "--format", "json"]);
     assert!(o.status.success());
@@ -350,7 +327,7 @@ fn damaged_and_foreign_lines_are_skipped_and_counted() {
         err.contains("skipped 1 corrupt or truncated record line"),
         "{err}"
     );
-    assert!(err.contains("older format version 0"), "{err}");
+    assert!(err.contains("older format version 1"), "{err}");
     let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
     assert_eq!(v["suites"][0]["executions"], 19, "the whole lines still count");
     assert_eq!(v["notes"].as_array().unwrap().len(), 2);

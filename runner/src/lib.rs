@@ -1,21 +1,23 @@
 //! heddle: combinatorial interaction testing for `cargo test`.
 //!
-//! An annotated test function (the `cover` attribute of `heddle-macros`) becomes one
-//! ordinary test per row of a covering array of strength t and index λ. This crate is
-//! what those tests run against, and what the `cargo heddle` report reads:
+//! When a test has many knobs and not every combination can run, [`cover`] turns one
+//! annotated test function into the rows of a covering array of strength t and index λ
+//! (every t-way combination of levels in at least λ rows), one ordinary `#[test]` per
+//! row, and records every row's outcome so `cargo heddle report` can name the
+//! combination that fails, always or only sometimes.
 //!
-//! - the runtime (hidden `__private`): runs a row, catches a panic or `Err`, records
-//!   the outcome and hands it back to libtest unchanged;
-//! - [`record`]: the versioned JSON-lines format of the records;
-//! - [`store`]: reading the store (runs, shards, skipped lines);
-//! - [`layout`]: where the store lives, how its files and run ids are named;
-//! - [`tally`]: runs, passes and failures per single level and t-way interaction.
+//! ```toml
+//! [dev-dependencies]
+//! heddle-test = "0.1"
+//! ```
 //!
-//! Recording is best effort: when the store cannot be written, the test process prints
-//! one warning and the tests run as they would without heddle.
+//! The report, pins and the CI gate come with the cargo subcommand:
+//! `cargo install cargo-heddle`, then `cargo heddle test` (runs `cargo test` under one
+//! run id and prints the interaction report), `cargo heddle pin` and
+//! `cargo heddle check`.
 //!
 //! ```
-//! use heddle::cover;
+//! use heddle_test::cover;
 //!
 //! #[derive(Clone, Copy, Debug, PartialEq)]
 //! enum Codec { Plain, Delta }
@@ -35,6 +37,20 @@
 //! roundtrip(8, Codec::Delta, true);
 //! ```
 //!
+//! See [`cover`] for every key of the attribute. A covering array of strength t
+//! promises nothing about combinations of more than t factors: a fault that needs three
+//! particular levels together can be missed at strength 2.
+//!
+//! # What this crate holds
+//! - [`cover`], re-exported from `heddle-macros`;
+//! - [`record`]: the versioned JSON-lines format of the records and the store's layout
+//!   (read back by `heddle-store`);
+//! - a hidden module for the generated code (runs a row, catches a panic or `Err`,
+//!   records the outcome and hands it back to libtest unchanged).
+//!
+//! Recording is best effort: when the store cannot be written, the test process prints
+//! one warning and the tests run as they would without heddle.
+//!
 //! # Environment
 //! Empty values count as unset; an invalid value turns recording off with a one-line
 //! warning naming the variable (tests still run and pass or fail as usual).
@@ -51,15 +67,57 @@
 #![warn(missing_docs)]
 #![forbid(unsafe_code)]
 
+// the expansion names this crate `::heddle_test`; inside its own tests and doc tests
+// that path must resolve too
+extern crate self as heddle_test;
+
+/// Turns a test function whose parameters list their levels into one test per row of a
+/// covering array.
+///
+/// ```
+/// use heddle_test::cover;
+///
+/// #[cover(strength = 2, lambda = 2, seed = 11, exclude(codec == "delta" && batch == 1))]
+/// fn roundtrip(
+///     #[levels(1, 8, 64)] batch: usize,
+///     #[levels("plain", "rle", "delta")] codec: &str,
+///     #[levels(true, false)] checksum: bool,
+/// ) {
+///     let frame = format!("{codec}:{batch}:{}", u8::from(checksum));
+///     assert_eq!(frame.split(':').count(), 3);
+/// }
+/// # roundtrip(1, "rle", false);
+/// ```
+///
+/// | syntax | meaning | default |
+/// |---|---|---|
+/// | `#[levels(e1, e2, …)]` on every parameter | the parameter's levels: any Rust expressions of its type (literals, paths, enum variants, constants, calls); a level's label is its source text | required |
+/// | `strength = T` | every T-way combination of levels is covered | 2, capped at the number of parameters |
+/// | `lambda = L` | each combination is covered in at least L rows | 1 |
+/// | `seed = S` | seed of the engine's choices (u64) | a hash of the function's name |
+/// | `exclude(EXPR)` | rows where EXPR holds are never generated; EXPR uses `==`, `!=`, `&&`, `\|\|`, `!` and parentheses over parameter names and level expressions; repeatable | none |
+///
+/// - The function stays an ordinary function; a module of the same name holds one
+///   `#[test]` per row: `roundtrip::row_00`, `roundtrip::row_01`, … A failing row prints
+///   every parameter with its label, the seed and the command that reruns just that row.
+/// - Crate-wide defaults for `strength`, `lambda` and `seed` go in `Cargo.toml` under
+///   `[package.metadata.heddle]`; the attribute overrides them.
+/// - Functions returning `Result<(), E>` (E: Debug) fail a row on `Err`. `#[ignore]` and
+///   `#[should_panic]` on the function apply to every row. An `async fn` with a runtime's
+///   test attribute below `#[cover]` (e.g. `#[tokio::test]`) gets that attribute on
+///   every row.
+/// - Rows come from the pins file `heddle-pins.toml` when `cargo heddle pin` wrote one
+///   for this function and its spec is unchanged, else from the engine at build time.
+/// - Mistakes are compile errors at the offending tokens, all of them at once, with a
+///   hint; the plain function is still emitted so no follow-on errors appear.
+/// - The generated code reaches this crate by the name your `Cargo.toml` gives it, so a
+///   renamed dependency (`ht = { package = "heddle-test", … }`) works.
 pub use heddle_macros::cover;
 
-pub mod layout;
 mod message;
 pub mod record;
 mod recorder;
 mod setup;
-pub mod store;
-pub mod tally;
 mod time;
 
 #[doc(hidden)]

@@ -2,6 +2,7 @@
 //! exactly that row without reading the attribute.
 
 use crate::__private::Suite;
+use crate::record;
 use std::fmt::Write as _;
 
 /// Name of the crate root a module path starts in (`codec` in `codec::roundtrip`).
@@ -17,74 +18,20 @@ pub(crate) fn suite_path(module: &str) -> &str {
     }
 }
 
-/// `row_03`: zero-padded to the width of the largest index, at least two digits (the
-/// macro names the row tests the same way; see the contract).
-pub(crate) fn row_name(rows: usize, row: usize) -> String {
-    let largest = rows.saturating_sub(1).max(row);
-    let width = largest.to_string().len().max(2);
-    format!("row_{row:0width$}")
+/// The row's test function name, as the expansion chose it; a row outside the suite
+/// (only a macro bug could produce one) shows as a placeholder instead of panicking.
+pub(crate) fn row_name(suite: &Suite, row: usize) -> &'static str {
+    suite.row_names.get(row).copied().unwrap_or("<unknown row>")
 }
 
 /// The row's libtest name: `roundtrip::row_03`.
 pub(crate) fn test_name(suite: &Suite, row: usize) -> String {
-    test_name_in(suite.module, suite.rows.len(), row)
-}
-
-/// The libtest name of row `row` of `rows` in the rows module at `module`.
-pub(crate) fn test_name_in(module: &str, rows: usize, row: usize) -> String {
-    let path = suite_path(module);
-    let name = row_name(rows, row);
-    if path.is_empty() {
-        name
-    } else {
-        format!("{path}::{name}")
-    }
-}
-
-/// The cargo target selector for the file a suite lives in, when the file path tells.
-///
-/// Cargo's conventional layout decides (`tests/NAME.rs` or `tests/NAME/…` is the test
-/// target NAME, likewise `examples/`, `benches/`, `src/bin/`; `src/main.rs` the default
-/// bin; other `src/` files the library). The derived name is checked against the crate
-/// root's name from the module path (cargo turns `-` into `_` for crate names); when a
-/// `[[test]]` section renamed the target, the crate root's name is the better guess.
-pub(crate) fn target_selector(file: &str, krate: &str, root: &str) -> Option<String> {
-    let parts: Vec<&str> = file.split('/').filter(|p| !p.is_empty() && *p != ".").collect();
-    let named = |flag: &str, name: &str| {
-        let name = name.strip_suffix(".rs").unwrap_or(name);
-        let pick = if name.replace('-', "_") == root || root.is_empty() {
-            name
-        } else {
-            root
-        };
-        Some(format!("{flag} {pick}"))
-    };
-    match parts.as_slice() {
-        ["tests", name, ..] => named("--test", name),
-        ["examples", name, ..] => named("--example", name),
-        ["benches", name, ..] => named("--bench", name),
-        ["src", "bin", name, ..] => named("--bin", name),
-        ["src", "main.rs"] => named("--bin", krate),
-        ["src", ..] => Some("--lib".to_string()),
-        _ => None,
-    }
+    record::test_path(suite_path(suite.module), row_name(suite, row))
 }
 
 /// The command that reruns just this row.
 pub(crate) fn rerun_command(suite: &Suite, row: usize) -> String {
-    rerun_command_in(suite.krate, suite.file, suite.module, suite.rows.len(), row)
-}
-
-/// The command that reruns row `row` of `rows` of the suite at `module` in `file` of
-/// package `krate` (the report prints the same command the failing row printed).
-pub(crate) fn rerun_command_in(krate: &str, file: &str, module: &str, rows: usize, row: usize) -> String {
-    let mut cmd = format!("cargo test -p {krate}");
-    if let Some(sel) = target_selector(file, krate, crate_root(module)) {
-        cmd.push(' ');
-        cmd.push_str(&sel);
-    }
-    let _ = write!(cmd, " {} -- --exact", test_name_in(module, rows, row));
-    cmd
+    record::rerun_command(suite.krate, suite.target, &test_name(suite, row))
 }
 
 /// The label of every factor in this row; a row or level index outside the suite (only
@@ -140,6 +87,7 @@ mod tests {
     static SUITE: Suite = Suite {
         krate: "demo-crate",
         file: "tests/codec-io.rs",
+        target: "--test codec-io",
         function: "roundtrip",
         module: "codec_io::roundtrip",
         factors: &[
@@ -157,46 +105,12 @@ mod tests {
         seed: 11,
         excludes: &[],
         rows: &[&[0, 0], &[0, 1], &[1, 0], &[1, 1], &[2, 0], &[2, 1]],
+        row_names: &["row_00", "row_01", "row_02", "row_03", "row_04", "row_05"],
         fingerprint: "abc",
         pinned: false,
         should_panic: false,
         should_panic_expected: None,
     };
-
-    #[test]
-    fn row_names_follow_the_contract_padding() {
-        assert_eq!(row_name(1, 0), "row_00");
-        assert_eq!(row_name(10, 9), "row_09");
-        assert_eq!(row_name(43, 42), "row_42");
-        assert_eq!(row_name(101, 7), "row_007");
-        assert_eq!(row_name(100, 99), "row_99");
-    }
-
-    #[test]
-    fn target_selectors_follow_cargo_layout() {
-        let sel = |file, root| target_selector(file, "my-pkg", root);
-        assert_eq!(
-            sel("tests/codec-io.rs", "codec_io").as_deref(),
-            Some("--test codec-io")
-        );
-        assert_eq!(
-            sel("tests/suite/main.rs", "suite").as_deref(),
-            Some("--test suite")
-        );
-        assert_eq!(
-            sel("tests/suite/parts/a.rs", "suite").as_deref(),
-            Some("--test suite")
-        );
-        // a `[[test]] name = "other"` target whose file name differs
-        assert_eq!(sel("tests/file.rs", "other").as_deref(), Some("--test other"));
-        assert_eq!(sel("src/lib.rs", "my_pkg").as_deref(), Some("--lib"));
-        assert_eq!(sel("src/deep/mod.rs", "my_pkg").as_deref(), Some("--lib"));
-        assert_eq!(sel("src/main.rs", "my_pkg").as_deref(), Some("--bin my-pkg"));
-        assert_eq!(sel("src/bin/tool.rs", "tool").as_deref(), Some("--bin tool"));
-        assert_eq!(sel("examples/demo.rs", "demo").as_deref(), Some("--example demo"));
-        assert_eq!(sel("benches/speed.rs", "speed").as_deref(), Some("--bench speed"));
-        assert_eq!(sel("checks/odd.rs", "odd"), None);
-    }
 
     #[test]
     fn rerun_command_names_package_target_and_exact_test() {
@@ -222,7 +136,7 @@ mod tests {
     #[test]
     fn out_of_range_rows_do_not_panic() {
         assert_eq!(row_labels(&SUITE, 99), vec!["<unknown level>"; 2]);
-        assert!(context(&SUITE, 99, "failed").contains("row_99"));
+        assert!(context(&SUITE, 99, "failed").contains("<unknown row>"));
     }
 
     #[test]

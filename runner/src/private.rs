@@ -1,5 +1,6 @@
-//! The interface between the `#[cover]` expansion and this crate (see `contract.md`):
-//! not for use by hand, and exempt from semver.
+//! The interface between the `#[cover]` expansion (`heddle-syntax`'s `expand` module,
+//! its only user) and this crate: not for use by hand, and exempt from semver. Change
+//! both sides together.
 //!
 //! Each generated row test calls one of the `run*` functions with the suite's static
 //! description, the row index and the body. The body runs under `catch_unwind`; the
@@ -34,6 +35,9 @@ pub struct Suite {
     pub krate: &'static str,
     /// Test file relative to the crate root, `/`-separated.
     pub file: &'static str,
+    /// The cargo selector of the target the rows are compiled into (`--test hub`,
+    /// `--lib`), as a rerun command passes it; empty when the layout does not tell.
+    pub target: &'static str,
     /// The annotated function's name.
     pub function: &'static str,
     /// `module_path!()` of the generated rows module.
@@ -46,10 +50,12 @@ pub struct Suite {
     pub lambda: u32,
     /// Seed of the rows.
     pub seed: u64,
-    /// Each exclude's source text, normalised.
+    /// Each exclude as the engine's formula over level indices (`0=2&1=0`).
     pub excludes: &'static [&'static str],
     /// Level index per factor, per row.
     pub rows: &'static [&'static [u8]],
+    /// The name of each row's test function (`row_03`), as the expansion chose it.
+    pub row_names: &'static [&'static str],
     /// Spec fingerprint (the one the pins file stores).
     pub fingerprint: &'static str,
     /// Whether the rows came from the pins file.
@@ -302,6 +308,7 @@ mod tests {
     static SUITE: Suite = Suite {
         krate: "demo",
         file: "tests/t.rs",
+        target: "--test t",
         function: "f",
         module: "t::f",
         factors: &[Factor {
@@ -313,6 +320,7 @@ mod tests {
         seed: 5,
         excludes: &[],
         rows: &[&[0], &[1]],
+        row_names: &["row_00", "row_01"],
         fingerprint: "fp",
         pinned: false,
         should_panic: false,

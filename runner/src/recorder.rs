@@ -8,8 +8,8 @@
 //! it never fails or panics a test.
 
 use crate::__private::Suite;
-use crate::layout;
 use crate::message;
+use crate::record::layout;
 use crate::record::{FactorSpec, Line, Outcome, RowRecord, SpecRecord};
 use crate::setup::{Config, SetupError};
 use crate::time;
@@ -148,6 +148,7 @@ pub(crate) fn spec_record(suite: &Suite, run_id: &str, time: &str) -> SpecRecord
         run: run_id.to_string(),
         krate: suite.krate.to_string(),
         target: message::crate_root(suite.module).to_string(),
+        selector: suite.target.to_string(),
         file: suite.file.to_string(),
         function: suite.function.to_string(),
         module: suite.module.to_string(),
@@ -165,6 +166,7 @@ pub(crate) fn spec_record(suite: &Suite, run_id: &str, time: &str) -> SpecRecord
         seed: suite.seed,
         excludes: suite.excludes.iter().map(|e| e.to_string()).collect(),
         rows: suite.rows.iter().map(|r| r.to_vec()).collect(),
+        row_names: suite.row_names.iter().map(|n| n.to_string()).collect(),
         fingerprint: suite.fingerprint.to_string(),
         pinned: suite.pinned,
         should_panic: suite.should_panic,
@@ -201,6 +203,7 @@ mod tests {
     static SUITE: Suite = Suite {
         krate: "demo",
         file: "src/lib.rs",
+        target: "--lib",
         function: "f",
         module: "demo::tests::f",
         factors: &[Factor {
@@ -210,8 +213,9 @@ mod tests {
         strength: 1,
         lambda: 1,
         seed: 5,
-        excludes: &["x == 3"],
+        excludes: &["0=0"],
         rows: &[&[0], &[1]],
+        row_names: &["row_00", "row_01"],
         fingerprint: "fp",
         pinned: true,
         should_panic: false,
@@ -252,9 +256,11 @@ mod tests {
         assert_eq!(s.target, "demo");
         assert_eq!(s.suite, "tests::f");
         assert_eq!(s.rows, vec![vec![0], vec![1]]);
-        assert_eq!(s.excludes, vec!["x == 3"]);
+        assert_eq!(s.excludes, vec!["0=0"]);
         assert!(s.pinned && !s.should_panic);
-        assert_eq!(s.validate(), Ok(()));
+        assert_eq!(s.selector, "--lib");
+        assert_eq!(s.row_names, ["row_00", "row_01"]);
+        assert_eq!(s.row_test_name(1).as_deref(), Some("tests::f::row_01"));
         let r = row_record(&SUITE, &result(1, Outcome::Failed), "r", "t".into());
         assert_eq!(r.test, "tests::f::row_01");
         assert_eq!(r.labels, vec!["2"]);

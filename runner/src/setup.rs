@@ -1,7 +1,7 @@
 //! Decides, once per test process, where its records go and under which run id, from
 //! the environment and the test executable's path.
 
-use crate::layout::{self, NEXTEST_RUN_ID_VAR, RUN_ID_VAR, TARGET_DIR_VAR};
+use crate::record::layout::{self, NEXTEST_RUN_ID_VAR, RUN_ID_VAR, TARGET_DIR_VAR};
 use std::ffi::OsString;
 use std::io;
 use std::path::PathBuf;

@@ -16,51 +16,15 @@
 
 use std::collections::BTreeMap;
 
-use heddle::record::SpecRecord;
-use heddle_generator::{Coverage, Expr, Factor, Spec};
+use heddle_generator::{Coverage, Expr, Spec};
+use heddle_test::record::SpecRecord;
 
-/// The engine's spec of a recorded spec line: factors and labels, strength, λ, seed and
-/// the excludes parsed from their recorded source text, with the engine's own text
-/// syntax (`name == label`, `!=`, `&&`, `||`, `!`, parentheses) where it can express
-/// the labels. A label holding a quote, a space or a parenthesis is beyond that syntax
-/// (a string or char literal level): such an exclude is read as the Rust expression it
-/// was written as, with the macro's own converter. Either way the tests also compare
-/// the excludes with the fixture's predicate over every row ([`crate::fixtures`]).
+/// The engine's spec of a recorded spec line, through the store's one conversion
+/// (excludes are recorded as the engine's formulas over level indices). The tests also
+/// compare the excludes with the fixture's predicate over every row
+/// ([`crate::fixtures`]), so a wrong formula in the record cannot go unnoticed.
 pub fn engine_spec(rec: &SpecRecord) -> Result<Spec, String> {
-    let factors: Vec<Factor> = rec
-        .factors
-        .iter()
-        .map(|f| Factor::new(f.name.clone(), f.labels.iter().cloned()))
-        .collect();
-    let mut spec = Spec::new(factors)
-        .strength(rec.strength as usize)
-        .lambda(rec.lambda)
-        .seed(rec.seed);
-    for text in &rec.excludes {
-        let e = match Expr::parse(text, &spec.factors) {
-            Ok(e) => e,
-            Err(first) => as_rust(text, &spec.factors).map_err(|e| {
-                format!(
-                    "recorded exclude `{text}` does not parse: {}; {e}",
-                    first.render(text)
-                )
-            })?,
-        };
-        spec = spec.exclude(e);
-    }
-    Ok(spec)
-}
-
-/// An exclude's text read as Rust tokens, as `#[cover]` reads it.
-fn as_rust(text: &str, factors: &[Factor]) -> Result<Expr, String> {
-    let parsed: syn::Expr = syn::parse_str(text).map_err(|e| format!("not a Rust expression: {e}"))?;
-    let mut errs = heddle_syntax::diag::Errors::default();
-    let e = heddle_syntax::exclude::convert(&parsed, factors, &mut errs);
-    match (e, errs.into_error()) {
-        (Some(e), None) => Ok(e),
-        (_, Some(err)) => Err(err.to_string()),
-        (None, None) => Err("no formula".to_string()),
-    }
+    heddle_store::engine_spec(rec).map_err(|e| format!("`{}`: {e}", rec.suite))
 }
 
 /// [`heddle_generator::verify`] on the recorded rows against the rebuilt spec.
@@ -213,35 +177,15 @@ pub fn same_constraints(levels: &[usize], a: &[Expr], b: &[Expr]) -> bool {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use heddle::record::FactorSpec;
+    use heddle_store::fixture::SpecBuilder;
 
     fn rec(levels: &[usize], t: u32, lambda: u32, rows: Vec<Vec<u8>>) -> SpecRecord {
-        SpecRecord {
-            run: "r".into(),
-            krate: "c".into(),
-            target: "t".into(),
-            file: "tests/t.rs".into(),
-            function: "f".into(),
-            module: "t::f".into(),
-            suite: "f".into(),
-            factors: levels
-                .iter()
-                .enumerate()
-                .map(|(i, &n)| FactorSpec {
-                    name: format!("f{i}"),
-                    labels: (0..n).map(|l| l.to_string()).collect(),
-                })
-                .collect(),
-            strength: t,
-            lambda,
-            seed: 0,
-            excludes: vec![],
-            rows,
-            fingerprint: "0".into(),
-            pinned: false,
-            should_panic: false,
-            time: "x".into(),
-        }
+        SpecBuilder::new("f")
+            .numbered(levels)
+            .strength(t)
+            .lambda(lambda)
+            .rows(rows)
+            .build()
     }
 
     // The orthogonal array OA(4; 2, 3, 2): rows 000, 011, 101, 110 (the even-weight code
@@ -282,7 +226,7 @@ mod tests {
         ];
         let mut r = rec(&[2, 2, 2], 2, 1, oa4()[..3].to_vec());
         assert!(check_by_definition(&r, &allowed).is_err());
-        r.rows = fixed;
+        r = rec(&[2, 2, 2], 2, 1, fixed);
         let found = check_by_definition(&r, &allowed).unwrap();
         assert_eq!(
             found.impossible,
@@ -291,9 +235,13 @@ mod tests {
                 ("f1".to_string(), "1".to_string())
             ]]
         );
-        r.excludes = vec!["f0 == 1 && f1 == 1".into()];
+        // the recorded formula of `f0 == 1 && f1 == 1`
+        r.excludes = vec!["0=1&1=1".into()];
         assert_eq!(verify_recorded(&r).unwrap().impossible, 1);
-        r.rows = oa4();
+        r = SpecRecord {
+            excludes: r.excludes.clone(),
+            ..rec(&[2, 2, 2], 2, 1, oa4())
+        };
         assert!(check_by_definition(&r, &allowed).is_err());
         assert!(verify_recorded(&r).is_err());
     }

@@ -33,7 +33,7 @@ pub fn always(_: &Labels<'_>) -> bool {
 /// The integration-test file of the main temporary crate, `tests/suites.rs`.
 pub const SUITES: &str = r#"//! Suites of heddle's end-to-end tests; each body plants a known defect.
 
-use heddle::cover;
+use heddle_test::cover;
 
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum Codec {
@@ -315,7 +315,7 @@ pub const KNOBS_METADATA: &str = "strength = 3\nlambda = 2\nseed = 4242";
 /// The integration-test file of the defaults-and-pins crate, `tests/knobs.rs`.
 pub const KNOBS: &str = r#"//! Crate defaults (strength 3, lambda 2, seed 4242) and what overrides them.
 
-use heddle::cover;
+use heddle_test::cover;
 
 /// Everything from the crate's defaults.
 #[cover]
@@ -364,7 +364,7 @@ pub const KNOBS_FILE: &str = "tests/knobs.rs";
 /// attribute below `#[cover]`).
 pub const ASYNC: &str = r#"//! Async rows under tokio's test attribute.
 
-use heddle::cover;
+use heddle_test::cover;
 
 /// Panics after a yield when `a == 2 && b`.
 #[cover(seed = 1)]

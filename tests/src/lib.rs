@@ -4,7 +4,7 @@
 //! depending on this workspace's `heddle` by absolute path, runs `cargo test` (or
 //! `cargo nextest run`) on it and judges the outcome from two sides: what libtest or
 //! nextest printed, and what the runtime recorded in its store, read back through
-//! `heddle::store`.
+//! `heddle_store`.
 //!
 //! - [`scratch`]: the temporary crates and the cargo invocations on them (one target
 //!   directory shared by all, builds serialised, each timed and printed);

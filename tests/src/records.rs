@@ -3,18 +3,11 @@
 
 use std::collections::{BTreeMap, BTreeSet};
 
-use heddle::record::Outcome;
-use heddle::store::SuiteRecords;
+use heddle_store::SuiteRecords;
+use heddle_test::record::Outcome;
 
 use crate::coverage::labels;
 use crate::output::{Status, TestLine};
-
-/// A row's test name as the contract fixes it: `row_` and the index zero-padded to the
-/// width of the largest index, at least two digits.
-pub fn row_name(row: usize, rows: usize) -> String {
-    let width = rows.saturating_sub(1).to_string().len().max(2);
-    format!("row_{row:0width$}")
-}
 
 /// What [`check_suite`] counted.
 #[derive(Clone, Debug, Default, PartialEq, Eq)]
@@ -41,9 +34,20 @@ pub fn check_suite(
     let spec = &suite.spec;
     let n = spec.rows.len();
     let name = &spec.suite;
-    let mut by_row: BTreeMap<u32, Vec<&heddle::record::RowRecord>> = BTreeMap::new();
+    let mut by_row: BTreeMap<u32, Vec<&heddle_test::record::RowRecord>> = BTreeMap::new();
     for r in &suite.rows {
         by_row.entry(r.row).or_default().push(r);
+    }
+    // the expansion names the rows; what the report relies on is that the names are
+    // distinct and sort in row order (so `cargo test` lists them in order)
+    let mut sorted = spec.row_names.clone();
+    sorted.sort();
+    sorted.dedup();
+    if sorted != spec.row_names || spec.row_names.len() != n {
+        return Err(format!(
+            "`{name}`: row names {:?} are not {n} distinct names in row order",
+            spec.row_names
+        ));
     }
     let want: BTreeSet<u32> = (0..n as u32).collect();
     let have: BTreeSet<u32> = by_row.keys().copied().collect();
@@ -57,7 +61,9 @@ pub fn check_suite(
             return Err(format!("`{name}`: row {row} recorded {} times", records.len()));
         };
         let i = row as usize;
-        let test = format!("{name}::{}", row_name(i, n));
+        let test = spec
+            .row_test_name(i)
+            .ok_or_else(|| format!("`{name}`: row {row} has no name"))?;
         let want_labels = labels(spec, &spec.rows[i]);
         let ctx = format!("`{test}`");
         if r.test != test {
@@ -135,19 +141,4 @@ pub fn check_suite(
         ));
     }
     Ok(counted)
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn row_names_are_padded_to_the_largest_index() {
-        // the contract's examples: row_0…row_9 would not sort past 9, so at least two
-        // digits; row_00…row_42 for 43 rows; three digits from 101 rows on
-        assert_eq!(row_name(3, 5), "row_03");
-        assert_eq!(row_name(42, 43), "row_42");
-        assert_eq!(row_name(7, 101), "row_007");
-        assert_eq!(row_name(0, 100), "row_00");
-    }
 }

@@ -32,7 +32,7 @@ pub fn workspace_root() -> PathBuf {
 pub fn shared_target_dir() -> PathBuf {
     let built_in = std::env::current_exe()
         .ok()
-        .and_then(|exe| heddle::layout::find_build_dir(&exe))
+        .and_then(|exe| heddle_test::record::layout::find_build_dir(&exe))
         .unwrap_or_else(|| workspace_root().join("target"));
     built_in.join("e2e-target")
 }
@@ -86,6 +86,9 @@ pub struct CrateDef<'a> {
     pub metadata: Option<&'a str>,
     /// Extra `[dev-dependencies]` lines (heddle is always there).
     pub dev_dependencies: &'a [&'a str],
+    /// The name the crate gives its `heddle-test` dependency, when not its own
+    /// (`rt = { package = "heddle-test", … }`).
+    pub runtime_as: Option<&'a str>,
     /// Files, by path relative to the crate root.
     pub files: &'a [(&'a str, &'a str)],
 }
@@ -173,10 +176,11 @@ impl Scratch {
         }
         // a workspace of its own, whatever directory the temporary one lies in
         manifest.push_str("[workspace]\n\n[dev-dependencies]\n");
-        manifest.push_str(&format!(
-            "heddle = {{ path = {} }}\n",
-            toml_string(&runner.to_string_lossy())
-        ));
+        let path = toml_string(&runner.to_string_lossy());
+        manifest.push_str(&match def.runtime_as {
+            Some(name) => format!("{name} = {{ package = \"heddle-test\", path = {path} }}\n"),
+            None => format!("heddle-test = {{ path = {path} }}\n"),
+        });
         for line in def.dev_dependencies {
             manifest.push_str(line);
             manifest.push('\n');
@@ -313,7 +317,7 @@ impl Scratch {
                 .env("CARGO_TERM_COLOR", "never")
                 .env("RUST_BACKTRACE", "0");
             if let Some(store) = store {
-                cmd.env(heddle::layout::TARGET_DIR_VAR, store);
+                cmd.env(heddle_test::record::layout::TARGET_DIR_VAR, store);
             }
             for (k, v) in env {
                 cmd.env(k, v);
@@ -383,7 +387,7 @@ mod tests {
         assert_eq!(dir.file_name().and_then(|n| n.to_str()), Some("e2e-target"));
         let parent = dir.parent().expect("e2e-target has a parent");
         assert!(
-            parent.join(heddle::layout::CACHEDIR_TAG).is_file(),
+            parent.join(heddle_test::record::layout::CACHEDIR_TAG).is_file(),
             "{}",
             dir.display()
         );

@@ -4,7 +4,7 @@
 use std::panic::{AssertUnwindSafe, catch_unwind};
 use std::path::Path;
 
-use heddle::store::{Records, Store, SuiteRecords};
+use heddle_store::{Records, Store, SuiteRecords};
 
 use crate::scratch::note;
 

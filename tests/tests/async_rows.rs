@@ -7,7 +7,7 @@ use heddle_e2e::coverage::{check_by_definition, verify_recorded};
 use heddle_e2e::ensure;
 use heddle_e2e::fixtures::{ASYNC, ASYNC_EXPECT};
 use heddle_e2e::output;
-use heddle_e2e::records::{check_suite, row_name};
+use heddle_e2e::records::check_suite;
 use heddle_e2e::scratch::{CrateDef, Scratch, note};
 use heddle_e2e::steps::{Steps, read_store, suite};
 
@@ -65,9 +65,9 @@ fn async_rows_under_tokio() {
                     let section = output::failure_section(&run.stdout, &r.test)
                         .ok_or_else(|| format!("no output for `{}`", r.test))?;
                     let head = format!(
-                        "heddle: `{function}` row {} of {n} (`{function}::{}`) {how}",
+                        "heddle: `{function}` row {} of {n} (`{}`) {how}",
                         r.row,
-                        row_name(r.row as usize, n)
+                        s.spec.row_test_name(r.row as usize).unwrap_or_default()
                     );
                     ensure!(section.contains(&head), "no `{head}` in\n{section}");
                     ensure!(

@@ -3,8 +3,6 @@
 //! heddle-syntax's writer (and the test file touched, as documented), with a default
 //! edited in `Cargo.toml`, and with the pin made stale.
 
-use heddle::record::SpecRecord;
-use heddle::store::Records;
 use heddle_e2e::coverage::{all_rows, check_by_definition, engine_spec, verify_recorded};
 use heddle_e2e::ensure;
 use heddle_e2e::fixtures::{self, KNOBS, KNOBS_FILE, KNOBS_METADATA};
@@ -12,8 +10,10 @@ use heddle_e2e::output;
 use heddle_e2e::records::check_suite;
 use heddle_e2e::scratch::{CrateDef, Scratch};
 use heddle_e2e::steps::{Steps, read_store, suite};
+use heddle_store::Records;
 use heddle_syntax::find::{Found, analyse_source};
 use heddle_syntax::{Defaults, Fingerprint, Pin, PinKey, PinsFile};
+use heddle_test::record::SpecRecord;
 
 const KRATE: &str = "e2e_knobs";
 const PINNED_FN: &str = "overridden";

@@ -6,20 +6,20 @@
 use std::collections::BTreeMap;
 use std::path::Path;
 
-use heddle::record::{Line, Outcome, SpecRecord};
-use heddle::store::{Records, Store};
-use heddle::tally::{Interaction, tally};
 use heddle_e2e::coverage::{
     all_rows, check_by_definition, engine_spec, labels, same_constraints, verify_recorded,
 };
 use heddle_e2e::ensure;
 use heddle_e2e::fixtures::{self, SUITES, SUITES_EXPECT, SUITES_FILE, SUITES_SILENT, SUITES_TARGET, expect};
 use heddle_e2e::output::{self, Status, TestLine};
-use heddle_e2e::records::{check_suite, row_name};
+use heddle_e2e::records::check_suite;
 use heddle_e2e::scratch::{self, CrateDef, Run, Scratch, note};
 use heddle_e2e::steps::{Steps, read_store, suite};
 use heddle_generator::{Effort, generate};
+use heddle_store::{Interaction, tally};
+use heddle_store::{Records, Store};
 use heddle_syntax::Defaults;
+use heddle_test::record::{Line, Outcome, SpecRecord};
 
 const KRATE: &str = "e2e_suites";
 
@@ -385,10 +385,9 @@ fn messages(main: &Main) -> Result<(), String> {
                 _ => "panicked",
             };
             let head = format!(
-                "heddle: `{}` row {i} of {n} (`{}::{}`) {how}",
+                "heddle: `{}` row {i} of {n} (`{}`) {how}",
                 spec.function,
-                spec.suite,
-                row_name(i, n)
+                spec.row_test_name(i).unwrap_or_default()
             );
             ensure!(section.contains(&head), "`{}`: no `{head}` in\n{section}", r.test);
             for (f, label) in spec.factors.iter().zip(&r.labels) {
@@ -491,7 +490,7 @@ fn ignored(krate: &Scratch, main: &Main) -> Result<(), String> {
     );
     let mut args = test_args();
     args.extend(["skipped", "--", "--ignored"]);
-    let run = krate.cargo(&args, None, &[(heddle::layout::RUN_ID_VAR, &id)]);
+    let run = krate.cargo(&args, None, &[(heddle_test::record::layout::RUN_ID_VAR, &id)]);
     ensure!(run.succeeded(), "`{}` failed:\n{}", run.command, run.stdout);
     let target = scratch::shared_target_dir();
     let records = Store::open(&target)
@@ -499,8 +498,8 @@ fn ignored(krate: &Scratch, main: &Main) -> Result<(), String> {
         .map_err(|e| format!("run `{id}` is not in the target dir's store: {e}"));
     // the shared target dir outlives this test: leave nothing there
     let _ = std::fs::remove_dir_all(
-        heddle::layout::store_root(&target)
-            .join(heddle::layout::RUNS_DIR)
+        heddle_test::record::layout::store_root(&target)
+            .join(heddle_test::record::layout::RUNS_DIR)
             .join(&id),
     );
     let records = records?;
@@ -566,7 +565,7 @@ fn rerun(krate: &Scratch, main: &Main) -> Result<(), String> {
     let run = krate.cargo(
         &words[1..],
         Some(&store),
-        &[(heddle::layout::RUN_ID_VAR, "e2e-rerun")],
+        &[(heddle_test::record::layout::RUN_ID_VAR, "e2e-rerun")],
     );
     ensure!(run.compiled(), "`{}` did not build:\n{}", run.command, run.stderr);
     let tests = output::libtest_results(&run.stdout);

@@ -4,7 +4,7 @@
 //! apart from one that always does.
 
 use greenhouse::{Codec, Config, Flush, Hub, Unit, reference, sample};
-use heddle::cover;
+use heddle_test::cover;
 
 /// The hub's summary equals the sequential reference for every configuration.
 #[cover(strength = 2)]

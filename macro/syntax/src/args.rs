@@ -160,7 +160,7 @@ mod tests {
 
     #[test]
     fn from_a_source_attribute() {
-        let f: syn::ItemFn = syn::parse_str("#[cover] #[heddle::cover(lambda = 2)] fn f() {}").unwrap();
+        let f: syn::ItemFn = syn::parse_str("#[cover] #[heddle_test::cover(lambda = 2)] fn f() {}").unwrap();
         assert!(Args::from_attribute(&f.attrs[0]).unwrap().items.is_empty());
         assert_eq!(Args::from_attribute(&f.attrs[1]).unwrap().items.len(), 1);
         let f: syn::ItemFn = syn::parse_str("#[cover = 1] fn f() {}").unwrap();

@@ -139,7 +139,7 @@ impl FnAttrs<'_> {
     }
 }
 
-/// Whether a path names the attribute: `cover`, `heddle::cover`, `::heddle::cover` or
+/// Whether a path names the attribute: `cover`, `heddle_test::cover`, `::heddle_test::cover` or
 /// `heddle_macros::cover`.
 pub fn is_cover_path(path: &syn::Path) -> bool {
     let segs: Vec<String> = path.segments.iter().map(|s| s.ident.to_string()).collect();
@@ -257,7 +257,7 @@ mod tests {
     fn attributes_are_sorted_by_destination() {
         let f: syn::ItemFn = syn::parse_str(
             "/// doc\n#[ignore] #[cfg(unix)] #[allow(unused)] #[should_panic] #[test] #[tokio::test] \
-             #[heddle::cover] fn f(#[levels(1, 2)] a: u8, (b, c): (u8, u8), #[levels] d: u8) {}",
+             #[heddle_test::cover] fn f(#[levels(1, 2)] a: u8, (b, c): (u8, u8), #[levels] d: u8) {}",
         )
         .unwrap();
         let args = Args::parse_tokens(proc_macro2::TokenStream::new(), Span::call_site()).unwrap();
@@ -272,7 +272,7 @@ mod tests {
         assert_eq!(paths(&c.attrs.rows), ["ignore", "should_panic"]);
         assert_eq!(paths(&c.attrs.test), ["test"]);
         assert_eq!(paths(&c.attrs.runtime), ["tokio :: test"]);
-        assert_eq!(paths(&c.attrs.covers), ["heddle :: cover"]);
+        assert_eq!(paths(&c.attrs.covers), ["heddle_test :: cover"]);
         assert!(c.attrs.should_panic());
         // the plugin passes the attribute it found, which is then not a duplicate
         let own = CoverFn::new(&args, &f, Some(&f.attrs[7]));
@@ -289,11 +289,11 @@ mod tests {
     fn cover_paths() {
         for (p, yes) in [
             ("cover", true),
-            ("heddle::cover", true),
+            ("heddle_test::cover", true),
             ("heddle_macros::cover", true),
             ("::cover", false),
             ("other::cover", false),
-            ("heddle::levels", false),
+            ("heddle_test::levels", false),
         ] {
             let path: syn::Path = syn::parse_str(p).unwrap();
             assert_eq!(is_cover_path(&path), yes, "{p}");

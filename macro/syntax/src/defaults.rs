@@ -21,6 +21,18 @@ use toml::Spanned;
 use crate::diag;
 use crate::keywords as kw;
 
+/// Strength when neither the attribute nor the crate sets one.
+pub const DEFAULT_STRENGTH: usize = 2;
+/// λ when neither the attribute nor the crate sets one.
+pub const DEFAULT_LAMBDA: u32 = 1;
+
+/// The table of crate-wide defaults: `[package.metadata.heddle]`.
+pub const METADATA_TABLE: &str = "heddle";
+/// Keys the defaults table accepts.
+pub const METADATA_KEYS: &[&str] = &[kw::STRENGTH, kw::LAMBDA, kw::SEED];
+/// The manifest the defaults live in.
+pub const MANIFEST_FILE: &str = "Cargo.toml";
+
 /// Defaults a crate sets for all its annotated functions.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
 pub struct Defaults {
@@ -67,7 +79,7 @@ impl Defaults {
             DefaultsError(diag::message(
                 format!(
                     "cannot read `{}`{}: {}",
-                    kw::MANIFEST_FILE,
+                    MANIFEST_FILE,
                     at(text, e.span()),
                     e.message()
                 ),
@@ -86,8 +98,7 @@ impl Defaults {
                 DefaultsError(diag::message(
                     format!(
                         "`{key} = {found}` in `[package.metadata.{}]` of `{}`{table_at} is not {range}",
-                        kw::METADATA_TABLE,
-                        kw::MANIFEST_FILE
+                        METADATA_TABLE, MANIFEST_FILE
                     ),
                     format!("write e.g. `{key} = 2`"),
                 ))
@@ -109,10 +120,9 @@ impl Defaults {
                     return Err(DefaultsError(diag::message(
                         format!(
                             "unknown key `{key}` in `[package.metadata.{}]` of `{}`{table_at}",
-                            kw::METADATA_TABLE,
-                            kw::MANIFEST_FILE
+                            METADATA_TABLE, MANIFEST_FILE
                         ),
-                        format!("the keys are {}", diag::list(kw::METADATA_KEYS)),
+                        format!("the keys are {}", diag::list(METADATA_KEYS)),
                     )));
                 }
             }
@@ -123,7 +133,7 @@ impl Defaults {
     /// Reads the defaults of the crate whose root is `crate_root`; a missing manifest
     /// means no defaults.
     pub fn load(crate_root: &Path) -> Result<Defaults, DefaultsError> {
-        let path = crate_root.join(kw::MANIFEST_FILE);
+        let path = crate_root.join(MANIFEST_FILE);
         match std::fs::read_to_string(&path) {
             Ok(text) => Defaults::from_manifest(&text),
             Err(e) if e.kind() == std::io::ErrorKind::NotFound => Ok(Defaults::default()),

@@ -3,9 +3,13 @@
 //!
 //! It lives here rather than in the proc-macro crate so that benchmarks and tests can
 //! call it (a proc-macro crate can export nothing else). The output touches the runtime
-//! only through `::heddle::__private` (see the contract in the runtime's docs) and uses
-//! `::core`/`::std` paths and `__heddle`/`__HEDDLE` names only, so it cannot collide
-//! with the user's items.
+//! only through its `__private` module, reached by the path in [`Context::runtime`] (the
+//! user may have renamed the dependency), and uses `::core`/`::std` paths and
+//! `__heddle`/`__HEDDLE` names only, so it cannot collide with the user's items.
+//!
+//! The expansion is the one place that names the row tests: it hands the runtime each
+//! row's test function name and the cargo target selector of the file, and the runtime
+//! writes them into the records, so messages and reports never rebuild them.
 //!
 //! Level expressions are written into a child module (named after the function) that
 //! starts with `use super::*;`, so names visible where the attribute is written resolve
@@ -23,6 +27,7 @@ use crate::ast::{CoverFn, ParamKind, is_cover_path, is_levels_attr, is_runtime_t
 use crate::defaults::{Defaults, DefaultsError};
 use crate::diag::{self, Errors};
 use crate::keywords as kw;
+use crate::paths;
 use crate::pins::{PinKey, PinsError, PinsFile};
 use crate::rows::{Rows, rows_for};
 use crate::validate::{Checked, Returns, validate};
@@ -40,6 +45,20 @@ pub struct Context {
     pub pins: Result<Option<PinsFile>, PinsError>,
     /// Whether the crate root holds a `Cargo.toml` (then it is tracked for rebuilds).
     pub has_manifest: bool,
+    /// The path generated code reaches the runtime crate by (`::heddle_test` unless the
+    /// dependency was renamed).
+    pub runtime: syn::Path,
+    /// The package being compiled (`CARGO_PKG_NAME`), when known.
+    pub package: Option<String>,
+    /// The crate being compiled (`CARGO_CRATE_NAME`: the library or the test, bin,
+    /// example or bench target), when known.
+    pub crate_name: Option<String>,
+}
+
+/// The path of the runtime crate under its own name.
+pub fn default_runtime() -> syn::Path {
+    let krate = syn::Ident::new(kw::CRATE, Span::call_site());
+    syn::parse_quote!(::#krate)
 }
 
 impl Context {
@@ -51,6 +70,9 @@ impl Context {
             defaults: Ok(Defaults::default()),
             pins: Ok(None),
             has_manifest: false,
+            runtime: default_runtime(),
+            package: None,
+            crate_name: None,
         }
     }
 
@@ -67,8 +89,18 @@ impl Context {
             file,
             defaults: Defaults::load(root),
             pins: PinsFile::load(root),
-            has_manifest: root.join(kw::MANIFEST_FILE).is_file(),
+            has_manifest: root.join(crate::defaults::MANIFEST_FILE).is_file(),
+            ..Context::detached()
         }
+    }
+
+    /// The cargo target selector of the test file (`--test hub`), empty when unknown.
+    fn target_selector(&self) -> String {
+        let (Some(file), Some(krate)) = (&self.file, &self.crate_name) else {
+            return String::new();
+        };
+        let package = self.package.as_deref().unwrap_or(krate);
+        paths::target_selector(file, package, krate).unwrap_or_default()
     }
 }
 
@@ -211,21 +243,25 @@ fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStre
     let plain = plain_fn(cover.item);
     let cfgs = &cover.attrs.cfgs;
 
+    let rt = &ctx.runtime;
     let factors = spec.factors.iter().map(|f| {
         let n = &f.name;
         let labels = &f.levels;
-        quote!(::heddle::__private::Factor { name: #n, labels: &[#(#labels),*] })
+        quote!(#rt::__private::Factor { name: #n, labels: &[#(#labels),*] })
     });
     let row_lits = rows.rows.iter().map(|r| {
         let cells = r.iter().map(|&l| Literal::u8_unsuffixed(l));
         quote!(&[#(#cells),*])
     });
     let file = ctx.file.as_deref().unwrap_or("");
+    let target = ctx.target_selector();
     let function = &cs.function;
     let strength = Literal::u32_unsuffixed(spec.strength as u32);
     let lambda = Literal::u32_unsuffixed(spec.lambda);
     let seed = Literal::u64_unsuffixed(spec.seed);
-    let excludes = &cs.excludes;
+    // formulas over level indices: what the records store and the report reads back
+    // without a Rust parser
+    let excludes: Vec<String> = spec.excludes.iter().map(|e| e.to_formula()).collect();
     let fingerprint = cs.fingerprint.to_string();
     let pinned = rows.pinned;
     let should_panic = checked.shape.should_panic;
@@ -243,7 +279,10 @@ fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStre
             ));
         }
         if ctx.has_manifest {
-            let p = root.join(kw::MANIFEST_FILE).to_string_lossy().into_owned();
+            let p = root
+                .join(crate::defaults::MANIFEST_FILE)
+                .to_string_lossy()
+                .into_owned();
             tracked.extend(quote!(
                 const _: &[u8] = ::core::include_bytes!(#p);
             ));
@@ -264,8 +303,9 @@ fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStre
     };
     let row_attrs = &cover.attrs.rows;
     let n = rows.rows.len();
+    let row_names: Vec<String> = (0..n).map(|i| row_name(i, n)).collect();
     let row_fns = rows.rows.iter().enumerate().map(|(i, row)| {
-        let fn_name = format_ident!("{}", row_name(i, n));
+        let fn_name = format_ident!("{}", row_names[i]);
         let index = Literal::usize_unsuffixed(i);
         // every index was checked against the level counts (pin check or the engine's
         // verification), so the lookups cannot fail
@@ -275,29 +315,29 @@ fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStre
             (false, Returns::Unit) => (
                 quote!(),
                 quote!(),
-                quote!(::heddle::__private::run(&__HEDDLE_SUITE, #index, || #call)),
+                quote!(#rt::__private::run(&__HEDDLE_SUITE, #index, || #call)),
             ),
             (false, Returns::Result { error }) => (
                 quote!(),
                 match error {
-                    Some(e) => quote!(-> ::core::result::Result<(), ::heddle::__private::RowError<#e>>),
+                    Some(e) => quote!(-> ::core::result::Result<(), #rt::__private::RowError<#e>>),
                     None => quote!(-> impl ::std::process::Termination),
                 },
-                quote!(::heddle::__private::run_result(&__HEDDLE_SUITE, #index, || #call)),
+                quote!(#rt::__private::run_result(&__HEDDLE_SUITE, #index, || #call)),
             ),
             (true, Returns::Unit) => (
                 quote!(async),
                 quote!(),
-                quote!(::heddle::__private::run_async(&__HEDDLE_SUITE, #index, async move { #call.await }).await),
+                quote!(#rt::__private::run_async(&__HEDDLE_SUITE, #index, async move { #call.await }).await),
             ),
             (true, Returns::Result { error }) => (
                 quote!(async),
                 // validation requires the error type to be written out for async fns
                 error
-                    .map(|e| quote!(-> ::core::result::Result<(), ::heddle::__private::RowError<#e>>))
+                    .map(|e| quote!(-> ::core::result::Result<(), #rt::__private::RowError<#e>>))
                     .unwrap_or_default(),
                 quote!(
-                    ::heddle::__private::run_async_result(&__HEDDLE_SUITE, #index, async move { #call.await })
+                    #rt::__private::run_async_result(&__HEDDLE_SUITE, #index, async move { #call.await })
                         .await
                 ),
             ),
@@ -323,9 +363,10 @@ fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStre
 
             #tracked
 
-            static __HEDDLE_SUITE: ::heddle::__private::Suite = ::heddle::__private::Suite {
+            static __HEDDLE_SUITE: #rt::__private::Suite = #rt::__private::Suite {
                 krate: ::core::env!("CARGO_PKG_NAME"),
                 file: #file,
+                target: #target,
                 function: #function,
                 module: ::core::module_path!(),
                 factors: &[#(#factors),*],
@@ -334,6 +375,7 @@ fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStre
                 seed: #seed,
                 excludes: &[#(#excludes),*],
                 rows: &[#(#row_lits),*],
+                row_names: &[#(#row_names),*],
                 fingerprint: #fingerprint,
                 pinned: #pinned,
                 should_panic: #should_panic,

@@ -20,7 +20,7 @@ pub struct Annotated<'a> {
     pub modules: Vec<&'a Ident>,
 }
 
-/// Every function carrying `#[cover]` (or `#[heddle::cover]`), at file level or in
+/// Every function carrying `#[cover]` (or `#[heddle_test::cover]`), at file level or in
 /// inline modules, in source order. Functions nested in other items are not looked at:
 /// the attribute's expansion does not work there.
 pub fn annotated(file: &syn::File) -> Vec<Annotated<'_>> {

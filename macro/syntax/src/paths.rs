@@ -1,5 +1,6 @@
-//! The test file's path as pins and records name it: relative to the crate root,
-//! `/`-separated, the same on every machine whatever the compiler was handed.
+//! The test file's path as pins and records name it (relative to the crate root,
+//! `/`-separated, the same on every machine whatever the compiler was handed), and the
+//! cargo target it belongs to, as a rerun command selects it.
 
 use std::path::{Component, Path, PathBuf};
 
@@ -32,6 +33,42 @@ pub fn relative_to_root(root: &Path, file: &Path, cwd: Option<&Path>) -> String 
         parts.push(c.as_os_str().to_string_lossy().into_owned());
     }
     parts.join("/")
+}
+
+/// The cargo selector of the target a test file is compiled into (`--test hub`,
+/// `--lib`), or `None` when the layout does not tell.
+///
+/// Cargo's conventional layout decides: `tests/NAME.rs` or `tests/NAME/…` is the test
+/// target NAME, likewise `examples/`, `benches/`, `src/bin/`; `src/main.rs` the
+/// package's default bin; other `src/` files the library. The derived name is checked
+/// against `crate_name`, the name of the crate being compiled (cargo turns `-` into `_`);
+/// when a `[[test]]` section renamed the target, the crate's own name is the better guess.
+///
+/// ```
+/// use heddle_syntax::paths::target_selector;
+/// assert_eq!(target_selector("tests/hub.rs", "greenhouse", "hub").as_deref(), Some("--test hub"));
+/// assert_eq!(target_selector("src/codec.rs", "greenhouse", "greenhouse").as_deref(), Some("--lib"));
+/// ```
+pub fn target_selector(file: &str, package: &str, crate_name: &str) -> Option<String> {
+    let parts: Vec<&str> = file.split('/').filter(|p| !p.is_empty() && *p != ".").collect();
+    let named = |flag: &str, name: &str| {
+        let name = name.strip_suffix(".rs").unwrap_or(name);
+        let pick = if name.replace('-', "_") == crate_name || crate_name.is_empty() {
+            name
+        } else {
+            crate_name
+        };
+        Some(format!("{flag} {pick}"))
+    };
+    match parts.as_slice() {
+        ["tests", name, ..] => named("--test", name),
+        ["examples", name, ..] => named("--example", name),
+        ["benches", name, ..] => named("--bench", name),
+        ["src", "bin", name, ..] => named("--bin", name),
+        ["src", "main.rs"] => named("--bin", package),
+        ["src", ..] => Some("--lib".to_string()),
+        _ => None,
+    }
 }
 
 /// Removes `.` and folds `..` where a preceding normal component allows it.
@@ -76,5 +113,31 @@ mod tests {
             relative_to_root(root, Path::new("crate/src/lib.rs"), Some(Path::new("/w"))),
             "src/lib.rs"
         );
+    }
+
+    #[test]
+    fn target_selectors_follow_cargo_layout() {
+        let sel = |file, krate| target_selector(file, "my-pkg", krate);
+        assert_eq!(
+            sel("tests/codec-io.rs", "codec_io").as_deref(),
+            Some("--test codec-io")
+        );
+        assert_eq!(
+            sel("tests/suite/main.rs", "suite").as_deref(),
+            Some("--test suite")
+        );
+        assert_eq!(
+            sel("tests/suite/parts/a.rs", "suite").as_deref(),
+            Some("--test suite")
+        );
+        // a `[[test]] name = "other"` target whose file name differs
+        assert_eq!(sel("tests/file.rs", "other").as_deref(), Some("--test other"));
+        assert_eq!(sel("src/lib.rs", "my_pkg").as_deref(), Some("--lib"));
+        assert_eq!(sel("src/deep/mod.rs", "my_pkg").as_deref(), Some("--lib"));
+        assert_eq!(sel("src/main.rs", "my_pkg").as_deref(), Some("--bin my-pkg"));
+        assert_eq!(sel("src/bin/tool.rs", "tool").as_deref(), Some("--bin tool"));
+        assert_eq!(sel("examples/demo.rs", "demo").as_deref(), Some("--example demo"));
+        assert_eq!(sel("benches/speed.rs", "speed").as_deref(), Some("--bench speed"));
+        assert_eq!(sel("checks/odd.rs", "odd"), None);
     }
 }

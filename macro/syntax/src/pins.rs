@@ -68,7 +68,12 @@ use crate::diag;
 use crate::fingerprint::Fingerprint;
 use crate::keywords as kw;
 
-pub use crate::keywords::{PINS_FILE, PINS_FORMAT};
+/// Name of the pins file at the crate root.
+pub const PINS_FILE: &str = "heddle-pins.toml";
+/// Version of the pins file format this crate reads and writes.
+pub const PINS_FORMAT: u32 = 1;
+/// The command that (re)writes pins, quoted by stale-pin messages.
+pub const PIN_COMMAND: &str = "cargo heddle pin";
 
 /// Where a pin lives: the test file (relative to the crate root, `/`-separated) and the
 /// function's name.
@@ -231,10 +236,10 @@ fn located(text: &str, offset: Option<usize>, what: String) -> PinsError {
         line,
         column,
         message: diag::message(
-            format!("cannot read `{}`{place}: {what}", kw::PINS_FILE),
+            format!("cannot read `{}`{place}: {what}", PINS_FILE),
             format!(
                 "fix that line, or delete the file and run `{}` to write it anew",
-                kw::PIN_COMMAND
+                PIN_COMMAND
             ),
         ),
     }
@@ -243,7 +248,7 @@ fn located(text: &str, offset: Option<usize>, what: String) -> PinsError {
 impl PinsFile {
     /// The pins file's path for the crate whose root is `crate_root`.
     pub fn path(crate_root: &Path) -> PathBuf {
-        crate_root.join(kw::PINS_FILE)
+        crate_root.join(PINS_FILE)
     }
 
     /// Parses the text of a pins file.
@@ -254,22 +259,22 @@ impl PinsFile {
             return Err(located(
                 text,
                 None,
-                format!("`format = {}` is missing", kw::PINS_FORMAT),
+                format!("`format = {}` is missing", PINS_FORMAT),
             ));
         };
-        if format.get_ref().as_integer() != Some(i64::from(kw::PINS_FORMAT)) {
+        if format.get_ref().as_integer() != Some(i64::from(PINS_FORMAT)) {
             return Err(PinsError {
                 message: diag::message(
                     format!(
                         "`{}`{} has `format = {}`, this heddle reads format {}",
-                        kw::PINS_FILE,
+                        PINS_FILE,
                         at(text, Some(format.span())),
                         format.get_ref(),
-                        kw::PINS_FORMAT
+                        PINS_FORMAT
                     ),
                     format!(
                         "use the heddle that wrote it, or run `{}` to rewrite it",
-                        kw::PIN_COMMAND
+                        PIN_COMMAND
                     ),
                 ),
                 ..located(text, Some(format.span().start), String::new())
@@ -381,11 +386,11 @@ impl PinsFile {
         out.push_str(&format!(
             "# Rows pinned by `{}`; `#[{}]` uses an entry's rows verbatim while\n\
              # its fingerprint matches the spec in the source. Regenerate rather than edit.\n",
-            kw::PIN_COMMAND,
+            PIN_COMMAND,
             kw::COVER
         ));
         // writing to a String cannot fail
-        let _ = writeln!(out, "format = {}", kw::PINS_FORMAT);
+        let _ = writeln!(out, "format = {}", PINS_FORMAT);
         for (key, pin) in &self.pins {
             let _ = writeln!(out, "\n[pins.{}.{}]", quoted(&key.file), toml_key(&key.function));
             let _ = writeln!(out, "fingerprint = \"{}\"", pin.fingerprint);

@@ -9,7 +9,6 @@ use heddle_generator::{Effort, generate};
 
 use crate::diag;
 use crate::fingerprint::Fingerprint;
-use crate::keywords as kw;
 use crate::pins::{PinKey, PinsFile};
 use crate::validate::CoverSpec;
 
@@ -60,19 +59,19 @@ impl fmt::Display for RowsError {
                 format!(
                     "the pin of `{}` in `{}`{} is stale: the spec changed since it was pinned",
                     key.function,
-                    kw::PINS_FILE,
+                    crate::pins::PINS_FILE,
                     line(*l)
                 ),
-                format!("run `{}` to pin rows for the new spec", kw::PIN_COMMAND),
+                format!("run `{}` to pin rows for the new spec", crate::pins::PIN_COMMAND),
             ),
             RowsError::Corrupt { key, line: l, reason } => diag::message(
                 format!(
                     "the pin of `{}` in `{}`{} does not fit the function: {reason}",
                     key.function,
-                    kw::PINS_FILE,
+                    crate::pins::PINS_FILE,
                     line(*l)
                 ),
-                format!("run `{}` to rewrite it", kw::PIN_COMMAND),
+                format!("run `{}` to rewrite it", crate::pins::PIN_COMMAND),
             ),
             RowsError::Engine(e) => diag::message(
                 format!("cannot generate rows: {e}"),

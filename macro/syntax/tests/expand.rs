@@ -1,5 +1,6 @@
 //! The expansion, inspected as a syntax tree: shape, rows, pins, fallbacks.
 
+use heddle_syntax::expand::default_runtime;
 use heddle_syntax::expand::{Context, expand, row_name};
 use heddle_syntax::{Fingerprint, Pin, PinKey, PinsFile};
 use proc_macro2::TokenStream;
@@ -101,15 +102,16 @@ fn shape_of_a_valid_expansion() {
     // batch × codec has 3·3 pairs, one excluded; each of the other 8 needs λ = 2 rows of
     // its own, so at least 16 rows (counting argument behind the bound λ·v1·v2; common
     // practice)
-    assert!(rows.len() >= 16, "{}", rows.len());
+    assert!((16..100).contains(&rows.len()), "{}", rows.len());
     for (i, r) in rows.iter().enumerate() {
-        assert_eq!(r.sig.ident, row_name(i, rows.len()));
+        // fewer than 100 rows: two digits, zero-padded (the documented naming)
+        assert_eq!(r.sig.ident, format!("row_{i:02}"));
         assert!(r.sig.inputs.is_empty());
         let a = text(&r.attrs[0]);
         assert!(a.contains("test"), "{a}");
         let body = text(&r.block);
         assert!(
-            body.contains(":: heddle :: __private :: run (& __HEDDLE_SUITE"),
+            body.contains(":: heddle_test :: __private :: run (& __HEDDLE_SUITE"),
             "{body}"
         );
         assert!(body.contains("super :: roundtrip ("), "{body}");
@@ -121,11 +123,15 @@ fn shape_of_a_valid_expansion() {
     }
     let all = text(m);
     assert!(all.contains("file : \"tests/codec.rs\""), "{all}");
-    assert!(all.contains("pinned : false"), "{all}");
+    // the names handed to the runtime are the functions' names, in order
+    let names: Vec<String> = rows.iter().map(|r| format!("\"{}\"", r.sig.ident)).collect();
     assert!(
-        all.contains("excludes : & [\"codec == Codec::Delta && batch == 1\"]"),
+        all.contains(&format!("row_names : & [{}]", names.join(" , "))),
         "{all}"
     );
+    // `codec == Codec::Delta && batch == 1`: factor 1 at level 2, factor 0 at level 0
+    assert!(all.contains("excludes : & [\"1=2&0=0\"]"), "{all}");
+    assert!(all.contains("pinned : false"), "{all}");
     assert!(
         all.contains("labels : & [\"Codec::Plain\" , \"Codec::Rle\" , \"Codec::Delta\"]"),
         "{all}"
@@ -277,7 +283,7 @@ fn async_rows_take_the_runtime_attribute() {
         assert!(r.sig.asyncness.is_some());
         assert_eq!(
             text(&r.sig.output),
-            "-> :: core :: result :: Result < () , :: heddle :: __private :: RowError < String > >"
+            "-> :: core :: result :: Result < () , :: heddle_test :: __private :: RowError < String > >"
         );
         let body = text(&r.block);
         assert!(body.contains("run_async_result (& __HEDDLE_SUITE"), "{body}");
@@ -310,11 +316,11 @@ fn row_names_sort() {
 #[test]
 fn plugin_finds_annotated_fns_in_modules() {
     let src = "
-use heddle::cover;
+use heddle_test::cover;
 #[cover]
 fn a(#[levels(1, 2)] x: u8) {}
 mod inner {
-    #[heddle::cover(strength = 1)]
+    #[heddle_test::cover(strength = 1)]
     fn b(#[levels(1, 2)] x: u8, #[levels(3)] y: u8) {}
     #[cover(bogus = 1)]
     fn c(#[levels(1)] x: u8) {}
@@ -329,4 +335,24 @@ mod inner {
     assert_eq!(found[1].spec.as_ref().unwrap().spec.strength, 1);
     assert!(found[2].spec.is_err());
     assert_eq!(found[1].pin_key("tests/x.rs"), PinKey::new("tests/x.rs", "b"));
+}
+
+#[test]
+fn generated_code_reaches_the_runtime_by_the_context_path_and_names_the_target() {
+    let ctx = Context {
+        runtime: syn::parse_quote!(::rt),
+        package: Some("demo-pkg".into()),
+        crate_name: Some("codec".into()),
+        ..ctx_in("tests/codec.rs")
+    };
+    let out = run(ATTR, ITEM, &ctx);
+    let all = text(the_mod(&out).expect("the rows module is emitted"));
+    assert!(all.contains(":: rt :: __private :: Suite"), "{all}");
+    assert!(!all.contains("heddle_test"), "{all}");
+    assert!(all.contains("target : \"--test codec\""), "{all}");
+    // no crate name known: no selector rather than a guess
+    let out = run(ATTR, ITEM, &ctx_in("tests/codec.rs"));
+    let all = text(the_mod(&out).unwrap());
+    assert!(all.contains("target : \"\""), "{all}");
+    assert_eq!(text(&default_runtime()), ":: heddle_test");
 }

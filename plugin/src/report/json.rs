@@ -185,7 +185,7 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
             .filter(|r| r.count.failures > 0)
             .map(|r| FailingRow {
                 row: r.row,
-                test: spec.row_test_name(r.row),
+                test: spec.row_test_name(r.row).unwrap_or_default(),
                 levels: Levels(
                     spec.factors
                         .iter()
@@ -196,7 +196,7 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
                 runs: r.count.runs,
                 failures: r.count.failures,
                 message: r.message.as_deref(),
-                rerun: spec.rerun_command(r.row),
+                rerun: spec.rerun_command(r.row).unwrap_or_default(),
             })
             .collect(),
         advice: Advice {

@@ -32,7 +32,7 @@ pub fn render(report: &Report<'_>) -> String {
                 st.set_description(format!(
                     "{}\nrerun: {}",
                     r.message.as_deref().unwrap_or(""),
-                    spec.rerun_command(r.row)
+                    spec.rerun_command(r.row).unwrap_or_default()
                 ));
                 st
             } else if r.count.runs == 0 {
@@ -42,7 +42,7 @@ pub fn render(report: &Report<'_>) -> String {
             } else {
                 TestCaseStatus::success()
             };
-            let mut case = TestCase::new(spec.row_test_name(r.row), status);
+            let mut case = TestCase::new(spec.row_test_name(r.row).unwrap_or_default(), status);
             case.set_classname(format!("{}::{}", spec.krate, spec.target));
             case.set_time(Duration::from_nanos(r.duration_ns));
             let labels = spec.row_labels(r.row).unwrap_or_default();

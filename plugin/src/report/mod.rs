@@ -11,9 +11,9 @@ use std::path::PathBuf;
 use std::process::ExitCode;
 
 use clap::{Args, ValueEnum};
-use heddle::record::{RowRecord, SpecRecord};
-use heddle::store::{Records, Store, StoreError, find_root};
-use heddle::tally::{Count, Tallies, tally};
+use heddle_store::{Count, Tallies, tally};
+use heddle_store::{Records, Store, StoreError, find_root};
+use heddle_test::record::{RowRecord, SpecRecord};
 
 use crate::analysis::{self, Analysis};
 use crate::failure::{Failure, usage};
@@ -118,7 +118,7 @@ pub struct Report<'a> {
 }
 
 /// Labels of an interaction as `(parameter, label)` pairs.
-pub fn described<'s>(spec: &'s SpecRecord, i: &heddle::tally::Interaction) -> Vec<(&'s str, &'s str)> {
+pub fn described<'s>(spec: &'s SpecRecord, i: &heddle_store::Interaction) -> Vec<(&'s str, &'s str)> {
     i.describe(spec).unwrap_or_default()
 }
 
@@ -257,7 +257,7 @@ pub const MAX_PRICED_LAMBDA: u32 = 16;
 
 /// Rows the engine needs for this spec at another λ (fast effort, as builds use).
 fn rows_at_lambda(spec: &SpecRecord, lambda: u32) -> Option<usize> {
-    let mut s = crate::spec_of::spec_of(spec).ok()?;
+    let mut s = heddle_store::engine_spec(spec).ok()?;
     s.lambda = lambda;
     heddle_generator::generate(&s, heddle_generator::Effort::Fast)
         .ok()

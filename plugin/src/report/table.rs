@@ -153,7 +153,7 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, st: Style) {
         let _ = writeln!(
             out,
             "    {}{times}: {}",
-            spec.row_test_name(r.row),
+            spec.row_test_name(r.row).unwrap_or_default(),
             levels_text(&pairs)
         );
         if let Some(m) = r
@@ -164,7 +164,11 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, st: Style) {
         {
             let _ = writeln!(out, "      {}", st.dim(m));
         }
-        let _ = writeln!(out, "      rerun: {}", spec.rerun_command(r.row));
+        let _ = writeln!(
+            out,
+            "      rerun: {}",
+            spec.rerun_command(r.row).unwrap_or_default()
+        );
     }
     if failing.len() > SHOWN_ROWS {
         let _ = writeln!(

@@ -5,7 +5,9 @@
 //! sums of the rows that contain it. So the cost is linear in the records plus
 //! rows × Σ C(k, a) for a ≤ t, independent of how many runs are merged.
 
-use crate::record::{Outcome, SpecError, SpecRecord};
+use heddle_test::record::{Outcome, SpecRecord};
+
+use crate::spec::{self, SpecError};
 
 /// Runs of something and how they ended.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq, PartialOrd, Ord, Hash)]
@@ -167,7 +169,7 @@ pub fn tally(
     spec: &SpecRecord,
     outcomes: impl IntoIterator<Item = (usize, Outcome)>,
 ) -> Result<Tallies, SpecError> {
-    spec.validate()?;
+    spec::check(spec)?;
     Ok(tally_rows(
         &spec.rows,
         spec.factors.len(),
@@ -177,7 +179,7 @@ pub fn tally(
 }
 
 /// [`tally`] over plain rows; the caller guarantees `rows` have `k` levels each and
-/// `1 <= t <= k.min(8)` (as [`SpecRecord::validate`] checks).
+/// `1 <= t <= k.min(8)` (as [`spec::check`] checks).
 fn tally_rows(
     rows: &[Vec<u8>],
     k: usize,
@@ -255,36 +257,15 @@ fn next_subset(cols: &mut [usize], n: usize) -> bool {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::record::FactorSpec;
+    use crate::fixture::SpecBuilder;
     use proptest::prelude::*;
 
     fn spec_of(levels: &[usize], t: u32, rows: Vec<Vec<u8>>) -> SpecRecord {
-        SpecRecord {
-            run: String::new(),
-            krate: "k".into(),
-            target: "k".into(),
-            file: "src/lib.rs".into(),
-            function: "f".into(),
-            module: "k::f".into(),
-            suite: "f".into(),
-            factors: levels
-                .iter()
-                .enumerate()
-                .map(|(i, &v)| FactorSpec {
-                    name: format!("p{i}"),
-                    labels: (0..v).map(|l| format!("L{l}")).collect(),
-                })
-                .collect(),
-            strength: t,
-            lambda: 1,
-            seed: 0,
-            excludes: vec![],
-            rows,
-            fingerprint: "x".into(),
-            pinned: false,
-            should_panic: false,
-            time: String::new(),
-        }
+        SpecBuilder::new("f")
+            .numbered(levels)
+            .strength(t)
+            .rows(rows)
+            .build()
     }
 
     /// Every interaction of arity 1..=t over the full level space (present in the
@@ -448,7 +429,7 @@ mod tests {
         assert_eq!(tallies.total().failures, 1);
         assert_eq!(
             unrun.interaction.describe(&spec),
-            Some(vec![("p0", "L1"), ("p1", "L0")])
+            Some(vec![("f0", "1"), ("f1", "0")])
         );
     }
 

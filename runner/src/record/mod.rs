@@ -1,28 +1,51 @@
 //! The record format: what a test process writes to the store and what the report reads.
 //!
-//! This crate owns the format; the plugin reads it through these types and never parses
-//! the lines itself. A store file holds JSON lines of two kinds, each line one object
-//! whose first two fields are the format version `v` and the `kind`:
+//! This crate owns the format (the reading side, `heddle-store`, parses lines through
+//! [`Line::parse`] and never on its own). A store file holds JSON lines of two kinds,
+//! each line one object whose first two fields are the format version `v` and the `kind`:
 //!
 //! - `"kind":"spec"`: the spec of one annotated function (factors, labels, strength,
-//!   index, seed, excludes, rows, fingerprint), written once per process per function,
-//!   before that function's first row line, so the report needs nothing but the store;
+//!   index, seed, excludes, rows and their test names, fingerprint), written once per
+//!   process per function, before that function's first row line, so the report needs
+//!   nothing but the store;
 //! - `"kind":"row"`: the outcome of one row run.
 //!
 //! ```text
-//! {"v":1,"kind":"spec","run":"r1","crate":"demo","target":"codec","file":"tests/codec.rs","function":"roundtrip","module":"codec::roundtrip","suite":"roundtrip","factors":[{"name":"batch","labels":["1","8"]},{"name":"checksum","labels":["true","false"]}],"strength":2,"lambda":1,"seed":11,"excludes":[],"rows":[[0,0],[0,1],[1,0],[1,1]],"fingerprint":"f00d","pinned":false,"should_panic":false,"time":"2025-01-02T03:04:05.000006Z"}
-//! {"v":1,"kind":"row","run":"r1","crate":"demo","target":"codec","test":"roundtrip::row_02","fingerprint":"f00d","row":2,"labels":["8","true"],"outcome":"failed","message":"assertion failed: ok","duration_ns":41250,"time":"2025-01-02T03:04:05.000042Z"}
+//! {"v":2,"kind":"spec","run":"r1","crate":"demo","target":"codec","selector":"--test codec","file":"tests/codec.rs","function":"roundtrip","module":"codec::roundtrip","suite":"roundtrip","factors":[{"name":"batch","labels":["1","8"]},{"name":"checksum","labels":["true","false"]}],"strength":2,"lambda":1,"seed":"11","excludes":["0=1&1=1"],"rows":[[0,0],[0,1],[1,0]],"row_names":["row_00","row_01","row_02"],"fingerprint":"f00d","pinned":false,"should_panic":false,"time":"2025-01-02T03:04:05.000006Z"}
+//! {"v":2,"kind":"row","run":"r1","crate":"demo","target":"codec","test":"roundtrip::row_02","fingerprint":"f00d","row":2,"labels":["8","true"],"outcome":"failed","message":"assertion failed: ok","duration_ns":41250,"time":"2025-01-02T03:04:05.000042Z"}
 //! ```
+//!
+//! - Excludes are formulas over level indices in the engine's formula syntax
+//!   (`heddle_generator::Expr::parse_formula`), so a reader rebuilds the engine's spec
+//!   without a Rust parser.
+//! - The seed is a decimal string: JSON readers that hold numbers as doubles would
+//!   corrupt seeds above 2^53.
+//! - Row test names are the expansion's: `suite::row_names[i]` is row i's libtest name
+//!   ([`test_path`]), and [`rerun_command`] is the one command form that reruns it.
 //!
 //! A reader of version [`FORMAT_VERSION`] ignores fields it does not know, so adding an
 //! optional field does not bump the version; renaming, removing or changing the meaning
 //! of a field does. Lines of another version are recognised ([`LineError::OtherVersion`])
 //! so a report can say that old records were skipped instead of calling them corrupt.
+//! History: version 1 held excludes as Rust source text and the seed as a number, and
+//! left row names to be recomputed.
+//!
+//! Modules: [`layout`] (where the store lives, file and run id names); `line` (a line's
+//! text both ways, and the cheap classification large stores are read with); `names`
+//! (test names and rerun commands).
+
+mod line;
+mod names;
+
+pub mod layout;
+
+pub use line::{Line, LineError, LineKind, spec_identity};
+pub use names::{rerun_command, test_path};
 
 use serde::{Deserialize, Serialize};
 
 /// Version of the line format written by this crate.
-pub const FORMAT_VERSION: u32 = 1;
+pub const FORMAT_VERSION: u32 = 2;
 
 /// How one row run ended, as libtest judged it.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize)]
@@ -32,9 +55,9 @@ pub enum Outcome {
     Passed,
     /// The body panicked or returned `Err`, or a `#[should_panic]` row did not panic.
     Failed,
-    /// The body panicked and the function carries `#[should_panic]`. Counted as a pass:
-    /// libtest passes it (unless the panic message misses an `expected = "…"` string,
-    /// which the runtime cannot see).
+    /// The body panicked as the function's `#[should_panic]` expects (a panic without
+    /// its `expected = "…"` text is [`Outcome::Failed`]). Counted as a pass, as libtest
+    /// counts it.
     PanickedExpected,
 }
 
@@ -74,6 +97,9 @@ pub struct SpecRecord {
     /// Name of the crate root the rows were compiled into (first segment of the module
     /// path): the library, or the integration-test, bin, example or bench target.
     pub target: String,
+    /// The cargo selector of that target (`--test codec`, `--lib`), as the expansion
+    /// derived it from the file; empty when the layout does not tell.
+    pub selector: String,
     /// Test file relative to the package root, `/`-separated.
     pub file: String,
     /// Name of the annotated function.
@@ -89,12 +115,15 @@ pub struct SpecRecord {
     pub strength: u32,
     /// Index λ.
     pub lambda: u32,
-    /// Seed the rows were generated with.
+    /// Seed the rows were generated with (a decimal string in the line).
+    #[serde(with = "seed_text")]
     pub seed: u64,
-    /// Source text of every exclude, normalised.
+    /// Every exclude as a formula over level indices (the engine's formula syntax).
     pub excludes: Vec<String>,
     /// Level index of every factor, per row.
     pub rows: Vec<Vec<u8>>,
+    /// Each row's test function name, as the expansion named it (`row_03`).
+    pub row_names: Vec<String>,
     /// Spec fingerprint, as the pins file stores it.
     pub fingerprint: String,
     /// Whether the rows came from the pins file.
@@ -174,43 +203,6 @@ impl SpecRecord {
             ))
     }
 
-    /// Checks the spec is self-consistent, so tallies can index it without bounds checks
-    /// failing: a spec line from a buggy or foreign writer is refused instead.
-    pub fn validate(&self) -> Result<(), SpecError> {
-        if self.factors.is_empty() {
-            return Err(SpecError::NoFactors);
-        }
-        for (i, f) in self.factors.iter().enumerate() {
-            if f.labels.is_empty() || f.labels.len() > 255 {
-                return Err(SpecError::LevelCount {
-                    factor: i,
-                    count: f.labels.len(),
-                });
-            }
-        }
-        let t = self.strength as usize;
-        if t == 0 || t > self.factors.len() || t > MAX_TALLY_STRENGTH {
-            return Err(SpecError::Strength {
-                strength: self.strength,
-                factors: self.factors.len(),
-            });
-        }
-        for (r, row) in self.rows.iter().enumerate() {
-            if row.len() != self.factors.len() {
-                return Err(SpecError::RowWidth {
-                    row: r,
-                    width: row.len(),
-                });
-            }
-            for (c, &lv) in row.iter().enumerate() {
-                if lv as usize >= self.factors[c].labels.len() {
-                    return Err(SpecError::LevelOutOfRange { row: r, factor: c });
-                }
-            }
-        }
-        Ok(())
-    }
-
     /// The labels of one row, or `None` when the index is out of range.
     pub fn row_labels(&self, row: usize) -> Option<Vec<&str>> {
         let levels = self.rows.get(row)?;
@@ -221,14 +213,20 @@ impl SpecRecord {
             .collect()
     }
 
-    /// The libtest name of a row (`roundtrip::row_03`).
-    pub fn row_test_name(&self, row: usize) -> String {
-        crate::message::test_name_in(&self.module, self.rows.len(), row)
+    /// The libtest name of a row (`roundtrip::row_03`), `None` when the index is out of
+    /// range.
+    pub fn row_test_name(&self, row: usize) -> Option<String> {
+        let name = self.row_names.get(row)?;
+        Some(test_path(&self.suite, name))
     }
 
     /// The command that reruns just this row, as the failing row printed it.
-    pub fn rerun_command(&self, row: usize) -> String {
-        crate::message::rerun_command_in(&self.krate, &self.file, &self.module, self.rows.len(), row)
+    pub fn rerun_command(&self, row: usize) -> Option<String> {
+        Some(rerun_command(
+            &self.krate,
+            &self.selector,
+            &self.row_test_name(row)?,
+        ))
     }
 
     /// Whether two spec lines describe the same spec (they differ only in run and time).
@@ -262,224 +260,32 @@ impl RowRecord {
     }
 }
 
-/// Largest strength tallies accept (matches the engine's cap; interaction keys pack
-/// one byte per factor into a `u64`).
-pub const MAX_TALLY_STRENGTH: usize = 8;
+/// The seed as a decimal string, both ways.
+mod seed_text {
+    use serde::{Deserialize, Deserializer, Serializer};
 
-/// Why a spec line cannot be used.
-#[derive(Clone, Debug, PartialEq, Eq)]
-pub enum SpecError {
-    /// The spec has no factors.
-    NoFactors,
-    /// A factor has no levels or more than 255.
-    LevelCount {
-        /// Factor index.
-        factor: usize,
-        /// Its number of labels.
-        count: usize,
-    },
-    /// Strength is 0, above the factor count or above [`MAX_TALLY_STRENGTH`].
-    Strength {
-        /// The strength given.
-        strength: u32,
-        /// Number of factors.
-        factors: usize,
-    },
-    /// A row does not have one level per factor.
-    RowWidth {
-        /// Row index.
-        row: usize,
-        /// Its length.
-        width: usize,
-    },
-    /// A row names a level the factor does not have.
-    LevelOutOfRange {
-        /// Row index.
-        row: usize,
-        /// Factor index.
-        factor: usize,
-    },
-}
-
-impl std::fmt::Display for SpecError {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        match self {
-            SpecError::NoFactors => write!(f, "spec has no factors; hint: the spec line is damaged"),
-            SpecError::LevelCount { factor, count } => write!(
-                f,
-                "factor {factor} has {count} levels, expected 1 to 255; hint: the spec line is damaged"
-            ),
-            SpecError::Strength { strength, factors } => write!(
-                f,
-                "strength {strength} does not fit {factors} factors (at most {MAX_TALLY_STRENGTH}); hint: the spec line is damaged"
-            ),
-            SpecError::RowWidth { row, width } => write!(
-                f,
-                "row {row} has {width} levels, not one per factor; hint: the spec line is damaged"
-            ),
-            SpecError::LevelOutOfRange { row, factor } => write!(
-                f,
-                "row {row} names a level factor {factor} does not have; hint: the spec line is damaged"
-            ),
-        }
-    }
-}
-
-impl std::error::Error for SpecError {}
-
-/// One parsed line.
-#[derive(Clone, Debug, PartialEq, Eq)]
-pub enum Line {
-    /// A spec line.
-    Spec(SpecRecord),
-    /// A row line.
-    Row(RowRecord),
-}
-
-/// Why a line was skipped.
-#[derive(Clone, Debug, PartialEq, Eq)]
-pub enum LineError {
-    /// Not a line of any version this crate recognises: truncated, damaged or foreign.
-    Corrupt(String),
-    /// A well-formed line of another format version.
-    OtherVersion(u32),
-}
-
-impl std::fmt::Display for LineError {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        match self {
-            LineError::Corrupt(why) => write!(f, "corrupt record line ({why})"),
-            LineError::OtherVersion(v) => write!(
-                f,
-                "record line of format version {v}, this build reads version {FORMAT_VERSION}; \
-                 hint: use a heddle of the same version as the tests"
-            ),
-        }
-    }
-}
-
-impl std::error::Error for LineError {}
-
-/// The fields every line starts with; read first to classify the line.
-#[derive(Deserialize)]
-struct Probe<'a> {
-    v: Option<u32>,
-    #[serde(borrow)]
-    kind: Option<&'a str>,
-}
-
-/// Serialises a line with `v` and `kind` first, followed by the record's fields.
-#[derive(Serialize)]
-struct Tagged<'a, T> {
-    v: u32,
-    kind: &'static str,
-    #[serde(flatten)]
-    body: &'a T,
-}
-
-/// The kind of a line of the current format version.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub enum LineKind {
-    /// A spec line.
-    Spec,
-    /// A row line.
-    Row,
-}
-
-/// How the lines this crate writes begin; recognising them from their first bytes saves
-/// a second pass over every line when reading large stores.
-const SPEC_PREFIX: &str = "{\"v\":1,\"kind\":\"spec\",";
-const ROW_PREFIX: &str = "{\"v\":1,\"kind\":\"row\",";
-
-impl LineKind {
-    /// Classifies a line: the kind it is of the current version, or why it is not one.
-    /// A line only claims its kind; [`Line::parse`] still checks the rest.
-    pub fn of(text: &str) -> Result<LineKind, LineError> {
-        if text.starts_with(ROW_PREFIX) {
-            return Ok(LineKind::Row);
-        }
-        if text.starts_with(SPEC_PREFIX) {
-            return Ok(LineKind::Spec);
-        }
-        let probe: Probe = serde_json::from_str(text).map_err(|e| LineError::Corrupt(e.to_string()))?;
-        match probe.v {
-            Some(FORMAT_VERSION) => {}
-            Some(v) => return Err(LineError::OtherVersion(v)),
-            None => return Err(LineError::Corrupt("no `v` field".into())),
-        }
-        match probe.kind {
-            Some("row") => Ok(LineKind::Row),
-            Some("spec") => Ok(LineKind::Spec),
-            Some(other) => Err(LineError::Corrupt(format!("unknown kind `{other}`"))),
-            None => Err(LineError::Corrupt("no `kind` field".into())),
-        }
-    }
-}
-
-/// The part of a spec line, as this crate writes it, that identifies its content: all
-/// but the `run` and `time` values (which differ between processes writing the same
-/// spec). `None` for a line of another shape, or whose run or time value holds a quote,
-/// backslash or control character (so a line with an equal identity and such values is
-/// as valid as the one it equals).
-pub(crate) fn spec_identity(text: &str) -> Option<&str> {
-    fn plain(s: &str) -> bool {
-        s.bytes().all(|b| b >= 0x20 && b != b'"' && b != b'\\')
-    }
-    let rest = text.strip_prefix(SPEC_PREFIX)?.strip_prefix("\"run\":\"")?;
-    let run_end = rest.find('"')?;
-    if !plain(&rest[..run_end]) {
-        return None;
-    }
-    let rest = &rest[run_end..];
-    let time_at = rest.rfind(",\"time\":\"")?;
-    let time = rest[time_at + 9..].strip_suffix("\"}")?;
-    if !plain(time) {
-        return None;
-    }
-    Some(&rest[..time_at])
-}
-
-impl Line {
-    /// Parses one line (without its newline).
-    pub fn parse(text: &str) -> Result<Line, LineError> {
-        let corrupt = |e: serde_json::Error| LineError::Corrupt(e.to_string());
-        match LineKind::of(text)? {
-            LineKind::Row => serde_json::from_str(text).map(Line::Row).map_err(corrupt),
-            LineKind::Spec => serde_json::from_str(text).map(Line::Spec).map_err(corrupt),
-        }
+    pub(super) fn serialize<S: Serializer>(seed: &u64, s: S) -> Result<S::Ok, S::Error> {
+        s.collect_str(seed)
     }
 
-    /// The line as written to the store, newline included.
-    pub fn to_json_line(&self) -> String {
-        let text = match self {
-            Line::Spec(s) => serde_json::to_string(&Tagged {
-                v: FORMAT_VERSION,
-                kind: "spec",
-                body: s,
-            }),
-            Line::Row(r) => serde_json::to_string(&Tagged {
-                v: FORMAT_VERSION,
-                kind: "row",
-                body: r,
-            }),
-        };
-        // Serialising plain structs of strings, integers and bools into a String cannot
-        // fail (serde_json only fails on non-string map keys or failing Serialize impls).
-        let mut text = text.unwrap_or_default();
-        text.push('\n');
-        text
+    pub(super) fn deserialize<'de, D: Deserializer<'de>>(d: D) -> Result<u64, D::Error> {
+        let text = <std::borrow::Cow<'de, str>>::deserialize(d)?;
+        text.parse()
+            .map_err(|_| serde::de::Error::custom(format!("seed `{text}` is not a decimal u64")))
     }
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::record::line::{ROW_PREFIX, SPEC_PREFIX};
 
     fn spec() -> SpecRecord {
         SpecRecord {
             run: "r1".into(),
             krate: "demo".into(),
             target: "codec".into(),
+            selector: "--test codec".into(),
             file: "tests/codec.rs".into(),
             function: "roundtrip".into(),
             module: "codec::roundtrip".into(),
@@ -497,8 +303,9 @@ mod tests {
             strength: 2,
             lambda: 1,
             seed: 11,
-            excludes: vec![],
-            rows: vec![vec![0, 0], vec![0, 1], vec![1, 0], vec![1, 1]],
+            excludes: vec!["0=1&1=1".into()],
+            rows: vec![vec![0, 0], vec![0, 1], vec![1, 0]],
+            row_names: vec!["row_00".into(), "row_01".into(), "row_02".into()],
             fingerprint: "f00d".into(),
             pinned: false,
             should_panic: false,
@@ -527,7 +334,7 @@ mod tests {
         for line in [Line::Spec(spec()), Line::Row(row())] {
             let text = line.to_json_line();
             assert!(text.ends_with('\n') && !text[..text.len() - 1].contains('\n'));
-            assert!(text.starts_with("{\"v\":1,\"kind\":\""), "{text}");
+            assert!(text.starts_with("{\"v\":2,\"kind\":\""), "{text}");
             assert_eq!(Line::parse(text.trim_end()).unwrap(), line);
         }
     }
@@ -536,7 +343,7 @@ mod tests {
     fn module_docs_show_the_lines_this_crate_writes() {
         // the example lines in the module documentation are the serialisation of these
         // two records; a format change must update the documentation too
-        let doc = include_str!("record.rs");
+        let doc = include_str!("mod.rs");
         assert!(doc.contains(&format!("//! {}", Line::Spec(spec()).to_json_line().trim_end())));
         assert!(doc.contains(&format!("//! {}", Line::Row(row()).to_json_line().trim_end())));
     }
@@ -547,7 +354,7 @@ mod tests {
         assert!(Line::Spec(spec()).to_json_line().starts_with(SPEC_PREFIX));
         assert!(ROW_PREFIX.starts_with(&format!("{{\"v\":{FORMAT_VERSION},")));
         // the same line with its fields reordered is still read (slow path)
-        let reordered = r#"{"kind":"row","v":1,"run":"r1","crate":"demo","target":"codec","test":"roundtrip::row_02","fingerprint":"f00d","row":2,"labels":["8","true"],"outcome":"failed","message":"assertion failed: ok","duration_ns":41250,"time":"2025-01-02T03:04:05.000042Z"}"#;
+        let reordered = r#"{"kind":"row","v":2,"run":"r1","crate":"demo","target":"codec","test":"roundtrip::row_02","fingerprint":"f00d","row":2,"labels":["8","true"],"outcome":"failed","message":"assertion failed: ok","duration_ns":41250,"time":"2025-01-02T03:04:05.000042Z"}"#;
         assert_eq!(Line::parse(reordered).unwrap(), Line::Row(row()));
         let text = Line::Spec(spec()).to_json_line();
         let mut other = spec();
@@ -598,8 +405,12 @@ mod tests {
     #[test]
     fn other_versions_and_damage_are_told_apart() {
         assert_eq!(
-            Line::parse(r#"{"v":2,"kind":"row","whatever":true}"#),
-            Err(LineError::OtherVersion(2))
+            Line::parse(r#"{"v":3,"kind":"row","whatever":true}"#),
+            Err(LineError::OtherVersion(3))
+        );
+        assert_eq!(
+            Line::parse(r#"{"v":1,"kind":"spec","seed":11}"#),
+            Err(LineError::OtherVersion(1))
         );
         assert_eq!(Line::parse(r#"{"v":0}"#), Err(LineError::OtherVersion(0)));
         let full = Line::Row(row()).to_json_line();
@@ -608,9 +419,9 @@ mod tests {
             "",
             "not json",
             r#"{"kind":"row"}"#,
-            r#"{"v":1,"kind":"nope"}"#,
-            r#"{"v":1,"kind":"row","run":"x"}"#,
-            r#"{"v":1}"#,
+            r#"{"v":2,"kind":"nope"}"#,
+            r#"{"v":2,"kind":"row","run":"x"}"#,
+            r#"{"v":2}"#,
         ] {
             assert!(matches!(Line::parse(bad), Err(LineError::Corrupt(_))), "{bad:?}");
         }
@@ -626,33 +437,16 @@ mod tests {
     }
 
     #[test]
-    fn validate_refuses_inconsistent_specs() {
-        assert_eq!(spec().validate(), Ok(()));
-        let mut s = spec();
-        s.rows.push(vec![0, 2]);
-        assert_eq!(
-            s.validate(),
-            Err(SpecError::LevelOutOfRange { row: 4, factor: 1 })
-        );
-        let mut s = spec();
-        s.rows.push(vec![0]);
-        assert_eq!(s.validate(), Err(SpecError::RowWidth { row: 4, width: 1 }));
-        let mut s = spec();
-        s.strength = 3;
-        assert!(matches!(s.validate(), Err(SpecError::Strength { .. })));
-        let mut s = spec();
-        s.strength = 0;
-        assert!(matches!(s.validate(), Err(SpecError::Strength { .. })));
-        let mut s = spec();
-        s.factors[0].labels.clear();
-        assert!(matches!(s.validate(), Err(SpecError::LevelCount { .. })));
-    }
-
-    #[test]
     fn row_keys_match_their_spec() {
         assert_eq!(row().key(), spec().key());
         assert_eq!(spec().row_labels(2), Some(vec!["8", "true"]));
         assert_eq!(spec().row_labels(4), None);
+        assert_eq!(spec().row_test_name(2).as_deref(), Some("roundtrip::row_02"));
+        assert_eq!(
+            spec().rerun_command(2).as_deref(),
+            Some("cargo test -p demo --test codec roundtrip::row_02 -- --exact")
+        );
+        assert_eq!(spec().row_test_name(3), None);
     }
 
     #[test]
@@ -663,5 +457,22 @@ mod tests {
         assert!(spec().same_spec(&other));
         other.seed = 12;
         assert!(!spec().same_spec(&other));
+    }
+
+    #[test]
+    fn seeds_are_written_as_decimal_strings_and_survive_above_2_pow_53() {
+        let mut s = spec();
+        s.seed = u64::MAX;
+        let text = Line::Spec(s.clone()).to_json_line();
+        assert!(text.contains("\"seed\":\"18446744073709551615\""), "{text}");
+        assert_eq!(Line::parse(text.trim_end()).unwrap(), Line::Spec(s));
+        // a number where the string belongs is damage, not a seed
+        let numeric = text.replace("\"seed\":\"18446744073709551615\"", "\"seed\":11");
+        assert!(matches!(
+            Line::parse(numeric.trim_end()),
+            Err(LineError::Corrupt(_))
+        ));
+        let bad = text.replace("\"seed\":\"18446744073709551615\"", "\"seed\":\"0x11\"");
+        assert!(matches!(Line::parse(bad.trim_end()), Err(LineError::Corrupt(_))));
     }
 }

@@ -121,7 +121,7 @@ pub fn process_file_name(unix_ms: u64, pid: u32, nonce: u64) -> String {
 }
 
 /// The creation time (Unix ms) a process file's name carries.
-pub(crate) fn file_stamp(name: &str) -> Option<u64> {
+pub fn file_stamp(name: &str) -> Option<u64> {
     let stem = name.strip_suffix(FILE_EXTENSION)?.strip_suffix('.')?;
     let ms = stem.split('-').next()?;
     if ms.is_empty() || !ms.bytes().all(|b| b.is_ascii_digit()) {

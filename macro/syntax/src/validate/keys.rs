@@ -1,0 +1,193 @@
+//! The attribute's keys: each known, given once (but `exclude`), with a value of the
+//! right kind and range.
+
+use std::collections::BTreeSet;
+
+use heddle_generator::{MAX_LAMBDA, MAX_STRENGTH};
+use syn::Lit;
+
+use crate::args::ArgValue;
+use crate::ast::{CoverFn, KeyKind};
+use crate::diag::{self, Errors};
+use crate::keywords as kw;
+use crate::text::canonical;
+
+pub(super) struct KeyValues<'a> {
+    pub(super) strength: Option<(usize, &'a syn::Expr)>,
+    pub(super) lambda: Option<u32>,
+    pub(super) seed: Option<u64>,
+    pub(super) excludes: Vec<&'a syn::Expr>,
+}
+
+fn int_value<'a>(
+    value: &'a ArgValue,
+    key: &str,
+    example: &str,
+    errs: &mut Errors,
+) -> Option<(u64, &'a syn::Expr)> {
+    let hint = format!("write `{key} = {example}`");
+    match value {
+        ArgValue::Assign { expr, .. } => match expr {
+            syn::Expr::Lit(syn::ExprLit { lit: Lit::Int(i), .. }) => match i.base10_parse::<u64>() {
+                Ok(v) => Some((v, expr)),
+                Err(_) => {
+                    errs.at(expr, format!("`{key} = {i}` does not fit in 64 bits"), hint);
+                    None
+                }
+            },
+            other => {
+                let what = match other {
+                    syn::Expr::Lit(syn::ExprLit { lit: Lit::Str(_), .. }) => "a string",
+                    syn::Expr::Lit(syn::ExprLit {
+                        lit: Lit::Float(_), ..
+                    }) => "a float",
+                    syn::Expr::Lit(syn::ExprLit {
+                        lit: Lit::Bool(_), ..
+                    }) => "a bool",
+                    syn::Expr::Unary(_) => "a negative number",
+                    _ => "an expression",
+                };
+                errs.at(
+                    other,
+                    format!(
+                        "`{key}` takes an integer literal, found {what} `{}`",
+                        canonical(other)
+                    ),
+                    hint,
+                );
+                None
+            }
+        },
+        ArgValue::Flag => None,
+        ArgValue::Call { paren, .. } => {
+            errs.at_span(
+                paren.span.join(),
+                format!("`{key}` takes a value after `=`, not a list"),
+                hint,
+            );
+            None
+        }
+    }
+}
+
+pub(super) fn check_keys<'a>(cover: &CoverFn<'a>, errs: &mut Errors) -> KeyValues<'a> {
+    let mut kv = KeyValues {
+        strength: None,
+        lambda: None,
+        seed: None,
+        excludes: Vec::new(),
+    };
+    let mut seen = BTreeSet::new();
+    for key in &cover.keys {
+        let name = key.arg.key.to_string();
+        if key.kind == KeyKind::Unknown {
+            errs.at(
+                &key.arg.key,
+                format!("unknown key `{name}` in `#[{}(…)]`", kw::COVER),
+                format!("the keys are {}", diag::list(kw::KEYS)),
+            );
+            continue;
+        }
+        if key.kind != KeyKind::Exclude && !seen.insert(key.kind as u8) {
+            errs.at(
+                &key.arg.key,
+                format!("duplicate key `{name}`"),
+                format!("give `{name}` once; only `{}(…)` may repeat", kw::EXCLUDE),
+            );
+            continue;
+        }
+        if matches!(key.arg.value, ArgValue::Flag) && key.kind != KeyKind::Exclude {
+            errs.at(
+                &key.arg.key,
+                format!("`{name}` needs a value"),
+                format!(
+                    "write `{name} = {}`",
+                    if key.kind == KeyKind::Seed { 7 } else { 2 }
+                ),
+            );
+            continue;
+        }
+        match key.kind {
+            KeyKind::Strength => {
+                if let Some((v, expr)) = int_value(&key.arg.value, kw::STRENGTH, "2", errs) {
+                    if v == 0 {
+                        errs.at(
+                            expr,
+                            format!("`{} = 0` is not allowed", kw::STRENGTH),
+                            format!(
+                                "strength is at least 1: `{} = 1` covers every level, `{} = 2` every pair",
+                                kw::STRENGTH,
+                                kw::STRENGTH
+                            ),
+                        );
+                    } else if v > MAX_STRENGTH as u64 {
+                        errs.at(
+                            expr,
+                            format!(
+                                "`{} = {v}` is above the supported maximum of {MAX_STRENGTH}",
+                                kw::STRENGTH
+                            ),
+                            format!("use `{} = {MAX_STRENGTH}` or less", kw::STRENGTH),
+                        );
+                    } else {
+                        kv.strength = Some((v as usize, expr));
+                    }
+                }
+            }
+            KeyKind::Lambda => {
+                if let Some((v, expr)) = int_value(&key.arg.value, kw::LAMBDA, "2", errs) {
+                    if v == 0 {
+                        errs.at(
+                            expr,
+                            format!("`{} = 0` is not allowed", kw::LAMBDA),
+                            format!(
+                                "lambda is at least 1: how many rows must cover each combination; write `{} = 1`",
+                                kw::LAMBDA
+                            ),
+                        );
+                    } else if v > u64::from(MAX_LAMBDA) {
+                        errs.at(
+                            expr,
+                            format!(
+                                "`{} = {v}` is above the supported maximum of {MAX_LAMBDA}",
+                                kw::LAMBDA
+                            ),
+                            format!("use `{} = {MAX_LAMBDA}` or less", kw::LAMBDA),
+                        );
+                    } else {
+                        kv.lambda = Some(v as u32);
+                    }
+                }
+            }
+            KeyKind::Seed => {
+                if let Some((v, _)) = int_value(&key.arg.value, kw::SEED, "7", errs) {
+                    kv.seed = Some(v);
+                }
+            }
+            KeyKind::Exclude => match &key.arg.value {
+                ArgValue::Call { expr: Ok(e), .. } => kv.excludes.push(e),
+                ArgValue::Call {
+                    expr: Err(e), tokens, ..
+                } => errs.at_span(
+                    e.span(),
+                    format!("cannot read `{}({})`: {e}", kw::EXCLUDE, canonical(tokens)),
+                    exclude_hint(),
+                ),
+                _ => errs.at(
+                    &key.arg.key,
+                    format!("`{}` takes a condition in parentheses", kw::EXCLUDE),
+                    exclude_hint(),
+                ),
+            },
+            KeyKind::Unknown => {}
+        }
+    }
+    kv
+}
+
+fn exclude_hint() -> String {
+    format!(
+        "write e.g. `{}(codec == Codec::Delta && batch == 1)`",
+        kw::EXCLUDE
+    )
+}

@@ -1,0 +1,121 @@
+//! Joining row lines to the spec lines of their suite, across every file of the runs
+//! read: a row whose process lost its spec line is still placed when another process
+//! wrote the same spec.
+
+use std::collections::BTreeMap;
+
+use heddle_test::record::{Outcome, RowRecord, SpecRecord, SuiteKey};
+
+use crate::discover::RunInfo;
+use crate::notes::ReadStats;
+use crate::read::Partial;
+
+/// The records of one suite (one annotated function at one spec fingerprint).
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct SuiteRecords {
+    /// Its spec (the first spec line read for it).
+    pub spec: SpecRecord,
+    /// Its row records, in run order, then file order, then line order.
+    pub rows: Vec<RowRecord>,
+}
+
+impl SuiteRecords {
+    /// `(row index, outcome)` of every row record, as [`crate::tally()`] takes them.
+    pub fn outcomes(&self) -> impl Iterator<Item = (usize, Outcome)> + '_ {
+        self.rows.iter().map(|r| (r.row as usize, r.outcome))
+    }
+}
+
+/// The records of one or more runs.
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub struct Records {
+    /// The runs read, oldest first.
+    pub runs: Vec<RunInfo>,
+    /// Every suite with at least one valid spec line, ordered by key.
+    pub suites: Vec<SuiteRecords>,
+    /// What was read and skipped.
+    pub stats: ReadStats,
+}
+
+/// Merges the partial reads (in file order) into suites.
+pub(crate) fn join(runs: Vec<RunInfo>, partials: Vec<Partial>) -> Records {
+    let mut stats = ReadStats {
+        duplicate_files: runs.iter().map(|r| r.duplicate_files).sum(),
+        ..ReadStats::default()
+    };
+    // every distinct content seen per key, the first one (in file order) kept
+    let mut variants: BTreeMap<SuiteKey, Vec<SpecRecord>> = BTreeMap::new();
+    let mut rows: Vec<RowRecord> = Vec::new();
+    for part in partials {
+        stats.absorb(part.stats);
+        for spec in part.specs {
+            let known = variants.entry(spec.key()).or_default();
+            if !known.iter().any(|k| k.same_spec(&spec)) {
+                if !known.is_empty() {
+                    stats.conflicting_specs += 1;
+                }
+                known.push(spec);
+            }
+        }
+        rows.extend(part.rows);
+    }
+    // rows are joined to specs after every file is read, so a row whose process lost its
+    // spec line is still placed when another process of the runs wrote the same spec
+    // suites in key order; rows are placed by binary search, and consecutive rows of one
+    // suite (the common case) reuse the previous answer without building a key
+    let mut suites: Vec<SuiteRecords> = variants
+        .into_values()
+        .filter_map(|mut v| {
+            (!v.is_empty()).then(|| SuiteRecords {
+                spec: v.swap_remove(0),
+                rows: Vec::new(),
+            })
+        })
+        .collect();
+    let mut last: Option<usize> = None;
+    for row in rows {
+        let index = match last.filter(|&i| row_belongs(&row, &suites[i].spec)) {
+            Some(i) => Some(i),
+            None => {
+                let key = row.key();
+                suites.binary_search_by(|s| s.spec.key_cmp(&key)).ok()
+            }
+        };
+        let Some(i) = index else {
+            stats.orphan_rows += 1;
+            continue;
+        };
+        last = Some(i);
+        if !labels_match(&suites[i].spec, &row) {
+            stats.mismatched_rows += 1;
+            continue;
+        }
+        stats.row_lines += 1;
+        suites[i].rows.push(row);
+    }
+    Records { runs, suites, stats }
+}
+
+/// Whether a row record carries this spec's key.
+fn row_belongs(row: &RowRecord, spec: &SpecRecord) -> bool {
+    row.fingerprint == spec.fingerprint
+        && row.krate == spec.krate
+        && row.target == spec.target
+        && row.test.len() > spec.suite.len()
+        && row.test.starts_with(spec.suite.as_str())
+        && row.test[spec.suite.len()..].starts_with("::")
+        && !row.test[spec.suite.len() + 2..].contains("::")
+}
+
+/// Whether a row record's index and labels agree with its spec.
+fn labels_match(spec: &SpecRecord, row: &RowRecord) -> bool {
+    let Some(levels) = spec.rows.get(row.row as usize) else {
+        return false;
+    };
+    levels.len() == row.labels.len()
+        && levels
+            .iter()
+            .zip(&spec.factors)
+            .zip(&row.labels)
+            .all(|((&lv, f), label)| f.labels.get(lv as usize) == Some(label))
+}

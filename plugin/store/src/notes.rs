@@ -1,0 +1,161 @@
+//! What reading found and left out, counted so the report can say what it skipped.
+
+use std::collections::BTreeMap;
+use std::path::PathBuf;
+
+use heddle_test::record::FORMAT_VERSION;
+
+use crate::words::s as plural;
+
+/// Where a skipped line was.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct LineRef {
+    /// The file.
+    pub path: PathBuf,
+    /// 1-based line number.
+    pub line: usize,
+}
+
+/// What reading found and what it skipped.
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub struct ReadStats {
+    /// Files read.
+    pub files: usize,
+    /// Non-empty lines seen.
+    pub lines: usize,
+    /// Spec lines accepted (one per process per suite).
+    pub spec_lines: usize,
+    /// Row lines accepted.
+    pub row_lines: usize,
+    /// Lines that are not a record of any known version (truncated, damaged, foreign).
+    pub corrupt: usize,
+    /// The first few corrupt lines, for the message.
+    pub corrupt_examples: Vec<LineRef>,
+    /// Well-formed lines of another format version, counted by version.
+    pub other_versions: BTreeMap<u32, usize>,
+    /// Spec lines refused by [`crate::spec::check`].
+    pub invalid_specs: usize,
+    /// Distinct spec contents beyond the first for one key (a writer bug; the first, in
+    /// file order, is kept).
+    pub conflicting_specs: usize,
+    /// Row lines whose spec was never read (its line lost or corrupt).
+    pub orphan_rows: usize,
+    /// Row lines whose row index or labels disagree with their spec.
+    pub mismatched_rows: usize,
+    /// Files left out as copies of a file in another root.
+    pub duplicate_files: usize,
+    /// Files or directories that could not be read.
+    pub unreadable: Vec<PathBuf>,
+}
+
+impl ReadStats {
+    /// One line per kind of thing left out, for the report to print (empty when nothing
+    /// was); worded like the project's other messages.
+    pub fn notes(&self) -> Vec<String> {
+        let mut out = Vec::new();
+        if self.corrupt > 0 {
+            let at: Vec<String> = self
+                .corrupt_examples
+                .iter()
+                .map(|l| format!("`{}:{}`", l.path.display(), l.line))
+                .collect();
+            out.push(format!(
+                "skipped {} corrupt or truncated record line{} (at {}{}); hint: a test process \
+                 was killed while writing, or the file was damaged",
+                self.corrupt,
+                plural(self.corrupt),
+                at.join(", "),
+                if self.corrupt > at.len() { ", …" } else { "" }
+            ));
+        }
+        for (v, n) in &self.other_versions {
+            let age = if *v < FORMAT_VERSION { "older" } else { "newer" };
+            out.push(format!(
+                "skipped {n} record line{} of {age} format version {v} (this build reads version {}); \
+                 hint: rerun the tests with this heddle, or report with the heddle that wrote them",
+                plural(*n),
+                FORMAT_VERSION
+            ));
+        }
+        let others = [
+            (
+                self.invalid_specs,
+                "inconsistent spec line",
+                "inconsistent spec lines",
+            ),
+            (
+                self.conflicting_specs,
+                "spec line that contradicts another with its fingerprint",
+                "spec lines that contradict another with their fingerprint",
+            ),
+            (
+                self.orphan_rows,
+                "row line whose spec line is missing",
+                "row lines whose spec line is missing",
+            ),
+            (
+                self.mismatched_rows,
+                "row line whose row or labels disagree with its spec",
+                "row lines whose row or labels disagree with their spec",
+            ),
+        ];
+        for (n, one, many) in others {
+            if n > 0 {
+                let what = if n == 1 { one } else { many };
+                out.push(format!("skipped {n} {what}; hint: the store is damaged"));
+            }
+        }
+        if self.duplicate_files > 0 {
+            out.push(format!(
+                "read {} file{} found in several stores once",
+                self.duplicate_files,
+                plural(self.duplicate_files)
+            ));
+        }
+        if !self.unreadable.is_empty() {
+            out.push(format!(
+                "could not read {} file{} (first `{}`); hint: check permissions",
+                self.unreadable.len(),
+                plural(self.unreadable.len()),
+                self.unreadable[0].display()
+            ));
+        }
+        out
+    }
+
+    /// Number of lines left out for any reason.
+    pub fn skipped(&self) -> usize {
+        self.corrupt
+            + self.other_versions.values().sum::<usize>()
+            + self.invalid_specs
+            + self.conflicting_specs
+            + self.orphan_rows
+            + self.mismatched_rows
+    }
+}
+
+/// How many corrupt lines [`ReadStats::corrupt_examples`] keeps.
+pub(crate) const CORRUPT_EXAMPLES: usize = 5;
+
+impl ReadStats {
+    /// Adds the counts of a later slice of files.
+    pub(crate) fn absorb(&mut self, other: ReadStats) {
+        self.files += other.files;
+        self.lines += other.lines;
+        self.spec_lines += other.spec_lines;
+        self.row_lines += other.row_lines;
+        self.corrupt += other.corrupt;
+        let room = CORRUPT_EXAMPLES.saturating_sub(self.corrupt_examples.len());
+        self.corrupt_examples
+            .extend(other.corrupt_examples.into_iter().take(room));
+        for (v, n) in other.other_versions {
+            *self.other_versions.entry(v).or_default() += n;
+        }
+        self.invalid_specs += other.invalid_specs;
+        self.conflicting_specs += other.conflicting_specs;
+        self.orphan_rows += other.orphan_rows;
+        self.mismatched_rows += other.mismatched_rows;
+        self.duplicate_files += other.duplicate_files;
+        self.unreadable.extend(other.unreadable);
+    }
+}
