@@ -58,6 +58,8 @@ pub use engine::{Design, FAST_BUDGET, Stats, generate};
 pub use error::Error;
 pub use expr::{Expr, FORMULA_VERSION, ParseError};
 pub use factor::{Factor, Row, UNSET};
+/// The engine's subset stepper, for readers that walk t-sets in the engine's order.
+pub use interactions::next_lex as next_subset;
 pub use limits::{
     MAX_FACTORS, MAX_FORMULA_DEPTH, MAX_INTERACTIONS, MAX_LAMBDA, MAX_LEVELS, MAX_ROWS, MAX_STRENGTH,
     check_lambda, check_strength,

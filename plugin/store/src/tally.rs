@@ -5,6 +5,7 @@
 //! sums of the rows that contain it. So the cost is linear in the records plus
 //! rows × Σ C(k, a) for a ≤ t, independent of how many runs are merged.
 
+use heddle_generator::next_subset;
 use heddle_test::record::{Outcome, SpecRecord};
 
 use crate::spec::{self, SpecError};
@@ -237,21 +238,6 @@ fn tally_rows(
         unknown_rows,
         starts,
     }
-}
-
-/// Advances a sorted subset of `0..n` to the next in lexicographic order.
-fn next_subset(cols: &mut [usize], n: usize) -> bool {
-    let a = cols.len();
-    for i in (0..a).rev() {
-        if cols[i] < n - a + i {
-            cols[i] += 1;
-            for j in i + 1..a {
-                cols[j] = cols[j - 1] + 1;
-            }
-            return true;
-        }
-    }
-    false
 }
 
 #[cfg(test)]
