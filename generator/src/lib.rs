@@ -30,7 +30,9 @@
 //!   interactions, per-column t-set tables, remaining demand, and exact answers to "can
 //!   this partial row still be allowed?";
 //! - `verify`: the independent checker; `bounds`: the counting and first-moment bounds;
-//!   `rng`: the one source of randomness.
+//!   `rng`: the one source of randomness;
+//! - `diagnostic`: [`Diagnostic`], the one shape of every message heddle's crates show a
+//!   person (message, hint, location), rendered by each front end.
 
 #![warn(missing_docs)]
 
@@ -39,6 +41,7 @@ mod complete;
 mod constraints;
 mod construct;
 mod demand;
+mod diagnostic;
 mod engine;
 mod error;
 mod expr;
@@ -54,6 +57,7 @@ mod tighten;
 mod verify;
 
 pub use complete::{Completion, complete};
+pub use diagnostic::Diagnostic;
 pub use engine::{Design, FAST_BUDGET, Stats, generate};
 pub use error::Error;
 pub use expr::{Expr, FORMULA_VERSION, ParseError};

@@ -8,11 +8,12 @@ use std::process::ExitCode;
 
 use clap::Args;
 
-use crate::failure::Failure;
+use crate::failure::{Diagnostic, Failure, found};
 use crate::pinfile;
 use crate::sources::{self, Function, Scanned};
 use crate::status::{Status, status};
 use crate::workspace::{self, Selection};
+use heddle_store::words::plural;
 
 /// Arguments of `check`.
 #[derive(Args, Debug)]
@@ -22,37 +23,33 @@ pub struct CheckArgs {
 }
 
 /// Why one function fails, in words (house style).
-pub fn explain(f: &Function, s: &Status) -> Option<String> {
+pub fn explain(f: &Function, s: &Status) -> Option<Diagnostic> {
     let name = &f.function;
+    let pin = heddle_syntax::pins::PIN_COMMAND;
     Some(match s {
         Status::Pinned(_) | Status::Generated(_) => return None,
-        Status::Missing => format!(
-            "`{name}` has no pin in `{}`\n  hint: run `{}`",
-            heddle_syntax::pins::PINS_FILE,
-            heddle_syntax::pins::PIN_COMMAND
-        ),
+        Status::Missing => Diagnostic::new(format!(
+            "`{name}` has no pin in `{}`",
+            heddle_syntax::pins::PINS_FILE
+        ))
+        .hint(format!("run `{pin}`")),
         Status::Stale(changes) => {
             let what = if changes.is_empty() {
                 "the spec changed since it was pinned".to_string()
             } else {
                 changes.join("; ")
             };
-            format!(
-                "the pin of `{name}` is stale: {what}\n  hint: run `{}` to carry its rows over to the new spec",
-                heddle_syntax::pins::PIN_COMMAND
-            )
+            Diagnostic::new(format!("the pin of `{name}` is stale: {what}"))
+                .hint(format!("run `{pin}` to carry its rows over to the new spec"))
         }
-        Status::Misfit(reason) => format!(
-            "the pin of `{name}` does not fit the function: {reason}\n  hint: run `{}` to repair it",
-            heddle_syntax::pins::PIN_COMMAND
-        ),
-        Status::Uncovered(v) => format!(
-            "the rows of `{name}` do not cover its spec: {v}\n  hint: run `{}` to add the missing rows",
-            heddle_syntax::pins::PIN_COMMAND
-        ),
-        Status::Engine(e) => format!(
-            "the engine refuses the spec of `{name}`: {e}\n  hint: lower the strength, lambda or the number of levels"
-        ),
+        Status::Misfit(reason) => {
+            Diagnostic::new(format!("the pin of `{name}` does not fit the function: {reason}"))
+                .hint(format!("run `{pin}` to repair it"))
+        }
+        Status::Uncovered(v) => Diagnostic::new(format!("the rows of `{name}` do not cover its spec: {v}"))
+            .hint(format!("run `{pin}` to add the missing rows")),
+        Status::Engine(e) => Diagnostic::new(format!("the engine refuses the spec of `{name}`: {e}"))
+            .hint("lower the strength, lambda or the number of levels"),
     })
 }
 
@@ -83,7 +80,10 @@ pub fn run(args: CheckArgs) -> Result<ExitCode, Failure> {
             }
             if let Some(why) = explain(f, &s) {
                 failing += 1;
-                say_err!("error: {}:{}: {why}", pkg.display(&f.file), f.line);
+                say_err!(
+                    "error: {}",
+                    why.at(format!("{}:{}", pkg.display(&f.file), f.line))
+                );
             }
         }
         if let Some(pins) = pins {
@@ -108,11 +108,11 @@ pub fn run(args: CheckArgs) -> Result<ExitCode, Failure> {
                 plural(manifests, "manifest could", "manifests could")
             ));
         }
-        msg.push_str(&format!(
-            " ({packages})\n  hint: `{}` fixes missing, stale and non-covering pins; source problems need an edit",
+        msg.push_str(&format!(" ({packages})"));
+        return Err(found(Diagnostic::new(msg).hint(format!(
+            "`{}` fixes missing, stale and non-covering pins; source problems need an edit",
             heddle_syntax::pins::PIN_COMMAND
-        ));
-        return Err(Failure::Found(msg));
+        ))));
     }
     let summary = if total == 0 {
         format!("heddle check: no annotated functions ({packages})")
@@ -137,16 +137,12 @@ fn warn_orphans(pkg: &Scanned, pins: &heddle_syntax::PinsFile) {
             Some(l) => format!("{}:{l}", pkg.display(heddle_syntax::pins::PINS_FILE)),
             None => pkg.display(heddle_syntax::pins::PINS_FILE),
         };
-        say_err!(
-            "warning: {place}: the pin of `{}` in `{}` belongs to no function\n  hint: run `{}` to remove it",
-            key.function,
-            key.file,
-            heddle_syntax::pins::PIN_COMMAND
-        );
+        let d = Diagnostic::new(format!(
+            "the pin of `{}` in `{}` belongs to no function",
+            key.function, key.file
+        ))
+        .hint(format!("run `{}` to remove it", heddle_syntax::pins::PIN_COMMAND))
+        .at(place);
+        say_err!("warning: {d}");
     }
-}
-
-/// `1 thing`, `2 things`.
-pub fn plural(n: usize, one: &str, many: &str) -> String {
-    format!("{n} {}", if n == 1 { one } else { many })
 }

@@ -9,7 +9,7 @@ use heddle_generator::{Design, Expr, Spec, generate};
 use serde::Serialize;
 
 use crate::effort::EffortArg;
-use crate::failure::{Failure, usage};
+use crate::failure::{Diagnostic, Failure, found, usage};
 use crate::spec_args::parse_specs;
 
 /// Arguments of `design`.
@@ -53,8 +53,13 @@ pub fn run(args: DesignArgs) -> Result<ExitCode, Failure> {
     let factors = parse_specs(&args.specs)?;
     let mut excludes = Vec::new();
     for src in &args.exclude {
-        let e =
-            Expr::parse(src, &factors).map_err(|e| usage(format!("in `--exclude`: {}", e.render(src))))?;
+        let e = Expr::parse(src, &factors).map_err(|e| {
+            usage(
+                Diagnostic::new(format!("{}\n  {src}\n  {}", e.message, e.caret(src)))
+                    .hint(e.hint.clone())
+                    .at(format!("`--exclude` column {}", e.column)),
+            )
+        })?;
         excludes.push(e);
     }
     let mut spec = Spec::new(factors)
@@ -65,8 +70,8 @@ pub fn run(args: DesignArgs) -> Result<ExitCode, Failure> {
     let effort = args.effort.with_budget(args.budget)?;
     let started = Instant::now();
     let design = generate(&spec, effort).map_err(|e| match e {
-        heddle_generator::Error::Internal(m) => Failure::Found(m),
-        other => usage(other.to_string()),
+        heddle_generator::Error::Internal(m) => found(m),
+        other => usage(Diagnostic::from(&other)),
     })?;
     let elapsed = started.elapsed();
     let out = match args.format {

@@ -3,7 +3,7 @@
 
 use clap::ValueEnum;
 
-use crate::failure::Failure;
+use crate::failure::{Diagnostic, Failure};
 
 /// How hard the engine works.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
@@ -20,7 +20,7 @@ impl EffortArg {
     pub fn with_budget(self, budget: Option<u64>) -> Result<heddle_generator::Effort, Failure> {
         match (self, budget) {
             (EffortArg::Fast, Some(_)) => Err(crate::failure::usage(
-                "`--budget` applies to `--effort tight` only\n  hint: add `--effort tight`",
+                Diagnostic::new("`--budget` applies to `--effort tight` only").hint("add `--effort tight`"),
             )),
             (EffortArg::Fast, None) => Ok(heddle_generator::Effort::Fast),
             (EffortArg::Tight, b) => Ok(heddle_generator::Effort::Tight {

@@ -1,15 +1,17 @@
-//! The one error type of the command line: a message and the exit code it maps to.
+//! The one error type of the command line: a [`Diagnostic`] and the exit code it maps to.
 
 use std::fmt;
+
+pub use heddle_generator::Diagnostic;
 
 /// Why a command stopped. Usage errors (bad input) exit with 2, failures found in the
 /// project (a stale pin, a failing test) with 1.
 #[derive(Debug)]
 pub enum Failure {
     /// The user's input is wrong: exit code 2.
-    Usage(String),
+    Usage(Diagnostic),
     /// The work ran and found a problem: exit code 1.
-    Found(String),
+    Found(Diagnostic),
 }
 
 impl Failure {
@@ -20,17 +22,27 @@ impl Failure {
             Failure::Found(_) => 1,
         }
     }
-}
 
-impl fmt::Display for Failure {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+    /// What went wrong.
+    pub fn diagnostic(&self) -> &Diagnostic {
         match self {
-            Failure::Usage(m) | Failure::Found(m) => f.write_str(m),
+            Failure::Usage(d) | Failure::Found(d) => d,
         }
     }
 }
 
-/// Shorthand for a usage error.
-pub fn usage(msg: impl Into<String>) -> Failure {
-    Failure::Usage(msg.into())
+impl fmt::Display for Failure {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        self.diagnostic().fmt(f)
+    }
+}
+
+/// A usage error.
+pub fn usage(d: impl Into<Diagnostic>) -> Failure {
+    Failure::Usage(d.into())
+}
+
+/// A problem found in the project.
+pub fn found(d: impl Into<Diagnostic>) -> Failure {
+    Failure::Found(d.into())
 }

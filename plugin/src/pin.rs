@@ -16,11 +16,12 @@ use indicatif::{ProgressBar, ProgressStyle};
 
 use crate::carry::{Carried, carry_over, describe_change};
 use crate::effort::EffortArg;
-use crate::failure::Failure;
+use crate::failure::{Diagnostic, Failure, found};
 use crate::pinfile;
 use crate::sources::{self, Function, Scanned};
 use crate::status::{Status, status};
 use crate::workspace::{self, Selection};
+use heddle_store::words::plural;
 
 /// Arguments of `pin`.
 #[derive(Args, Debug)]
@@ -95,7 +96,7 @@ pub fn run(args: PinArgs) -> Result<ExitCode, Failure> {
                         }
                         Err(e) => {
                             problems += 1;
-                            bar.suspend(|| say_err!("error: {}: {e}", place(pkg, f)));
+                            bar.suspend(|| say_err!("error: {}", e.clone().at(place(pkg, f))));
                             continue;
                         }
                     }
@@ -129,7 +130,7 @@ pub fn run(args: PinArgs) -> Result<ExitCode, Failure> {
                         }
                         Err(e) => {
                             problems += 1;
-                            bar.suspend(|| say_err!("error: {}: {e}", place(pkg, f)));
+                            bar.suspend(|| say_err!("error: {}", e.clone().at(place(pkg, f))));
                             continue;
                         }
                     }
@@ -199,12 +200,16 @@ pub fn run(args: PinArgs) -> Result<ExitCode, Failure> {
     }
     bar.finish_and_clear();
     if problems > 0 {
-        let plural = if problems == 1 { "" } else { "s" };
-        return Err(Failure::Found(format!(
-            "{problems} problem{plural} above; the functions they concern keep their pins as they were\n  \
-             hint: fix them and run `{}` again",
-            heddle_syntax::pins::PIN_COMMAND
-        )));
+        return Err(found(
+            Diagnostic::new(format!(
+                "{} above; the functions they concern keep their pins as they were",
+                plural(problems, "problem", "problems")
+            ))
+            .hint(format!(
+                "fix them and run `{}` again",
+                heddle_syntax::pins::PIN_COMMAND
+            )),
+        ));
     }
     Ok(ExitCode::SUCCESS)
 }
@@ -239,14 +244,14 @@ fn plan<'a>(pkg: &'a Scanned, pins: Option<&PinsFile>) -> Vec<Plan<'a>> {
 }
 
 /// Rows for `f`: `required` first, then what the engine adds.
-fn make(f: &Function, required: Vec<Vec<u8>>, effort: Effort) -> Result<Vec<Vec<u8>>, String> {
+fn make(f: &Function, required: Vec<Vec<u8>>, effort: Effort) -> Result<Vec<Vec<u8>>, Diagnostic> {
     let spec = Spec {
         required,
         ..f.spec.spec.clone()
     };
     generate(&spec, effort)
         .map(|d| d.rows)
-        .map_err(|e| format!("the engine refuses this spec: {e}\n  hint: make the spec smaller"))
+        .map_err(|e| Diagnostic::new(format!("the engine refuses this spec: {e}")).hint(e.hint()))
 }
 
 fn store(pins: &mut PinsFile, f: &Function, rows: Vec<Vec<u8>>) {

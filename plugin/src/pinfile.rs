@@ -10,7 +10,7 @@ use std::time::SystemTime;
 
 use heddle_syntax::PinsFile;
 
-use crate::failure::{Failure, usage};
+use crate::failure::{Diagnostic, Failure, found, usage};
 use crate::sources::Scanned;
 
 /// The package's pins file, `None` when it has none. A file that cannot be read is a
@@ -22,7 +22,7 @@ pub fn load(pkg: &Scanned) -> Result<Option<PinsFile>, Failure> {
             (Some(l), None) => format!("{}:{l}", pkg.display(heddle_syntax::pins::PINS_FILE)),
             _ => pkg.display(heddle_syntax::pins::PINS_FILE),
         };
-        usage(format!("{place}: {}", e.message.replace('\n', "\n  ")))
+        usage(e.diagnostic.at(place))
     })
 }
 
@@ -59,10 +59,13 @@ pub fn touch(path: &Path) -> std::io::Result<()> {
 pub fn save(pkg: &Scanned, pins: &PinsFile) -> Result<(), Failure> {
     let path = PinsFile::path(&pkg.package.root);
     write_atomically(&path, &pins.to_toml()).map_err(|e| {
-        Failure::Found(format!(
-            "cannot write `{}`: {e}\n  hint: check that the directory is writable",
-            pkg.display(heddle_syntax::pins::PINS_FILE)
-        ))
+        found(
+            Diagnostic::new(format!(
+                "cannot write `{}`: {e}",
+                pkg.display(heddle_syntax::pins::PINS_FILE)
+            ))
+            .hint("check that the directory is writable"),
+        )
     })
 }
 

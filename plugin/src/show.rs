@@ -13,7 +13,7 @@ use heddle_syntax::keywords as kw;
 use heddle_syntax::rows_for;
 
 use crate::design::field;
-use crate::failure::{Failure, usage};
+use crate::failure::{Diagnostic, Failure, found, usage};
 use crate::pinfile;
 use crate::sources::{self, Function, Scanned};
 use crate::workspace::{self, Selection};
@@ -89,32 +89,40 @@ fn resolve<'a>(scanned: &'a [Scanned], test: &str) -> Result<(&'a Scanned, &'a F
         [] => {}
         many => {
             let names: Vec<String> = many.iter().map(|(p, f)| full_name(p, f)).collect();
-            return Err(usage(format!(
-                "`{test}` names {} annotated functions: {}\n  hint: name one as `FILE::NAME`, e.g. {}",
-                many.len(),
-                names.join(", "),
-                names[0]
-            )));
+            return Err(usage(
+                Diagnostic::new(format!(
+                    "`{test}` names {} annotated functions: {}",
+                    many.len(),
+                    names.join(", ")
+                ))
+                .hint(format!("name one as `FILE::NAME`, e.g. {}", names[0])),
+            ));
         }
     }
     // a function that exists but cannot be read is not "unknown"
     let last = test.rsplit("::").next().unwrap_or(test);
     for p in scanned {
         if let Some(key) = p.broken_keys.iter().find(|k| k.function == last) {
-            return Err(Failure::Found(format!(
-                "`{}::{}` has problems that keep heddle from reading it, so it has no rows\n  \
-                 hint: run `cargo heddle check` to see them",
-                p.display(&key.file),
-                key.function
-            )));
+            return Err(found(
+                Diagnostic::new(format!(
+                    "`{}::{}` has problems that keep heddle from reading it, so it has no rows",
+                    p.display(&key.file),
+                    key.function
+                ))
+                .hint("run `cargo heddle check` to see them"),
+            ));
         }
     }
     if all.is_empty() {
-        return Err(usage(format!(
-            "no annotated function matches `{test}`: the selected packages have none\n  \
-             hint: annotate a test with `#[{}]`, or select another package with `-p`",
-            kw::COVER
-        )));
+        return Err(usage(
+            Diagnostic::new(format!(
+                "no annotated function matches `{test}`: the selected packages have none"
+            ))
+            .hint(format!(
+                "annotate a test with `#[{}]`, or select another package with `-p`",
+                kw::COVER
+            )),
+        ));
     }
     let mut near: Vec<(usize, String)> = all
         .iter()
@@ -145,9 +153,9 @@ fn resolve<'a>(scanned: &'a [Scanned], test: &str) -> Result<(&'a Scanned, &'a F
     } else {
         format!("\n  note: some files could not be parsed: {}", broken.join(", "))
     };
-    Err(usage(format!(
-        "no annotated function matches `{test}`\n  hint: {hint}{unread}"
-    )))
+    Err(usage(
+        Diagnostic::new(format!("no annotated function matches `{test}`")).hint(format!("{hint}{unread}")),
+    ))
 }
 
 /// Runs `show`.
@@ -158,7 +166,7 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
     let pins = pinfile::load(pkg)?;
     let place = format!("{}:{}", pkg.display(&f.file), f.line);
     let rows = rows_for(&f.spec, Some(&f.key()), pins.as_ref())
-        .map_err(|e| Failure::Found(format!("{place}: {}", e.to_string().replace('\n', "\n  "))))?;
+        .map_err(|e| found(e.diagnostic().at(place.clone())))?;
     let spec = &f.spec.spec;
     let levels = spec.levels();
     let lower = bounds::lower_bound(&levels, spec.strength, spec.lambda);
@@ -253,11 +261,13 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
     }
     match coverage {
         Ok(_) => Ok(ExitCode::SUCCESS),
-        Err(v) => Err(Failure::Found(format!(
-            "{place}: the rows of `{}` do not cover its spec: {v}\n  hint: run `{}`",
-            f.function,
-            heddle_syntax::pins::PIN_COMMAND
-        ))),
+        Err(v) => Err(found(
+            Diagnostic::new(format!(
+                "{place}: the rows of `{}` do not cover its spec: {v}",
+                f.function
+            ))
+            .hint(format!("run `{}`", heddle_syntax::pins::PIN_COMMAND)),
+        )),
     }
 }
 

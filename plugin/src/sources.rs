@@ -11,6 +11,7 @@
 use std::collections::{BTreeMap, BTreeSet};
 use std::path::Path;
 
+use heddle_syntax::diag::{self, Diagnostic};
 use heddle_syntax::find::analyse_source;
 use heddle_syntax::keywords as kw;
 use heddle_syntax::{CoverSpec, Defaults, PinKey};
@@ -49,23 +50,6 @@ impl Function {
     }
 }
 
-/// A problem found in a source file or manifest, with its place.
-#[derive(Clone, Debug, PartialEq, Eq)]
-pub struct Problem {
-    /// `path:line:col` (or `path:line`, or `path`), the path as [`Scanned::display`]
-    /// writes it.
-    pub place: String,
-    /// What is wrong, house style, possibly followed by `hint:` lines.
-    pub message: String,
-}
-
-impl std::fmt::Display for Problem {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        // continuation lines (the hint) are indented under the message
-        write!(f, "{}: {}", self.place, self.message.replace('\n', "\n  "))
-    }
-}
-
 /// What one package's sources hold.
 #[derive(Clone, Debug)]
 pub struct Scanned {
@@ -76,7 +60,7 @@ pub struct Scanned {
     /// Every valid, uniquely named annotated function, by file then source order.
     pub functions: Vec<Function>,
     /// Every problem found.
-    pub problems: Vec<Problem>,
+    pub problems: Vec<Diagnostic>,
     /// Whether the crate's defaults could be read (if not, no function was analysed).
     pub defaults_ok: bool,
     /// Files that did not parse.
@@ -137,10 +121,8 @@ fn scan_package(project: &Project, package: &Package) -> Scanned {
     let defaults = match Defaults::load(&package.root) {
         Ok(d) => d,
         Err(e) => {
-            out.problems.push(Problem {
-                place: out.display(heddle_syntax::defaults::MANIFEST_FILE),
-                message: e.0,
-            });
+            out.problems
+                .push(e.0.at(out.display(heddle_syntax::defaults::MANIFEST_FILE)));
             out.defaults_ok = false;
             return out;
         }
@@ -155,10 +137,11 @@ fn scan_file(root: &Path, file: &str, defaults: &Defaults, out: &mut Scanned) {
     let src = match std::fs::read_to_string(root.join(file)) {
         Ok(s) => s,
         Err(e) => {
-            out.problems.push(Problem {
-                place: out.display(file),
-                message: format!("cannot read the file: {e}\nhint: check its permissions and encoding"),
-            });
+            out.problems.push(
+                Diagnostic::new(format!("cannot read the file: {e}"))
+                    .hint("check its permissions and encoding")
+                    .at(out.display(file)),
+            );
             out.broken_files.insert(file.to_string());
             return;
         }
@@ -173,13 +156,14 @@ fn scan_file(root: &Path, file: &str, defaults: &Defaults, out: &mut Scanned) {
         Err(e) => {
             for e in e {
                 let at = e.span().start();
-                out.problems.push(Problem {
-                    place: format!("{}:{}:{}", out.display(file), at.line, at.column + 1),
-                    message: format!(
-                        "this file does not parse as Rust: {e}\nhint: fix it so that heddle can find its `#[{}]` functions",
-                        kw::COVER
-                    ),
-                });
+                out.problems.push(
+                    Diagnostic::new(format!("this file does not parse as Rust: {e}"))
+                        .hint(format!(
+                            "fix it so that heddle can find its `#[{}]` functions",
+                            kw::COVER
+                        ))
+                        .at(format!("{}:{}:{}", out.display(file), at.line, at.column + 1)),
+                );
             }
             out.broken_files.insert(file.to_string());
             return;
@@ -191,15 +175,15 @@ fn scan_file(root: &Path, file: &str, defaults: &Defaults, out: &mut Scanned) {
     for f in &found {
         if let Some(&first) = first_line.get(&f.function) {
             twice.insert(f.function.clone());
-            out.problems.push(Problem {
-                place: format!("{}:{}", out.display(file), f.line),
-                message: format!(
-                    "`{}` is annotated with `#[{}]` a second time in this file (first at line {first})\n\
-                     hint: rename one of them: pins are keyed by file and function name",
+            out.problems.push(
+                Diagnostic::new(format!(
+                    "`{}` is annotated with `#[{}]` a second time in this file (first at line {first})",
                     f.function,
                     kw::COVER
-                ),
-            });
+                ))
+                .hint("rename one of them: pins are keyed by file and function name")
+                .at(format!("{}:{}", out.display(file), f.line)),
+            );
         } else {
             first_line.insert(f.function.clone(), f.line);
         }
@@ -221,10 +205,12 @@ fn scan_file(root: &Path, file: &str, defaults: &Defaults, out: &mut Scanned) {
             Err(e) => {
                 for e in e {
                     let at = e.span().start();
-                    out.problems.push(Problem {
-                        place: format!("{}:{}:{}", out.display(file), at.line, at.column + 1),
-                        message: format!("in `{}`: {}", f.function, e),
-                    });
+                    let mut d = diag::diagnostic_of(
+                        &e,
+                        format!("{}:{}:{}", out.display(file), at.line, at.column + 1),
+                    );
+                    d.message = format!("in `{}`: {}", f.function, d.message);
+                    out.problems.push(d);
                 }
                 out.broken_keys.insert(key);
             }

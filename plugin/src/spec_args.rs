@@ -3,7 +3,7 @@
 
 use heddle_generator::{Factor, MAX_LEVELS};
 
-use crate::failure::{Failure, usage};
+use crate::failure::{Diagnostic, Failure, usage};
 
 /// Factors described by the SPEC tokens, in order.
 pub fn parse_specs(tokens: &[String]) -> Result<Vec<Factor>, Failure> {
@@ -29,29 +29,34 @@ pub fn parse_specs(tokens: &[String]) -> Result<Vec<Factor>, Failure> {
             }
         } else if let Some((name, labels)) = tok.split_once('=') {
             if name.is_empty() || !name.chars().all(|c| c.is_alphanumeric() || c == '_' || c == '-') {
-                return Err(usage(format!(
-                    "malformed SPEC `{tok}`: `{name}` is not a factor name\n  hint: names use letters, digits, `_` and `-`"
-                )));
+                return Err(usage(
+                    Diagnostic::new(format!("malformed SPEC `{tok}`: `{name}` is not a factor name"))
+                        .hint("names use letters, digits, `_` and `-`"),
+                ));
             }
             let labels: Vec<&str> = labels.split(',').collect();
             if let Some(bad) = labels
                 .iter()
                 .find(|l| l.is_empty() || l.chars().any(char::is_whitespace))
             {
-                return Err(usage(format!(
-                    "malformed SPEC `{tok}`: level `{bad}` is empty or contains whitespace\n  hint: write `NAME=L1,L2,…` with non-empty labels"
-                )));
+                return Err(usage(
+                    Diagnostic::new(format!(
+                        "malformed SPEC `{tok}`: level `{bad}` is empty or contains whitespace"
+                    ))
+                    .hint("write `NAME=L1,L2,…` with non-empty labels"),
+                ));
             }
             factors.push(Factor::new(name, labels));
         } else {
-            return Err(usage(format!(
-                "malformed SPEC `{tok}`\n  hint: write `V^N` (N factors of V levels) or `NAME=L1,L2,…`"
-            )));
+            return Err(usage(
+                Diagnostic::new(format!("malformed SPEC `{tok}`"))
+                    .hint("write `V^N` (N factors of V levels) or `NAME=L1,L2,…`"),
+            ));
         }
     }
     if factors.is_empty() {
         return Err(usage(
-            "no factors given\n  hint: write for example `3^4` or `os=linux,mac`",
+            Diagnostic::new("no factors given").hint("write for example `3^4` or `os=linux,mac`"),
         ));
     }
     Ok(factors)
@@ -60,9 +65,12 @@ pub fn parse_specs(tokens: &[String]) -> Result<Vec<Factor>, Failure> {
 fn parse_count(tok: &str, s: &str, what: &str) -> Result<usize, Failure> {
     match s.parse::<usize>() {
         Ok(n) if n >= 1 => Ok(n),
-        _ => Err(usage(format!(
-            "malformed SPEC `{tok}`: `{s}` is not a {what} of at least 1\n  hint: write `V^N`, for example `3^4`"
-        ))),
+        _ => Err(usage(
+            Diagnostic::new(format!(
+                "malformed SPEC `{tok}`: `{s}` is not a {what} of at least 1"
+            ))
+            .hint("write `V^N`, for example `3^4`"),
+        )),
     }
 }
 

@@ -7,7 +7,7 @@ use clap::Args;
 use heddle_store::{Store, find_root};
 use heddle_test::record::layout::{RUN_ID_VAR, new_run_id, validate_run_id};
 
-use crate::failure::{Failure, usage};
+use crate::failure::{Diagnostic, Failure, usage};
 use crate::report::{self, Format, ReportArgs};
 use crate::workspace::{self, Selection};
 
@@ -122,7 +122,9 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
             report::print(&records, &rargs);
         }
         None => eprintln!(
-            "heddle: no records for run {id}\n  hint: no `#[cover]` test ran (did the build fail, or a filter exclude them?)"
+            "heddle: {}",
+            Diagnostic::new(format!("no records for run {id}"))
+                .hint("no `#[cover]` test ran (did the build fail, or a filter exclude them?)")
         ),
     }
     Ok(ExitCode::from(status_code))

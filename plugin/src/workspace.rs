@@ -7,7 +7,7 @@ use std::path::{Path, PathBuf};
 use cargo_metadata::MetadataCommand;
 use clap::Args;
 
-use crate::failure::{Failure, usage};
+use crate::failure::{Diagnostic, Failure, usage};
 
 /// Package selection flags shared by the subcommands that work on a project.
 #[derive(Args, Clone, Debug, Default)]
@@ -84,10 +84,10 @@ pub fn load(sel: &Selection) -> Result<Project, Failure> {
                 Some(p) => out.push(*p),
                 None => {
                     let known: Vec<&str> = members.iter().map(|p| p.name.as_str()).collect();
-                    return Err(usage(format!(
-                        "package `{name}` is not in this workspace\n  hint: packages are: {}",
-                        known.join(", ")
-                    )));
+                    return Err(usage(
+                        Diagnostic::new(format!("package `{name}` is not in this workspace"))
+                            .hint(format!("packages are: {}", known.join(", "))),
+                    ));
                 }
             }
         }

@@ -58,14 +58,22 @@ impl ParseError {
 
     /// Renders the error with the source line and a caret under the offending text.
     pub fn render(&self, src: &str) -> String {
+        format!(
+            "{}\n  {src}\n  {}\n  hint: {}",
+            self.message,
+            self.caret(src),
+            self.hint
+        )
+    }
+
+    /// Carets under the offending part of `src` (the text that was parsed), to print
+    /// on the line below it.
+    pub fn caret(&self, src: &str) -> String {
         let start = self.offset.min(src.len());
         let end = (self.offset + self.len).min(src.len());
-        let caret = " ".repeat(src.get(..start).map_or(0, |s| s.chars().count()));
+        let pad = " ".repeat(src.get(..start).map_or(0, |s| s.chars().count()));
         let marks = "^".repeat(src.get(start..end).map_or(0, |s| s.chars().count()).max(1));
-        format!(
-            "{}\n  {src}\n  {caret}{marks}\n  hint: {}",
-            self.message, self.hint
-        )
+        format!("{pad}{marks}")
     }
 }
 

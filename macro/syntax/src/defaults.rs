@@ -14,11 +14,11 @@
 use std::ops::Range;
 use std::path::Path;
 
-use heddle_generator::{MAX_LAMBDA, MAX_STRENGTH};
+use heddle_generator::{MAX_LAMBDA, MAX_STRENGTH, check_lambda, check_strength};
 use serde::Deserialize;
 use toml::Spanned;
 
-use crate::diag;
+use crate::diag::{self, Diagnostic};
 use crate::keywords as kw;
 
 /// Strength when neither the attribute nor the crate sets one.
@@ -47,11 +47,11 @@ pub struct Defaults {
 /// Why the defaults could not be read; the message is in the house style (lower case,
 /// hint on its own line) and names the line of `Cargo.toml`.
 #[derive(Clone, Debug, PartialEq, Eq)]
-pub struct DefaultsError(pub String);
+pub struct DefaultsError(pub Diagnostic);
 
 impl std::fmt::Display for DefaultsError {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        f.write_str(&self.0)
+        f.write_str(&self.0.for_compiler())
     }
 }
 
@@ -76,7 +76,7 @@ impl Defaults {
     /// Reads the defaults from the text of a `Cargo.toml`; no table means no defaults.
     pub fn from_manifest(text: &str) -> Result<Defaults, DefaultsError> {
         let manifest: Manifest = toml::from_str(text).map_err(|e| {
-            DefaultsError(diag::message(
+            DefaultsError(diag::diagnostic(
                 format!(
                     "cannot read `{}`{}: {}",
                     MANIFEST_FILE,
@@ -93,9 +93,9 @@ impl Defaults {
         let table_at = at(text, Some(table.span()));
         for (key, value) in table.get_ref() {
             let found = value.to_string();
-            let int = value.as_integer();
+            let int = value.as_integer().and_then(|v| u64::try_from(v).ok());
             let bad = |range: &str| {
-                DefaultsError(diag::message(
+                DefaultsError(diag::diagnostic(
                     format!(
                         "`{key} = {found}` in `[package.metadata.{}]` of `{}`{table_at} is not {range}",
                         METADATA_TABLE, MANIFEST_FILE
@@ -104,20 +104,20 @@ impl Defaults {
                 ))
             };
             match key.as_str() {
-                kw::STRENGTH => match int {
-                    Some(v) if (1..=MAX_STRENGTH as i64).contains(&v) => d.strength = Some(v as usize),
+                kw::STRENGTH => match int.map(check_strength) {
+                    Some(Ok(t)) => d.strength = Some(t),
                     _ => return Err(bad(&format!("an integer from 1 to {MAX_STRENGTH}"))),
                 },
-                kw::LAMBDA => match int {
-                    Some(v) if (1..=i64::from(MAX_LAMBDA)).contains(&v) => d.lambda = Some(v as u32),
+                kw::LAMBDA => match int.map(check_lambda) {
+                    Some(Ok(l)) => d.lambda = Some(l),
                     _ => return Err(bad(&format!("an integer from 1 to {MAX_LAMBDA}"))),
                 },
                 kw::SEED => match int {
-                    Some(v) if v >= 0 => d.seed = Some(v as u64),
-                    _ => return Err(bad("a non-negative integer")),
+                    Some(v) => d.seed = Some(v),
+                    None => return Err(bad("a non-negative integer")),
                 },
                 _ => {
-                    return Err(DefaultsError(diag::message(
+                    return Err(DefaultsError(diag::diagnostic(
                         format!(
                             "unknown key `{key}` in `[package.metadata.{}]` of `{}`{table_at}",
                             METADATA_TABLE, MANIFEST_FILE
@@ -137,7 +137,7 @@ impl Defaults {
         match std::fs::read_to_string(&path) {
             Ok(text) => Defaults::from_manifest(&text),
             Err(e) if e.kind() == std::io::ErrorKind::NotFound => Ok(Defaults::default()),
-            Err(e) => Err(DefaultsError(diag::message(
+            Err(e) => Err(DefaultsError(diag::diagnostic(
                 format!("cannot read `{}`: {e}", path.display()),
                 "check the file's permissions",
             ))),
@@ -194,7 +194,7 @@ mod tests {
     #[test]
     fn bad_values_are_named_with_their_line() {
         let text = "[package]\nname = \"x\"\n\n[package.metadata.heddle]\nstrength = \"two\"\n";
-        let e = Defaults::from_manifest(text).unwrap_err().0;
+        let e = Defaults::from_manifest(text).unwrap_err().to_string();
         assert!(
             e.starts_with("`strength = \"two\"` in `[package.metadata.heddle]`"),
             "{e}"
@@ -203,15 +203,15 @@ mod tests {
         assert!(e.contains("\nhint: "), "{e}");
         let e = Defaults::from_manifest("[package.metadata.heddle]\nlambda = 0\n")
             .unwrap_err()
-            .0;
+            .to_string();
         assert!(e.contains("from 1 to"), "{e}");
         let e = Defaults::from_manifest("[package.metadata.heddle]\nstrenght = 2\n")
             .unwrap_err()
-            .0;
+            .to_string();
         assert!(e.starts_with("unknown key `strenght`"), "{e}");
         let e = Defaults::from_manifest("[package.metadata.heddle]\nseed = -1\n")
             .unwrap_err()
-            .0;
+            .to_string();
         assert!(e.contains("non-negative"), "{e}");
     }
 

@@ -1,14 +1,34 @@
-//! Building located compile errors in one style: a lower-case message without a final
-//! period that quotes the syntax in backticks, then a hint on its own line.
+//! Building located compile errors from [`Diagnostic`]s: the message, then `hint: …` on
+//! its own line, at the tokens the error is about (the compiler shows the location).
+//! [`diagnostic_of`] reads such an error back, so the plugin shows the macro's errors as
+//! diagnostics of its own.
 
 use std::fmt::Display;
 
+pub use heddle_generator::Diagnostic;
 use proc_macro2::Span;
 use quote::ToTokens;
 
-/// The text of an error: the message, then `hint: …` on the next line.
+/// A diagnostic from a message and a hint.
+pub fn diagnostic(msg: impl Display, hint: impl Display) -> Diagnostic {
+    Diagnostic::new(msg.to_string()).hint(hint.to_string())
+}
+
+/// The text of an error as the compiler shows it: the message, then `hint: …` on the
+/// next line.
 pub fn message(msg: impl Display, hint: impl Display) -> String {
-    format!("{msg}\nhint: {hint}")
+    diagnostic(msg, hint).for_compiler()
+}
+
+/// A compile error of this crate read back as the diagnostic it was made from (an error
+/// `syn` itself raised has no hint), at `location`.
+pub fn diagnostic_of(e: &syn::Error, location: impl Into<String>) -> Diagnostic {
+    let text = e.to_string();
+    let d = match text.split_once("\nhint: ") {
+        Some((msg, hint)) => Diagnostic::new(msg).hint(hint),
+        None => Diagnostic::new(text),
+    };
+    d.at(location)
 }
 
 /// An error spanning `tokens` (first to last token where the compiler allows it).

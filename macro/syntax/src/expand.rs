@@ -147,7 +147,7 @@ fn expand_fn(args: &Args, f: &ItemFn, ctx: &Context) -> Result<TokenStream, syn:
     let defaults = match &ctx.defaults {
         Ok(d) => *d,
         Err(e) => {
-            errs.push(syn::Error::new(args.span, &e.0));
+            errs.push(syn::Error::new(args.span, e.0.for_compiler()));
             Defaults::default()
         }
     };
@@ -163,7 +163,7 @@ fn expand_fn(args: &Args, f: &ItemFn, ctx: &Context) -> Result<TokenStream, syn:
     let pins = match &ctx.pins {
         Ok(p) => p.as_ref(),
         Err(e) => {
-            errs.push(syn::Error::new(args.span, &e.message));
+            errs.push(syn::Error::new(args.span, e.diagnostic.for_compiler()));
             None
         }
     };

@@ -64,7 +64,7 @@ use serde::Deserialize;
 use toml::Spanned;
 
 use crate::defaults::{at, line_col};
-use crate::diag;
+use crate::diag::{self, Diagnostic};
 use crate::fingerprint::Fingerprint;
 use crate::keywords as kw;
 
@@ -184,13 +184,13 @@ pub struct PinsError {
     pub line: Option<usize>,
     /// 1-based column of the problem, when known.
     pub column: Option<usize>,
-    /// What is wrong and what to do (lower case, `hint:` on its own line).
-    pub message: String,
+    /// What is wrong and what to do.
+    pub diagnostic: Diagnostic,
 }
 
 impl std::fmt::Display for PinsError {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        f.write_str(&self.message)
+        f.write_str(&self.diagnostic.for_compiler())
     }
 }
 
@@ -235,7 +235,7 @@ fn located(text: &str, offset: Option<usize>, what: String) -> PinsError {
     PinsError {
         line,
         column,
-        message: diag::message(
+        diagnostic: diag::diagnostic(
             format!("cannot read `{}`{place}: {what}", PINS_FILE),
             format!(
                 "fix that line, or delete the file and run `{}` to write it anew",
@@ -264,7 +264,7 @@ impl PinsFile {
         };
         if format.get_ref().as_integer() != Some(i64::from(PINS_FORMAT)) {
             return Err(PinsError {
-                message: diag::message(
+                diagnostic: diag::diagnostic(
                     format!(
                         "`{}`{} has `format = {}`, this heddle reads format {}",
                         PINS_FILE,
@@ -334,7 +334,7 @@ impl PinsFile {
             Err(e) => Err(PinsError {
                 line: None,
                 column: None,
-                message: diag::message(
+                diagnostic: diag::diagnostic(
                     format!("cannot read `{}`: {e}", path.display()),
                     "check the file's permissions",
                 ),
@@ -549,7 +549,7 @@ mod tests {
                     strength = 1\nlambda = 1\nseed = \"12\"\nrows = [[0]]\n";
         let e = PinsFile::parse(text).unwrap_err();
         assert_eq!(e.line, Some(7), "{e}");
-        assert!(e.message.contains("`12` is not a seed"), "{e}");
+        assert!(e.to_string().contains("`12` is not a seed"), "{e}");
     }
 
     #[test]
@@ -581,11 +581,11 @@ mod tests {
         let e = PinsFile::parse(text).unwrap_err();
         assert_eq!(e.line, Some(5), "{e}");
         assert!(
-            e.message
+            e.to_string()
                 .starts_with("cannot read `heddle-pins.toml` (line 5, column"),
             "{e}"
         );
-        assert!(e.message.contains("\nhint: "), "{e}");
+        assert!(e.to_string().contains("\nhint: "), "{e}");
     }
 
     #[test]
@@ -593,7 +593,7 @@ mod tests {
         let text = "format = 1\n[pins.\"t.rs\".f]\nfingerprint = \"xyz\"\nrows = [[0]]\n";
         let e = PinsFile::parse(text).unwrap_err();
         assert_eq!(e.line, Some(3), "{e}");
-        assert!(e.message.contains("`xyz` is not a fingerprint"), "{e}");
+        assert!(e.to_string().contains("`xyz` is not a fingerprint"), "{e}");
 
         let text = "format = 1\n[pins.\"t.rs\".f]\nfingerprint = \"0000000000000001\"\nrows = [[300]]\n";
         let e = PinsFile::parse(text).unwrap_err();
@@ -602,17 +602,18 @@ mod tests {
         let text =
             "format = 1\n[pins.\"t.rs\".f]\nfingerprint = \"0000000000000001\"\nrows = [[0]]\ncolour = 1\n";
         let e = PinsFile::parse(text).unwrap_err();
-        assert!(e.message.contains("colour"), "{e}");
+        assert!(e.to_string().contains("colour"), "{e}");
     }
 
     #[test]
     fn format_is_required_and_checked() {
         let e = PinsFile::parse("[pins]\n").unwrap_err();
-        assert!(e.message.contains("`format = 1` is missing"), "{e}");
+        assert!(e.to_string().contains("`format = 1` is missing"), "{e}");
         let e = PinsFile::parse("format = 2\n").unwrap_err();
         assert_eq!(e.line, Some(1));
         assert!(
-            e.message.contains("has `format = 2`, this heddle reads format 1"),
+            e.to_string()
+                .contains("has `format = 2`, this heddle reads format 1"),
             "{e}"
         );
         assert!(PinsFile::parse("format = 1\n").unwrap().pins.is_empty());

@@ -7,7 +7,7 @@ use std::fmt;
 
 use heddle_generator::{Effort, generate};
 
-use crate::diag;
+use crate::diag::{self, Diagnostic};
 use crate::fingerprint::Fingerprint;
 use crate::pins::{PinKey, PinsFile};
 use crate::validate::CoverSpec;
@@ -52,10 +52,11 @@ fn line(l: Option<usize>) -> String {
     l.map(|l| format!(" (line {l})")).unwrap_or_default()
 }
 
-impl fmt::Display for RowsError {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        let text = match self {
-            RowsError::Stale { key, line: l, .. } => diag::message(
+impl RowsError {
+    /// What went wrong, in the shape every front end renders.
+    pub fn diagnostic(&self) -> Diagnostic {
+        match self {
+            RowsError::Stale { key, line: l, .. } => diag::diagnostic(
                 format!(
                     "the pin of `{}` in `{}`{} is stale: the spec changed since it was pinned",
                     key.function,
@@ -64,7 +65,7 @@ impl fmt::Display for RowsError {
                 ),
                 format!("run `{}` to pin rows for the new spec", crate::pins::PIN_COMMAND),
             ),
-            RowsError::Corrupt { key, line: l, reason } => diag::message(
+            RowsError::Corrupt { key, line: l, reason } => diag::diagnostic(
                 format!(
                     "the pin of `{}` in `{}`{} does not fit the function: {reason}",
                     key.function,
@@ -73,12 +74,14 @@ impl fmt::Display for RowsError {
                 ),
                 format!("run `{}` to rewrite it", crate::pins::PIN_COMMAND),
             ),
-            RowsError::Engine(e) => diag::message(
-                format!("cannot generate rows: {e}"),
-                "lower the strength, lambda or the number of levels",
-            ),
-        };
-        f.write_str(&text)
+            RowsError::Engine(e) => diag::diagnostic(format!("cannot generate rows: {e}"), e.hint()),
+        }
+    }
+}
+
+impl fmt::Display for RowsError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(&self.diagnostic().for_compiler())
     }
 }
 

@@ -16,7 +16,7 @@ use heddle_store::{Records, Store, StoreError, find_root};
 use heddle_test::record::{RowRecord, SpecRecord};
 
 use crate::analysis::{self, Analysis};
-use crate::failure::{Failure, usage};
+use crate::failure::{Diagnostic, Failure, usage};
 use crate::workspace::{self, Selection};
 
 /// Arguments of `report`.
@@ -134,9 +134,10 @@ pub fn levels_text(pairs: &[(&str, &str)]) -> String {
 /// Reads the store the arguments name.
 pub fn open_store(args: &ReportArgs) -> Result<Store, Failure> {
     let not_found = |what: String| {
-        usage(format!(
-            "no heddle records found {what}\n  hint: run the tests first, e.g. `cargo heddle test`"
-        ))
+        usage(
+            Diagnostic::new(format!("no heddle records found {what}"))
+                .hint("run the tests first, e.g. `cargo heddle test`"),
+        )
     };
     if !args.store.is_empty() {
         let mut roots = Vec::new();
@@ -146,10 +147,10 @@ pub fn open_store(args: &ReportArgs) -> Result<Store, Failure> {
                 Err(StoreError::NotFound { .. }) => {
                     return Err(not_found(format!("under `{}`", dir.display())));
                 }
-                Err(e) => return Err(usage(e.to_string())),
+                Err(e) => return Err(usage(e.diagnostic())),
             }
         }
-        return Store::merge(roots).map_err(|e| usage(e.to_string()));
+        return Store::merge(roots).map_err(|e| usage(e.diagnostic()));
     }
     let project = workspace::load(&args.selection)?;
     let roots: Vec<PathBuf> = project
@@ -160,7 +161,7 @@ pub fn open_store(args: &ReportArgs) -> Result<Store, Failure> {
     if roots.is_empty() {
         return Err(not_found(format!("in `{}`", project.target_dir.display())));
     }
-    Store::merge(roots).map_err(|e| usage(e.to_string()))
+    Store::merge(roots).map_err(|e| usage(e.diagnostic()))
 }
 
 /// Reads the records the arguments select.
@@ -171,12 +172,12 @@ pub fn read(store: &Store, args: &ReportArgs) -> Result<Records, Failure> {
         (None, "latest") => store.read_last(1),
         (None, id) => store.read_run(id),
     };
-    r.map_err(|e| usage(e.to_string()))
+    r.map_err(|e| usage(e.diagnostic()))
 }
 
 /// Builds the report of some records, keeping the suites of `packages` (all if empty).
 pub fn build<'a>(records: &'a Records, packages: &[String], confidence: f64, all: bool) -> Report<'a> {
-    let mut notes = records.stats.notes();
+    let mut notes: Vec<String> = records.stats.notes().iter().map(Diagnostic::one_line).collect();
     let mut suites = Vec::new();
     for s in &records.suites {
         if !packages.is_empty() && !packages.contains(&s.spec.krate) {
@@ -277,10 +278,13 @@ pub fn render(report: &Report<'_>, format: Format, color: bool) -> String {
 /// Runs `report`.
 pub fn run(args: ReportArgs) -> Result<ExitCode, Failure> {
     if !(args.confidence > 0.0 && args.confidence < 1.0) {
-        return Err(usage(format!(
-            "`--confidence {}` is not between 0 and 1\n  hint: for example `--confidence 0.95`",
-            args.confidence
-        )));
+        return Err(usage(
+            Diagnostic::new(format!(
+                "`--confidence {}` is not between 0 and 1",
+                args.confidence
+            ))
+            .hint("for example `--confidence 0.95`"),
+        ));
     }
     let store = open_store(&args)?;
     let records = read(&store, &args)?;

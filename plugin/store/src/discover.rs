@@ -4,6 +4,7 @@ use std::collections::{BTreeMap, BTreeSet};
 use std::io;
 use std::path::{Path, PathBuf};
 
+use heddle_generator::Diagnostic;
 use heddle_test::record::layout::{self, FILE_EXTENSION, RUNS_DIR, STORE_DIR};
 
 use crate::join::Records;
@@ -58,40 +59,41 @@ pub enum StoreError {
     },
 }
 
-impl std::fmt::Display for StoreError {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+impl StoreError {
+    /// What went wrong, in the shape every front end renders.
+    pub fn diagnostic(&self) -> Diagnostic {
         match self {
-            StoreError::NotFound { path } => write!(
-                f,
-                "no heddle store at `{}`; hint: run the tests first (`cargo heddle test`), \
-                 or pass a target directory or a directory of shards",
-                path.display()
-            ),
-            StoreError::NoRuns { roots } => {
-                let roots: Vec<String> = roots.iter().map(|r| format!("`{}`", r.display())).collect();
-                write!(
-                    f,
-                    "the store at {} holds no runs; hint: run the tests first (`cargo heddle test`)",
-                    roots.join(", ")
+            StoreError::NotFound { path } => {
+                Diagnostic::new(format!("no heddle store at `{}`", path.display())).hint(
+                    "run the tests first (`cargo heddle test`), or pass a target directory or a \
+                     directory of shards",
                 )
             }
+            StoreError::NoRuns { roots } => {
+                let roots: Vec<String> = roots.iter().map(|r| format!("`{}`", r.display())).collect();
+                Diagnostic::new(format!("the store at {} holds no runs", roots.join(", ")))
+                    .hint("run the tests first (`cargo heddle test`)")
+            }
             StoreError::UnknownRun { id, latest } => {
-                write!(f, "no run `{id}` in the store")?;
+                let d = Diagnostic::new(format!("no run `{id}` in the store"));
                 if latest.is_empty() {
-                    write!(f, "; hint: the store is empty")
+                    d.hint("the store is empty")
                 } else {
                     let ids: Vec<String> = latest.iter().map(|i| format!("`{i}`")).collect();
-                    write!(f, "; hint: latest runs are {}", ids.join(", "))
+                    d.hint(format!("latest runs are {}", ids.join(", ")))
                 }
             }
             StoreError::Io { path, source } => {
-                write!(
-                    f,
-                    "cannot read `{}` ({source}); hint: check permissions",
-                    path.display()
-                )
+                Diagnostic::new(format!("cannot read `{}` ({source})", path.display()))
+                    .hint("check permissions")
             }
         }
+    }
+}
+
+impl std::fmt::Display for StoreError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(&self.diagnostic().one_line())
     }
 }
 

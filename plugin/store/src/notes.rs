@@ -5,7 +5,9 @@ use std::path::PathBuf;
 
 use heddle_test::record::FORMAT_VERSION;
 
-use crate::words::s as plural;
+use heddle_generator::Diagnostic;
+
+use crate::words::plural;
 
 /// Where a skipped line was.
 #[derive(Clone, Debug, PartialEq, Eq)]
@@ -49,9 +51,9 @@ pub struct ReadStats {
 }
 
 impl ReadStats {
-    /// One line per kind of thing left out, for the report to print (empty when nothing
-    /// was); worded like the project's other messages.
-    pub fn notes(&self) -> Vec<String> {
+    /// One diagnostic per kind of thing left out, for the report to print (empty when
+    /// nothing was).
+    pub fn notes(&self) -> Vec<Diagnostic> {
         let mut out = Vec::new();
         if self.corrupt > 0 {
             let at: Vec<String> = self
@@ -59,23 +61,29 @@ impl ReadStats {
                 .iter()
                 .map(|l| format!("`{}:{}`", l.path.display(), l.line))
                 .collect();
-            out.push(format!(
-                "skipped {} corrupt or truncated record line{} (at {}{}); hint: a test process \
-                 was killed while writing, or the file was damaged",
-                self.corrupt,
-                plural(self.corrupt),
-                at.join(", "),
-                if self.corrupt > at.len() { ", …" } else { "" }
-            ));
+            out.push(
+                Diagnostic::new(format!(
+                    "skipped {} (at {}{})",
+                    plural(
+                        self.corrupt,
+                        "corrupt or truncated record line",
+                        "corrupt or truncated record lines"
+                    ),
+                    at.join(", "),
+                    if self.corrupt > at.len() { ", …" } else { "" }
+                ))
+                .hint("a test process was killed while writing, or the file was damaged"),
+            );
         }
         for (v, n) in &self.other_versions {
             let age = if *v < FORMAT_VERSION { "older" } else { "newer" };
-            out.push(format!(
-                "skipped {n} record line{} of {age} format version {v} (this build reads version {}); \
-                 hint: rerun the tests with this heddle, or report with the heddle that wrote them",
-                plural(*n),
-                FORMAT_VERSION
-            ));
+            out.push(
+                Diagnostic::new(format!(
+                    "skipped {} of {age} format version {v} (this build reads version {FORMAT_VERSION})",
+                    plural(*n, "record line", "record lines"),
+                ))
+                .hint("rerun the tests with this heddle, or report with the heddle that wrote them"),
+            );
         }
         let others = [
             (
@@ -101,24 +109,26 @@ impl ReadStats {
         ];
         for (n, one, many) in others {
             if n > 0 {
-                let what = if n == 1 { one } else { many };
-                out.push(format!("skipped {n} {what}; hint: the store is damaged"));
+                out.push(
+                    Diagnostic::new(format!("skipped {}", plural(n, one, many))).hint("the store is damaged"),
+                );
             }
         }
         if self.duplicate_files > 0 {
-            out.push(format!(
-                "read {} file{} found in several stores once",
-                self.duplicate_files,
-                plural(self.duplicate_files)
-            ));
+            out.push(Diagnostic::new(format!(
+                "read {} found in several stores once",
+                plural(self.duplicate_files, "file", "files")
+            )));
         }
         if !self.unreadable.is_empty() {
-            out.push(format!(
-                "could not read {} file{} (first `{}`); hint: check permissions",
-                self.unreadable.len(),
-                plural(self.unreadable.len()),
-                self.unreadable[0].display()
-            ));
+            out.push(
+                Diagnostic::new(format!(
+                    "could not read {} (first `{}`)",
+                    plural(self.unreadable.len(), "file", "files"),
+                    self.unreadable[0].display()
+                ))
+                .hint("check permissions"),
+            );
         }
         out
     }

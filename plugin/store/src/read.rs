@@ -257,7 +257,7 @@ mod tests {
         assert_eq!(s.other_versions, BTreeMap::from([(7, 1)]));
         assert_eq!((s.invalid_specs, s.mismatched_rows, s.orphan_rows), (1, 1, 1));
         assert_eq!(s.skipped(), 7);
-        let notes = s.notes();
+        let notes: Vec<String> = s.notes().iter().map(|d| d.one_line()).collect();
         assert_eq!(notes.len(), 5, "{notes:#?}");
         assert!(
             notes[0].starts_with("skipped 3 corrupt or truncated record lines (at `"),

@@ -3,7 +3,7 @@
 
 use std::collections::BTreeSet;
 
-use heddle_generator::{MAX_LAMBDA, MAX_STRENGTH};
+use heddle_generator::{MAX_LAMBDA, MAX_STRENGTH, check_lambda, check_strength};
 use syn::Lit;
 
 use crate::args::ArgValue;
@@ -110,7 +110,11 @@ pub(super) fn check_keys<'a>(cover: &CoverFn<'a>, errs: &mut Errors) -> KeyValue
         match key.kind {
             KeyKind::Strength => {
                 if let Some((v, expr)) = int_value(&key.arg.value, kw::STRENGTH, "2", errs) {
-                    if v == 0 {
+                    // the engine decides the range; the words are the attribute's
+                    let checked = check_strength(v);
+                    if let Ok(t) = checked {
+                        kv.strength = Some((t, expr));
+                    } else if v == 0 {
                         errs.at(
                             expr,
                             format!("`{} = 0` is not allowed", kw::STRENGTH),
@@ -120,7 +124,7 @@ pub(super) fn check_keys<'a>(cover: &CoverFn<'a>, errs: &mut Errors) -> KeyValue
                                 kw::STRENGTH
                             ),
                         );
-                    } else if v > MAX_STRENGTH as u64 {
+                    } else {
                         errs.at(
                             expr,
                             format!(
@@ -129,14 +133,15 @@ pub(super) fn check_keys<'a>(cover: &CoverFn<'a>, errs: &mut Errors) -> KeyValue
                             ),
                             format!("use `{} = {MAX_STRENGTH}` or less", kw::STRENGTH),
                         );
-                    } else {
-                        kv.strength = Some((v as usize, expr));
                     }
                 }
             }
             KeyKind::Lambda => {
                 if let Some((v, expr)) = int_value(&key.arg.value, kw::LAMBDA, "2", errs) {
-                    if v == 0 {
+                    let checked = check_lambda(v);
+                    if let Ok(l) = checked {
+                        kv.lambda = Some(l);
+                    } else if v == 0 {
                         errs.at(
                             expr,
                             format!("`{} = 0` is not allowed", kw::LAMBDA),
@@ -145,7 +150,7 @@ pub(super) fn check_keys<'a>(cover: &CoverFn<'a>, errs: &mut Errors) -> KeyValue
                                 kw::LAMBDA
                             ),
                         );
-                    } else if v > u64::from(MAX_LAMBDA) {
+                    } else {
                         errs.at(
                             expr,
                             format!(
@@ -154,8 +159,6 @@ pub(super) fn check_keys<'a>(cover: &CoverFn<'a>, errs: &mut Errors) -> KeyValue
                             ),
                             format!("use `{} = {MAX_LAMBDA}` or less", kw::LAMBDA),
                         );
-                    } else {
-                        kv.lambda = Some(v as u32);
                     }
                 }
             }
