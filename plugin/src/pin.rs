@@ -72,131 +72,22 @@ pub fn run(args: PinArgs) -> Result<ExitCode, Failure> {
     let bar = progress(work);
 
     for ((pkg, old), plans) in scanned.iter().zip(files).zip(plans) {
-        let had_file = old.is_some();
-        let mut pins = old.unwrap_or_default();
-        let mut touched: BTreeSet<String> = BTreeSet::new();
-        let (mut new, mut changed, mut same) = (0usize, 0usize, 0usize);
+        let mut out = Package {
+            had_file: old.is_some(),
+            pins: old.unwrap_or_default(),
+            ..Package::default()
+        };
         for p in plans {
-            let line = match p {
-                Plan::UpToDate(f, rows) => {
-                    same += 1;
-                    format!("{}: up to date, {rows} rows", place(pkg, f))
+            match apply(pkg, p, effort, &mut out, &bar) {
+                Ok(line) => bar.suspend(|| say!("{line}")),
+                Err(e) => {
+                    problems += 1;
+                    bar.suspend(|| say_err!("error: {e}"));
                 }
-                Plan::New(f) => {
-                    bar.set_message(f.function.clone());
-                    let result = make(f, Vec::new(), effort);
-                    bar.inc(1);
-                    match result {
-                        Ok(rows) => {
-                            new += 1;
-                            let n = rows.len();
-                            store(&mut pins, f, rows);
-                            touched.insert(f.file.clone());
-                            format!("{}: new, {n} rows", place(pkg, f))
-                        }
-                        Err(e) => {
-                            problems += 1;
-                            bar.suspend(|| say_err!("error: {}", e.clone().at(place(pkg, f))));
-                            continue;
-                        }
-                    }
-                }
-                Plan::Changed(f, carried, changes) => {
-                    bar.set_message(f.function.clone());
-                    let kept = carried.rows.len();
-                    let result = make(f, carried.rows.clone(), effort);
-                    bar.inc(1);
-                    match result {
-                        Ok(rows) => {
-                            changed += 1;
-                            let n = rows.len();
-                            store(&mut pins, f, rows);
-                            touched.insert(f.file.clone());
-                            let mut line = format!(
-                                "{}: kept {kept}, added {}, dropped {}, {n} rows",
-                                place(pkg, f),
-                                n.saturating_sub(kept),
-                                carried.dropped()
-                            );
-                            let why = carried.why_dropped();
-                            let mut notes: Vec<String> = changes;
-                            if !why.is_empty() {
-                                notes.push(format!("dropped: {why}"));
-                            }
-                            if !notes.is_empty() {
-                                line.push_str(&format!(" ({})", notes.join("; ")));
-                            }
-                            line
-                        }
-                        Err(e) => {
-                            problems += 1;
-                            bar.suspend(|| say_err!("error: {}", e.clone().at(place(pkg, f))));
-                            continue;
-                        }
-                    }
-                }
-            };
-            bar.suspend(|| say!("{line}"));
-        }
-        // pins whose function is gone (never those of functions that could not be read)
-        let live: BTreeSet<_> = pkg.functions.iter().map(Function::key).collect();
-        let gone: Vec<_> = pins
-            .pins
-            .keys()
-            .filter(|k| !live.contains(k) && !pkg.protects(k))
-            .cloned()
-            .collect();
-        for key in &gone {
-            pins.remove(key);
-            bar.suspend(|| {
-                say!(
-                    "{} {}: removed, the function no longer exists",
-                    pkg.display(&key.file),
-                    key.function
-                )
-            });
-        }
-        let file = pkg.display(heddle_syntax::pins::PINS_FILE);
-        if !had_file && pins.pins.is_empty() {
-            if pkg.functions.is_empty() && pkg.problems.is_empty() {
-                bar.suspend(|| {
-                    say!(
-                        "package `{}` has no `#[{}]` functions",
-                        pkg.package.name,
-                        kw::COVER
-                    )
-                });
-            }
-            continue;
-        }
-        let text = pins.to_toml();
-        let on_disk = std::fs::read_to_string(PinsFile::path(&pkg.package.root)).ok();
-        if on_disk.as_deref() == Some(text.as_str()) {
-            bar.suspend(|| say!("{file}: up to date, {} pins", pins.pins.len()));
-            continue;
-        }
-        pinfile::save(pkg, &pins)?;
-        let mut touch_failed = Vec::new();
-        for f in &touched {
-            if let Err(e) = pinfile::touch(&pkg.package.root.join(f)) {
-                touch_failed.push(format!("{}: {e}", pkg.display(f)));
             }
         }
-        let mut summary = format!(
-            "{file}: wrote {} pins ({new} new, {changed} changed, {same} up to date, {} removed)",
-            pins.pins.len(),
-            gone.len()
-        );
-        if !touched.is_empty() {
-            let plural = if touched.len() == 1 { "" } else { "s" };
-            summary.push_str(&format!(", touched {} test file{plural}", touched.len()));
-        }
-        bar.suspend(|| {
-            say!("{summary}");
-            for t in &touch_failed {
-                say_err!("warning: could not touch {t}; touch it so that cargo rebuilds it");
-            }
-        });
+        let gone = remove_gone(pkg, &mut out.pins, &bar);
+        write(pkg, &out, gone, &bar)?;
     }
     bar.finish_and_clear();
     if problems > 0 {
@@ -212,6 +103,140 @@ pub fn run(args: PinArgs) -> Result<ExitCode, Failure> {
         ));
     }
     Ok(ExitCode::SUCCESS)
+}
+
+/// One package's pins as `pin` rewrites them, and what it did to them.
+#[derive(Default)]
+struct Package {
+    pins: PinsFile,
+    had_file: bool,
+    /// Test files whose pins changed, to touch so cargo rebuilds them.
+    touched: BTreeSet<String>,
+    new: usize,
+    changed: usize,
+    same: usize,
+}
+
+/// Carries out one function's plan: the line `pin` prints for it, or why it failed.
+fn apply(
+    pkg: &Scanned,
+    p: Plan<'_>,
+    effort: Effort,
+    out: &mut Package,
+    bar: &ProgressBar,
+) -> Result<String, Diagnostic> {
+    let (f, carried, changes) = match p {
+        Plan::UpToDate(f, rows) => {
+            out.same += 1;
+            return Ok(format!("{}: up to date, {rows} rows", place(pkg, f)));
+        }
+        Plan::New(f) => (f, None, Vec::new()),
+        Plan::Changed(f, carried, changes) => (f, Some(carried), changes),
+    };
+    bar.set_message(f.function.clone());
+    let required = carried.as_ref().map(|c| c.rows.clone()).unwrap_or_default();
+    let kept = required.len();
+    let result = make(f, required, effort);
+    bar.inc(1);
+    let rows = result.map_err(|e| e.at(place(pkg, f)))?;
+    let n = rows.len();
+    store(&mut out.pins, f, rows);
+    out.touched.insert(f.file.clone());
+    let Some(carried) = carried else {
+        out.new += 1;
+        return Ok(format!("{}: new, {n} rows", place(pkg, f)));
+    };
+    out.changed += 1;
+    let mut line = format!(
+        "{}: kept {kept}, added {}, dropped {}, {n} rows",
+        place(pkg, f),
+        n.saturating_sub(kept),
+        carried.dropped()
+    );
+    let why = carried.why_dropped();
+    let mut notes: Vec<String> = changes;
+    if !why.is_empty() {
+        notes.push(format!("dropped: {why}"));
+    }
+    if !notes.is_empty() {
+        line.push_str(&format!(" ({})", notes.join("; ")));
+    }
+    Ok(line)
+}
+
+/// Removes the pins whose function is gone (never those of functions that could not be
+/// read); returns how many.
+fn remove_gone(pkg: &Scanned, pins: &mut PinsFile, bar: &ProgressBar) -> usize {
+    let live: BTreeSet<_> = pkg.functions.iter().map(Function::key).collect();
+    let gone: Vec<_> = pins
+        .pins
+        .keys()
+        .filter(|k| !live.contains(k) && !pkg.protects(k))
+        .cloned()
+        .collect();
+    for key in &gone {
+        pins.remove(key);
+        bar.suspend(|| {
+            say!(
+                "{} {}: removed, the function no longer exists",
+                pkg.display(&key.file),
+                key.function
+            )
+        });
+    }
+    gone.len()
+}
+
+/// Writes the package's pins file when it changed, touches the test files whose pins
+/// changed, and prints the package's summary.
+fn write(pkg: &Scanned, out: &Package, gone: usize, bar: &ProgressBar) -> Result<(), Failure> {
+    let pins = &out.pins;
+    let file = pkg.display(heddle_syntax::pins::PINS_FILE);
+    if !out.had_file && pins.pins.is_empty() {
+        if pkg.functions.is_empty() && pkg.problems.is_empty() {
+            bar.suspend(|| {
+                say!(
+                    "package `{}` has no `#[{}]` functions",
+                    pkg.package.name,
+                    kw::COVER
+                )
+            });
+        }
+        return Ok(());
+    }
+    let text = pins.to_toml();
+    let on_disk = std::fs::read_to_string(PinsFile::path(&pkg.package.root)).ok();
+    if on_disk.as_deref() == Some(text.as_str()) {
+        bar.suspend(|| say!("{file}: up to date, {} pins", pins.pins.len()));
+        return Ok(());
+    }
+    pinfile::save(pkg, pins)?;
+    let mut touch_failed = Vec::new();
+    for f in &out.touched {
+        if let Err(e) = pinfile::touch(&pkg.package.root.join(f)) {
+            touch_failed.push(format!("{}: {e}", pkg.display(f)));
+        }
+    }
+    let mut summary = format!(
+        "{file}: wrote {} pins ({} new, {} changed, {} up to date, {gone} removed)",
+        pins.pins.len(),
+        out.new,
+        out.changed,
+        out.same
+    );
+    if !out.touched.is_empty() {
+        summary.push_str(&format!(
+            ", touched {}",
+            plural(out.touched.len(), "test file", "test files")
+        ));
+    }
+    bar.suspend(|| {
+        say!("{summary}");
+        for t in &touch_failed {
+            say_err!("warning: could not touch {t}; touch it so that cargo rebuilds it");
+        }
+    });
+    Ok(())
 }
 
 /// `file:line name`, as every line of `pin` names a function.

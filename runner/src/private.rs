@@ -192,15 +192,7 @@ fn finish_unit(
         // libtest fails the test itself; this explains which row it was
         explain(&message::context(suite, row, text));
         let message = Some(text.to_string());
-        rec.record(
-            suite,
-            &RowResult {
-                row,
-                outcome: Outcome::Failed,
-                message,
-                duration,
-            },
-        );
+        record(rec, suite, row, Outcome::Failed, message, duration);
         return;
     }
     // a `()` row is a `Result` row that cannot return `Err`: passes and panics are
@@ -218,28 +210,12 @@ fn finish_result<E: Debug>(
     let duration = start.elapsed();
     match caught {
         Ok(Ok(())) => {
-            rec.record(
-                suite,
-                &RowResult {
-                    row,
-                    outcome: Outcome::Passed,
-                    message: None,
-                    duration,
-                },
-            );
+            record(rec, suite, row, Outcome::Passed, None, duration);
             Ok(())
         }
         Ok(Err(error)) => {
             let message = Some(format!("{error:?}"));
-            rec.record(
-                suite,
-                &RowResult {
-                    row,
-                    outcome: Outcome::Failed,
-                    message,
-                    duration,
-                },
-            );
+            record(rec, suite, row, Outcome::Failed, message, duration);
             let context = message::context(suite, row, "returned an error");
             Err(RowError { error, context })
         }
@@ -270,16 +246,28 @@ fn panicked(
         (false, _) => (Outcome::Failed, "panicked"),
     };
     explain(&message::context(suite, row, headline));
+    record(rec, suite, row, outcome, Some(text), duration);
+    panic::resume_unwind(payload)
+}
+
+/// Records one row's outcome.
+fn record(
+    rec: &Recorder,
+    suite: &'static Suite,
+    row: usize,
+    outcome: Outcome,
+    message: Option<String>,
+    duration: std::time::Duration,
+) {
     rec.record(
         suite,
         &RowResult {
             row,
             outcome,
-            message: Some(text),
+            message,
             duration,
         },
     );
-    panic::resume_unwind(payload)
 }
 
 /// Prints a row's context through libtest's output capture (so it shows with a failing

@@ -55,18 +55,16 @@
 //! it for the first time is not noticed by a crate already built without it: touch the
 //! test file (the plugin does this after writing the file).
 
+mod read;
+mod write;
+
 use std::collections::BTreeMap;
-use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 
 use heddle_generator::Spec;
-use serde::Deserialize;
-use toml::Spanned;
 
-use crate::defaults::{at, line_col};
 use crate::diag::{self, Diagnostic};
 use crate::fingerprint::Fingerprint;
-use crate::keywords as kw;
 
 /// Name of the pins file at the crate root.
 pub const PINS_FILE: &str = "heddle-pins.toml";
@@ -196,133 +194,10 @@ impl std::fmt::Display for PinsError {
 
 impl std::error::Error for PinsError {}
 
-#[derive(Deserialize)]
-struct Head {
-    format: Option<Spanned<toml::Value>>,
-}
-
-#[derive(Deserialize)]
-#[serde(deny_unknown_fields)]
-struct RawFile {
-    #[allow(dead_code)] // checked through `Head`
-    format: toml::Value,
-    #[serde(default)]
-    pins: BTreeMap<String, BTreeMap<String, Spanned<RawPin>>>,
-}
-
-#[derive(Deserialize)]
-#[serde(deny_unknown_fields)]
-struct RawPin {
-    fingerprint: Spanned<String>,
-    #[serde(default)]
-    factors: Vec<String>,
-    levels: Option<Vec<Vec<String>>>,
-    strength: Option<usize>,
-    lambda: Option<u32>,
-    seed: Option<Spanned<String>>,
-    rows: Vec<Vec<u8>>,
-}
-
-fn located(text: &str, offset: Option<usize>, what: String) -> PinsError {
-    let (line, column) = match offset {
-        Some(o) => {
-            let (l, c) = line_col(text, o);
-            (Some(l), Some(c))
-        }
-        None => (None, None),
-    };
-    let place = at(text, offset.map(|o| o..o));
-    PinsError {
-        line,
-        column,
-        diagnostic: diag::diagnostic(
-            format!("cannot read `{}`{place}: {what}", PINS_FILE),
-            format!(
-                "fix that line, or delete the file and run `{}` to write it anew",
-                PIN_COMMAND
-            ),
-        ),
-    }
-}
-
 impl PinsFile {
     /// The pins file's path for the crate whose root is `crate_root`.
     pub fn path(crate_root: &Path) -> PathBuf {
         crate_root.join(PINS_FILE)
-    }
-
-    /// Parses the text of a pins file.
-    pub fn parse(text: &str) -> Result<PinsFile, PinsError> {
-        let head: Head = toml::from_str(text)
-            .map_err(|e| located(text, e.span().map(|s| s.start), e.message().to_string()))?;
-        let Some(format) = head.format else {
-            return Err(located(
-                text,
-                None,
-                format!("`format = {}` is missing", PINS_FORMAT),
-            ));
-        };
-        if format.get_ref().as_integer() != Some(i64::from(PINS_FORMAT)) {
-            return Err(PinsError {
-                diagnostic: diag::diagnostic(
-                    format!(
-                        "`{}`{} has `format = {}`, this heddle reads format {}",
-                        PINS_FILE,
-                        at(text, Some(format.span())),
-                        format.get_ref(),
-                        PINS_FORMAT
-                    ),
-                    format!(
-                        "use the heddle that wrote it, or run `{}` to rewrite it",
-                        PIN_COMMAND
-                    ),
-                ),
-                ..located(text, Some(format.span().start), String::new())
-            });
-        }
-        let raw: RawFile = toml::from_str(text)
-            .map_err(|e| located(text, e.span().map(|s| s.start), e.message().to_string()))?;
-        let mut out = PinsFile::default();
-        for (file, fns) in raw.pins {
-            for (function, pin) in fns {
-                let start = pin.span().start;
-                let pin = pin.into_inner();
-                let fingerprint = pin
-                    .fingerprint
-                    .get_ref()
-                    .parse::<Fingerprint>()
-                    .map_err(|e| located(text, Some(pin.fingerprint.span().start), e))?;
-                let key = PinKey {
-                    file: file.clone(),
-                    function,
-                };
-                if let (Some(levels), Some(strength), Some(lambda), Some(seed)) =
-                    (pin.levels, pin.strength, pin.lambda, pin.seed)
-                {
-                    let seed =
-                        parse_seed(seed.get_ref()).map_err(|e| located(text, Some(seed.span().start), e))?;
-                    out.origins.insert(
-                        key.clone(),
-                        Origin {
-                            levels,
-                            strength,
-                            lambda,
-                            seed,
-                        },
-                    );
-                }
-                out.lines.insert(key.clone(), line_col(text, start).0);
-                out.pins.insert(
-                    key,
-                    Pin {
-                        fingerprint,
-                        factors: pin.factors,
-                        rows: pin.rows,
-                    },
-                );
-            }
-        }
-        Ok(out)
     }
 
     /// Reads the pins file of a crate: `None` when there is none.
@@ -378,89 +253,6 @@ impl PinsFile {
         self.origins.remove(key);
         self.pins.remove(key)
     }
-
-    /// The file's text in the layout documented above: deterministic, sorted, one row
-    /// per line.
-    pub fn to_toml(&self) -> String {
-        let mut out = String::new();
-        out.push_str(&format!(
-            "# Rows pinned by `{}`; `#[{}]` uses an entry's rows verbatim while\n\
-             # its fingerprint matches the spec in the source. Regenerate rather than edit.\n",
-            PIN_COMMAND,
-            kw::COVER
-        ));
-        // writing to a String cannot fail
-        let _ = writeln!(out, "format = {}", PINS_FORMAT);
-        for (key, pin) in &self.pins {
-            let _ = writeln!(out, "\n[pins.{}.{}]", quoted(&key.file), toml_key(&key.function));
-            let _ = writeln!(out, "fingerprint = \"{}\"", pin.fingerprint);
-            let names: Vec<String> = pin.factors.iter().map(|f| quoted(f)).collect();
-            let _ = writeln!(out, "factors = [{}]", names.join(", "));
-            if let Some(o) = self.origins.get(key) {
-                out.push_str("levels = [\n");
-                for labels in &o.levels {
-                    let labels: Vec<String> = labels.iter().map(|l| quoted(l)).collect();
-                    let _ = writeln!(out, "    [{}],", labels.join(", "));
-                }
-                out.push_str("]\n");
-                let _ = writeln!(out, "strength = {}", o.strength);
-                let _ = writeln!(out, "lambda = {}", o.lambda);
-                let _ = writeln!(out, "seed = \"{:016x}\"", o.seed);
-            }
-            out.push_str("rows = [\n");
-            for row in &pin.rows {
-                let cells: Vec<String> = row.iter().map(u8::to_string).collect();
-                let _ = writeln!(out, "    [{}],", cells.join(", "));
-            }
-            out.push_str("]\n");
-        }
-        out
-    }
-}
-
-/// A seed as the file writes it: 16 lowercase hex digits.
-fn parse_seed(s: &str) -> Result<u64, String> {
-    if s.len() == 16
-        && s.bytes()
-            .all(|b| b.is_ascii_digit() || (b'a'..=b'f').contains(&b))
-    {
-        u64::from_str_radix(s, 16).map_err(|e| format!("`{s}` is not a seed: {e}"))
-    } else {
-        Err(format!("`{s}` is not a seed (16 lowercase hex digits)"))
-    }
-}
-
-/// A TOML key: bare when TOML allows it, else a basic string.
-fn toml_key(k: &str) -> String {
-    if !k.is_empty()
-        && k.bytes()
-            .all(|b| b.is_ascii_alphanumeric() || b == b'_' || b == b'-')
-    {
-        k.to_string()
-    } else {
-        quoted(k)
-    }
-}
-
-/// A TOML basic string.
-fn quoted(s: &str) -> String {
-    let mut out = String::with_capacity(s.len() + 2);
-    out.push('"');
-    for c in s.chars() {
-        match c {
-            '"' => out.push_str("\\\""),
-            '\\' => out.push_str("\\\\"),
-            '\n' => out.push_str("\\n"),
-            '\t' => out.push_str("\\t"),
-            '\r' => out.push_str("\\r"),
-            c if c.is_control() => {
-                let _ = write!(out, "\\u{:04X}", c as u32);
-            }
-            c => out.push(c),
-        }
-    }
-    out.push('"');
-    out
 }
 
 #[cfg(test)]
