@@ -8,6 +8,19 @@
 //! let args = ["cargo-heddle", "heddle", "design", "3^4", "--lambda", "2"];
 //! let code: ExitCode = cargo_heddle::cli::run(args.map(Into::into)).unwrap_or(ExitCode::FAILURE);
 //! ```
+//!
+//! # Modules
+//! - [`cli`]: the grammar and the dispatch to one module per subcommand: [`design`],
+//!   [`pin`], [`check`], [`show`], [`test_cmd`] (`test`), [`report`];
+//! - reading the project: [`workspace`] (cargo metadata, packages, target directories),
+//!   [`sources`] (annotated functions found with the macro's own parser), [`pinfile`]
+//!   (loading and writing pins files), [`status`] (a function's rows against its pin),
+//!   [`carry`] (old pinned rows carried over to a changed spec);
+//! - judging runs: [`analysis`] (suspects, flaky interactions, λ advice) over the
+//!   tallies of `heddle-store`, laid out by the formats under [`report`];
+//! - shared by the subcommands: [`spec_args`] (factors on the command line), [`effort`]
+//!   (`--effort`, `--budget`), [`failure`] (the error type and exit codes), [`style`]
+//!   (terminal colours), [`say`] (printing that survives a closed pipe).
 
 #![warn(missing_docs)]
 

@@ -15,6 +15,10 @@
 //! 4. [`rows`] — the rows, from the [`pins`] file or the engine;
 //! 5. [`mod@expand`] — the generated code.
 //!
+//! Beside the passes: [`keywords`] (every word of the syntax), [`diag`] (compile errors
+//! from diagnostics), [`defaults`] (`[package.metadata.heddle]`), [`paths`] (a test file
+//! named as pins name it, and its cargo target), [`hash`] (the default seed).
+//!
 //! For the plugin: [`find::analyse_source`] finds and analyses every annotated function
 //! of a file, [`Defaults::load`] reads the crate's defaults, [`PinsFile`] reads and
 //! writes pins, [`paths::relative_to_root`] names a test file as pins do.
