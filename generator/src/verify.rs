@@ -151,20 +151,16 @@ pub fn verify(spec: &Spec, rows: &[Vec<u8>]) -> Result<Coverage, Violation> {
         impossible: 0,
         min_count: u64::MAX,
     };
-    let mut cols = Vec::with_capacity(t);
     let mut failure = None;
-    subsets(k, t, 0, &mut cols, &mut |cols| {
+    let mut walk = Walk::new(rows, &levels, t);
+    walk.each(0, 0, 1, &mut |cols, index| {
         if failure.is_some() {
             return;
         }
         let size: usize = cols.iter().map(|&c| levels[c]).product();
         let mut counts = vec![0u64; size];
-        for row in rows {
-            let mut idx = 0;
-            for &c in cols.iter().rev() {
-                idx = idx * levels[c] + row[c] as usize;
-            }
-            counts[idx] += 1;
+        for &i in index {
+            counts[i as usize] += 1;
         }
         for (idx, &n) in counts.iter().enumerate() {
             out.interactions += 1;
@@ -206,18 +202,51 @@ pub fn verify(spec: &Spec, rows: &[Vec<u8>]) -> Result<Coverage, Violation> {
     }
 }
 
-fn subsets(k: usize, t: usize, from: usize, cols: &mut Vec<usize>, f: &mut dyn FnMut(&[usize])) {
-    if cols.len() == t {
-        f(cols);
-        return;
-    }
-    for c in from..k {
-        if k - c < t - cols.len() {
-            break;
+/// Every t-set of columns in lexicographic order, with the mixed-radix index (first column
+/// least significant) each row shows on it. The rows are held by column, and the index of
+/// every prefix of the t-set is kept per row, so one more column costs one pass over the
+/// rows rather than t.
+struct Walk {
+    t: usize,
+    levels: Vec<usize>,
+    /// `columns[c][r]`: row r's level in column c.
+    columns: Vec<Vec<u8>>,
+    /// `prefix[d][r]`: row r's index on the first d columns of the current t-set.
+    prefix: Vec<Vec<u32>>,
+    cols: Vec<usize>,
+}
+
+impl Walk {
+    fn new(rows: &[Vec<u8>], levels: &[usize], t: usize) -> Self {
+        let columns = (0..levels.len())
+            .map(|c| rows.iter().map(|r| r[c]).collect())
+            .collect();
+        Walk {
+            t,
+            levels: levels.to_vec(),
+            columns,
+            prefix: vec![vec![0; rows.len()]; t + 1],
+            cols: Vec::with_capacity(t),
         }
-        cols.push(c);
-        subsets(k, t, c + 1, cols, f);
-        cols.pop();
+    }
+
+    /// Visits the t-sets whose first `depth` columns are chosen (the next one from
+    /// `from` on; `weight` is the product of the chosen columns' level counts).
+    fn each(&mut self, depth: usize, from: usize, weight: usize, f: &mut dyn FnMut(&[usize], &[u32])) {
+        if depth == self.t {
+            f(&self.cols, &self.prefix[depth]);
+            return;
+        }
+        let k = self.levels.len();
+        for c in from..=k - (self.t - depth) {
+            let (done, rest) = self.prefix.split_at_mut(depth + 1);
+            for ((next, &prev), &l) in rest[0].iter_mut().zip(&done[depth]).zip(&self.columns[c]) {
+                *next = prev + l as u32 * weight as u32;
+            }
+            self.cols.push(c);
+            self.each(depth + 1, c + 1, weight * self.levels[c], f);
+            self.cols.pop();
+        }
     }
 }
 
