@@ -74,6 +74,8 @@ const ABSENT: u32 = u32::MAX;
 pub struct Outcome {
     /// The smallest valid design found (the input when nothing better was found).
     pub rows: Vec<Row>,
+    /// Moves spent.
+    pub moves: u64,
 }
 
 struct Search<'a> {
@@ -313,7 +315,10 @@ pub fn tighten(
 ) -> Outcome {
     let floor = floor.max(fixed).max(1);
     if rows.len() <= floor || !fits(rows.len(), inc.sets()) {
-        return Outcome { rows: rows.to_vec() };
+        return Outcome {
+            rows: rows.to_vec(),
+            moves: 0,
+        };
     }
     let mut s = Search::new(inc, possible, lambda, rows, fixed);
     let mut best = rows.to_vec();
@@ -429,7 +434,7 @@ pub fn tighten(
         }
         step += 1;
     }
-    Outcome { rows: best }
+    Outcome { rows: best, moves }
 }
 
 /// Makes `row`, whose cells on `keep` are set as wanted, allowed by changing only its

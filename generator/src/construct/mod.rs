@@ -156,7 +156,7 @@ impl Source {
 
 /// The smallest construction that applies to these level counts at strength `t` and
 /// index `lambda`, if any (e.g. Bose 1938's OA(25; 2, 6, 5) for 5^6, see the tests).
-pub fn best(levels: &[usize], t: usize, lambda: u32) -> Option<Construction> {
+pub(crate) fn best(levels: &[usize], t: usize, lambda: u32) -> Option<Construction> {
     best_within(levels, t, lambda, row_limit(levels, t, lambda))
 }
 
@@ -240,7 +240,7 @@ fn assemble(
         let block = cand.source.build(levels, t);
         debug_assert_eq!(block.len(), cand.offer.rows);
         for _ in 0..n {
-            rows.extend(relabelled(&block, levels, copies));
+            rows.extend(relabelled(&block, levels, &vec![true; levels.len()], copies));
             copies += 1;
         }
         index += n as u64 * cand.offer.index as u64;
@@ -259,23 +259,29 @@ fn assemble(
 }
 
 /// Copy number `copy` of a block in a stack: the first as built, every further one with
-/// the levels of each column permuted (a different permutation per column and copy).
+/// the levels of each `free` column permuted (a different permutation per column and
+/// copy; a column an exclude mentions is not free, so that allowed rows stay allowed).
 ///
 /// A permutation of a column's levels maps a covering array to a covering array, so the
 /// stack covers just the same; but identical copies would make every pair of levels
 /// that shares a row in the block share all its λ rows, and then a failure could never
 /// be pinned on one of them — the reason λ ≥ 2 is asked for. Relabelled copies put
 /// each interaction beside different company in each copy.
-fn relabelled(block: &[Row], levels: &[usize], copy: u64) -> Vec<Row> {
+pub(crate) fn relabelled(block: &[Row], levels: &[usize], free: &[bool], copy: u64) -> Vec<Row> {
     if copy == 0 {
         return block.to_vec();
     }
     let mut rng = Rng::new(copy, stream::CONSTRUCT);
     let perms: Vec<Vec<u8>> = levels
         .iter()
-        .map(|&v| {
+        .zip(free)
+        .map(|(&v, &free)| {
             let mut p: Vec<u8> = (0..v as u8).collect();
+            // drawn for every column, so a column's permutation does not depend on others
             rng.shuffle(&mut p);
+            if !free {
+                p.sort_unstable();
+            }
             p
         })
         .collect();
