@@ -68,6 +68,12 @@ pub struct Stats {
     pub impossible: u64,
     /// Fraction of the demand (λ per possible interaction) met after each row.
     pub coverage_curve: Vec<f64>,
+    /// At λ ≥ 2 (where rows are asked to tell interactions apart), how many possible
+    /// interactions show in exactly the rows of another one, so that no outcome can tell
+    /// the two apart: a single linear array of index λ (Rao–Hamming, ovoid) is the
+    /// smallest design and aliases many, stacked relabelled copies few. `None` at λ = 1
+    /// or past the size where it is counted.
+    pub aliased: Option<u64>,
     /// Steps the budgeted methods spent (a deterministic measure of work, the same on
     /// every machine; a step costs some tens of nanoseconds in an unoptimised build).
     pub work: u64,
@@ -138,6 +144,11 @@ fn generate_within(spec: &Spec, effort: Effort, fast_work: u64) -> Result<Design
         interactions: layout.total() as u64,
         impossible,
         coverage_curve,
+        aliased: if spec.lambda >= 2 {
+            order::aliased(&layout, &possible, &rows)
+        } else {
+            None
+        },
         work: run.work,
         pin_advised: run.cut || run.work.saturating_add(passes) > PIN_WORK,
         engine_version: crate::ENGINE_VERSION,

@@ -71,6 +71,8 @@ enum Source {
     },
     /// Rao–Hamming over GF(q) of dimension m.
     RaoHamming { q: usize, m: u32 },
+    /// The ovoid of PG(3, q): strength 3, index q.
+    Ovoid { q: usize },
     /// Kleitman–Spencer / Katona.
     KleitmanSpencer,
     /// The strength-2 array of a Hadamard matrix.
@@ -103,6 +105,7 @@ impl Source {
                 )
             }
             Source::RaoHamming { q, m } => format!("rao-hamming(q={q},m={m})"),
+            Source::Ovoid { q } => format!("ovoid(q={q})"),
             Source::KleitmanSpencer => "kleitman-spencer".into(),
             Source::Hadamard(r) => format!("hadamard(n={},{})", r.order(), r.name()),
             Source::FoldOver(r) => format!("fold-over(n={},{})", r.order(), r.name()),
@@ -140,6 +143,11 @@ impl Source {
             Source::RaoHamming { q, m } => {
                 let field = gf::Field::new(*q).expect("rao-hamming over a supported prime power");
                 let cols = orthogonal::rao_hamming_columns(&field, *m as usize);
+                transform::collapse(&orthogonal::linear(&field, &cols[..k]), levels)
+            }
+            Source::Ovoid { q } => {
+                let field = gf::Field::new(*q).expect("ovoid over a supported prime power");
+                let cols = orthogonal::ovoid_columns(&field);
                 transform::collapse(&orthogonal::linear(&field, &cols[..k]), levels)
             }
             Source::KleitmanSpencer => transform::collapse(&binary::kleitman_spencer(k), levels),

@@ -309,20 +309,42 @@ fn johnson_entringer_k_equals_t_plus_2() {
 }
 
 #[test]
-fn rao_hamming_serves_index_one_only() {
+fn rao_hamming_at_index_one_and_at_its_own_index() {
     // Rao 1947: OA(q³; 2, q²+q+1, q) of index q. At λ = 1 it is a source of rows for
     // many columns, its q³ = 27 rows thinned by redundant-row removal (and the engine's
     // search takes it on from there)
     let c = checked(&[3; 13], 2, 1);
     assert!(c.method.starts_with("rao-hamming(q=3,m=3)"), "{}", c.method);
     assert!(c.rows.len() < 27, "{}", c.method);
-    // At λ ≥ 2 it is not offered: its rows for a pair form a coset shared with other
-    // pairs, so repetitions would not tell them apart (see construct/mod.rs)
-    for (levels, lambda) in [(vec![3; 13], 3), (vec![4; 21], 4)] {
-        if let Some(c) = best(&levels, 2, lambda) {
-            assert!(!c.method.contains("rao-hamming"), "{}", c.method);
-        }
+    // at λ = q it is the optimum λ·q² (the counting bound): OA(27; 2, 13, 3) and
+    // OA(64; 2, 21, 4), and twice that at λ = 2q
+    for (levels, lambda, n) in [
+        (vec![3; 13], 3, 27),
+        (vec![4; 20], 4, 64),
+        (vec![4; 21], 4, 64),
+        (vec![3; 13], 6, 54),
+    ] {
+        let c = checked(&levels, 2, lambda);
+        assert_eq!(c.rows.len(), n, "{levels:?} λ={lambda}: {}", c.method);
+        assert!(c.optimal);
+        assert_eq!(engine_rows(&levels, 2, lambda), n);
     }
+}
+
+#[test]
+fn ovoid_at_its_own_index() {
+    // an ovoid of PG(3, q) gives OA(q⁴; 3, q²+1, q) of index q (Bose 1947; Qvist 1952,
+    // from memory; the array is checked independently): the counting bound λ·q³ at λ = q
+    for (q, k) in [(3usize, 10usize), (3, 8), (4, 17), (5, 26)] {
+        let lambda = q as u32;
+        let c = checked(&vec![q; k], 3, lambda);
+        assert_eq!(c.rows.len(), q.pow(4), "q={q} k={k}: {}", c.method);
+        assert!(c.method.contains("ovoid"), "{}", c.method);
+        assert!(c.optimal);
+    }
+    assert_eq!(engine_rows(&[3; 10], 3, 3), 81);
+    // two relabelled copies at λ = 2q
+    assert_eq!(checked(&[3; 10], 3, 6).rows.len(), 162);
 }
 
 #[test]
