@@ -61,6 +61,14 @@ pub struct Completion {
 /// ```
 pub fn complete(spec: &Spec, partial: &[Row]) -> Result<Completion, Error> {
     spec.validate_problem()?;
+    let interactions = crate::interactions::count(&spec.levels(), spec.strength);
+    if interactions > crate::MAX_INTERACTIONS as u128 {
+        // a closed-form spec passes validation, but completing rows counts interactions
+        return Err(Error::TooLarge {
+            interactions,
+            limit: crate::MAX_INTERACTIONS,
+        });
+    }
     spec.validate_rows(partial, false)?;
     Ok(complete_valid(spec, partial, false))
 }

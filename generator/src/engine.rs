@@ -2,8 +2,10 @@
 //! smallest result, finish it, check it independently.
 //!
 //! Order of work: a construction at the counting bound ends the search at once; otherwise
-//! the greedy runs, a construction replaces it when no larger, and the local search of
-//! [`crate::tighten`] then tries to remove rows from what was kept — briefly in
+//! the greedy runs, a construction replaces it when no larger, and a local search (the
+//! tabu search of `tighten`, or past its table limit the annealing of `anneal`, whose
+//! memory does not grow with rows × t-sets) then tries to remove rows from what was kept
+//! — briefly in
 //! [`Effort::Fast`] ([`FAST_BUDGET`] moves), for the given budget in [`Effort::Tight`].
 //! At index λ ≥ 2 the design for λ = 1 is made too and stacked λ times (levels relabelled
 //! from copy to copy), so that the result is never larger than λ times the λ = 1 result.
@@ -14,6 +16,7 @@
 //! greedy builds fewer candidate rows, or is skipped where a construction exists and even
 //! its cheapest form would overrun, and [`Stats::pin_advised`] says so.
 
+use crate::anneal;
 use crate::bounds;
 use crate::complete::complete_valid;
 use crate::constraints::Constraints;
@@ -24,11 +27,12 @@ use crate::factor::{Row, UNSET};
 use crate::greedy;
 use crate::incidence::Incidence;
 use crate::interactions::Layout;
+use crate::limits::MAX_INTERACTIONS;
 use crate::model::{Effort, Spec};
 use crate::order;
 use crate::rng::{Rng, stream};
 use crate::tighten;
-use crate::verify::verify;
+use crate::verify::{Coverage, verify};
 use crate::work::{FAST_WORK, PIN_WORK, Work};
 
 /// Move budget of the local search in [`Effort::Fast`]: small enough that an ordinary spec
@@ -50,7 +54,7 @@ pub struct Design {
 #[derive(Clone, Debug, PartialEq)]
 pub struct Stats {
     /// The method whose result was kept: a construction (e.g. `bose(q=5)`), `greedy`, or
-    /// either followed by `+tabu` when the local search removed rows from it; `l×(…)` for
+    /// either followed by `+tabu` or `+anneal` when a local search removed rows from it; `l×(…)` for
     /// l stacked copies of the λ = 1 design.
     pub method: String,
     /// Every method that ran or was passed over, in order, with its outcome (e.g.
@@ -106,6 +110,9 @@ fn generate_within(spec: &Spec, effort: Effort, fast_work: u64) -> Result<Design
     spec.validate()?;
     let levels = spec.levels();
     let t = spec.strength;
+    if crate::interactions::count(&levels, t) > MAX_INTERACTIONS as u128 {
+        return closed_form(spec);
+    }
     let layout = Layout::new(&levels, t);
     let mut cons = Constraints::new(&spec.excludes, &levels);
     if !cons.any_allowed() {
@@ -130,8 +137,8 @@ fn generate_within(spec: &Spec, effort: Effort, fast_work: u64) -> Result<Design
     let mut run = Run::default();
     let (method, mut rows) = ctx.design(spec.lambda, &mut cons, &mut run);
     order::order_by_gain(&layout, &possible, spec.lambda, &mut rows, required.len());
-    verify(spec, &rows).map_err(|v| Error::Internal(format!("{method} produced an invalid design: {v}")))?;
-    let coverage_curve = order::coverage_curve(&layout, &possible, spec.lambda, &rows);
+    let checked = verify(spec, &rows)
+        .map_err(|v| Error::Internal(format!("{method} produced an invalid design: {v}")))?;
     // the finishing passes and the check each visit every t-set of every row
     let passes = (rows.len() as u64)
         .saturating_mul(layout.sets() as u64)
@@ -143,7 +150,7 @@ fn generate_within(spec: &Spec, effort: Effort, fast_work: u64) -> Result<Design
         expected_bound: bounds::expected_bound(&levels, t, spec.lambda),
         interactions: layout.total() as u64,
         impossible,
-        coverage_curve,
+        coverage_curve: curve(&checked, spec.lambda),
         aliased: if spec.lambda >= 2 {
             order::aliased(&layout, &possible, &rows)
         } else {
@@ -154,6 +161,55 @@ fn generate_within(spec: &Spec, effort: Effort, fast_work: u64) -> Result<Design
         engine_version: crate::ENGINE_VERSION,
     };
     Ok(Design { rows, stats })
+}
+
+/// A spec past [`MAX_INTERACTIONS`] that a construction answers in closed form (see
+/// `Spec::closed_form`): its rows as built, checked, without numbering the interactions.
+fn closed_form(spec: &Spec) -> Result<Design, Error> {
+    let levels = spec.levels();
+    let t = spec.strength;
+    let interactions = crate::interactions::count(&levels, t);
+    // validate let the spec through only with a closed form
+    let c = spec.closed_form().ok_or(Error::TooLarge {
+        interactions,
+        limit: MAX_INTERACTIONS,
+    })?;
+    let checked = verify(spec, &c.rows)
+        .map_err(|v| Error::Internal(format!("{} produced an invalid design: {v}", c.method)))?;
+    let tsets = crate::interactions::count(&vec![1; levels.len()], t);
+    let stats = Stats {
+        methods: vec![format!(
+            "construction {}: {} rows (past the interaction limit: no search)",
+            c.method,
+            c.rows.len()
+        )],
+        method: c.method,
+        lower_bound: bounds::lower_bound(&levels, t, spec.lambda) as u64,
+        expected_bound: bounds::expected_bound(&levels, t, spec.lambda),
+        interactions: interactions.min(u64::MAX as u128) as u64,
+        impossible: 0,
+        coverage_curve: curve(&checked, spec.lambda),
+        aliased: None,
+        work: 0,
+        pin_advised: tsets.saturating_mul(c.rows.len() as u128) * 2 > PIN_WORK as u128,
+        engine_version: crate::ENGINE_VERSION,
+    };
+    Ok(Design { rows: c.rows, stats })
+}
+
+/// The fraction of the demand (λ per possible interaction) met after each row, from
+/// what the checker counted.
+fn curve(checked: &Coverage, lambda: u32) -> Vec<f64> {
+    let total = (checked.interactions - checked.impossible) as f64 * lambda as f64;
+    let mut sum = 0u64;
+    checked
+        .met
+        .iter()
+        .map(|&m| {
+            sum += m;
+            if total == 0.0 { 1.0 } else { sum as f64 / total }
+        })
+        .collect()
 }
 
 /// What a spec's methods share: the numbering, what is possible, the required rows.
@@ -230,36 +286,50 @@ impl Context<'_> {
             Effort::Tight { budget } => budget,
         };
         let sets = self.layout.sets();
-        if budget == 0 || proven || (rows.len() as u128) <= lower {
-            // nothing to search for
-        } else if !tighten::fits(rows.len(), sets) {
-            run.note(format!(
-                "tabu: skipped, {} rows × {sets} t-sets is past its table limit",
-                rows.len()
-            ));
-        } else {
+        if budget > 0 && !proven && (rows.len() as u128) > lower {
             let inc = Incidence::new(self.layout);
             let mut rng = Rng::new(spec.seed, stream::TIGHTEN);
-            let out = tighten::tighten(
-                &inc,
-                self.possible,
-                lambda,
-                cons,
-                &rows,
-                self.required.len(),
-                lower as usize,
-                &mut rng,
-                tighten::Params::new(budget, t, levels.iter().copied().max().unwrap_or(1)),
-            );
+            let vmax = levels.iter().copied().max().unwrap_or(1);
+            // the tabu search caches every row's interaction on every t-set; past its
+            // table limit, annealing keeps one counter per interaction instead
+            let (name, out) = if tighten::fits(rows.len(), sets) {
+                let params = tighten::Params::new(budget, t, vmax);
+                let out = tighten::tighten(
+                    &inc,
+                    self.possible,
+                    lambda,
+                    cons,
+                    &rows,
+                    self.required.len(),
+                    lower as usize,
+                    &mut rng,
+                    params,
+                );
+                ("tabu", out)
+            } else {
+                let out = anneal::anneal(
+                    &inc,
+                    self.possible,
+                    lambda,
+                    cons,
+                    &rows,
+                    self.required.len(),
+                    lower as usize,
+                    &mut rng,
+                    anneal::Params::new(budget),
+                );
+                ("anneal", out)
+            };
             work.spend(out.moves.saturating_mul(tighten::MOVE_SETS));
             run.note(format!(
-                "tabu (λ = {lambda}): {} rows in {} moves",
+                "{name} (λ = {lambda}): {} rows in {} moves",
                 out.rows.len(),
                 out.moves
             ));
             if out.rows.len() < rows.len() {
                 rows = out.rows;
-                method.push_str("+tabu");
+                method.push('+');
+                method.push_str(name);
             }
         }
         run.absorb(&work);

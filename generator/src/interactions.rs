@@ -161,52 +161,6 @@ impl Layout {
         self.each_below(row, t, k, 0, &mut rank, &mut f);
     }
 
-    /// Calls `f(rank, shown)` for every t-set in rank order, `shown[r]` the index of the
-    /// interaction row r shows on it: a pass over all rows and t-sets that costs about
-    /// one step per row and t-set (the index of each prefix of the t-set is kept per row,
-    /// the rows held by column), for the passes that look at every t-set of a design.
-    pub fn for_each_set(&self, rows: &[Vec<u8>], mut f: impl FnMut(usize, &[u32])) {
-        let t = self.t;
-        let columns: Vec<Vec<u8>> = (0..self.columns())
-            .map(|c| rows.iter().map(|r| r[c]).collect())
-            .collect();
-        let mut prefix = vec![vec![0u32; rows.len()]; t + 1];
-        let mut rank = 0usize;
-        self.sets_below(&columns, &mut prefix, t, self.columns(), &mut rank, &mut f);
-    }
-
-    /// [`Self::for_each_set`] for the sets of `depth` more columns below `hi`, the
-    /// columns chosen so far accumulated in `prefix[t - depth]` (Horner's rule from the
-    /// highest column down, as in [`Self::each_below`]).
-    fn sets_below(
-        &self,
-        columns: &[Vec<u8>],
-        prefix: &mut [Vec<u32>],
-        depth: usize,
-        hi: usize,
-        rank: &mut usize,
-        f: &mut impl FnMut(usize, &[u32]),
-    ) {
-        let level = self.t - depth;
-        for c in depth - 1..hi {
-            let (done, rest) = prefix.split_at_mut(level + 1);
-            let v = self.levels[c] as u32;
-            if depth == 1 {
-                let off = self.offsets[*rank];
-                for ((next, &prev), &l) in rest[0].iter_mut().zip(&done[level]).zip(&columns[c]) {
-                    *next = off + prev * v + l as u32;
-                }
-                f(*rank, &rest[0]);
-                *rank += 1;
-            } else {
-                for ((next, &prev), &l) in rest[0].iter_mut().zip(&done[level]).zip(&columns[c]) {
-                    *next = prev * v + l as u32;
-                }
-                self.sets_below(columns, prefix, depth - 1, c, rank, f);
-            }
-        }
-    }
-
     /// The t-sets of `depth` more columns below `hi`, in colex order (highest column in
     /// the outer loop, so ranks follow one another), with the mixed-radix index of the
     /// columns chosen so far in `acc` by Horner's rule from the highest column down
@@ -340,32 +294,6 @@ mod tests {
             let mut got = Vec::new();
             lay.for_each_in_row(&row, |i| got.push(i));
             assert_eq!(got, want, "t = {t}");
-        }
-    }
-
-    #[test]
-    fn sets_show_what_rows_show() {
-        let levels = [2, 3, 4, 2, 5, 3];
-        let rows = vec![
-            vec![1u8, 2, 3, 0, 4, 1],
-            vec![0, 0, 1, 1, 2, 2],
-            vec![1, 1, 0, 0, 3, 0],
-        ];
-        for t in 1..=levels.len() {
-            let lay = Layout::new(&levels, t);
-            let mut seen = 0;
-            lay.for_each_set(&rows, |rank, shown| {
-                assert_eq!(rank, seen);
-                seen += 1;
-                for (r, &i) in shown.iter().enumerate() {
-                    assert_eq!(
-                        i as usize,
-                        lay.index(&lay.unrank(rank), &rows[r]),
-                        "t={t} rank={rank}"
-                    );
-                }
-            });
-            assert_eq!(seen, lay.sets());
         }
     }
 

@@ -34,6 +34,7 @@
 
 #![warn(missing_docs)]
 
+mod anneal;
 pub mod bounds;
 mod complete;
 mod constraints;

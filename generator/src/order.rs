@@ -1,6 +1,7 @@
 //! Finishing passes on a valid design: drop rows nothing depends on, then order the rows so
 //! that every prefix meets as much demand as possible (a run cut short has still covered
-//! the most it could), and the coverage curve that shows it.
+//! the most it could; the checker counts the coverage curve that shows it), and count the
+//! interactions that cannot be told apart.
 
 use std::cmp::Reverse;
 use std::collections::BinaryHeap;
@@ -104,39 +105,6 @@ pub const SHOWN_LIMIT: u64 = 1 << 24;
 
 /// Rows × t-sets up to which [`order_by_gain`] orders exactly.
 pub const EXACT_ORDER_LIMIT: u64 = 1 << 23;
-
-/// Fraction of the total demand (λ per possible interaction) met after each row: a row
-/// meets one unit for every possible interaction it is among the first λ rows to show.
-/// Counted one t-set at a time, so it needs no counter per interaction.
-pub fn coverage_curve(layout: &Layout, possible: &[bool], lambda: u32, rows: &[Vec<u8>]) -> Vec<f64> {
-    let total: u64 = possible.iter().filter(|&&p| p).count() as u64 * lambda as u64;
-    let widest = (0..layout.sets()).map(|r| layout.width(r)).max().unwrap_or(0);
-    let mut count = vec![0u32; widest];
-    let mut met = vec![0u64; rows.len()];
-    layout.for_each_set(rows, |rank, shown| {
-        let off = layout.offset(rank);
-        let count = &mut count[..layout.width(rank)];
-        count.fill(0);
-        for (m, &i) in met.iter_mut().zip(shown) {
-            let c = &mut count[i as usize - off];
-            if *c < lambda && possible[i as usize] {
-                *m += 1;
-            }
-            *c += 1;
-        }
-    });
-    let mut sum = 0u64;
-    met.iter()
-        .map(|&m| {
-            sum += m;
-            if total == 0 {
-                1.0
-            } else {
-                sum as f64 / total as f64
-            }
-        })
-        .collect()
-}
 
 /// Most interactions for which [`aliased`] is counted (8 bytes each).
 const MAX_ALIAS_INTERACTIONS: usize = 1 << 22;

@@ -440,7 +440,7 @@ pub fn tighten(
 /// Makes `row`, whose cells on `keep` are set as wanted, allowed by changing only its
 /// other constrained cells, each kept as it is when the row stays completable. False when
 /// no allowed row shows the kept cells.
-fn repair(
+pub(crate) fn repair(
     cons: &mut Constraints,
     inc: &Incidence,
     row: &mut [u8],
@@ -482,7 +482,7 @@ fn repair(
 /// `p^d` for the per-unit probability `p = per_65536 / 65536`, in integer arithmetic so
 /// every platform agrees. Index 0 is unused; worse changes than the table is long use its
 /// last entry.
-fn acceptance(per_65536: u32) -> [u32; 16] {
+pub(crate) fn acceptance(per_65536: u32) -> [u32; 16] {
     let mut table = [0u32; 16];
     let mut p: u64 = 1 << 32;
     for slot in table.iter_mut() {

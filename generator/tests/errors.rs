@@ -223,3 +223,32 @@ fn parse_errors_point_at_the_text() {
     assert!(e.message.contains("`3` is not a level of factor `f2`"));
     assert!(e.hint.contains("0, 1, 2"));
 }
+
+#[test]
+fn closed_form_specs_pass_the_interaction_limit() {
+    // 2^4096 at t = 2 has C(4096, 2)·4 = 33 546 240 interactions, past the limit, but
+    // Kleitman & Spencer (1973) and Katona (1973) answer it in closed form: the least N
+    // with C(N − 1, ⌈N/2⌉) ≥ 4096, N = 16 (C(15, 8) = 6435, C(14, 8) = 3003). (Issue 13
+    // quotes 14 rows, which is the size for k ≤ 1716.)
+    let spec = Spec::new(numbered(&[2; 4096]));
+    assert!(spec.validate().is_ok());
+    let d = generate(&spec, Effort::Fast).expect("closed form");
+    assert_eq!(d.rows.len(), 16);
+    assert_eq!(d.stats.interactions, 33_546_240);
+    assert!(d.stats.method.contains("kleitman-spencer"), "{}", d.stats.method);
+    assert_eq!(d.stats.coverage_curve.last().copied(), Some(1.0));
+    // with an exclude the engine would have to count interactions: refused as before
+    let f = numbered(&[2; 4096]);
+    let constrained = Spec::new(f.clone()).exclude(Expr::parse("f1 == 0 && f2 == 0", &f).expect("valid"));
+    assert!(matches!(constrained.validate(), Err(Error::TooLarge { .. })));
+    // and so is a wide spec no construction answers (3^3000 at t = 2)
+    assert!(matches!(
+        Spec::new(numbered(&[3; 3000])).validate(),
+        Err(Error::TooLarge { .. })
+    ));
+    // completing rows counts interactions too
+    assert!(matches!(
+        heddle_generator::complete(&spec, &[vec![0; 4096]]),
+        Err(Error::TooLarge { .. })
+    ));
+}
