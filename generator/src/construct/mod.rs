@@ -7,6 +7,7 @@
 //! (a knapsack over the index), and removes rows that the result covers more than needed.
 
 mod binary;
+mod cyclotomy;
 mod gf;
 mod hadamard;
 mod offers;

@@ -4,7 +4,7 @@
 
 use super::hadamard::{self, Recipe};
 use super::stack::Offer;
-use super::{MAX_WEIGHT_CLASS_COLUMNS, Source, best_within, binary, gf, orthogonal};
+use super::{MAX_WEIGHT_CLASS_COLUMNS, Source, best_within, binary, cyclotomy, gf, orthogonal};
 use crate::factor::Row;
 
 /// An offered construction: what it is, its index at the wanted strength, its rows, and
@@ -215,6 +215,12 @@ fn two_level(o: &mut Offers<'_>) {
     }
     if k == t + 2 && k <= MAX_WEIGHT_CLASS_COLUMNS {
         o.offer(Source::WeightMod3, 1, (1 << k) / 3, slack);
+    }
+    if t >= 3 {
+        for (name, rows, index) in cyclotomy::arrays(k, t, limit) {
+            let n = rows.len();
+            o.offer(Source::Rows(name, rows), index, n, slack);
+        }
     }
 }
 
