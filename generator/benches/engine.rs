@@ -9,7 +9,7 @@
 use std::process::ExitCode;
 use std::time::{Duration, Instant};
 
-use heddle_generator::{Design, Effort, Factor, Spec, generate};
+use heddle_generator::{Design, Effort, Spec, generate};
 
 /// One benchmark instance.
 struct Instance {
@@ -178,15 +178,7 @@ fn instances() -> Vec<Instance> {
 }
 
 fn spec_of(inst: &Instance) -> Spec {
-    Spec::new(
-        inst.levels
-            .iter()
-            .enumerate()
-            .map(|(i, &v)| Factor::numbered(format!("f{}", i + 1), v))
-            .collect(),
-    )
-    .strength(inst.t)
-    .lambda(inst.lambda)
+    Spec::numbered(&inst.levels).strength(inst.t).lambda(inst.lambda)
 }
 
 struct Run {
@@ -284,27 +276,22 @@ fn main() -> ExitCode {
             );
         }
         let spec = spec_of(inst);
-        let fast = if efforts != Efforts::Tight {
-            match run(&spec, Effort::Fast) {
-                Ok(r) => Some(r),
-                Err(e) => {
-                    println!("{:<40} error: {e}", inst.name);
-                    continue;
-                }
+        let attempt = |wanted: bool, effort: Effort| -> Result<Option<Run>, String> {
+            if wanted {
+                run(&spec, effort).map(Some)
+            } else {
+                Ok(None)
             }
-        } else {
-            None
         };
-        let tight = if efforts != Efforts::Fast {
-            match run(&spec, Effort::tight()) {
-                Ok(r) => Some(r),
-                Err(e) => {
-                    println!("{:<40} error: {e}", inst.name);
-                    continue;
-                }
+        let (fast, tight) = match (
+            attempt(efforts != Efforts::Tight, Effort::Fast),
+            attempt(efforts != Efforts::Fast, Effort::tight()),
+        ) {
+            (Ok(f), Ok(t)) => (f, t),
+            (Err(e), _) | (_, Err(e)) => {
+                println!("{:<40} error: {e}", inst.name);
+                continue;
             }
-        } else {
-            None
         };
         let any = fast.as_ref().or(tight.as_ref()).map(|r| &r.design);
         let (lower, expect) = any.map_or((0, 0), |d| (d.stats.lower_bound, d.stats.expected_bound));

@@ -6,15 +6,13 @@
 
 use std::time::Instant;
 
-use heddle_generator::{Effort, Factor, Spec, generate};
+use heddle_generator::{Effort, Spec, generate};
 
 fn spec(name: &str, levels: &[usize], t: usize, lambda: u32) -> (String, Spec) {
-    let factors = levels
-        .iter()
-        .enumerate()
-        .map(|(i, &v)| Factor::numbered(format!("f{}", i + 1), v))
-        .collect();
-    (name.to_string(), Spec::new(factors).strength(t).lambda(lambda))
+    (
+        name.to_string(),
+        Spec::numbered(levels).strength(t).lambda(lambda),
+    )
 }
 
 fn main() {

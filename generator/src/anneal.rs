@@ -20,7 +20,7 @@ use crate::constraints::Constraints;
 use crate::factor::{Row, UNSET};
 use crate::incidence::Incidence;
 use crate::rng::Rng;
-use crate::tighten::{MOVE_SETS, Outcome, acceptance, repair};
+use crate::tighten::{MOVE_SETS, Outcome, Problem, Shortfall, acceptance, repair, rows_of};
 
 /// Tuning of the annealing (chosen by hand on the benchmark's wide specs).
 #[derive(Clone, Copy, Debug)]
@@ -60,13 +60,10 @@ struct Anneal<'a> {
     cells: Vec<u8>,
     /// Times covered, per interaction (saturating).
     count: Vec<u16>,
-    /// Possible interactions covered fewer than λ times, and each one's position.
-    short: Vec<u32>,
-    pos: Vec<u32>,
+    /// Possible interactions covered fewer than λ times.
+    short: Shortfall,
     cost: u64,
 }
-
-const ABSENT: u32 = u32::MAX;
 
 impl<'a> Anneal<'a> {
     fn new(inc: &'a Incidence, possible: &'a [bool], lambda: u32, rows: &[Row], fixed: usize) -> Self {
@@ -80,15 +77,13 @@ impl<'a> Anneal<'a> {
             fixed,
             cells: Vec::with_capacity(rows.len() * k),
             count: vec![0; possible.len()],
-            short: Vec::new(),
-            pos: vec![ABSENT; possible.len()],
+            short: Shortfall::new(possible.len()),
             cost: 0,
         };
         for (i, &p) in possible.iter().enumerate() {
             if p {
                 a.cost += a.lambda as u64;
-                a.pos[i] = a.short.len() as u32;
-                a.short.push(i as u32);
+                a.short.add(i);
             }
         }
         for row in rows {
@@ -106,7 +101,7 @@ impl<'a> Anneal<'a> {
     }
 
     fn rows(&self) -> Vec<Row> {
-        (0..self.n).map(|r| self.row(r).to_vec()).collect()
+        rows_of(&self.cells, self.k)
     }
 
     /// One more row shows interaction i.
@@ -116,13 +111,7 @@ impl<'a> Anneal<'a> {
         if c < self.lambda && self.possible[i] {
             self.cost -= 1;
             if c + 1 == self.lambda {
-                let p = self.pos[i] as usize;
-                let last = self.short.pop().unwrap_or(i as u32);
-                if p < self.short.len() {
-                    self.short[p] = last;
-                    self.pos[last as usize] = p as u32;
-                }
-                self.pos[i] = ABSENT;
+                self.short.remove(i);
             }
         }
     }
@@ -134,8 +123,7 @@ impl<'a> Anneal<'a> {
         if c <= self.lambda && self.possible[i] {
             self.cost += 1;
             if c == self.lambda {
-                self.pos[i] = self.short.len() as u32;
-                self.short.push(i as u32);
+                self.short.add(i);
             }
         }
     }
@@ -193,28 +181,27 @@ impl<'a> Anneal<'a> {
     }
 }
 
-/// Searches for a smaller design than `rows` (valid, every row allowed), never below
-/// `floor` rows, never touching the first `fixed` rows. Deterministic for a given `rng`
-/// state and budget.
-#[allow(clippy::too_many_arguments)]
-pub fn anneal(
-    inc: &Incidence,
-    possible: &[bool],
-    lambda: u32,
+/// Searches for a smaller design than the problem's rows, as [`crate::tighten`] does.
+/// Deterministic for a given `rng` state and budget.
+pub(crate) fn anneal(
+    problem: &Problem<'_>,
     cons: &mut Constraints,
-    rows: &[Row],
-    fixed: usize,
-    floor: usize,
     rng: &mut Rng,
     params: Params,
 ) -> Outcome {
-    let floor = floor.max(fixed).max(1);
-    if rows.len() <= floor || lambda > u16::MAX as u32 - 1 {
-        return Outcome {
-            rows: rows.to_vec(),
-            moves: 0,
-        };
+    let floor = problem.floor();
+    // counters are 16 bits wide (λ ≤ MAX_LAMBDA keeps this from happening)
+    if problem.rows.len() <= floor || problem.lambda >= u16::MAX as u32 {
+        return problem.unchanged();
     }
+    let Problem {
+        inc,
+        possible,
+        lambda,
+        rows,
+        fixed,
+        ..
+    } = *problem;
     let mut s = Anneal::new(inc, possible, lambda, rows, fixed);
     let mut best = rows.to_vec();
     s.remove_cheapest(rng, params.removal_sample);
@@ -250,7 +237,7 @@ pub fn anneal(
             table = acceptance(p as u32);
             halvings = due;
         }
-        let target = s.short[rng.index(s.short.len())] as usize;
+        let target = s.short.draw(rng);
         inc.decode_into(target, &mut cols, &mut lv);
         let r = s.fixed + rng.index(s.n - s.fixed);
         scratch.copy_from_slice(s.row(r));
@@ -316,35 +303,21 @@ mod tests {
             .collect();
         let possible = vec![true; lay.total()];
         let mut cons = Constraints::new(&[], &levels);
-        let mut rng = Rng::new(1, 2);
-        let out = anneal(
-            &inc,
-            &possible,
-            1,
-            &mut cons,
-            &rows,
-            0,
-            9,
-            &mut rng,
-            Params::new(200_000),
-        );
+        let problem = Problem {
+            inc: &inc,
+            possible: &possible,
+            lambda: 1,
+            rows: &rows,
+            fixed: 0,
+            floor: 9,
+        };
+        let mut run = || anneal(&problem, &mut cons, &mut Rng::new(1, 2), Params::new(200_000));
+        let out = run();
         assert!(covers(&out.rows, &levels, 2, 1));
         assert!(out.rows.len() <= 12, "{} rows", out.rows.len());
         assert!(out.rows.len() >= 9);
         // deterministic
-        let mut rng = Rng::new(1, 2);
-        let again = anneal(
-            &inc,
-            &possible,
-            1,
-            &mut cons,
-            &rows,
-            0,
-            9,
-            &mut rng,
-            Params::new(200_000),
-        );
-        assert_eq!(again.rows, out.rows);
+        assert_eq!(run().rows, out.rows);
     }
 
     #[test]
@@ -364,13 +337,15 @@ mod tests {
         let first = rows[0].clone();
         let mut rng = Rng::new(3, 2);
         let out = anneal(
-            &inc,
-            &possible,
-            1,
+            &Problem {
+                inc: &inc,
+                possible: &possible,
+                lambda: 1,
+                rows: &rows,
+                fixed: 1,
+                floor: 4,
+            },
             &mut cons,
-            &rows,
-            1,
-            4,
             &mut rng,
             Params::new(100_000),
         );

@@ -143,16 +143,10 @@ fn column_gain(layout: &Layout, row: &[u8], c: usize, others: &[usize], need: &[
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::{Effort, Expr, Factor, generate, verify};
+    use crate::{Effort, Expr, generate, verify};
 
     fn spec(levels: &[usize]) -> Spec {
-        Spec::new(
-            levels
-                .iter()
-                .enumerate()
-                .map(|(i, &v)| Factor::numbered(format!("f{i}"), v))
-                .collect(),
-        )
+        Spec::numbered(levels)
     }
 
     /// The rule of the module doc, computed the slow way: every allowed complete row

@@ -292,33 +292,22 @@ impl Context<'_> {
             let vmax = levels.iter().copied().max().unwrap_or(1);
             // the tabu search caches every row's interaction on every t-set; past its
             // table limit, annealing keeps one counter per interaction instead
+            let problem = tighten::Problem {
+                inc: &inc,
+                possible: self.possible,
+                lambda,
+                rows: &rows,
+                fixed: self.required.len(),
+                floor: lower as usize,
+            };
             let (name, out) = if tighten::fits(rows.len(), sets) {
                 let params = tighten::Params::new(budget, t, vmax);
-                let out = tighten::tighten(
-                    &inc,
-                    self.possible,
-                    lambda,
-                    cons,
-                    &rows,
-                    self.required.len(),
-                    lower as usize,
-                    &mut rng,
-                    params,
-                );
-                ("tabu", out)
+                ("tabu", tighten::tighten(&problem, cons, &mut rng, params))
             } else {
-                let out = anneal::anneal(
-                    &inc,
-                    self.possible,
-                    lambda,
-                    cons,
-                    &rows,
-                    self.required.len(),
-                    lower as usize,
-                    &mut rng,
-                    anneal::Params::new(budget),
-                );
-                ("anneal", out)
+                (
+                    "anneal",
+                    anneal::anneal(&problem, cons, &mut rng, anneal::Params::new(budget)),
+                )
             };
             work.spend(out.moves.saturating_mul(tighten::MOVE_SETS));
             run.note(format!(
@@ -437,17 +426,10 @@ impl Context<'_> {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::{Expr, Factor};
+    use crate::Expr;
 
     fn spec(levels: &[usize], t: usize) -> Spec {
-        Spec::new(
-            levels
-                .iter()
-                .enumerate()
-                .map(|(i, &v)| Factor::numbered(format!("f{i}"), v))
-                .collect(),
-        )
-        .strength(t)
+        Spec::numbered(levels).strength(t)
     }
 
     #[test]

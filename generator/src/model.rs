@@ -57,6 +57,25 @@ impl Spec {
         }
     }
 
+    /// A spec of factors `f1`, `f2`, … with these level counts, levels labelled `0`, `1`,
+    /// … (the `V^N` form of tables and benchmarks).
+    ///
+    /// ```
+    /// use heddle_generator::Spec;
+    /// let spec = Spec::numbered(&[3, 3, 2]);
+    /// assert_eq!(spec.factors[2].name, "f3");
+    /// assert_eq!(spec.levels(), [3, 3, 2]);
+    /// ```
+    pub fn numbered(levels: &[usize]) -> Self {
+        Spec::new(
+            levels
+                .iter()
+                .enumerate()
+                .map(|(i, &v)| Factor::numbered(format!("f{}", i + 1), v))
+                .collect(),
+        )
+    }
+
     /// Sets the strength.
     pub fn strength(mut self, t: usize) -> Self {
         self.strength = t;

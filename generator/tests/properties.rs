@@ -214,11 +214,7 @@ proptest! {
 
 #[test]
 fn stacking_bounds_the_binary_strength_four_case_of_issue_13() {
-    let spec = |lambda| {
-        Spec::new((1..=10).map(|i| Factor::numbered(format!("f{i}"), 2)).collect())
-            .strength(4)
-            .lambda(lambda)
-    };
+    let spec = |lambda| Spec::numbered(&[2; 10]).strength(4).lambda(lambda);
     let one = generate(&spec(1), Effort::Fast).expect("valid").rows.len();
     for lambda in 2..=3 {
         let d = generate(&spec(lambda), Effort::Fast).expect("valid");

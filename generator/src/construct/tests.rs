@@ -3,15 +3,10 @@
 //! the source is named beside each check.
 
 use super::{Construction, best};
-use crate::{Effort, Factor, Spec, generate, verify};
+use crate::{Effort, Spec, generate, verify};
 
 fn spec(levels: &[usize], t: usize, lambda: u32) -> Spec {
-    let factors = levels
-        .iter()
-        .enumerate()
-        .map(|(i, &v)| Factor::numbered(format!("f{}", i + 1), v))
-        .collect();
-    Spec::new(factors).strength(t).lambda(lambda)
+    Spec::numbered(levels).strength(t).lambda(lambda)
 }
 
 /// The construction for these parameters, after the independent checker accepted it.
