@@ -40,6 +40,9 @@ use crate::work::{FAST_WORK, PIN_WORK, Work};
 /// enough to take a greedy result most of the way to what the search reaches at all.
 pub const FAST_BUDGET: u64 = 40_000;
 
+/// Rows × t-sets past which a design the fast bound cut keeps its method's order.
+const UNORDERED_CELLS: u64 = 1 << 20;
+
 /// A generated design and what is known about it.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Design {
@@ -136,7 +139,16 @@ fn generate_within(spec: &Spec, effort: Effort, fast_work: u64) -> Result<Design
     };
     let mut run = Run::default();
     let (method, mut rows) = ctx.design(spec.lambda, &mut cons, &mut run);
-    order::order_by_gain(&layout, &possible, spec.lambda, &mut rows, required.len());
+    // ordering visits every row and t-set several times: where the fast bound already
+    // cut a method, a large design keeps the order its method gave
+    let cells = (rows.len() as u64).saturating_mul(layout.sets() as u64);
+    if run.cut && cells > UNORDERED_CELLS {
+        run.note(format!(
+            "order by gain: skipped, {cells} row × t-set cells after the fast bound bit"
+        ));
+    } else {
+        order::order_by_gain(&layout, &possible, spec.lambda, &mut rows, required.len());
+    }
     let checked = verify(spec, &rows)
         .map_err(|v| Error::Internal(format!("{method} produced an invalid design: {v}")))?;
     // the finishing passes and the check each visit every t-set of every row
@@ -286,7 +298,18 @@ impl Context<'_> {
             Effort::Tight { budget } => budget,
         };
         let sets = self.layout.sets();
-        if budget > 0 && !proven && (rows.len() as u128) > lower {
+        // setting a search up visits every row and t-set: in the fast mode that is paid
+        // from the bound like the rest
+        let setup = (rows.len() as u64).saturating_mul(sets as u64);
+        let fast_bound_out = !work.unbounded() && setup > work.left();
+        if budget > 0 && !proven && (rows.len() as u128) > lower && fast_bound_out {
+            work.cut = true;
+            run.note(format!(
+                "search: skipped, setting it up costs about {setup} steps against a fast bound of {}",
+                work.left()
+            ));
+        } else if budget > 0 && !proven && (rows.len() as u128) > lower {
+            work.spend(setup);
             let inc = Incidence::new(self.layout);
             let mut rng = Rng::new(spec.seed, stream::TIGHTEN);
             let vmax = levels.iter().copied().max().unwrap_or(1);
@@ -343,19 +366,32 @@ impl Context<'_> {
         let lower = bounds::lower_bound(levels, layout.t, lambda);
         let expected_rows =
             (bounds::expected_bound(levels, layout.t, lambda) / 3).max(lower.min(u64::MAX as u128) as u64);
-        // its cheapest form: one candidate per row scored on a sample, and the covering
+        // its cheapest form: one candidate per row scored on a sample, and the covering;
+        // its plain form: one candidate per row scored in full
         let per_row = greedy::sampled_steps(layout).saturating_add(layout.sets() as u64);
         let cheapest = expected_rows.saturating_mul(per_row);
-        if let Some(c) = construction
-            .as_ref()
-            .filter(|_| !work.unbounded() && cheapest > work.left())
-        {
-            work.cut = true;
-            run.note(format!(
-                "greedy: skipped, about {cheapest} steps against a fast bound of {}",
-                work.left()
-            ));
-            return (c.method.clone(), c.rows.clone());
+        let plain = expected_rows
+            .saturating_mul(greedy::candidate_steps(layout).saturating_add(layout.sets() as u64));
+        if let Some(c) = construction.as_ref().filter(|_| !work.unbounded()) {
+            // the construction stands in where the greedy cannot run within the bound at
+            // all, or would be cut short and is not expected to be smaller anyway
+            let why = if cheapest > work.left() {
+                Some(format!("about {cheapest} steps"))
+            } else if plain > work.left() && c.rows.len() as u64 <= expected_rows {
+                Some(format!(
+                    "it would be cut short (about {plain} steps) and the construction is within its expected {expected_rows} rows"
+                ))
+            } else {
+                None
+            };
+            if let Some(why) = why {
+                work.cut = true;
+                run.note(format!(
+                    "greedy: skipped, {why}, against a fast bound of {}",
+                    work.left()
+                ));
+                return (c.method.clone(), c.rows.clone());
+            }
         }
         let mut demand = Demand::new(self.possible, lambda);
         for row in self.required {
@@ -363,15 +399,19 @@ impl Context<'_> {
         }
         let mut rng = Rng::new(spec.seed, stream::GREEDY);
         let mut rows = self.required.to_vec();
+        // the greedy gets three quarters of what is left: the search after it needs the
+        // rest to set up and to move
+        let mut share = work.share(3, 4);
         rows.extend(greedy::extend(
             layout,
             &mut demand,
             cons,
             &mut rng,
             greedy::Params::for_layout(layout),
-            work,
+            &mut share,
             expected_rows,
         ));
+        work.absorb(&share);
         if !work.cut {
             // (two passes over every row and t-set: left out when the fast bound bit,
             // where greedy rows are seldom redundant — each met some demand when made)

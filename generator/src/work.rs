@@ -55,4 +55,20 @@ impl Work {
     pub fn left(&self) -> u64 {
         self.limit.saturating_sub(self.spent)
     }
+
+    /// A budget of `num/den` of the steps left (unbounded stays unbounded), for one
+    /// method; [`Work::absorb`] adds what it spent back.
+    pub fn share(&self, num: u64, den: u64) -> Work {
+        Work::new(if self.unbounded() {
+            u64::MAX
+        } else {
+            (self.left() as u128 * num as u128 / den.max(1) as u128) as u64
+        })
+    }
+
+    /// Counts what a share spent, and whether it was cut.
+    pub fn absorb(&mut self, share: &Work) {
+        self.spend(share.spent);
+        self.cut |= share.cut;
+    }
 }

@@ -38,48 +38,68 @@ pub fn circulant(p: usize, diagonal: u8) -> Vec<Row> {
 /// The fewest times any level combination shows on any t of the first k columns of a
 /// binary array (0 as soon as one is missing), counted on bit masks of the rows; `None`
 /// when counting would take more than [`MAX_COUNT_STEPS`].
+#[allow(clippy::needless_range_loop)] // index loops on purpose, see below
 pub fn binary_index(rows: &[Row], k: usize, t: usize) -> Option<u32> {
     let n = rows.len();
     let words = n.div_ceil(64).max(1);
     let tsets = (0..t as u128).fold(1u128, |c, i| c * (k as u128 - i) / (i + 1));
-    if k < t || tsets * (1u128 << t) * words as u128 > MAX_COUNT_STEPS {
+    if t == 0 || k < t || tsets * (1u128 << t) * words as u128 > MAX_COUNT_STEPS {
         return None;
     }
-    // masks[c][l]: the rows showing level l in column c
-    let masks: Vec<[Vec<u64>; 2]> = (0..k)
-        .map(|c| {
-            let mut m = [vec![0u64; words], vec![0u64; words]];
-            for (r, row) in rows.iter().enumerate() {
-                m[usize::from(row[c] & 1)][r / 64] |= 1 << (r % 64);
-            }
-            m
-        })
-        .collect();
-    let mut all = vec![u64::MAX; words];
-    if !n.is_multiple_of(64) {
-        all[words - 1] = (1u64 << (n % 64)) - 1;
+    // masks[(c·2 + l)·words ..]: the rows showing level l in column c
+    let mut masks = vec![0u64; k * 2 * words];
+    for (r, row) in rows.iter().enumerate() {
+        for c in 0..k {
+            masks[(c * 2 + usize::from(row[c] & 1)) * words + r / 64] |= 1 << (r % 64);
+        }
+    }
+    // prefix[d]: the rows of each pattern on the first d columns of the current t-set
+    let mut prefix: Vec<Vec<u64>> = (0..=t).map(|d| vec![0u64; (1 << d) * words]).collect();
+    for w in 0..words {
+        prefix[0][w] = if (w + 1) * 64 <= n {
+            u64::MAX
+        } else {
+            (1u64 << (n % 64)) - 1
+        };
     }
     let mut min = u32::MAX;
     let mut cols: Vec<usize> = (0..t).collect();
-    let mut acc = vec![0u64; words];
+    // the prefix levels still valid for `cols` (0: none)
+    let mut valid = 0;
     loop {
-        for pattern in 0..1usize << t {
-            acc.copy_from_slice(&all);
-            for (j, &c) in cols.iter().enumerate() {
-                let m = &masks[c][pattern >> j & 1];
-                for (a, &x) in acc.iter_mut().zip(m) {
-                    *a &= x;
+        // extend the prefixes from the first column that changed (plain index loops:
+        // this runs in unoptimised builds, where iterator adapters are calls)
+        for d in valid..t {
+            let (done, rest) = prefix.split_at_mut(d + 1);
+            let (prev, next) = (&done[d], &mut rest[0]);
+            let c = cols[d];
+            for pattern in 0..1usize << d {
+                for l in 0..2 {
+                    let mask = (c * 2 + l) * words;
+                    let at = (pattern | l << d) * words;
+                    for w in 0..words {
+                        next[at + w] = prev[pattern * words + w] & masks[mask + w];
+                    }
                 }
             }
-            let count: u32 = acc.iter().map(|x| x.count_ones()).sum();
+        }
+        let last = &prefix[t];
+        for pattern in 0..1usize << t {
+            let mut count = 0;
+            for w in 0..words {
+                count += last[pattern * words + w].count_ones();
+            }
             if count == 0 {
                 return Some(0);
             }
             min = min.min(count);
         }
+        // the next t-set; the prefixes before the first changed position stay valid
+        let before = cols.clone();
         if !crate::interactions::next_lex(&mut cols, k) {
             return Some(min);
         }
+        valid = (0..t).find(|&i| cols[i] != before[i]).unwrap_or(t);
     }
 }
 
