@@ -75,6 +75,85 @@ fn instances() -> Vec<Instance> {
             reference: Some((n, table.into())),
         });
     }
+    for k in [4u64, 10, 16, 35, 126, 462, 1000] {
+        out.push(Instance {
+            group: "exact",
+            name: format!("2^{k} t=2"),
+            levels: uniform(2, k as usize),
+            t: 2,
+            lambda: 1,
+            reference: Some((can2_binary(k), "Kleitman & Spencer 1973; Katona 1973".into())),
+        });
+    }
+    for q in [3usize, 4, 5, 7, 8, 9] {
+        out.push(Instance {
+            group: "exact",
+            name: format!("{q}^{} t=2", q + 1),
+            levels: uniform(q, q + 1),
+            t: 2,
+            lambda: 1,
+            reference: Some(((q * q) as u64, "Bose 1938, OA(q^2; 2, q+1, q)".into())),
+        });
+    }
+    for q in [3usize, 4, 5] {
+        out.push(Instance {
+            group: "exact",
+            name: format!("{q}^{} t=3", q + 1),
+            levels: uniform(q, q + 1),
+            t: 3,
+            lambda: 1,
+            reference: Some(((q * q * q) as u64, "Bush 1952, OA(q^3; 3, q+1, q)".into())),
+        });
+    }
+    for lambda in 1u32..=6 {
+        let k = 4 * lambda as usize - 1;
+        out.push(Instance {
+            group: "exact",
+            name: format!("2^{k} t=2 l={lambda}"),
+            levels: uniform(2, k),
+            t: 2,
+            lambda,
+            reference: Some((
+                4 * lambda as u64,
+                "Hadamard matrix of order 4l (Sylvester; Paley 1933)".into(),
+            )),
+        });
+    }
+    for (t, v, lambda) in [(2usize, 3usize, 2u32), (2, 5, 3), (3, 2, 3), (3, 3, 2), (4, 2, 2)] {
+        out.push(Instance {
+            group: "exact",
+            name: format!("{v}^{} t={t} l={lambda}", t + 1),
+            levels: uniform(v, t + 1),
+            t,
+            lambda,
+            reference: Some((
+                lambda as u64 * (v as u64).pow(t as u32),
+                "zero-sum OA, lambda copies: CAN_l(t, t+1, v) = l v^t".into(),
+            )),
+        });
+    }
+    for t in 2usize..=6 {
+        out.push(Instance {
+            group: "exact",
+            name: format!("2^{} t={t}", t + 2),
+            levels: uniform(2, t + 2),
+            t,
+            lambda: 1,
+            reference: Some(((1u64 << (t + 2)) / 3, "Johnson & Entringer 1989".into())),
+        });
+    }
+    for (v, k) in [(3usize, 13usize), (2, 11), (4, 10)] {
+        for lambda in [1u32, 2, 3, 5, 10] {
+            out.push(Instance {
+                group: "lambda",
+                name: format!("{v}^{k} t=2 l={lambda}"),
+                levels: uniform(v, k),
+                t: 2,
+                lambda,
+                reference: None,
+            });
+        }
+    }
     // ovoids of PG(3, q): OA(q^4; 3, q^2 + 1, q) of index q, the counting bound at λ = q
     // (issue 13 quotes OA(q^3; 3, q^2 + 1, q), but an index-1 array of strength 3 has at
     // most q + 2 columns by Bush's bound, Bush 1952; the ovoid's index is q)
