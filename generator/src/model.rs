@@ -299,10 +299,13 @@ impl Spec {
 /// How hard the engine works.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum Effort {
-    /// Constructions, greedy and redundant-row removal: what builds use.
+    /// What builds use: constructions, the greedy and a brief local search, held to a
+    /// bound on work (a count of steps, not time) that keeps any spec within seconds in an
+    /// unoptimised build; [`crate::Stats::pin_advised`] says when the bound bit.
     Fast,
-    /// Everything in `Fast`, then local search that tries to remove rows, for at most
-    /// `budget` moves (deterministic for a given seed and budget).
+    /// Constructions, the greedy with all its candidates, then a local search that tries
+    /// to remove rows for at most `budget` moves (deterministic for a given seed and
+    /// budget).
     Tight {
         /// Move budget of the local search.
         budget: u64,
