@@ -61,6 +61,14 @@ pub struct Completion {
 /// ```
 pub fn complete(spec: &Spec, partial: &[Row]) -> Result<Completion, Error> {
     spec.validate_problem()?;
+    let interactions = crate::interactions::count(&spec.levels(), spec.strength);
+    if interactions > crate::MAX_INTERACTIONS as u128 {
+        // a closed-form spec passes validation, but completing rows counts interactions
+        return Err(Error::TooLarge {
+            interactions,
+            limit: crate::MAX_INTERACTIONS,
+        });
+    }
     spec.validate_rows(partial, false)?;
     Ok(complete_valid(spec, partial, false))
 }
@@ -135,16 +143,10 @@ fn column_gain(layout: &Layout, row: &[u8], c: usize, others: &[usize], need: &[
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::{Effort, Expr, Factor, generate, verify};
+    use crate::{Effort, Expr, generate, verify};
 
     fn spec(levels: &[usize]) -> Spec {
-        Spec::new(
-            levels
-                .iter()
-                .enumerate()
-                .map(|(i, &v)| Factor::numbered(format!("f{i}"), v))
-                .collect(),
-        )
+        Spec::numbered(levels)
     }
 
     /// The rule of the module doc, computed the slow way: every allowed complete row

@@ -18,6 +18,7 @@ use crate::demand::Demand;
 use crate::factor::{Row, UNSET};
 use crate::interactions::{Layout, next_lex};
 use crate::rng::Rng;
+use crate::work::Work;
 
 /// Tuning of the greedy.
 #[derive(Clone, Copy, Debug)]
@@ -186,6 +187,10 @@ struct Builder<'a> {
     met: Vec<u64>,
     look: Vec<u64>,
     pick: Vec<usize>,
+    /// Level choices scored since the last look (see [`Work`]).
+    steps: u64,
+    /// Most fixed factors (t = 2) or subsets of them (t ≥ 3) scored per level choice.
+    sample: usize,
 }
 
 impl<'a> Builder<'a> {
@@ -207,11 +212,17 @@ impl<'a> Builder<'a> {
             met: vec![0; vmax],
             look: vec![0; vmax],
             pick: Vec::with_capacity(t),
+            steps: 0,
+            sample: usize::MAX,
         }
     }
 
     /// The t = 2 case of [`Self::score_completed`], plus the look-ahead over the open
-    /// factors when `marg` is given (weight `alpha` sixteenths).
+    /// factors when `marg` is given (weight `alpha` sixteenths). With more fixed factors
+    /// than `self.sample`, only that many, evenly spaced from a random start, are scored
+    /// and the sums scaled up to all of them (an estimate that keeps the work per row
+    /// bounded on very wide specs).
+    #[allow(clippy::too_many_arguments)]
     fn score_pairs(
         &mut self,
         need: &[u16],
@@ -220,14 +231,20 @@ impl<'a> Builder<'a> {
         f: usize,
         marg: Option<&Marginals>,
         alpha: u64,
+        rng: &mut Rng,
     ) {
         let lv = &self.layout.levels;
         let v = lv[f];
+        let n = fixed.len();
+        let taken = n.min(self.sample);
+        let start = if taken < n { rng.index(n) } else { 0 };
+        self.steps += (taken * v) as u64;
         let score = &mut self.score[..v];
         let met = &mut self.met[..v];
         let look = &mut self.look[..v];
         look.fill(0);
-        for &g in fixed {
+        for i in 0..taken {
+            let g = fixed[(start + i * n / taken) % n];
             let (rank, base, wf) = if g < f {
                 (g + f * (f - 1) / 2, row[g] as usize, lv[g])
             } else {
@@ -252,6 +269,14 @@ impl<'a> Builder<'a> {
                 }
             }
         }
+        // sampled sums stand for all n fixed factors
+        let up = |x: u64| {
+            if taken < n {
+                x * n as u64 / taken.max(1) as u64
+            } else {
+                x
+            }
+        };
         match marg {
             Some(m) => {
                 for ((s, &x), &tot) in score
@@ -259,12 +284,12 @@ impl<'a> Builder<'a> {
                     .zip(look.iter())
                     .zip(&m.tot[f * m.vmax..f * m.vmax + v])
                 {
-                    *s = *s * SCALE + alpha * (tot - x) / 16;
+                    *s = up(*s * SCALE) + alpha * tot.saturating_sub(up(x)) / 16;
                 }
             }
             None => {
                 for s in score.iter_mut() {
-                    *s *= SCALE;
+                    *s = up(*s * SCALE);
                 }
             }
         }
@@ -272,65 +297,107 @@ impl<'a> Builder<'a> {
 
     /// Adds, for every level of `f`, the remaining demand of the interactions that `f`
     /// completes with the `t - 1`-subsets of `fixed` (sorted) on `row`. `met` gets the
-    /// number of those interactions that still need a row.
-    fn score_completed(&mut self, need: &[u16], row: &[u8], fixed: &[usize], f: usize) {
-        let t = self.t;
-        let v = self.layout.levels[f];
-        let j = t - 1;
-        if fixed.len() < j {
+    /// number of those interactions that still need a row. With more subsets than
+    /// `self.sample`, that many are drawn at random instead (see [`Self::score_pairs`];
+    /// the levels of `f` are compared on the same draws, which is all the choice needs).
+    fn score_completed(&mut self, need: &[u16], row: &[u8], fixed: &[usize], f: usize, rng: &mut Rng) {
+        let j = self.t - 1;
+        let n = fixed.len();
+        if n < j {
             return;
         }
+        let mut pick = std::mem::take(&mut self.pick);
+        pick.clear();
+        if (self.sample as u64) < self.binom_of(n, j) {
+            for _ in 0..self.sample {
+                // j distinct positions out of n, sorted (j < 8, n > j: few redraws)
+                pick.clear();
+                while pick.len() < j {
+                    let p = rng.index(n);
+                    if let Err(at) = pick.binary_search(&p) {
+                        pick.insert(at, p);
+                    }
+                }
+                self.score_subset(need, row, fixed, f, &pick);
+            }
+        } else {
+            pick.extend(0..j);
+            loop {
+                self.score_subset(need, row, fixed, f, &pick);
+                if !next_lex(&mut pick, n) {
+                    break;
+                }
+            }
+        }
+        self.pick = pick;
+    }
+
+    /// C(n, j), saturating.
+    fn binom_of(&self, n: usize, j: usize) -> u64 {
+        let mut c: u64 = 1;
+        for i in 0..j as u64 {
+            c = c.saturating_mul(n as u64 - i) / (i + 1);
+        }
+        c
+    }
+
+    /// Adds the demand of the t-set `pick ∪ {f}` (positions into `fixed`) for every level
+    /// of `f`.
+    fn score_subset(&mut self, need: &[u16], row: &[u8], fixed: &[usize], f: usize, pick: &[usize]) {
+        let t = self.t;
+        let v = self.layout.levels[f];
         let tb = t + 1;
         let levels = &self.layout.levels;
-        self.pick.clear();
-        self.pick.extend(0..j);
-        loop {
-            // rank and mixed-radix base of the t-set pick ∪ {f}
-            let mut rank = 0usize;
-            let mut base = 0usize;
-            let mut w = 1usize;
-            let mut wf = 0usize;
-            let mut pos = 0usize;
-            let mut placed = false;
-            for &p in &self.pick {
-                let s = fixed[p];
-                if !placed && s > f {
-                    rank += self.binom[f * tb + pos + 1] as usize;
-                    wf = w;
-                    w *= v;
-                    pos += 1;
-                    placed = true;
-                }
-                rank += self.binom[s * tb + pos + 1] as usize;
-                base += row[s] as usize * w;
-                w *= levels[s];
-                pos += 1;
-            }
-            if !placed {
+        // rank and mixed-radix base of the t-set pick ∪ {f}
+        let mut rank = 0usize;
+        let mut base = 0usize;
+        let mut w = 1usize;
+        let mut wf = 0usize;
+        let mut pos = 0usize;
+        let mut placed = false;
+        for &p in pick {
+            let s = fixed[p];
+            if !placed && s > f {
                 rank += self.binom[f * tb + pos + 1] as usize;
                 wf = w;
+                w *= v;
+                pos += 1;
+                placed = true;
             }
-            let off = self.layout.offset(rank) + base;
-            for l in 0..v {
-                let n = need[off + l * wf];
-                self.score[l] += n as u64;
-                self.met[l] += (n > 0) as u64;
-            }
-            if !next_lex(&mut self.pick, fixed.len()) {
-                return;
-            }
+            rank += self.binom[s * tb + pos + 1] as usize;
+            base += row[s] as usize * w;
+            w *= levels[s];
+            pos += 1;
+        }
+        if !placed {
+            rank += self.binom[f * tb + pos + 1] as usize;
+            wf = w;
+        }
+        let off = self.layout.offset(rank) + base;
+        self.steps += v as u64;
+        for l in 0..v {
+            let n = need[off + l * wf];
+            self.score[l] += n as u64;
+            self.met[l] += (n > 0) as u64;
         }
     }
 }
 
 /// Rows that, added after those already counted in `demand`, bring every demand to zero.
 /// Every row is allowed by `cons`.
+///
+/// The number of candidate rows per emitted row follows the `work` left: each row may
+/// spend the steps left divided by the rows still expected (`expected_rows` in all, an
+/// estimate), between one candidate and `params.candidates`; with an unbounded budget it
+/// is always `params.candidates`.
 pub fn extend(
     layout: &Layout,
     demand: &mut Demand,
     cons: &mut Constraints,
     rng: &mut Rng,
     params: Params,
+    work: &mut Work,
+    expected_rows: u64,
 ) -> Vec<Row> {
     let mut rows = Vec::new();
     let mut pool = Pool::new(demand);
@@ -342,10 +409,37 @@ pub fn extend(
     } else {
         None
     };
+    let per_candidate = candidate_steps(layout);
+    // steps of one scored fixed factor or subset across a whole candidate row
+    let per_subset = (layout.columns() as u64)
+        .saturating_mul(mean_levels(layout))
+        .max(1);
     let mut fixed: Vec<usize> = Vec::with_capacity(k);
     while demand.remaining > 0 {
+        let candidates = if work.unbounded() {
+            params.candidates.max(1)
+        } else {
+            // never fewer than an eighth of the estimate still to come: past the estimate
+            // the budget left is shared out more thinly rather than spent on one row
+            let still = expected_rows
+                .saturating_sub(rows.len() as u64)
+                .max(expected_rows / 8)
+                .max(1);
+            let allow = work.left() / still;
+            if allow >= per_candidate {
+                b.sample = usize::MAX;
+                let n = (allow / per_candidate).min(params.candidates.max(1) as u64) as usize;
+                work.cut |= n < params.candidates;
+                n
+            } else {
+                // one candidate, scored on a sample of the t-sets it completes
+                work.cut = true;
+                b.sample = (allow / per_subset).max(MIN_SAMPLE) as usize;
+                1
+            }
+        };
         let mut best: Option<(u64, Row)> = None;
-        for _ in 0..params.candidates.max(1) {
+        for _ in 0..candidates {
             let Some(start) = pool.pick(demand, rng) else {
                 break;
             };
@@ -371,9 +465,17 @@ pub fn extend(
                 b.score[..v].fill(0);
                 b.met[..v].fill(0);
                 if layout.t == 2 {
-                    b.score_pairs(&demand.need, &row, &fixed, f, marg.as_ref(), params.lookahead);
+                    b.score_pairs(
+                        &demand.need,
+                        &row,
+                        &fixed,
+                        f,
+                        marg.as_ref(),
+                        params.lookahead,
+                        rng,
+                    );
                 } else {
-                    b.score_completed(&demand.need, &row, &fixed, f);
+                    b.score_completed(&demand.need, &row, &fixed, f, rng);
                 }
                 let l = choose_level(&b.score[..v], cons, rng, &mut row, f);
                 gain += b.met[l as usize];
@@ -416,9 +518,33 @@ pub fn extend(
             }
         }
         rows.push(row);
+        work.spend(std::mem::take(&mut b.steps) + layout.sets() as u64);
     }
     rows
 }
+
+/// Steps one candidate row costs: every t-set scored once for each level of the column
+/// that completes it (on average over the columns), and each column visited.
+pub fn candidate_steps(layout: &Layout) -> u64 {
+    (layout.sets() as u64).saturating_mul(mean_levels(layout)) + layout.columns() as u64
+}
+
+/// Steps a sampled candidate row costs at the least (see [`MIN_SAMPLE`]).
+pub fn sampled_steps(layout: &Layout) -> u64 {
+    MIN_SAMPLE
+        .saturating_mul(layout.columns() as u64)
+        .saturating_mul(mean_levels(layout))
+}
+
+/// Level count of a column on average, rounded up.
+fn mean_levels(layout: &Layout) -> u64 {
+    let k = layout.columns().max(1);
+    layout.levels.iter().sum::<usize>().div_ceil(k) as u64
+}
+
+/// Fewest fixed factors or subsets a level choice is scored on when the work bound
+/// samples them: below this the choices approach random ones.
+const MIN_SAMPLE: u64 = 16;
 
 /// The level of `f` with the highest score whose choice keeps the row extendable; ties go
 /// to the first from a random starting level.

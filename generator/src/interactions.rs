@@ -157,20 +157,33 @@ impl Layout {
             }
             return;
         }
-        let mut cols: Vec<usize> = (0..t).collect();
         let mut rank = 0usize;
-        loop {
-            let mut idx = 0usize;
-            let mut w = 1usize;
-            for &c in &cols {
-                idx += row[c] as usize * w;
-                w *= self.levels[c];
+        self.each_below(row, t, k, 0, &mut rank, &mut f);
+    }
+
+    /// The t-sets of `depth` more columns below `hi`, in colex order (highest column in
+    /// the outer loop, so ranks follow one another), with the mixed-radix index of the
+    /// columns chosen so far in `acc` by Horner's rule from the highest column down
+    /// (first column least significant).
+    fn each_below(
+        &self,
+        row: &[u8],
+        depth: usize,
+        hi: usize,
+        acc: usize,
+        rank: &mut usize,
+        f: &mut impl FnMut(usize),
+    ) {
+        if depth == 1 {
+            let start = self.offsets[*rank..].iter();
+            for ((&off, &l), &v) in start.zip(&row[..hi]).zip(&self.levels[..hi]) {
+                f(off as usize + acc * v + l as usize);
             }
-            f(self.offset(rank) + idx);
-            rank += 1;
-            if !next_colex(&mut cols) || cols[t - 1] >= k {
-                break;
-            }
+            *rank += hi;
+            return;
+        }
+        for c in depth - 1..hi {
+            self.each_below(row, depth - 1, c, acc * self.levels[c] + row[c] as usize, rank, f);
         }
     }
 }
@@ -266,6 +279,22 @@ mod tests {
         let mut hits = vec![0; lay.total()];
         lay.for_each_in_row(&[0, 1, 2, 0], |i| hits[i] += 1);
         assert_eq!(hits.iter().sum::<i32>(), 6);
+    }
+
+    #[test]
+    fn row_interactions_come_in_rank_order() {
+        let levels = [2, 3, 4, 2, 5, 3, 2];
+        let row = [1u8, 2, 3, 0, 4, 1, 1];
+        for t in 1..=levels.len() {
+            let lay = Layout::new(&levels, t);
+            let mut want = Vec::new();
+            for rank in 0..lay.sets() {
+                want.push(lay.index(&lay.unrank(rank), &row));
+            }
+            let mut got = Vec::new();
+            lay.for_each_in_row(&row, |i| got.push(i));
+            assert_eq!(got, want, "t = {t}");
+        }
     }
 
     #[test]

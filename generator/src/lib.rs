@@ -5,7 +5,8 @@
 //! levels that some allowed row contains appears at least λ times. It tries algebraic
 //! constructions, a greedy and a local search, keeps the smallest, and checks it with an
 //! independent checker ([`verify`]) before returning. Everything is deterministic: the
-//! same spec gives the same rows on every platform.
+//! same spec gives the same rows on every platform, and [`Effort::Fast`] bounds its work
+//! by a count of steps, never by time ([`Stats::pin_advised`] says when it bit).
 //!
 //! ```
 //! use heddle_generator::{generate, Effort, Factor, Spec};
@@ -16,16 +17,19 @@
 //!
 //! # Modules
 //!
-//! The public surface is the crate root; the modules behind it:
+//! The public surface is the crate root (and `bounds`); the modules behind it:
 //! - `factor`, `expr`, `model`, `limits`, `error`: the problem statement — factors,
 //!   exclude formulas and their two text forms, the spec, the limits and range checks,
 //!   and every way a spec is refused;
 //! - `engine`: [`generate`], which runs the methods below and keeps the smallest result;
-//!   `complete`: [`complete`], rows with unset cells filled in;
-//! - `construct`: algebraic constructions (orthogonal arrays, Hadamard, binary families,
-//!   recursions), fitted to a spec by dropping columns, collapsing levels and stacking;
-//! - `greedy`, `tighten`, `order`: the one-row-at-a-time greedy, the local search that
-//!   removes rows, and the finishing passes;
+//!   `complete`: [`complete`], rows with unset cells filled in; `work`: the fast mode's
+//!   bound on work;
+//! - `construct`: algebraic constructions (orthogonal arrays incl. ovoids, Hadamard,
+//!   binary families, cyclotomy, recursions), fitted to a spec by dropping columns,
+//!   collapsing levels and stacking;
+//! - `greedy`, `tighten`, `anneal`, `order`: the one-row-at-a-time greedy, the two local
+//!   searches that remove rows (tabu with per-row tables; annealing without, for large
+//!   designs), and the finishing passes;
 //! - `interactions`, `incidence`, `demand`, `constraints`: numbering of t-way
 //!   interactions, per-column t-set tables, remaining demand, and exact answers to "can
 //!   this partial row still be allowed?";
@@ -36,6 +40,7 @@
 
 #![warn(missing_docs)]
 
+mod anneal;
 pub mod bounds;
 mod complete;
 mod constraints;
@@ -55,6 +60,7 @@ mod order;
 mod rng;
 mod tighten;
 mod verify;
+mod work;
 
 pub use complete::{Completion, complete};
 pub use diagnostic::Diagnostic;
@@ -73,4 +79,4 @@ pub use verify::{Coverage, Violation, verify};
 
 /// Version of the generation algorithms. Any change that can alter the rows produced for
 /// some spec and seed bumps it, so pinned rows can tell they came from another engine.
-pub const ENGINE_VERSION: u32 = 1;
+pub const ENGINE_VERSION: u32 = 2;

@@ -13,10 +13,12 @@ pub const MAX_FACTORS: usize = 4096;
 pub const MAX_STRENGTH: usize = 8;
 /// Highest index accepted; per-interaction counters are 16 bits wide.
 pub const MAX_LAMBDA: u32 = 1000;
-/// Most t-way interactions the engine tracks; each costs a few bytes of counters, so this
-/// keeps generation well under a gigabyte whatever the spec. A spec a construction answers
-/// in closed form is not held to it (no counters are needed to build it).
-pub const MAX_INTERACTIONS: u64 = 1 << 24;
+/// Most t-way interactions the engine tracks; each costs some bytes of counters (about
+/// 15 at the peak of a search), so this keeps generation under a gigabyte whatever the
+/// spec (3^3000 at t = 2, 40.5 million interactions, peaks near 600 MB in
+/// `Effort::Tight`). A spec a construction answers in closed form is not held to it (no
+/// counters are needed to build it).
+pub const MAX_INTERACTIONS: u64 = 3 << 24;
 /// Most rows the engine will produce (the lower bound alone may exceed it).
 pub const MAX_ROWS: u64 = 1 << 20;
 /// Deepest nesting of an exclude formula (operators and parentheses): evaluating and

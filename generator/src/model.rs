@@ -3,12 +3,17 @@
 use std::collections::BTreeSet;
 
 use crate::constraints::Constraints;
+use crate::construct::Construction;
 use crate::error::Error;
 use crate::expr::Expr;
 use crate::factor::{Factor, Row, UNSET};
 use crate::limits::{
     MAX_FACTORS, MAX_FORMULA_DEPTH, MAX_INTERACTIONS, MAX_LEVELS, MAX_ROWS, check_lambda, check_strength,
 };
+
+/// Most rows × t-sets of a closed-form design past [`MAX_INTERACTIONS`]: the checker visits
+/// each once (about a second in an unoptimised build per 10⁸).
+const MAX_CHECKED_VISITS: u128 = 1 << 28;
 
 /// Everything that determines a design: the same spec gives the same rows everywhere.
 ///
@@ -50,6 +55,25 @@ impl Spec {
             excludes: Vec::new(),
             required: Vec::new(),
         }
+    }
+
+    /// A spec of factors `f1`, `f2`, … with these level counts, levels labelled `0`, `1`,
+    /// … (the `V^N` form of tables and benchmarks).
+    ///
+    /// ```
+    /// use heddle_generator::Spec;
+    /// let spec = Spec::numbered(&[3, 3, 2]);
+    /// assert_eq!(spec.factors[2].name, "f3");
+    /// assert_eq!(spec.levels(), [3, 3, 2]);
+    /// ```
+    pub fn numbered(levels: &[usize]) -> Self {
+        Spec::new(
+            levels
+                .iter()
+                .enumerate()
+                .map(|(i, &v)| Factor::numbered(format!("f{}", i + 1), v))
+                .collect(),
+        )
     }
 
     /// Sets the strength.
@@ -196,7 +220,7 @@ impl Spec {
                 })?;
         }
         let interactions = crate::interactions::count(&levels, self.strength);
-        if interactions > MAX_INTERACTIONS as u128 {
+        if interactions > MAX_INTERACTIONS as u128 && self.closed_form().is_none() {
             return Err(Error::TooLarge {
                 interactions,
                 limit: MAX_INTERACTIONS,
@@ -210,6 +234,21 @@ impl Spec {
             });
         }
         Ok(())
+    }
+
+    /// For a spec past [`MAX_INTERACTIONS`]: the construction that answers it in closed
+    /// form — no excludes, no required rows, and few enough rows × t-sets for the checker
+    /// (e.g. Bose's OA(16384; 2, 129, 128) for 128^80 at t = 2). Such a spec needs no
+    /// counter per interaction, so the cap does not refuse it; no search runs on it.
+    pub(crate) fn closed_form(&self) -> Option<Construction> {
+        if !self.excludes.is_empty() || !self.required.is_empty() {
+            return None;
+        }
+        let levels = self.levels();
+        let t = self.strength;
+        let tsets = crate::interactions::count(&vec![1; levels.len()], t);
+        let c = crate::construct::best(&levels, t, self.lambda)?;
+        (tsets.saturating_mul(c.rows.len() as u128) <= MAX_CHECKED_VISITS).then_some(c)
     }
 
     /// Checks rows meant to be required: width, levels (cells may be [`UNSET`]) and, with
@@ -260,10 +299,13 @@ impl Spec {
 /// How hard the engine works.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum Effort {
-    /// Constructions, greedy and redundant-row removal: what builds use.
+    /// What builds use: constructions, the greedy and a brief local search, held to a
+    /// bound on work (a count of steps, not time) that keeps any spec within seconds in an
+    /// unoptimised build; [`crate::Stats::pin_advised`] says when the bound bit.
     Fast,
-    /// Everything in `Fast`, then local search that tries to remove rows, for at most
-    /// `budget` moves (deterministic for a given seed and budget).
+    /// Constructions, the greedy with all its candidates, then a local search that tries
+    /// to remove rows for at most `budget` moves (deterministic for a given seed and
+    /// budget).
     Tight {
         /// Move budget of the local search.
         budget: u64,

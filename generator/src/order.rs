@@ -1,6 +1,7 @@
 //! Finishing passes on a valid design: drop rows nothing depends on, then order the rows so
 //! that every prefix meets as much demand as possible (a run cut short has still covered
-//! the most it could), and the coverage curve that shows it.
+//! the most it could; the checker counts the coverage curve that shows it), and count the
+//! interactions that cannot be told apart.
 
 use std::cmp::Reverse;
 use std::collections::BinaryHeap;
@@ -105,27 +106,70 @@ pub const SHOWN_LIMIT: u64 = 1 << 24;
 /// Rows × t-sets up to which [`order_by_gain`] orders exactly.
 pub const EXACT_ORDER_LIMIT: u64 = 1 << 23;
 
-/// Fraction of the total demand (λ per possible interaction) met after each row.
-pub fn coverage_curve(layout: &Layout, possible: &[bool], lambda: u32, rows: &[Vec<u8>]) -> Vec<f64> {
-    let mut need: Vec<u16> = possible
+/// Most interactions for which [`aliased`] is counted (8 bytes each).
+const MAX_ALIAS_INTERACTIONS: usize = 1 << 22;
+
+/// How many possible interactions show in exactly the same rows as another one, so that
+/// no outcome of the rows can tell them apart; `None` past [`MAX_ALIAS_INTERACTIONS`].
+///
+/// Each interaction's set of rows is summarised by the sum of a 64-bit mixing of its row
+/// numbers (splitmix64, Steele, Lea & Flood 2014): equal sets give equal sums, and two
+/// different sets agree with probability about 2⁻⁶⁴, so a count may in principle include
+/// a pair that differs, never leave one out.
+pub fn aliased(layout: &Layout, possible: &[bool], rows: &[Vec<u8>]) -> Option<u64> {
+    if layout.total() > MAX_ALIAS_INTERACTIONS {
+        return None;
+    }
+    let mut sum = vec![0u64; layout.total()];
+    for (r, row) in rows.iter().enumerate() {
+        let z = splitmix64(r as u64);
+        layout.for_each_in_row(row, |i| sum[i] = sum[i].wrapping_add(z));
+    }
+    let mut keyed: Vec<u64> = sum
         .iter()
-        .map(|&p| if p { lambda as u16 } else { 0 })
+        .zip(possible)
+        .filter_map(|(&h, &p)| p.then_some(h))
         .collect();
-    let total: u64 = need.iter().map(|&n| n as u64).sum();
-    let mut met = 0u64;
-    rows.iter()
-        .map(|row| {
-            layout.for_each_in_row(row, |i| {
-                if need[i] > 0 {
-                    need[i] -= 1;
-                    met += 1;
-                }
-            });
-            if total == 0 {
-                1.0
-            } else {
-                met as f64 / total as f64
-            }
-        })
-        .collect()
+    keyed.sort_unstable();
+    let mut count = 0u64;
+    for run in keyed.chunk_by(|a, b| a == b) {
+        if run.len() > 1 {
+            count += run.len() as u64;
+        }
+    }
+    Some(count)
+}
+
+/// splitmix64's output function on `x + 1` (Steele, Lea & Flood 2014).
+fn splitmix64(x: u64) -> u64 {
+    let mut z = x.wrapping_add(1).wrapping_mul(0x9E37_79B9_7F4A_7C15);
+    z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+    z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+    z ^ (z >> 31)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn aliases_of_a_linear_array_and_of_relabelled_copies() {
+        // OA(9; 2, 4, 3) of index 1 stacked twice identically: every pair of levels sits
+        // in the same two rows as the other interactions of its row (each row shows six
+        // pairs), so all 54 interactions are aliased; a full factorial 3 × 3 × 3 at t = 2
+        // has index 3 and no two pairs in the same three rows
+        let oa: Vec<Vec<u8>> = (0..9u8)
+            .map(|x| {
+                let (i, j) = (x / 3, x % 3);
+                vec![i, j, (i + j) % 3, (i + 2 * j) % 3]
+            })
+            .collect();
+        let twice: Vec<Vec<u8>> = oa.iter().chain(&oa).cloned().collect();
+        let lay = Layout::new(&[3; 4], 2);
+        let possible = vec![true; lay.total()];
+        assert_eq!(aliased(&lay, &possible, &twice), Some(54));
+        let full: Vec<Vec<u8>> = (0..27u8).map(|x| vec![x / 9, x / 3 % 3, x % 3]).collect();
+        let lay = Layout::new(&[3; 3], 2);
+        assert_eq!(aliased(&lay, &vec![true; lay.total()], &full), Some(0));
+    }
 }

@@ -69,11 +69,86 @@ pub const MAX_SHOWN: usize = 1 << 24;
 
 const ABSENT: u32 = u32::MAX;
 
+/// The interactions still short of λ, in no particular order, with each one's position in
+/// the list: adding, removing and drawing one at random are all O(1). Both local searches
+/// keep one.
+pub(crate) struct Shortfall {
+    list: Vec<u32>,
+    pos: Vec<u32>,
+}
+
+impl Shortfall {
+    /// An empty list over this many interactions.
+    pub(crate) fn new(interactions: usize) -> Self {
+        Shortfall {
+            list: Vec::new(),
+            pos: vec![ABSENT; interactions],
+        }
+    }
+
+    /// Interaction i became short.
+    pub(crate) fn add(&mut self, i: usize) {
+        self.pos[i] = self.list.len() as u32;
+        // interaction indices fit u32: the layout numbers them with u32 offsets
+        self.list.push(i as u32);
+    }
+
+    /// Interaction i is short no more (the last one takes its place).
+    pub(crate) fn remove(&mut self, i: usize) {
+        let p = self.pos[i] as usize;
+        let last = self.list.pop().unwrap_or(i as u32);
+        if p < self.list.len() {
+            self.list[p] = last;
+            self.pos[last as usize] = p as u32;
+        }
+        self.pos[i] = ABSENT;
+    }
+
+    /// A short interaction at random (the list is not empty while the cost is positive).
+    pub(crate) fn draw(&self, rng: &mut Rng) -> usize {
+        self.list[rng.index(self.list.len())] as usize
+    }
+}
+
+/// The rows of a flat `n × k` cell array.
+pub(crate) fn rows_of(cells: &[u8], k: usize) -> Vec<Row> {
+    cells.chunks(k.max(1)).map(<[u8]>::to_vec).collect()
+}
+
+/// What a local search starts from: a valid design (every possible interaction covered λ
+/// times, every row allowed) whose first `fixed` rows never change, and the fewest rows
+/// worth trying for.
+pub(crate) struct Problem<'a> {
+    pub(crate) inc: &'a Incidence,
+    pub(crate) possible: &'a [bool],
+    pub(crate) lambda: u32,
+    pub(crate) rows: &'a [Row],
+    pub(crate) fixed: usize,
+    pub(crate) floor: usize,
+}
+
+impl Problem<'_> {
+    /// The fewest rows to try for: the floor, the fixed rows, and one row.
+    pub(crate) fn floor(&self) -> usize {
+        self.floor.max(self.fixed).max(1)
+    }
+
+    /// The outcome when the search does not run: the rows as they are.
+    pub(crate) fn unchanged(&self) -> Outcome {
+        Outcome {
+            rows: self.rows.to_vec(),
+            moves: 0,
+        }
+    }
+}
+
 /// What the search returns.
 #[derive(Clone, Debug)]
 pub struct Outcome {
     /// The smallest valid design found (the input when nothing better was found).
     pub rows: Vec<Row>,
+    /// Moves spent.
+    pub moves: u64,
 }
 
 struct Search<'a> {
@@ -88,9 +163,8 @@ struct Search<'a> {
     shown: Vec<u32>,
     /// Times covered minus times needed, per interaction.
     slack: Vec<i16>,
-    /// Interactions with negative slack, in no particular order, and each one's position.
-    short: Vec<u32>,
-    pos: Vec<u32>,
+    /// Interactions with negative slack.
+    short: Shortfall,
     /// Σ of the negative slacks, negated.
     cost: u64,
     /// Step until which each cell is tabu.
@@ -126,8 +200,7 @@ impl<'a> Search<'a> {
             n: rows.len(),
             cells,
             shown,
-            pos: vec![ABSENT; slack.len()],
-            short: Vec::new(),
+            short: Shortfall::new(slack.len()),
             slack,
             cost: 0,
             tabu: vec![0; rows.len() * k],
@@ -136,8 +209,7 @@ impl<'a> Search<'a> {
         for i in 0..s.slack.len() {
             if s.slack[i] < 0 {
                 s.cost += (-s.slack[i]) as u64;
-                s.pos[i] = s.short.len() as u32;
-                s.short.push(i as u32);
+                s.short.add(i);
             }
         }
         s
@@ -148,7 +220,7 @@ impl<'a> Search<'a> {
     }
 
     fn rows(&self) -> Vec<Row> {
-        (0..self.n).map(|r| self.row(r).to_vec()).collect()
+        rows_of(&self.cells, self.k)
     }
 
     fn dec(&mut self, i: usize) {
@@ -157,8 +229,7 @@ impl<'a> Search<'a> {
         if s <= 0 {
             self.cost += 1;
             if s == 0 {
-                self.pos[i] = self.short.len() as u32;
-                self.short.push(i as u32);
+                self.short.add(i);
             }
         }
     }
@@ -169,13 +240,7 @@ impl<'a> Search<'a> {
         if s < 0 {
             self.cost -= 1;
             if s == -1 {
-                let p = self.pos[i] as usize;
-                let last = self.short.pop().unwrap_or(i as u32);
-                if p < self.short.len() {
-                    self.short[p] = last;
-                    self.pos[last as usize] = p as u32;
-                }
-                self.pos[i] = ABSENT;
+                self.short.remove(i);
             }
         }
     }
@@ -296,25 +361,26 @@ pub fn fits(rows: usize, sets: usize) -> bool {
     rows <= SEARCH_MAX_ROWS && rows.saturating_mul(sets) <= MAX_SHOWN
 }
 
-/// Searches for a smaller design than `rows` (which must be valid: every possible
-/// interaction covered λ times, every row allowed), never going below `floor` rows,
-/// never touching the first `fixed` rows. Deterministic for a given `rng` state and budget.
-#[allow(clippy::too_many_arguments)]
-pub fn tighten(
-    inc: &Incidence,
-    possible: &[bool],
-    lambda: u32,
+/// Searches for a smaller design than the problem's rows, never going below its floor,
+/// never touching its fixed rows. Deterministic for a given `rng` state and budget.
+pub(crate) fn tighten(
+    problem: &Problem<'_>,
     cons: &mut Constraints,
-    rows: &[Row],
-    fixed: usize,
-    floor: usize,
     rng: &mut Rng,
     params: Params,
 ) -> Outcome {
-    let floor = floor.max(fixed).max(1);
-    if rows.len() <= floor || !fits(rows.len(), inc.sets()) {
-        return Outcome { rows: rows.to_vec() };
+    let floor = problem.floor();
+    if problem.rows.len() <= floor || !fits(problem.rows.len(), problem.inc.sets()) {
+        return problem.unchanged();
     }
+    let Problem {
+        inc,
+        possible,
+        lambda,
+        rows,
+        fixed,
+        ..
+    } = *problem;
     let mut s = Search::new(inc, possible, lambda, rows, fixed);
     let mut best = rows.to_vec();
     s.remove_cheapest(rng);
@@ -342,7 +408,7 @@ pub fn tighten(
             s.remove_cheapest(rng);
             continue;
         }
-        let target = s.short[rng.index(s.short.len())] as usize;
+        let target = s.short.draw(rng);
         inc.decode_into(target, &mut cols, &mut lv);
         // only the rows that need the fewest cell changes are candidates
         let mismatches = |s: &Search, r: usize| {
@@ -429,13 +495,13 @@ pub fn tighten(
         }
         step += 1;
     }
-    Outcome { rows: best }
+    Outcome { rows: best, moves }
 }
 
 /// Makes `row`, whose cells on `keep` are set as wanted, allowed by changing only its
 /// other constrained cells, each kept as it is when the row stays completable. False when
 /// no allowed row shows the kept cells.
-fn repair(
+pub(crate) fn repair(
     cons: &mut Constraints,
     inc: &Incidence,
     row: &mut [u8],
@@ -477,7 +543,7 @@ fn repair(
 /// `p^d` for the per-unit probability `p = per_65536 / 65536`, in integer arithmetic so
 /// every platform agrees. Index 0 is unused; worse changes than the table is long use its
 /// last entry.
-fn acceptance(per_65536: u32) -> [u32; 16] {
+pub(crate) fn acceptance(per_65536: u32) -> [u32; 16] {
     let mut table = [0u32; 16];
     let mut p: u64 = 1 << 32;
     for slot in table.iter_mut() {

@@ -8,7 +8,7 @@
 //! direct summation, never from the engine's own routine.
 
 use heddle_generator::bounds::{binomial_below, expected_bound, lower_bound, tsets_by_product};
-use heddle_generator::{Effort, Factor, Spec, generate};
+use heddle_generator::{Effort, Spec, generate};
 use statrs::distribution::{Binomial, DiscreteCDF};
 
 /// P[Binomial(n, p) ≤ λ − 1] from statrs.
@@ -136,15 +136,7 @@ fn lower_bound_is_lambda_times_the_largest_products() {
 #[test]
 fn designs_respect_both_bounds_in_stats() {
     for &(levels, t, lambda) in &CASES[..6] {
-        let spec = Spec::new(
-            levels
-                .iter()
-                .enumerate()
-                .map(|(i, &v)| Factor::numbered(format!("f{i}"), v))
-                .collect(),
-        )
-        .strength(t)
-        .lambda(lambda);
+        let spec = Spec::numbered(levels).strength(t).lambda(lambda);
         let d = generate(&spec, Effort::Fast).expect("valid spec");
         assert_eq!(d.stats.lower_bound as u128, lower_bound(levels, t, lambda));
         assert_eq!(d.stats.expected_bound, expected_bound(levels, t, lambda));

@@ -223,3 +223,45 @@ fn parse_errors_point_at_the_text() {
     assert!(e.message.contains("`3` is not a level of factor `f2`"));
     assert!(e.hint.contains("0, 1, 2"));
 }
+
+#[test]
+fn closed_form_specs_pass_the_interaction_limit() {
+    // 128^80 at t = 2 has C(80, 2)·128² = 51 773 440 interactions, past the limit, but
+    // Bose (1938) answers it in closed form: OA(16384; 2, 129, 128) over GF(128), the
+    // counting bound 128²
+    let spec = Spec::new(numbered(&[128; 80]));
+    const { assert!(51_773_440 > MAX_INTERACTIONS) };
+    assert!(spec.validate().is_ok());
+    let d = generate(&spec, Effort::Fast).expect("closed form");
+    assert_eq!(d.rows.len(), 128 * 128);
+    assert_eq!(d.stats.interactions, 51_773_440);
+    assert!(d.stats.method.starts_with("bose(q=128"), "{}", d.stats.method);
+    assert_eq!(d.stats.coverage_curve.last().copied(), Some(1.0));
+    // with an exclude the engine would have to count interactions: refused as before
+    let f = numbered(&[128; 80]);
+    let constrained = Spec::new(f.clone()).exclude(Expr::parse("f1 == 0 && f2 == 0", &f).expect("valid"));
+    assert!(matches!(constrained.validate(), Err(Error::TooLarge { .. })));
+    // and so is a wide spec no construction answers (3^4000 at t = 2: 71 982 000
+    // interactions)
+    assert!(matches!(
+        Spec::new(numbered(&[3; 4000])).validate(),
+        Err(Error::TooLarge { .. })
+    ));
+    // completing rows counts interactions too
+    assert!(matches!(
+        heddle_generator::complete(&spec, &[vec![0; 80]]),
+        Err(Error::TooLarge { .. })
+    ));
+}
+
+#[test]
+fn the_widest_binary_spec_gets_kleitman_spencer() {
+    // 2^4096 at t = 2 (the most factors a spec may have): the least N with
+    // C(N − 1, ⌈N/2⌉) ≥ 4096 (Kleitman & Spencer 1973; Katona 1973) is 16, as
+    // C(15, 8) = 6435 and C(14, 8) = 3003. (Issue 13 quotes 14 rows, the size for
+    // k ≤ 1716.)
+    let d = generate(&Spec::new(numbered(&[2; 4096])), Effort::Fast).expect("valid");
+    assert_eq!(d.rows.len(), 16);
+    assert_eq!(d.stats.interactions, 33_546_240);
+    assert!(d.stats.method.contains("kleitman-spencer"), "{}", d.stats.method);
+}

@@ -188,3 +188,47 @@ proptest! {
         prop_assert!(tight <= fast, "tight {} rows, fast {}", tight, fast);
     }
 }
+
+proptest! {
+    #![proptest_config(config(48))]
+
+    /// λ copies of the λ = 1 design cover everything λ times, so the engine, which
+    /// offers that stack beside its direct design, never returns more rows (issue 13:
+    /// 2^10 t=4 λ=2 once gave 51 rows, above 2 × 24).
+    #[test]
+    fn index_lambda_never_exceeds_lambda_copies(
+        levels in prop::collection::vec(1usize..=4, 2..=6),
+        t in 1usize..=3,
+        lambda in 2u32..=4,
+        ex_seeds in prop::collection::vec(any::<u64>(), 0..=2),
+        req_seeds in prop::collection::vec(any::<u64>(), 0..=2),
+        seed in any::<u64>(),
+    ) {
+        let c = case(levels.clone(), t, lambda, &ex_seeds, &req_seeds, seed);
+        let one = case(levels, t, 1, &ex_seeds, &req_seeds, seed);
+        let n = check(&c, Effort::Fast)?;
+        let n1 = check(&one, Effort::Fast)?;
+        prop_assert!(n <= lambda as usize * n1, "{} rows at λ = {}, {} at λ = 1", n, lambda, n1);
+    }
+}
+
+#[test]
+fn stacking_bounds_the_binary_strength_four_case_of_issue_13() {
+    let spec = |lambda| Spec::numbered(&[2; 10]).strength(4).lambda(lambda);
+    let one = generate(&spec(1), Effort::Fast).expect("valid").rows.len();
+    for lambda in 2..=3 {
+        let d = generate(&spec(lambda), Effort::Fast).expect("valid");
+        assert!(verify(&spec(lambda), &d.rows).is_ok());
+        assert!(
+            d.rows.len() <= lambda as usize * one,
+            "λ = {lambda}: {} rows, λ·{one} = {}",
+            d.rows.len(),
+            lambda as usize * one
+        );
+        assert!(
+            d.stats.methods.iter().any(|m| m.starts_with("stack ")),
+            "{:?}",
+            d.stats.methods
+        );
+    }
+}

@@ -3,19 +3,13 @@
 //! of each column of any covering array turns one of its rows into all zeros, so the
 //! optimum with that row required is the unconstrained optimum (common practice).
 
-use heddle_generator::{Effort, Factor, Spec, generate, verify};
+use heddle_generator::{Effort, Spec, generate, verify};
 
 fn search(levels: &[usize], t: usize, lambda: u32, effort: Effort) -> usize {
-    let spec = Spec::new(
-        levels
-            .iter()
-            .enumerate()
-            .map(|(i, &v)| Factor::numbered(format!("f{}", i + 1), v))
-            .collect(),
-    )
-    .strength(t)
-    .lambda(lambda)
-    .require(vec![0; levels.len()]);
+    let spec = Spec::numbered(levels)
+        .strength(t)
+        .lambda(lambda)
+        .require(vec![0; levels.len()]);
     let d = generate(&spec, effort).expect("valid spec");
     verify(&spec, &d.rows).expect("generate returns only verified designs");
     assert!(d.stats.method.starts_with("greedy"), "{}", d.stats.method);
@@ -54,7 +48,7 @@ fn strength_three() {
     assert!(search(&[2; 10], 3, 1, Effort::Fast) <= 12);
     // (with a pinned row the search stalls at 34 here, so this one runs unpinned and checks
     // the engine as a whole)
-    let spec = Spec::new((1..=6).map(|i| Factor::numbered(format!("f{i}"), 3)).collect()).strength(3);
+    let spec = Spec::numbered(&[3; 6]).strength(3);
     let d = generate(&spec, Effort::Fast).expect("valid spec");
     assert!(d.rows.len() <= 33, "{}", d.rows.len());
 }

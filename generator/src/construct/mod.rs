@@ -7,6 +7,7 @@
 //! (a knapsack over the index), and removes rows that the result covers more than needed.
 
 mod binary;
+mod cyclotomy;
 mod gf;
 mod hadamard;
 mod offers;
@@ -71,6 +72,8 @@ enum Source {
     },
     /// Rao–Hamming over GF(q) of dimension m.
     RaoHamming { q: usize, m: u32 },
+    /// The ovoid of PG(3, q): strength 3, index q.
+    Ovoid { q: usize },
     /// Kleitman–Spencer / Katona.
     KleitmanSpencer,
     /// The strength-2 array of a Hadamard matrix.
@@ -103,6 +106,7 @@ impl Source {
                 )
             }
             Source::RaoHamming { q, m } => format!("rao-hamming(q={q},m={m})"),
+            Source::Ovoid { q } => format!("ovoid(q={q})"),
             Source::KleitmanSpencer => "kleitman-spencer".into(),
             Source::Hadamard(r) => format!("hadamard(n={},{})", r.order(), r.name()),
             Source::FoldOver(r) => format!("fold-over(n={},{})", r.order(), r.name()),
@@ -142,6 +146,11 @@ impl Source {
                 let cols = orthogonal::rao_hamming_columns(&field, *m as usize);
                 transform::collapse(&orthogonal::linear(&field, &cols[..k]), levels)
             }
+            Source::Ovoid { q } => {
+                let field = gf::Field::new(*q).expect("ovoid over a supported prime power");
+                let cols = orthogonal::ovoid_columns(&field);
+                transform::collapse(&orthogonal::linear(&field, &cols[..k]), levels)
+            }
             Source::KleitmanSpencer => transform::collapse(&binary::kleitman_spencer(k), levels),
             Source::Hadamard(r) => transform::collapse(&r.build().strength_two(), levels),
             Source::FoldOver(r) => transform::collapse(&r.build().fold_over(), levels),
@@ -156,7 +165,7 @@ impl Source {
 
 /// The smallest construction that applies to these level counts at strength `t` and
 /// index `lambda`, if any (e.g. Bose 1938's OA(25; 2, 6, 5) for 5^6, see the tests).
-pub fn best(levels: &[usize], t: usize, lambda: u32) -> Option<Construction> {
+pub(crate) fn best(levels: &[usize], t: usize, lambda: u32) -> Option<Construction> {
     best_within(levels, t, lambda, row_limit(levels, t, lambda))
 }
 
@@ -240,7 +249,7 @@ fn assemble(
         let block = cand.source.build(levels, t);
         debug_assert_eq!(block.len(), cand.offer.rows);
         for _ in 0..n {
-            rows.extend(relabelled(&block, levels, copies));
+            rows.extend(relabelled(&block, levels, &vec![true; levels.len()], copies));
             copies += 1;
         }
         index += n as u64 * cand.offer.index as u64;
@@ -259,23 +268,29 @@ fn assemble(
 }
 
 /// Copy number `copy` of a block in a stack: the first as built, every further one with
-/// the levels of each column permuted (a different permutation per column and copy).
+/// the levels of each `free` column permuted (a different permutation per column and
+/// copy; a column an exclude mentions is not free, so that allowed rows stay allowed).
 ///
 /// A permutation of a column's levels maps a covering array to a covering array, so the
 /// stack covers just the same; but identical copies would make every pair of levels
 /// that shares a row in the block share all its λ rows, and then a failure could never
 /// be pinned on one of them — the reason λ ≥ 2 is asked for. Relabelled copies put
 /// each interaction beside different company in each copy.
-fn relabelled(block: &[Row], levels: &[usize], copy: u64) -> Vec<Row> {
+pub(crate) fn relabelled(block: &[Row], levels: &[usize], free: &[bool], copy: u64) -> Vec<Row> {
     if copy == 0 {
         return block.to_vec();
     }
     let mut rng = Rng::new(copy, stream::CONSTRUCT);
     let perms: Vec<Vec<u8>> = levels
         .iter()
-        .map(|&v| {
+        .zip(free)
+        .map(|(&v, &free)| {
             let mut p: Vec<u8> = (0..v as u8).collect();
+            // drawn for every column, so a column's permutation does not depend on others
             rng.shuffle(&mut p);
+            if !free {
+                p.sort_unstable();
+            }
             p
         })
         .collect();

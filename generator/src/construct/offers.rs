@@ -4,7 +4,7 @@
 
 use super::hadamard::{self, Recipe};
 use super::stack::Offer;
-use super::{MAX_WEIGHT_CLASS_COLUMNS, Source, best_within, binary, gf, orthogonal};
+use super::{MAX_WEIGHT_CLASS_COLUMNS, Source, best_within, binary, cyclotomy, gf, orthogonal};
 use crate::factor::Row;
 
 /// An offered construction: what it is, its index at the wanted strength, its rows, and
@@ -122,6 +122,18 @@ fn fields(o: &mut Offers<'_>) {
             slack,
         );
     }
+    // the ovoid of PG(3, q): strength 3 with index q on q² + 1 columns (for index 1 it
+    // costs q copies' rows; it pays where λ is a multiple of q or where Bush's q + 1
+    // columns are too few), the smallest field with enough columns
+    if t == 3
+        && let Some(q) = (vmax..=gf::MAX_ORDER)
+            .filter(|&q| gf::prime_power(q).is_some())
+            .find(|&q| orthogonal::ovoid_capacity(q) >= k)
+        && let Some(n) = q.checked_pow(4)
+    {
+        let slack = o.collapses(q);
+        o.offer(Source::Ovoid { q }, q as u32, n, slack);
+    }
     // Rao–Hamming: index q^(m−2), far more columns. The smallest field at every
     // dimension, and the smallest field with enough columns at dimension 3 (larger fields
     // only cost rows; q = 2 is Sylvester's Hadamard array, offered with the two-level
@@ -129,15 +141,13 @@ fn fields(o: &mut Offers<'_>) {
     if t != 2 || vmax < 3 {
         return;
     }
-    // A linear array of index q^(m-2) ≥ 3: the rows holding a pair of levels form a coset
-    // that many other pairs share (measured on 3^13: every pair shares all its rows with
-    // another), so the λ ≥ 2 a user asks for to tell interactions apart would tell none
-    // apart. Other methods cost a few rows more. (Sylvester's Hadamard arrays are linear
-    // too, but are the only optimum for some orders, e.g. CAN_4(2, 15, 2) = 16, so they
-    // stay.)
-    if o.lambda >= 2 {
-        return;
-    }
+    // At λ ≥ 2 a linear array of index λ = q^(m−2) is the optimum (λ·q² rows), but the
+    // rows holding a pair of levels form a coset that the pairs of collinear columns share
+    // (measured on 3^13: every pair shares all its rows with another), so those
+    // interactions cannot be told apart by the λ rows a user asks for to tell them apart.
+    // The engine takes the optimum and says so: `Stats::aliased` counts such interactions;
+    // a stack of two or more relabelled copies (λ a multiple of twice an index on offer)
+    // shares only a copy's rows (see `relabelled`).
     let fields = || (vmax..=gf::MAX_ORDER).filter(|&q| gf::prime_power(q).is_some());
     let mut tries: Vec<(usize, u32)> = Vec::new();
     if let Some(q0) = fields().next() {
@@ -205,6 +215,12 @@ fn two_level(o: &mut Offers<'_>) {
     }
     if k == t + 2 && k <= MAX_WEIGHT_CLASS_COLUMNS {
         o.offer(Source::WeightMod3, 1, (1 << k) / 3, slack);
+    }
+    if t >= 3 {
+        for (name, rows, index) in cyclotomy::arrays(k, t, limit) {
+            let n = rows.len();
+            o.offer(Source::Rows(name, rows), index, n, slack);
+        }
     }
 }
 

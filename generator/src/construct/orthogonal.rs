@@ -116,6 +116,59 @@ pub fn rao_hamming_capacity(q: usize, m: u32) -> usize {
     (q.pow(m) - 1) / (q - 1)
 }
 
+/// The points of an elliptic quadric of PG(3, q), an ovoid: the projective points
+/// (first nonzero coordinate 1) where Q(x) = x₀x₁ + x₂² + b·x₂x₃ + c·x₃² vanishes, with
+/// z² + bz + c irreducible over GF(q) (the first such (b, c) in element order). There are
+/// q² + 1 of them and no three are collinear (Bose 1947 for the maximal caps of PG(3, q);
+/// Qvist 1952; both from memory, the tests count the points and check the array), so any
+/// three are linearly independent: as columns of a linear array they give
+/// OA(q⁴; 3, q² + 1, q) of index q — the counting bound at λ = q, where Bush's arrays
+/// stop at q + 1 (or q + 2) columns.
+///
+/// Why q² + 1 points: f(x₂, x₃) = x₂² + b·x₂x₃ + c·x₃² vanishes only at (0, 0) (z² + bz + c
+/// has no root). For (x₂, x₃) ≠ (0, 0), x₀x₁ = −f ≠ 0: x₁ is any of q − 1 values and fixes
+/// x₀, (q² − 1)(q − 1) vectors; for (x₂, x₃) = (0, 0), x₀x₁ = 0: 2(q − 1) vectors. In all
+/// (q − 1)(q² + 1) nonzero vectors, q² + 1 points.
+pub fn ovoid_columns(field: &Field) -> Vec<Vec<u8>> {
+    let els = || (0..field.order()).map(|a| a as u8);
+    // z² + bz + c without a root
+    let Some((b, c)) = els()
+        .flat_map(|b| els().map(move |c| (b, c)))
+        .find(|&(b, c)| els().all(|z| field.add(field.add(field.mul(z, z), field.mul(b, z)), c) != 0))
+    else {
+        // every finite field has an irreducible quadratic; only GF(q) tables are used here
+        return Vec::new();
+    };
+    let form = |x: &[u8]| {
+        let f = field.add(
+            field.add(field.mul(x[2], x[2]), field.mul(b, field.mul(x[2], x[3]))),
+            field.mul(c, field.mul(x[3], x[3])),
+        );
+        field.add(field.mul(x[0], x[1]), f)
+    };
+    let mut points = Vec::new();
+    for lead in 0..4 {
+        let mut tail = vec![0u8; 3 - lead];
+        loop {
+            let mut x = vec![0u8; 4];
+            x[lead] = 1;
+            x[lead + 1..].copy_from_slice(&tail);
+            if form(&x) == 0 {
+                points.push(x);
+            }
+            if !next_vector(&mut tail, field.order()) {
+                break;
+            }
+        }
+    }
+    points
+}
+
+/// Columns of the ovoid array.
+pub fn ovoid_capacity(q: usize) -> usize {
+    q * q + 1
+}
+
 /// The linear array of the given column vectors (all of one length m): q^m rows, row u
 /// showing u·g_c in column c, with u in lexicographic order.
 pub fn linear(field: &Field, columns: &[Vec<u8>]) -> Vec<Row> {
@@ -228,6 +281,29 @@ mod tests {
                 "q={q} m={m}"
             );
         }
+    }
+
+    #[test]
+    fn ovoids_have_q_squared_plus_one_points_and_give_strength_three() {
+        // an elliptic quadric of PG(3, q) has q² + 1 points, no three collinear (Bose 1947;
+        // Qvist 1952, from memory): OA(q⁴; 3, q² + 1, q) of index q, checked here in full
+        for q in [2, 3, 4, 5] {
+            let f = Field::new(q).unwrap();
+            let cols = ovoid_columns(&f);
+            assert_eq!(cols.len(), ovoid_capacity(q), "q={q}");
+            let rows = linear(&f, &cols);
+            assert_eq!(rows.len(), q.pow(4));
+            assert_eq!(oa_index(&rows, &vec![q; cols.len()], 3), Some(q), "q={q}");
+        }
+        // larger fields, including GF(8) and GF(9): the point count
+        for q in [7, 8, 9, 11, 16] {
+            assert_eq!(ovoid_columns(&Field::new(q).unwrap()).len(), q * q + 1, "q={q}");
+        }
+        // and four points of an ovoid can be coplanar (a plane meets it in an oval of
+        // q + 1 points), so strength 4 fails: the index is not uniform at t = 4
+        let f = Field::new(3).unwrap();
+        let rows = linear(&f, &ovoid_columns(&f));
+        assert_eq!(oa_index(&rows, &[3; 10], 4), None);
     }
 
     #[test]

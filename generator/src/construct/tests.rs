@@ -3,15 +3,10 @@
 //! the source is named beside each check.
 
 use super::{Construction, best};
-use crate::{Effort, Factor, Spec, generate, verify};
+use crate::{Effort, Spec, generate, verify};
 
 fn spec(levels: &[usize], t: usize, lambda: u32) -> Spec {
-    let factors = levels
-        .iter()
-        .enumerate()
-        .map(|(i, &v)| Factor::numbered(format!("f{}", i + 1), v))
-        .collect();
-    Spec::new(factors).strength(t).lambda(lambda)
+    Spec::numbered(levels).strength(t).lambda(lambda)
 }
 
 /// The construction for these parameters, after the independent checker accepted it.
@@ -309,20 +304,42 @@ fn johnson_entringer_k_equals_t_plus_2() {
 }
 
 #[test]
-fn rao_hamming_serves_index_one_only() {
+fn rao_hamming_at_index_one_and_at_its_own_index() {
     // Rao 1947: OA(q³; 2, q²+q+1, q) of index q. At λ = 1 it is a source of rows for
     // many columns, its q³ = 27 rows thinned by redundant-row removal (and the engine's
     // search takes it on from there)
     let c = checked(&[3; 13], 2, 1);
     assert!(c.method.starts_with("rao-hamming(q=3,m=3)"), "{}", c.method);
     assert!(c.rows.len() < 27, "{}", c.method);
-    // At λ ≥ 2 it is not offered: its rows for a pair form a coset shared with other
-    // pairs, so repetitions would not tell them apart (see construct/mod.rs)
-    for (levels, lambda) in [(vec![3; 13], 3), (vec![4; 21], 4)] {
-        if let Some(c) = best(&levels, 2, lambda) {
-            assert!(!c.method.contains("rao-hamming"), "{}", c.method);
-        }
+    // at λ = q it is the optimum λ·q² (the counting bound): OA(27; 2, 13, 3) and
+    // OA(64; 2, 21, 4), and twice that at λ = 2q
+    for (levels, lambda, n) in [
+        (vec![3; 13], 3, 27),
+        (vec![4; 20], 4, 64),
+        (vec![4; 21], 4, 64),
+        (vec![3; 13], 6, 54),
+    ] {
+        let c = checked(&levels, 2, lambda);
+        assert_eq!(c.rows.len(), n, "{levels:?} λ={lambda}: {}", c.method);
+        assert!(c.optimal);
+        assert_eq!(engine_rows(&levels, 2, lambda), n);
     }
+}
+
+#[test]
+fn ovoid_at_its_own_index() {
+    // an ovoid of PG(3, q) gives OA(q⁴; 3, q²+1, q) of index q (Bose 1947; Qvist 1952,
+    // from memory; the array is checked independently): the counting bound λ·q³ at λ = q
+    for (q, k) in [(3usize, 10usize), (3, 8), (4, 17), (5, 26)] {
+        let lambda = q as u32;
+        let c = checked(&vec![q; k], 3, lambda);
+        assert_eq!(c.rows.len(), q.pow(4), "q={q} k={k}: {}", c.method);
+        assert!(c.method.contains("ovoid"), "{}", c.method);
+        assert!(c.optimal);
+    }
+    assert_eq!(engine_rows(&[3; 10], 3, 3), 81);
+    // two relabelled copies at λ = 2q
+    assert_eq!(checked(&[3; 10], 3, 6).rows.len(), 162);
 }
 
 #[test]
@@ -464,4 +481,14 @@ mod random_specs {
             check_random(&levels, t, lambda)?;
         }
     }
+}
+
+#[test]
+fn cyclotomy_reaches_the_tables_for_binary_strength_four() {
+    // CA(67; 4, 50, 2) is the best known size for 2^50 at t = 4 (Colbourn covering array
+    // tables, 2024 snapshot, as quoted in issue 13); the quadratic-residue circulant mod
+    // 67 (Colbourn 2010, "Covering arrays from cyclotomy") reaches it, the checker confirms
+    let c = checked(&[2; 50], 4, 1);
+    assert!(c.rows.len() <= 67, "{} rows by {}", c.rows.len(), c.method);
+    assert!(c.method.contains("cyclotomy"), "{}", c.method);
 }
