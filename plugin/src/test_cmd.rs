@@ -107,9 +107,11 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
         .into_iter()
         .filter(|r| find_root(r).is_some())
         .collect();
-    let records = Store::merge(roots).ok().and_then(|s| s.read_run(&id).ok());
+    let store = Store::merge(roots).ok();
+    let records = store.as_ref().and_then(|s| s.read_run(&id).ok());
     match records {
         Some(records) => {
+            let others = store.as_ref().map_or(0, |s| report::other_runs(s, &records));
             let rargs = ReportArgs {
                 selection: Selection::default(),
                 run: id.clone(),
@@ -119,7 +121,7 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
                 store: Vec::new(),
                 confidence: args.confidence,
             };
-            report::print(&records, &rargs);
+            report::print(&records, &rargs, others);
         }
         None => eprintln!(
             "heddle: {}",

@@ -142,7 +142,7 @@ fn json_names_the_planted_pair_first_and_follows_the_schema() {
         top["reason"]
             .as_str()
             .unwrap()
-            .contains("failed in all 2 of its runs")
+            .contains("failed in all 2 of its rows")
     );
     assert_eq!(
         s["flaky"].as_array().unwrap().len(),
@@ -284,11 +284,11 @@ fn table_and_markdown_say_the_same_thing() {
     assert!(!table.contains('\x1b'), "no colours when not on a terminal");
     let md = text(&report(&["--store", tmp.path().to_str().unwrap(), "--format", "markdown"]).stdout);
     assert!(
-        md.contains("| suite | t | λ | rows | passed | failed | top suspect |"),
+        md.contains("| suite | t | λ | rows | passed | failed | not run | top suspect |"),
         "{md}"
     );
     assert!(
-        md.contains("`currency = currency2, tax = tax1` (always, 1.00)"),
+        md.contains("`currency = currency2, tax = tax1` (fails always, 1.00)"),
         "{md}"
     );
 }
@@ -299,7 +299,9 @@ fn all_clear_reports_coverage() {
     write_run(tmp.path(), "run-ok", 1_700_000_000_000, |_, _| false);
     let table = text(&report(&["--store", tmp.path().to_str().unwrap()]).stdout);
     assert!(
-        table.contains("all clear: every one of the 54 2-way interactions passed, each run at least 2 times"),
+        table.contains(
+            "all clear: every one of the 54 2-way interactions passed in at least 2 rows, each run at least 2 times"
+        ),
         "{table}"
     );
     let all = text(&report(&["--store", tmp.path().to_str().unwrap(), "--all"]).stdout);

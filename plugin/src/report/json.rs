@@ -10,11 +10,17 @@
 //!       "crate", "target", "file", "function", "test",   test = rows module path
 //!       "fingerprint", "strength", "lambda", "seed",
 //!       "rows", "passed", "failed", "not_run", "executions",
+//!       "coverage": { "rows_run", "interactions", "interactions_run",
+//!                     "interactions_at_lambda", "complete" },      t-way interactions of
+//!                                              the runs read; complete: all at lambda
 //!       "interactions": [ { "levels": {parameter: label, …}, "runs", "passes", "failures" } ],
 //!                                              every single level and every 2..t-way one
-//!       "suspects": [ { "levels", "score", "reason", "always", "explains",
+//!       "suspects": [ { "levels", "score", "reason", "always", "verdict", "explains",
 //!                       "runs", "passes", "failures" } ],          best first
-//!       "flaky": [ { "levels", "runs", "passes", "low", "high" } ],  95% Wilson interval
+//!                                              verdict: always | flaky | some-rows
+//!       "flaky": [ { "levels", "runs", "passes", "low", "high" } ],  95% Wilson interval;
+//!                                              only interactions a row of which both
+//!                                              passed and failed
 //!       "failing_rows": [ { "row", "test", "levels", "runs", "failures", "message", "rerun" } ],
 //!       "advice": { "confidence", "detectable_rate", "flake_rate", "lambda_needed", "rows_needed" }
 //!   } ] }
@@ -66,11 +72,21 @@ struct Suite<'a> {
     failed: usize,
     not_run: usize,
     executions: u64,
+    coverage: Coverage,
     interactions: Vec<Interaction<'a>>,
     suspects: Vec<Suspect<'a>>,
     flaky: Vec<Flaky<'a>>,
     failing_rows: Vec<FailingRow<'a>>,
     advice: Advice,
+}
+
+#[derive(Serialize)]
+struct Coverage {
+    rows_run: usize,
+    interactions: usize,
+    interactions_run: usize,
+    interactions_at_lambda: usize,
+    complete: bool,
 }
 
 #[derive(Serialize)]
@@ -87,6 +103,7 @@ struct Suspect<'a> {
     score: f64,
     reason: &'a str,
     always: bool,
+    verdict: &'static str,
     explains: u64,
     runs: u64,
     passes: u64,
@@ -140,6 +157,13 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
         failed: s.failed,
         not_run: s.not_run,
         executions: s.tallies.total().runs,
+        coverage: Coverage {
+            rows_run: s.ran.rows_run,
+            interactions: s.ran.interactions,
+            interactions_run: s.ran.interactions_run,
+            interactions_at_lambda: s.ran.interactions_at_lambda,
+            complete: s.ran.complete(),
+        },
         interactions: entries
             .iter()
             .map(|e| Interaction {
@@ -160,6 +184,7 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
                     score: x.score,
                     reason: &x.reason,
                     always: x.always,
+                    verdict: x.verdict.key(),
                     explains: x.explains,
                     runs: e.count.runs,
                     passes: e.count.passes,

@@ -4,6 +4,7 @@
 mod json;
 mod junit;
 mod markdown;
+pub mod ran;
 mod table;
 
 use std::io::Write;
@@ -18,6 +19,7 @@ use heddle_test::record::{RowRecord, SpecRecord};
 use crate::analysis::{self, Analysis};
 use crate::failure::{Diagnostic, Failure, usage};
 use crate::workspace::{self, Selection};
+use ran::Ran;
 
 /// Arguments of `report`.
 #[derive(Args, Debug, Clone)]
@@ -101,6 +103,8 @@ pub struct SuiteReport<'a> {
     pub failed: usize,
     /// Rows with no record.
     pub not_run: usize,
+    /// What the runs read covered.
+    pub ran: Ran,
     /// λ advice.
     pub advice: Advice,
 }
@@ -115,6 +119,9 @@ pub struct Report<'a> {
     pub notes: Vec<String>,
     /// Whether `--all` was given.
     pub all: bool,
+    /// Runs in the store that were not read (older, or of other packages): a partial
+    /// run's report says how to merge them.
+    pub other_runs: usize,
 }
 
 /// Labels of an interaction as `(parameter, label)` pairs.
@@ -193,6 +200,7 @@ pub fn build<'a>(records: &'a Records, packages: &[String], confidence: f64, all
         suites,
         notes,
         all,
+        other_runs: 0,
     }
 }
 
@@ -224,6 +232,7 @@ fn suite_report<'a>(
         .count();
     let failed = rows.iter().filter(|r| r.count.failures > 0).count();
     let not_run = rows.iter().filter(|r| r.count.runs == 0).count();
+    let ran = Ran::measure(&tallies, spec.lambda);
     let analysis = analysis::analyse(&tallies);
     let flake = analysis.flaky.first().map(|f| {
         let rate = 1.0 - f.passes as f64 / f.runs.max(1) as f64;
@@ -248,6 +257,7 @@ fn suite_report<'a>(
         passed,
         failed,
         not_run,
+        ran,
         advice,
     }
 }
@@ -288,13 +298,21 @@ pub fn run(args: ReportArgs) -> Result<ExitCode, Failure> {
     }
     let store = open_store(&args)?;
     let records = read(&store, &args)?;
-    print(&records, &args);
+    print(&records, &args, other_runs(&store, &records));
     Ok(ExitCode::SUCCESS)
 }
 
+/// Runs in the store beyond those read.
+pub fn other_runs(store: &Store, records: &Records) -> usize {
+    store
+        .runs()
+        .map_or(0, |r| r.len().saturating_sub(records.runs.len()))
+}
+
 /// Prints the report of some records to stdout (notes about skipped lines to stderr).
-pub fn print(records: &Records, args: &ReportArgs) {
-    let report = build(records, &args.selection.package, args.confidence, args.all);
+pub fn print(records: &Records, args: &ReportArgs, other_runs: usize) {
+    let mut report = build(records, &args.selection.package, args.confidence, args.all);
+    report.other_runs = other_runs;
     for n in &report.notes {
         eprintln!("note: {n}");
     }

@@ -4,6 +4,7 @@
 use std::fmt::Write as _;
 
 use super::{Report, SuiteReport, described, levels_text};
+use crate::analysis::Verdict;
 use crate::style::Style;
 
 /// Suspects shown before "and N more".
@@ -38,12 +39,12 @@ pub fn render(report: &Report<'_>, color: bool) -> String {
     }
     for s in &report.suites {
         out.push('\n');
-        suite(&mut out, s, report.all, st);
+        suite(&mut out, s, report.all, report.other_runs, st);
     }
     out
 }
 
-fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, st: Style) {
+fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, report_other_runs: usize, st: Style) {
     let spec = s.spec;
     let _ = writeln!(
         out,
@@ -72,18 +73,29 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, st: Style) {
     }
     let _ = writeln!(out, "{line}");
 
-    if s.analysis.failures == 0 {
-        let t_way = s.tallies.interactions();
-        let min_runs = t_way.iter().map(|t| t.count.runs).min().unwrap_or(0);
+    let ran = &s.ran;
+    if s.analysis.failures == 0 && ran.complete() {
         let _ = writeln!(
             out,
-            "  {} every one of the {} {}-way interactions passed, each run at least {} time{}",
+            "  {} every one of the {} {}-way interactions passed in at least {} row{}, each run at least {} time{}",
             st.green("all clear:"),
-            t_way.len(),
+            ran.interactions,
             spec.strength,
-            min_runs,
-            if min_runs == 1 { "" } else { "s" }
+            spec.lambda,
+            if spec.lambda == 1 { "" } else { "s" },
+            ran.min_runs,
+            if ran.min_runs == 1 { "" } else { "s" }
         );
+        advice(out, s, st);
+        if all {
+            interactions(out, s, true, st);
+        }
+        return;
+    }
+    if !ran.complete() {
+        partial(out, s, report_other_runs, st);
+    }
+    if s.analysis.failures == 0 {
         advice(out, s, st);
         if all {
             interactions(out, s, true, st);
@@ -94,10 +106,9 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, st: Style) {
     let _ = writeln!(out, "\n  {}", st.bold("suspects, best first"));
     for (n, sus) in s.analysis.suspects.iter().take(SHOWN_SUSPECTS).enumerate() {
         let entry = &s.tallies.entries[sus.interaction];
-        let kind = if sus.always {
-            st.red("fails always")
-        } else {
-            st.yellow("fails sometimes")
+        let kind = match sus.verdict {
+            Verdict::Always => st.red(sus.verdict.words()),
+            _ => st.yellow(sus.verdict.words()),
         };
         let _ = writeln!(
             out,
@@ -118,7 +129,11 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, st: Style) {
         );
     }
     if !s.analysis.flaky.is_empty() {
-        let _ = writeln!(out, "\n  {}", st.bold("flaky: passed and failed"));
+        let _ = writeln!(
+            out,
+            "\n  {}",
+            st.bold("flaky: a row of it both passed and failed")
+        );
         for f in &s.analysis.flaky {
             let entry = &s.tallies.entries[f.interaction];
             let _ = writeln!(
@@ -132,6 +147,23 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, st: Style) {
                 pct(f.high)
             );
         }
+    }
+    let some_rows = s
+        .analysis
+        .suspects
+        .iter()
+        .filter(|x| x.verdict == Verdict::SomeRows && x.explains > 0)
+        .count();
+    if some_rows > 0 {
+        let _ = writeln!(
+            out,
+            "\n  {} suspect{} {} in some of {} rows, but no row both passed and failed: a fault of more than {} factors and a flaky one look alike until each row runs more than once (`cargo heddle test --repeat 3`)",
+            some_rows,
+            if some_rows == 1 { "" } else { "s" },
+            if some_rows == 1 { "fails" } else { "fail" },
+            if some_rows == 1 { "its" } else { "their" },
+            spec.strength
+        );
     }
     advice(out, s, st);
 
@@ -181,6 +213,36 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, st: Style) {
         );
     }
     interactions(out, s, all, st);
+}
+
+/// What a partial run did not cover, and how to see the whole suite.
+fn partial(out: &mut String, s: &SuiteReport<'_>, other_runs: usize, st: Style) {
+    let ran = &s.ran;
+    let t = s.spec.strength;
+    let _ = writeln!(
+        out,
+        "  {} {} of {} rows ran; {} of the {} {t}-way interactions ran ({}), {} in at least {} row{} (lambda); {} did not run",
+        st.yellow("partial run, not all clear:"),
+        ran.rows_run,
+        ran.rows,
+        ran.interactions_run,
+        ran.interactions,
+        pct(ran.share_run()),
+        ran.interactions_at_lambda,
+        s.spec.lambda,
+        if s.spec.lambda == 1 { "" } else { "s" },
+        ran.interactions_not_run()
+    );
+    if other_runs > 0 {
+        let _ = writeln!(
+            out,
+            "  {}",
+            st.dim(&format!(
+                "this report covers only the runs selected; the store holds {other_runs} other run{} (`--runs N` merges the last N)",
+                if other_runs == 1 { "" } else { "s" }
+            ))
+        );
+    }
 }
 
 fn advice(out: &mut String, s: &SuiteReport<'_>, st: Style) {

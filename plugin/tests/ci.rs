@@ -1,0 +1,325 @@
+//! Verdicts in the settings CI runs tests in, end to end through the built
+//! `cargo-heddle` binary on temporary crates (heddle's end-to-end harness: shared target
+//! directory, serialised builds): partial runs, flakiness evidence, retries, shards, a
+//! shared target directory, exit codes, output streams, the store's location, seeds,
+//! colours, row info in the body and the store's upkeep. Each test names what it checks
+//! and fails on the behaviour it replaced.
+
+use std::path::Path;
+
+use heddle_e2e::scratch::{CrateDef, Run, Scratch, cargo_program, note};
+use serde_json::Value;
+
+/// A crate of two suites: `tally` passes in every row; `parity` fails where an odd
+/// number of `a`, `b`, `c` are on, a fault of three factors that no pair explains (each
+/// pair of levels shows in passing and failing rows alike).
+const CLEAN_AND_PARITY: &str = r#"//! Two suites: one clean, one with a three-factor fault.
+
+#[heddle_test::cover(strength = 2, lambda = 2, seed = 3)]
+fn tally(
+    #[levels(1, 2, 3)] shelves: u32,
+    #[levels("fan", "vent")] airflow: &str,
+    #[levels(true, false)] lights: bool,
+) {
+    let _ = (airflow, lights);
+    assert!(shelves > 0);
+}
+
+#[heddle_test::cover(strength = 2, lambda = 3, seed = 9)]
+fn parity(
+    #[levels(false, true)] a: bool,
+    #[levels(false, true)] b: bool,
+    #[levels(false, true)] c: bool,
+    #[levels(false, true)] d: bool,
+) {
+    let _ = d;
+    assert!(!(a ^ b ^ c), "odd parity");
+}
+"#;
+
+/// A suite whose rows with `mist = true` and `zone = 2` fail the first time they run and
+/// pass after (a marker file per row in `$MARKERS`): a real flake, seen only when a row
+/// runs twice.
+const FLAKY_ONCE: &str = r#"//! A flaky pair: fails once per row, then passes.
+
+#[heddle_test::cover(strength = 2, lambda = 2, seed = 21)]
+fn misting(
+    #[levels(false, true)] mist: bool,
+    #[levels(1, 2, 3)] zone: u32,
+    #[levels("day", "night")] phase: &str,
+) {
+    if mist && zone == 2 {
+        let dir = std::path::PathBuf::from(std::env::var("MARKERS").expect("MARKERS is set"));
+        let marker = dir.join(format!("{mist}-{zone}-{phase}"));
+        if !marker.exists() {
+            std::fs::create_dir_all(&dir).unwrap();
+            std::fs::write(&marker, "").unwrap();
+            panic!("first try fails");
+        }
+    }
+}
+
+#[heddle_test::cover(strength = 2, lambda = 2, seed = 22)]
+fn valves(
+    #[levels("open", "shut")] valve: &str,
+    #[levels(1, 2, 3)] zone: u32,
+    #[levels(true, false)] timer: bool,
+) {
+    let _ = timer;
+    assert!(!(valve == "shut" && zone == 3), "shut valve starves zone 3");
+}
+"#;
+
+/// Runs `cargo heddle ARGS` in the crate, recording into `store` when given.
+fn heddle(krate: &Scratch, args: &[&str], store: Option<&Path>, env: &[(&str, &str)]) -> Run {
+    let mut full = vec!["heddle"];
+    full.extend_from_slice(args);
+    let mut all_env = vec![("NO_COLOR", "1")];
+    all_env.extend_from_slice(env);
+    krate.run_program(
+        env!("CARGO_BIN_EXE_cargo-heddle").as_ref(),
+        &full,
+        store,
+        &all_env,
+    )
+}
+
+fn parse_json(run: &Run) -> Value {
+    serde_json::from_str(&run.stdout).unwrap_or_else(|e| {
+        panic!(
+            "{e}: `{}`\nstdout:\n{}\nstderr:\n{}",
+            run.command, run.stdout, run.stderr
+        )
+    })
+}
+
+fn suite<'a>(v: &'a Value, test: &str) -> &'a Value {
+    v["suites"]
+        .as_array()
+        .and_then(|s| s.iter().find(|s| s["test"] == test))
+        .unwrap_or_else(|| panic!("no suite `{test}` in {v:#}"))
+}
+
+/// Whether a tool the test needs is there: in CI (`CI` set) a missing tool fails the
+/// test, elsewhere the test says why it skips.
+fn have_tool(name: &str, program: &std::ffi::OsStr, args: &[&str]) -> bool {
+    let ok = std::process::Command::new(program)
+        .args(args)
+        .output()
+        .is_ok_and(|o| o.status.success());
+    if !ok {
+        let ci = std::env::var_os("CI").is_some_and(|v| !v.is_empty());
+        assert!(!ci, "{name} is missing on CI: `.ci/run` installs it");
+        note(&format!("SKIPPED: {name} is not installed here"));
+    }
+    ok
+}
+
+fn have_nextest() -> bool {
+    have_tool("cargo-nextest", &cargo_program(), &["nextest", "--version"])
+}
+
+fn create(name: &str, file: &str, text: &str) -> Scratch {
+    Scratch::create(&CrateDef {
+        name,
+        files: &[(file, text)],
+        ..CrateDef::default()
+    })
+    .unwrap_or_else(|e| panic!("{e}"))
+}
+
+/// A single-row rerun and one nextest partition are partial runs: never "all clear",
+/// the report counts what did not run and points at the runs that complete the picture.
+#[test]
+fn a_partial_run_is_never_all_clear() {
+    let krate = create("ci_partial", "tests/greenhouse.rs", CLEAN_AND_PARITY);
+    let one = heddle(
+        &krate,
+        &[
+            "test",
+            "--quiet",
+            "--",
+            "--test",
+            "greenhouse",
+            "tally::row_00",
+            "--",
+            "--exact",
+        ],
+        None,
+        &[],
+    );
+    assert_eq!(one.code, Some(0), "{}", one.stderr);
+    assert!(!one.stdout.contains("all clear: every"), "{}", one.stdout);
+    assert!(
+        one.stdout.contains("partial run, not all clear: 1 of "),
+        "{}",
+        one.stdout
+    );
+    assert!(one.stdout.contains("did not run"), "{}", one.stdout);
+
+    // the whole suite, then a one-row rerun: the rerun says the store holds more
+    let full = heddle(
+        &krate,
+        &[
+            "test",
+            "--quiet",
+            "--format",
+            "json",
+            "--",
+            "--test",
+            "greenhouse",
+            "tally",
+        ],
+        None,
+        &[],
+    );
+    let v = parse_json(&full);
+    let tally = suite(&v, "tally");
+    assert_eq!(tally["coverage"]["complete"], true, "{tally:#}");
+    let rows = tally["rows"].as_u64().unwrap();
+    let rerun = heddle(
+        &krate,
+        &[
+            "test",
+            "--quiet",
+            "--",
+            "--test",
+            "greenhouse",
+            "tally::row_01",
+            "--",
+            "--exact",
+        ],
+        None,
+        &[],
+    );
+    assert!(
+        rerun
+            .stdout
+            .contains(&format!("partial run, not all clear: 1 of {rows} rows ran")),
+        "{}",
+        rerun.stdout
+    );
+    assert!(rerun.stdout.contains("`--runs N` merges"), "{}", rerun.stdout);
+    let json = heddle(
+        &krate,
+        &[
+            "test",
+            "--quiet",
+            "--format",
+            "json",
+            "--",
+            "--test",
+            "greenhouse",
+            "tally::row_02",
+            "--",
+            "--exact",
+        ],
+        None,
+        &[],
+    );
+    let part = parse_json(&json);
+    let c = &suite(&part, "tally")["coverage"];
+    assert_eq!(
+        (c["rows_run"].as_u64(), c["complete"].as_bool()),
+        (Some(1), Some(false)),
+        "{c}"
+    );
+    assert!(c["interactions_run"].as_u64() < c["interactions"].as_u64(), "{c}");
+
+    // one partition of two under nextest
+    if have_nextest() {
+        let half = heddle(
+            &krate,
+            &[
+                "test",
+                "--nextest",
+                "--quiet",
+                "--format",
+                "json",
+                "--",
+                "--test",
+                "greenhouse",
+                "tally",
+                "--partition",
+                "count:1/2",
+            ],
+            None,
+            &[],
+        );
+        let v = parse_json(&half);
+        let c = &suite(&v, "tally")["coverage"];
+        assert_eq!(c["complete"], false, "{c}");
+        assert_eq!(c["rows_run"].as_u64(), Some(rows.div_ceil(2)), "{c}");
+    }
+}
+
+/// One plain run of a three-factor fault: the pairs in its rows passed in some rows and
+/// failed in others, which is no evidence of flakiness; only a row that both passed and
+/// failed is.
+#[test]
+fn flaky_needs_a_row_that_both_passed_and_failed() {
+    let krate = create("ci_flaky_word", "tests/greenhouse.rs", CLEAN_AND_PARITY);
+    let run = heddle(
+        &krate,
+        &[
+            "test",
+            "--quiet",
+            "--format",
+            "json",
+            "--",
+            "--test",
+            "greenhouse",
+            "parity",
+        ],
+        None,
+        &[],
+    );
+    let v = parse_json(&run);
+    let parity = suite(&v, "parity");
+    assert!(parity["failed"].as_u64() > Some(0), "{parity:#}");
+    assert_eq!(parity["flaky"], serde_json::json!([]), "{parity:#}");
+    let suspects = parity["suspects"].as_array().unwrap();
+    assert!(
+        suspects.iter().any(|s| s["verdict"] == "some-rows"),
+        "{suspects:#?}"
+    );
+    assert!(suspects.iter().all(|s| s["verdict"] != "flaky"), "{suspects:#?}");
+    let table = heddle(
+        &krate,
+        &["test", "--quiet", "--", "--test", "greenhouse", "parity"],
+        None,
+        &[],
+    );
+    assert!(
+        table.stdout.contains("fails in some of its rows"),
+        "{}",
+        table.stdout
+    );
+    assert!(table.stdout.contains("--repeat"), "{}", table.stdout);
+    assert!(!table.stdout.contains("flaky:"), "{}", table.stdout);
+
+    // a row that fails once and then passes (two rounds) is flaky evidence
+    let flaky = create("ci_flaky_rows", "tests/misting.rs", FLAKY_ONCE);
+    let markers = flaky.root().join("markers");
+    let markers = markers.to_str().unwrap();
+    let run = heddle(
+        &flaky,
+        &[
+            "test", "--quiet", "--repeat", "2", "--format", "json", "--", "--test", "misting",
+        ],
+        None,
+        &[("MARKERS", markers)],
+    );
+    let v = parse_json(&run);
+    let misting = suite(&v, "misting");
+    let flaky_list = misting["flaky"].as_array().unwrap();
+    assert!(
+        flaky_list
+            .iter()
+            .any(|f| f["levels"] == serde_json::json!({"mist": "true", "zone": "2"})),
+        "{misting:#}"
+    );
+    assert_eq!(misting["suspects"][0]["verdict"], "flaky", "{misting:#}");
+    // the deterministic fault next to it stays "fails always"
+    assert_eq!(suite(&v, "valves")["suspects"][0]["verdict"], "always");
+}
