@@ -5,6 +5,8 @@
 //! colours, row info in the body and the store's upkeep. Each test names what it checks
 //! and fails on the behaviour it replaced.
 
+mod common;
+
 use std::path::Path;
 
 use heddle_e2e::scratch::{CrateDef, Run, Scratch, cargo_program, note};
@@ -322,4 +324,124 @@ fn flaky_needs_a_row_that_both_passed_and_failed() {
     assert_eq!(misting["suspects"][0]["verdict"], "flaky", "{misting:#}");
     // the deterministic fault next to it stays "fails always"
     assert_eq!(suite(&v, "valves")["suspects"][0]["verdict"], "always");
+}
+
+/// The run id `cargo heddle test` announced on stderr.
+fn run_id(run: &Run) -> String {
+    run.stderr
+        .lines()
+        .find_map(|l| l.strip_prefix("heddle: run "))
+        .and_then(|r| r.split_whitespace().next())
+        .unwrap_or_else(|| panic!("no run id in\n{}", run.stderr))
+        .to_string()
+}
+
+fn junit_valid(xml: &str) {
+    common::validate_junit(xml).unwrap_or_else(|e| panic!("{e}"));
+}
+
+/// Under `cargo nextest run --retries 2`, a row that failed and then passed on a retry is
+/// flaky evidence for that row (and a `flakyFailure` in JUnit, as nextest writes it); a
+/// row that failed every attempt is a `failure` with `rerunFailure`s, and its
+/// interaction "failed in all N of its rows" counts rows, not attempts.
+#[test]
+fn retries_are_attempts_of_one_row() {
+    if !have_nextest() {
+        return;
+    }
+    let krate = create("ci_retries", "tests/misting.rs", FLAKY_ONCE);
+    let markers = krate.root().join("markers");
+    let markers = markers.to_str().unwrap();
+    let run = heddle(
+        &krate,
+        &[
+            "test",
+            "--nextest",
+            "--quiet",
+            "--format",
+            "json",
+            "--",
+            "--retries",
+            "2",
+        ],
+        None,
+        &[("MARKERS", markers)],
+    );
+    let v = parse_json(&run);
+    let misting = suite(&v, "misting");
+    assert_eq!(misting["suspects"][0]["verdict"], "flaky", "{misting:#}");
+    assert!(
+        misting["flaky"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .any(|f| f["levels"] == serde_json::json!({"mist": "true", "zone": "2"})),
+        "{misting:#}"
+    );
+    let valves = suite(&v, "valves");
+    let top = &valves["suspects"][0];
+    assert_eq!(
+        top["levels"],
+        serde_json::json!({"valve": "\"shut\"", "zone": "3"}),
+        "{valves:#}"
+    );
+    let rows = valves["failing_rows"].as_array().unwrap().len();
+    assert!(rows >= 2, "{valves:#}");
+    let reason = top["reason"].as_str().unwrap();
+    assert!(
+        reason.starts_with(&format!(
+            "failed in all {rows} of its rows ({} of {} runs failed)",
+            3 * rows,
+            3 * rows
+        )),
+        "{reason}"
+    );
+
+    let id = run_id(&run);
+    let junit = heddle(&krate, &["report", "--run", &id, "--format", "junit"], None, &[]);
+    assert_eq!(junit.code, Some(0), "{}", junit.stderr);
+    junit_valid(&junit.stdout);
+    let parsed = quick_junit::Report::deserialize_from_str(&junit.stdout).expect("JUnit parses");
+    let by_name = |suite: &str| {
+        parsed
+            .test_suites
+            .iter()
+            .find(|s| s.name.as_str().ends_with(suite))
+            .unwrap_or_else(|| panic!("no testsuite {suite}"))
+    };
+    let mut flaky_cases = 0;
+    for case in &by_name("::misting").test_cases {
+        let labels = case
+            .system_out
+            .as_ref()
+            .map(|s| s.to_string())
+            .unwrap_or_default();
+        let planted = labels.contains("mist = true") && labels.contains("zone = 2");
+        match &case.status {
+            quick_junit::TestCaseStatus::Success { flaky_runs } => {
+                assert_eq!(
+                    flaky_runs.len(),
+                    usize::from(planted),
+                    "{}: {labels}",
+                    case.name.as_str()
+                );
+                flaky_cases += usize::from(planted);
+            }
+            other => panic!("{}: {other:?}", case.name.as_str()),
+        }
+    }
+    assert!(flaky_cases >= 2, "{}", junit.stdout);
+    let failed: Vec<_> = by_name("::valves")
+        .test_cases
+        .iter()
+        .filter_map(|c| match &c.status {
+            quick_junit::TestCaseStatus::NonSuccess { reruns, .. } => Some(reruns.runs.len()),
+            _ => None,
+        })
+        .collect();
+    assert_eq!(
+        failed,
+        vec![2; rows],
+        "each failing row: a failure and two rerunFailures"
+    );
 }

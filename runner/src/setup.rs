@@ -13,6 +13,8 @@ pub(crate) struct Config {
     pub(crate) store: PathBuf,
     /// The run id its records carry.
     pub(crate) run_id: String,
+    /// nextest's attempt number for this process (nextest runs one test per process).
+    pub(crate) attempt: Option<u32>,
 }
 
 /// Why a process cannot record. Printed as a one-line warning; never fails a test.
@@ -88,6 +90,16 @@ pub(crate) fn run_id(var: &dyn Fn(&str) -> Option<OsString>) -> Result<String, S
     Ok(layout::new_run_id())
 }
 
+/// nextest's attempt number (`NEXTEST_ATTEMPT`, 1-based), when running under nextest.
+/// nextest owns the variable, so a value it would never set is passed over, not an error.
+pub(crate) fn attempt(var: &dyn Fn(&str) -> Option<OsString>) -> Option<u32> {
+    non_empty(var, layout::NEXTEST_ATTEMPT_VAR)?
+        .to_str()?
+        .parse()
+        .ok()
+        .filter(|&n| n >= 1)
+}
+
 /// Resolves the store and run id from an env lookup and the executable's path.
 pub(crate) fn resolve(
     var: &dyn Fn(&str) -> Option<OsString>,
@@ -113,6 +125,7 @@ pub(crate) fn resolve(
     Ok(Config {
         store: layout::store_root(&dir),
         run_id,
+        attempt: attempt(var),
     })
 }
 
@@ -148,6 +161,15 @@ mod tests {
         let fresh = run_id(&none).unwrap();
         assert!(layout::validate_run_id(&fresh).is_ok());
         assert_ne!(fresh, run_id(&none).unwrap());
+    }
+
+    #[test]
+    fn the_attempt_comes_from_nextest() {
+        assert_eq!(attempt(&env(&[(layout::NEXTEST_ATTEMPT_VAR, "2")])), Some(2));
+        for v in ["", "0", "x", "-1"] {
+            assert_eq!(attempt(&env(&[(layout::NEXTEST_ATTEMPT_VAR, v)])), None, "{v:?}");
+        }
+        assert_eq!(attempt(&env(&[])), None);
     }
 
     #[test]

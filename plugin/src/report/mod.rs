@@ -72,6 +72,21 @@ pub struct RowView {
     pub message: Option<String>,
     /// Total body time over its executions, nanoseconds.
     pub duration_ns: u64,
+    /// Every failed execution, in run and file order (retries and repeats included).
+    pub failed_runs: Vec<FailedRun>,
+    /// Highest nextest attempt number seen (retries), when run under nextest.
+    pub max_attempt: Option<u32>,
+}
+
+/// One failed execution of a row.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct FailedRun {
+    /// Its failure message.
+    pub message: Option<String>,
+    /// Body time, nanoseconds.
+    pub duration_ns: u64,
+    /// nextest's attempt number, when run under nextest.
+    pub attempt: Option<u32>,
 }
 
 /// The λ advice for a suite.
@@ -216,13 +231,21 @@ fn suite_report<'a>(
             count: tallies.rows[row],
             message: None,
             duration_ns: 0,
+            failed_runs: Vec::new(),
+            max_attempt: None,
         })
         .collect();
     for r in records {
         if let Some(v) = rows.get_mut(r.row as usize) {
             v.duration_ns += r.duration_ns;
+            v.max_attempt = v.max_attempt.max(r.attempt);
             if !r.outcome.is_pass() {
                 v.message = r.message.clone().or(Some(String::new()));
+                v.failed_runs.push(FailedRun {
+                    message: r.message.clone(),
+                    duration_ns: r.duration_ns,
+                    attempt: r.attempt,
+                });
             }
         }
     }

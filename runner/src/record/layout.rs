@@ -22,6 +22,9 @@ pub const TARGET_DIR_VAR: &str = "HEDDLE_TARGET_DIR";
 pub const RUN_ID_VAR: &str = "HEDDLE_RUN_ID";
 /// Env var nextest sets to its run id; used when [`RUN_ID_VAR`] is unset.
 pub const NEXTEST_RUN_ID_VAR: &str = "NEXTEST_RUN_ID";
+/// Env var nextest sets to the attempt number of the test process (1, then 2, … under
+/// `--retries`).
+pub const NEXTEST_ATTEMPT_VAR: &str = "NEXTEST_ATTEMPT";
 /// Name of the store directory inside the target (or build) directory.
 pub const STORE_DIR: &str = "heddle";
 /// Name of the directory holding one directory per run inside the store.

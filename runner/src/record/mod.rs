@@ -161,6 +161,11 @@ pub struct RowRecord {
     pub duration_ns: u64,
     /// When the row finished (UTC, RFC 3339).
     pub time: String,
+    /// nextest's attempt number of this execution (`NEXTEST_ATTEMPT`: 1 for the first
+    /// try, 2 for the first retry under `--retries`); absent outside nextest. A row that
+    /// failed and then passed on a retry is flaky evidence for that row.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub attempt: Option<u32>,
 }
 
 /// Identity of one annotated function's spec across processes, runs and shards.
@@ -326,6 +331,7 @@ mod tests {
             message: Some("assertion failed: ok".into()),
             duration_ns: 41250,
             time: "2025-01-02T03:04:05.000042Z".into(),
+            attempt: None,
         }
     }
 
@@ -425,6 +431,16 @@ mod tests {
         ] {
             assert!(matches!(Line::parse(bad), Err(LineError::Corrupt(_))), "{bad:?}");
         }
+    }
+
+    #[test]
+    fn the_attempt_is_written_only_under_nextest() {
+        let mut r = row();
+        assert!(!Line::Row(r.clone()).to_json_line().contains("attempt"));
+        r.attempt = Some(2);
+        let text = Line::Row(r.clone()).to_json_line();
+        assert!(text.contains(",\"attempt\":2}"), "{text}");
+        assert_eq!(Line::parse(text.trim_end()).unwrap(), Line::Row(r));
     }
 
     #[test]
