@@ -5,7 +5,7 @@ use std::process::{Command, ExitCode, Stdio};
 
 use clap::Args;
 use heddle_store::{Store, find_root};
-use heddle_test::record::layout::{RUN_ID_VAR, new_run_id, validate_run_id};
+use heddle_test::record::layout::{RUN_ID_VAR, new_run_id, pipeline_run_id, validate_run_id};
 
 use crate::failure::{Diagnostic, Failure, usage};
 use crate::report::{self, Format, ReportArgs};
@@ -41,14 +41,15 @@ pub struct TestArgs {
     pub cargo_args: Vec<String>,
 }
 
-/// The run id for this invocation: the user's `HEDDLE_RUN_ID` if set, else a new one.
+/// The run id for this invocation: the user's `HEDDLE_RUN_ID` if set, else the CI
+/// pipeline's (so the jobs of one pipeline merge), else a new one.
 fn run_id() -> Result<String, Failure> {
     match std::env::var(RUN_ID_VAR) {
         Ok(id) if !id.is_empty() => {
             validate_run_id(&id).map_err(|e| usage(format!("`{RUN_ID_VAR}`: {e}")))?;
             Ok(id)
         }
-        _ => Ok(new_run_id()),
+        _ => Ok(pipeline_run_id(&|n| std::env::var(n).ok()).unwrap_or_else(new_run_id)),
     }
 }
 
@@ -121,7 +122,8 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
                 store: Vec::new(),
                 confidence: args.confidence,
             };
-            report::print(&records, &rargs, others);
+            let stores = store.as_ref().map_or(1, |s| s.roots().len());
+            report::print(&records, &rargs, others, stores);
         }
         None => eprintln!(
             "heddle: {}",

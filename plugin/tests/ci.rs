@@ -445,3 +445,78 @@ fn retries_are_attempts_of_one_row() {
         "each failing row: a failure and two rerunFailures"
     );
 }
+
+/// Runs one nextest partition of the crate as a CI job would, recording into its own
+/// store directory (the job's target directory, later uploaded as an artifact).
+fn shard(krate: &Scratch, label: &str, partition: &str, env: &[(&str, &str)]) -> std::path::PathBuf {
+    let store = krate.store_dir(label);
+    let run = krate.cargo(
+        &["nextest", "run", "--no-fail-fast", "--partition", partition],
+        Some(&store),
+        env,
+    );
+    run.assert_compiled();
+    store
+}
+
+/// Two nextest partitions of one CI pipeline, each with its own store: the pipeline's id
+/// (GitHub Actions' run id and attempt) makes them one run, merged by default; without a
+/// pipeline id, `--runs all` merges every run found, and the report says what it merged.
+#[test]
+fn shards_of_one_pipeline_merge_by_default() {
+    if !have_nextest() {
+        return;
+    }
+    let krate = create("ci_shards", "tests/greenhouse.rs", CLEAN_AND_PARITY);
+    let gha = [("GITHUB_RUN_ID", "4242"), ("GITHUB_RUN_ATTEMPT", "1")];
+    let a = shard(&krate, "pipeline-a", "count:1/2", &gha);
+    let b = shard(&krate, "pipeline-b", "count:2/2", &gha);
+    let (a, b) = (a.to_str().unwrap(), b.to_str().unwrap());
+    let merged = heddle(
+        &krate,
+        &["report", "--store", a, "--store", b, "--format", "json"],
+        None,
+        &[],
+    );
+    assert_eq!(merged.code, Some(0), "{}", merged.stderr);
+    let v = parse_json(&merged);
+    assert_eq!(v["runs"], serde_json::json!(["gha-4242-1"]), "{v:#}");
+    assert_eq!(v["stores"], 2);
+    for test in ["tally", "parity"] {
+        let s = suite(&v, test);
+        assert_eq!(s["coverage"]["complete"], true, "{s:#}");
+        assert_eq!(s["not_run"], 0, "{s:#}");
+    }
+    let table = heddle(&krate, &["report", "--store", a, "--store", b], None, &[]);
+    assert!(
+        table.stdout.contains("merged: 1 run (gha-4242-1) from 2 stores"),
+        "{}",
+        table.stdout
+    );
+
+    // no pipeline id: each partition is a nextest run of its own
+    let c = shard(&krate, "plain-a", "count:1/2", &[]);
+    let d = shard(&krate, "plain-b", "count:2/2", &[]);
+    let (c, d) = (c.to_str().unwrap(), d.to_str().unwrap());
+    let latest = parse_json(&heddle(
+        &krate,
+        &["report", "--store", c, "--store", d, "--format", "json"],
+        None,
+        &[],
+    ));
+    assert_eq!(
+        suite(&latest, "tally")["coverage"]["complete"],
+        false,
+        "{latest:#}"
+    );
+    let all = parse_json(&heddle(
+        &krate,
+        &[
+            "report", "--store", c, "--store", d, "--runs", "all", "--format", "json",
+        ],
+        None,
+        &[],
+    ));
+    assert_eq!(all["runs"].as_array().map(Vec::len), Some(2), "{all:#}");
+    assert_eq!(suite(&all, "tally")["coverage"]["complete"], true, "{all:#}");
+}

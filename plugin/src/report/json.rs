@@ -5,6 +5,7 @@
 //! ```text
 //! { "format": 1,
 //!   "runs": [run id, …],                      oldest first
+//!   "stores": n,                              store roots read (shards merged)
 //!   "notes": [text, …],                       what reading skipped
 //!   "suites": [ {
 //!       "crate", "target", "file", "function", "test",   test = rows module path
@@ -51,6 +52,7 @@ impl Serialize for Levels<'_> {
 struct Doc<'a> {
     format: u32,
     runs: &'a [String],
+    stores: usize,
     notes: &'a [String],
     suites: Vec<Suite<'a>>,
 }
@@ -239,6 +241,7 @@ pub fn render(report: &Report<'_>) -> String {
     let doc = Doc {
         format: REPORT_FORMAT,
         runs: &report.runs,
+        stores: report.stores,
         notes: &report.notes,
         suites: report.suites.iter().map(suite).collect(),
     };

@@ -30,8 +30,9 @@ pub struct ReportArgs {
     /// Run to report: `latest` or a run id.
     #[arg(long, value_name = "latest|ID", default_value = "latest")]
     pub run: String,
-    /// Merge the last N runs (history across CI runs, for flakiness).
-    #[arg(long, value_name = "N", conflicts_with = "run")]
+    /// Merge the last N runs (history across CI runs, for flakiness), or `all`: every run
+    /// found in the stores read (shards of one pipeline recorded under different ids).
+    #[arg(long, value_name = "N|all", conflicts_with = "run", value_parser = parse_runs)]
     pub runs: Option<usize>,
     /// List every interaction's pass counts, not only those with failures.
     #[arg(long)]
@@ -46,6 +47,15 @@ pub struct ReportArgs {
     /// Confidence the λ advice aims for.
     #[arg(long, value_name = "C", default_value_t = 0.95)]
     pub confidence: f64,
+}
+
+/// `--runs`: a count, or `all` (every run).
+fn parse_runs(text: &str) -> Result<usize, String> {
+    if text == "all" {
+        return Ok(usize::MAX);
+    }
+    text.parse()
+        .map_err(|_| format!("`{text}` is not a count of runs; hint: a number such as `10`, or `all`"))
 }
 
 /// Report formats.
@@ -137,6 +147,8 @@ pub struct Report<'a> {
     /// Runs in the store that were not read (older, or of other packages): a partial
     /// run's report says how to merge them.
     pub other_runs: usize,
+    /// Store roots read (several: shards merged).
+    pub stores: usize,
 }
 
 /// Labels of an interaction as `(parameter, label)` pairs.
@@ -216,6 +228,7 @@ pub fn build<'a>(records: &'a Records, packages: &[String], confidence: f64, all
         notes,
         all,
         other_runs: 0,
+        stores: 1,
     }
 }
 
@@ -321,7 +334,7 @@ pub fn run(args: ReportArgs) -> Result<ExitCode, Failure> {
     }
     let store = open_store(&args)?;
     let records = read(&store, &args)?;
-    print(&records, &args, other_runs(&store, &records));
+    print(&records, &args, other_runs(&store, &records), store.roots().len());
     Ok(ExitCode::SUCCESS)
 }
 
@@ -333,9 +346,10 @@ pub fn other_runs(store: &Store, records: &Records) -> usize {
 }
 
 /// Prints the report of some records to stdout (notes about skipped lines to stderr).
-pub fn print(records: &Records, args: &ReportArgs, other_runs: usize) {
+pub fn print(records: &Records, args: &ReportArgs, other_runs: usize, stores: usize) {
     let mut report = build(records, &args.selection.package, args.confidence, args.all);
     report.other_runs = other_runs;
+    report.stores = stores;
     for n in &report.notes {
         eprintln!("note: {n}");
     }
