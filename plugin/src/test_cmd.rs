@@ -112,7 +112,14 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
     let records = store.as_ref().and_then(|s| s.read_run(&id).ok());
     match records {
         Some(records) => {
-            let others = store.as_ref().map_or(0, |s| report::other_runs(s, &records));
+            let packages: Vec<String> = project.packages.iter().map(|p| p.name.clone()).collect();
+            let others = store.as_ref().map_or(0, |s| {
+                s.runs().map_or(0, |runs| {
+                    runs.iter()
+                        .filter(|r| r.id != id && s.packages(r).iter().any(|p| packages.contains(p)))
+                        .count()
+                })
+            });
             let rargs = ReportArgs {
                 selection: Selection::default(),
                 run: id.clone(),
@@ -123,7 +130,7 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
                 confidence: args.confidence,
             };
             let stores = store.as_ref().map_or(1, |s| s.roots().len());
-            report::print(&records, &rargs, others, stores);
+            report::print(&records, &rargs, &packages, others, stores);
         }
         None => eprintln!(
             "heddle: {}",

@@ -520,3 +520,58 @@ fn shards_of_one_pipeline_merge_by_default() {
     assert_eq!(all["runs"].as_array().map(Vec::len), Some(2), "{all:#}");
     assert_eq!(suite(&all, "tally")["coverage"]["complete"], true, "{all:#}");
 }
+
+/// Two projects building into one target directory (`CARGO_TARGET_DIR`, as the
+/// end-to-end harness shares one): `report` in one of them shows its own latest run, the
+/// other's later run neither chosen as "latest" nor counted in the header.
+#[test]
+fn a_shared_target_dir_keeps_projects_apart() {
+    let a = create("ci_scope_a", "tests/greenhouse.rs", CLEAN_AND_PARITY);
+    let b = create("ci_scope_b", "tests/misting.rs", FLAKY_ONCE);
+    let markers = b.root().join("markers");
+    // plain `cargo test`, each recording into the shared target directory's store
+    a.cargo(&["test", "--test", "greenhouse", "--no-fail-fast"], None, &[])
+        .assert_compiled();
+    b.cargo(
+        &["test", "--test", "misting", "--no-fail-fast"],
+        None,
+        &[("MARKERS", markers.to_str().unwrap())],
+    )
+    .assert_compiled();
+    let v = parse_json(&heddle(&a, &["report", "--format", "json"], None, &[]));
+    let suites: Vec<&str> = v["suites"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|s| s["crate"].as_str().unwrap())
+        .collect();
+    assert_eq!(suites, ["ci_scope_a", "ci_scope_a"], "{v:#}");
+    assert_eq!(v["runs"].as_array().map(Vec::len), Some(1), "{v:#}");
+    let table = heddle(&a, &["report"], None, &[]);
+    assert!(
+        table.stdout.starts_with("heddle report: run "),
+        "{}",
+        table.stdout
+    );
+    assert!(table.stdout.contains(" · 2 suites"), "{}", table.stdout);
+    assert!(!table.stdout.contains("ci_scope_b"), "{}", table.stdout);
+    // `-p` names the package explicitly: the same run
+    let p = parse_json(&heddle(
+        &a,
+        &["report", "-p", "ci_scope_a", "--format", "json"],
+        None,
+        &[],
+    ));
+    assert_eq!(p["runs"], v["runs"]);
+    // and from the other project, its own
+    let vb = parse_json(&heddle(&b, &["report", "--format", "json"], None, &[]));
+    assert!(
+        vb["suites"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .all(|s| s["crate"] == "ci_scope_b"),
+        "{vb:#}"
+    );
+    assert_ne!(vb["runs"], v["runs"]);
+}

@@ -374,13 +374,13 @@ fn bad_input_exits_with_2() {
     assert_eq!(fmt.status.code(), Some(2));
 }
 
-/// A crate with no build at all: `report` finds the store where cargo says the target
+/// A crate with no build at all (the package the records name): `report` finds the store where cargo says the target
 /// (or build) directory is, however that was configured.
 fn bare_crate(dir: &Path) -> PathBuf {
     std::fs::create_dir_all(dir.join("src")).unwrap();
     std::fs::write(
         dir.join("Cargo.toml"),
-        "[package]\nname = \"bare\"\nversion = \"0.0.0\"\nedition = \"2024\"\n\n[workspace]\n",
+        "[package]\nname = \"shop\"\nversion = \"0.0.0\"\nedition = \"2024\"\n\n[workspace]\n",
     )
     .unwrap();
     std::fs::write(dir.join("src/lib.rs"), "").unwrap();

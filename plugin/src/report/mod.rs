@@ -165,8 +165,11 @@ pub fn levels_text(pairs: &[(&str, &str)]) -> String {
         .join(", ")
 }
 
-/// Reads the store the arguments name.
-pub fn open_store(args: &ReportArgs) -> Result<Store, Failure> {
+/// The store the arguments name, and the packages the report covers (empty: all). A
+/// run belongs to the packages it ran: without `-p` the report covers the current
+/// package as cargo chooses it (`--workspace`: every member); with `--store` (shards,
+/// no project) it covers the `-p` given, else every package found.
+pub fn open_store(args: &ReportArgs) -> Result<(Store, Vec<String>), Failure> {
     let not_found = |what: String| {
         usage(
             Diagnostic::new(format!("no heddle records found {what}"))
@@ -184,7 +187,8 @@ pub fn open_store(args: &ReportArgs) -> Result<Store, Failure> {
                 Err(e) => return Err(usage(e.diagnostic())),
             }
         }
-        return Store::merge(roots).map_err(|e| usage(e.diagnostic()));
+        let store = Store::merge(roots).map_err(|e| usage(e.diagnostic()))?;
+        return Ok((store, args.selection.package.clone()));
     }
     let project = workspace::load(&args.selection)?;
     let roots: Vec<PathBuf> = project
@@ -195,18 +199,46 @@ pub fn open_store(args: &ReportArgs) -> Result<Store, Failure> {
     if roots.is_empty() {
         return Err(not_found(format!("in `{}`", project.target_dir.display())));
     }
-    Store::merge(roots).map_err(|e| usage(e.diagnostic()))
+    let store = Store::merge(roots).map_err(|e| usage(e.diagnostic()))?;
+    let packages = project.packages.iter().map(|p| p.name.clone()).collect();
+    Ok((store, packages))
 }
 
-/// Reads the records the arguments select.
-pub fn read(store: &Store, args: &ReportArgs) -> Result<Records, Failure> {
-    let r = match (args.runs, args.run.as_str()) {
-        (Some(0), _) => return Err(usage("`--runs` must be at least 1")),
-        (Some(n), _) => store.read_last(n),
-        (None, "latest") => store.read_last(1),
-        (None, id) => store.read_run(id),
+/// Reads the records the arguments select among the runs of `packages` (all when
+/// empty): "latest" and `--runs N` count only runs that recorded one of them. Returns
+/// the records and how many other runs of those packages the store holds.
+pub fn read(store: &Store, args: &ReportArgs, packages: &[String]) -> Result<(Records, usize), Failure> {
+    let runs = store.runs().map_err(|e| usage(e.diagnostic()))?;
+    let ours: Vec<_> = runs
+        .into_iter()
+        .filter(|r| packages.is_empty() || store.packages(r).iter().any(|p| packages.contains(p)))
+        .collect();
+    if args.runs.is_none() && args.run != "latest" {
+        let records = store.read_run(&args.run).map_err(|e| usage(e.diagnostic()))?;
+        return Ok((records, ours.len().saturating_sub(1)));
+    }
+    let n = match args.runs {
+        Some(0) => return Err(usage("`--runs` must be at least 1")),
+        Some(n) => n,
+        None => 1,
     };
-    r.map_err(|e| usage(e.diagnostic()))
+    if ours.is_empty() {
+        let names: Vec<String> = packages.iter().map(|p| format!("`{p}`")).collect();
+        return Err(usage(
+            Diagnostic::new(format!(
+                "no run in the store recorded {}",
+                if names.is_empty() {
+                    "a suite".to_string()
+                } else {
+                    format!("a suite of {}", names.join(", "))
+                }
+            ))
+            .hint("run its tests first (`cargo heddle test`), or choose packages with `-p` or `--workspace`"),
+        ));
+    }
+    let keep = ours.len().saturating_sub(n);
+    let other = keep;
+    Ok((store.read_runs(ours.into_iter().skip(keep).collect()), other))
 }
 
 /// Builds the report of some records, keeping the suites of `packages` (all if empty).
@@ -332,22 +364,16 @@ pub fn run(args: ReportArgs) -> Result<ExitCode, Failure> {
             .hint("for example `--confidence 0.95`"),
         ));
     }
-    let store = open_store(&args)?;
-    let records = read(&store, &args)?;
-    print(&records, &args, other_runs(&store, &records), store.roots().len());
+    let (store, packages) = open_store(&args)?;
+    let (records, other) = read(&store, &args, &packages)?;
+    print(&records, &args, &packages, other, store.roots().len());
     Ok(ExitCode::SUCCESS)
 }
 
-/// Runs in the store beyond those read.
-pub fn other_runs(store: &Store, records: &Records) -> usize {
-    store
-        .runs()
-        .map_or(0, |r| r.len().saturating_sub(records.runs.len()))
-}
-
-/// Prints the report of some records to stdout (notes about skipped lines to stderr).
-pub fn print(records: &Records, args: &ReportArgs, other_runs: usize, stores: usize) {
-    let mut report = build(records, &args.selection.package, args.confidence, args.all);
+/// Prints the report of some records, keeping the suites of `packages` (all when
+/// empty), to stdout (notes about skipped lines to stderr).
+pub fn print(records: &Records, args: &ReportArgs, packages: &[String], other_runs: usize, stores: usize) {
+    let mut report = build(records, packages, args.confidence, args.all);
     report.other_runs = other_runs;
     report.stores = stores;
     for n in &report.notes {
