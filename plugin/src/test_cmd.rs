@@ -8,7 +8,7 @@ use heddle_store::{Store, find_root};
 use heddle_test::record::layout::{RUN_ID_VAR, new_run_id, pipeline_run_id, validate_run_id};
 
 use crate::failure::{Diagnostic, Failure, usage};
-use crate::report::{self, Format, ReportArgs};
+use crate::report::{self, FailOn, Format, ReportArgs};
 use crate::workspace::{self, Selection};
 
 /// Arguments of `test`.
@@ -33,6 +33,11 @@ pub struct TestArgs {
     /// Confidence the λ advice aims for.
     #[arg(long, value_name = "C", default_value_t = 0.95)]
     pub confidence: f64,
+    /// Exit with a failing code when the report finds this, if the test run itself
+    /// passed (see `cargo heddle report --help`): `failures` (3), `flaky` (4),
+    /// `incomplete` (5).
+    #[arg(long, value_enum, value_name = "WHAT", value_delimiter = ',')]
+    pub fail_on: Vec<FailOn>,
     /// Hide the test run's own output; print only the report.
     #[arg(long, short = 'q')]
     pub quiet: bool,
@@ -128,15 +133,23 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
                 format: args.format,
                 store: Vec::new(),
                 confidence: args.confidence,
+                fail_on: args.fail_on.clone(),
             };
             let stores = store.as_ref().map_or(1, |s| s.roots().len());
-            report::print(&records, &rargs, &packages, others, stores);
+            let verdict = report::print(&records, &rargs, &packages, others, stores);
+            // the test run's own failure comes first; `--fail-on` speaks when it passed
+            if status_code != 0 {
+                return Ok(ExitCode::from(status_code));
+            }
+            Ok(verdict)
         }
-        None => eprintln!(
-            "heddle: {}",
-            Diagnostic::new(format!("no records for run {id}"))
-                .hint("no `#[cover]` test ran (did the build fail, or a filter exclude them?)")
-        ),
+        None => {
+            eprintln!(
+                "heddle: {}",
+                Diagnostic::new(format!("no records for run {id}"))
+                    .hint("no `#[cover]` test ran (did the build fail, or a filter exclude them?)")
+            );
+            Ok(ExitCode::from(status_code))
+        }
     }
-    Ok(ExitCode::from(status_code))
 }

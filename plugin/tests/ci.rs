@@ -575,3 +575,113 @@ fn a_shared_target_dir_keeps_projects_apart() {
     );
     assert_ne!(vb["runs"], v["runs"]);
 }
+
+/// `--fail-on` turns what the report finds into documented exit codes (failures 3,
+/// flaky 4, incomplete 5), and `check` fails a crate that declares it pins
+/// (`pinned = true`) when its pins file is gone.
+#[test]
+fn exit_codes_fail_ci_on_request() {
+    let krate = create("ci_exit", "tests/greenhouse.rs", CLEAN_AND_PARITY);
+    let run = heddle(
+        &krate,
+        &["test", "--quiet", "--", "--test", "greenhouse"],
+        None,
+        &[],
+    );
+    assert_eq!(run.code, Some(101), "{}", run.stderr);
+    let code = |args: &[&str]| {
+        let mut full = vec!["report"];
+        full.extend_from_slice(args);
+        let r = heddle(&krate, &full, None, &[]);
+        (r.code, r.stderr)
+    };
+    assert_eq!(code(&[]).0, Some(0), "a report alone exits 0");
+    let (c, err) = code(&["--fail-on", "failures"]);
+    assert_eq!(c, Some(3), "{err}");
+    assert!(
+        err.contains("failed in every run (`--fail-on failures`: exit code 3)"),
+        "{err}"
+    );
+    assert_eq!(
+        code(&["--fail-on", "flaky"]).0,
+        Some(0),
+        "no row both passed and failed"
+    );
+    assert_eq!(code(&["--fail-on", "flaky,incomplete"]).0, Some(0));
+    assert_eq!(
+        code(&["--fail-on", "incomplete", "--fail-on", "failures"]).0,
+        Some(3)
+    );
+    let partial = heddle(
+        &krate,
+        &[
+            "test",
+            "--quiet",
+            "--fail-on",
+            "incomplete",
+            "--",
+            "--test",
+            "greenhouse",
+            "tally::row_00",
+            "--",
+            "--exact",
+        ],
+        None,
+        &[],
+    );
+    assert_eq!(partial.code, Some(5), "{}", partial.stderr);
+
+    let flaky = create("ci_exit_flaky", "tests/misting.rs", FLAKY_ONCE);
+    let markers = flaky.root().join("markers");
+    let env = [("MARKERS", markers.to_str().unwrap())];
+    let rounds = heddle(
+        &flaky,
+        &[
+            "test",
+            "--quiet",
+            "--repeat",
+            "2",
+            "--fail-on",
+            "flaky",
+            "--",
+            "--test",
+            "misting",
+        ],
+        None,
+        &env,
+    );
+    assert_eq!(rounds.code, Some(101), "the test run's own failure comes first");
+    let r = heddle(&flaky, &["report", "--fail-on", "flaky"], None, &env);
+    assert_eq!(r.code, Some(4), "{}", r.stderr);
+
+    // a crate that pins: no pins file fails `check`
+    let pinned = Scratch::create(&CrateDef {
+        name: "ci_exit_pinned",
+        metadata: Some("pinned = true"),
+        files: &[("tests/greenhouse.rs", CLEAN_AND_PARITY)],
+        ..CrateDef::default()
+    })
+    .unwrap_or_else(|e| panic!("{e}"));
+    let check = heddle(&pinned, &["check"], None, &[]);
+    assert_eq!(check.code, Some(1), "{}", check.stderr);
+    assert!(
+        check
+            .stderr
+            .contains("`ci_exit_pinned` declares `pinned = true` but has no `heddle-pins.toml`"),
+        "{}",
+        check.stderr
+    );
+    assert_eq!(heddle(&pinned, &["pin"], None, &[]).code, Some(0));
+    let ok = heddle(&pinned, &["check"], None, &[]);
+    assert_eq!(ok.code, Some(0), "{}", ok.stderr);
+    // the build accepts the key
+    let build = heddle(
+        &pinned,
+        &["test", "--quiet", "--", "--test", "greenhouse", "tally"],
+        None,
+        &[],
+    );
+    assert_eq!(build.code, Some(0), "{}", build.stderr);
+    std::fs::remove_file(pinned.root().join("heddle-pins.toml")).unwrap();
+    assert_eq!(heddle(&pinned, &["check"], None, &[]).code, Some(1));
+}

@@ -47,6 +47,80 @@ pub struct ReportArgs {
     /// Confidence the λ advice aims for.
     #[arg(long, value_name = "C", default_value_t = 0.95)]
     pub confidence: f64,
+    /// Exit with a failing code when the report finds this (repeatable or
+    /// comma-separated): `failures` (3), `flaky` (4), `incomplete` (5).
+    #[arg(long, value_enum, value_name = "WHAT", value_delimiter = ',')]
+    pub fail_on: Vec<FailOn>,
+}
+
+/// What `--fail-on` can fail a CI job on, each with its exit code. The first that holds,
+/// in this order, is the exit code; 0 when none does. 2 stays a usage error and 1 a
+/// problem found before any report.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, ValueEnum)]
+pub enum FailOn {
+    /// A row failed in every execution read (a row that also passed is flaky instead):
+    /// exit code 3.
+    Failures,
+    /// A row both passed and failed (retries, repeats, runs merged): exit code 4.
+    Flaky,
+    /// A suite's t-way interactions did not all run in λ rows (a partial run, a filter,
+    /// a missing shard), or no suite was recorded at all: exit code 5.
+    Incomplete,
+}
+
+impl FailOn {
+    /// The exit code.
+    pub fn code(self) -> u8 {
+        match self {
+            FailOn::Failures => 3,
+            FailOn::Flaky => 4,
+            FailOn::Incomplete => 5,
+        }
+    }
+
+    /// Whether it holds for a report, in words.
+    pub fn holds(self, report: &Report<'_>) -> Option<String> {
+        let rows = |f: &dyn Fn(&RowView) -> bool| -> usize {
+            report
+                .suites
+                .iter()
+                .map(|s| s.rows.iter().filter(|r| f(r)).count())
+                .sum()
+        };
+        let s = |n: usize| if n == 1 { "" } else { "s" };
+        match self {
+            FailOn::Failures => {
+                let n = rows(&|r| r.count.failures > 0 && r.count.passes == 0);
+                (n > 0).then(|| format!("{n} row{} failed in every run", s(n)))
+            }
+            FailOn::Flaky => {
+                let n = rows(&|r| r.count.is_mixed());
+                (n > 0).then(|| format!("{n} row{} both passed and failed", s(n)))
+            }
+            FailOn::Incomplete if report.suites.is_empty() => Some("no suite was recorded".into()),
+            FailOn::Incomplete => {
+                let n = report.suites.iter().filter(|x| !x.ran.complete()).count();
+                (n > 0).then(|| format!("{n} suite{} did not run every interaction in lambda rows", s(n)))
+            }
+        }
+    }
+}
+
+/// The exit code `--fail-on` asks for, saying on stderr which condition held.
+pub fn fail_code(report: &Report<'_>, fail_on: &[FailOn]) -> ExitCode {
+    let mut asked = fail_on.to_vec();
+    asked.sort();
+    asked.dedup();
+    for f in asked {
+        if let Some(why) = f.holds(report) {
+            let name = f
+                .to_possible_value()
+                .map_or_else(String::new, |v| v.get_name().to_string());
+            eprintln!("heddle: {why} (`--fail-on {name}`: exit code {})", f.code());
+            return ExitCode::from(f.code());
+        }
+    }
+    ExitCode::SUCCESS
 }
 
 /// `--runs`: a count, or `all` (every run).
@@ -366,13 +440,19 @@ pub fn run(args: ReportArgs) -> Result<ExitCode, Failure> {
     }
     let (store, packages) = open_store(&args)?;
     let (records, other) = read(&store, &args, &packages)?;
-    print(&records, &args, &packages, other, store.roots().len());
-    Ok(ExitCode::SUCCESS)
+    Ok(print(&records, &args, &packages, other, store.roots().len()))
 }
 
 /// Prints the report of some records, keeping the suites of `packages` (all when
-/// empty), to stdout (notes about skipped lines to stderr).
-pub fn print(records: &Records, args: &ReportArgs, packages: &[String], other_runs: usize, stores: usize) {
+/// empty), to stdout (notes about skipped lines to stderr); returns the exit code
+/// `--fail-on` asks for.
+pub fn print(
+    records: &Records,
+    args: &ReportArgs,
+    packages: &[String],
+    other_runs: usize,
+    stores: usize,
+) -> ExitCode {
     let mut report = build(records, packages, args.confidence, args.all);
     report.other_runs = other_runs;
     report.stores = stores;
@@ -382,4 +462,5 @@ pub fn print(records: &Records, args: &ReportArgs, packages: &[String], other_ru
     let text = render(&report, args.format, crate::style::color_stdout());
     let mut out = std::io::stdout().lock();
     let _ = out.write_all(text.as_bytes()).and_then(|_| out.flush());
+    fail_code(&report, &args.fail_on)
 }
