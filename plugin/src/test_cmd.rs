@@ -38,7 +38,11 @@ pub struct TestArgs {
     /// `incomplete` (5).
     #[arg(long, value_enum, value_name = "WHAT", value_delimiter = ',')]
     pub fail_on: Vec<FailOn>,
-    /// Hide the test run's own output; print only the report.
+    /// Also write the report in `--format` to FILE; the terminal then shows the table.
+    #[arg(long, value_name = "FILE")]
+    pub output: Option<std::path::PathBuf>,
+    /// Hide the test run's own output (build and test errors still show); print only
+    /// the report.
     #[arg(long, short = 'q')]
     pub quiet: bool,
     /// Arguments for `cargo test` (or nextest), after `--`.
@@ -55,6 +59,19 @@ fn run_id() -> Result<String, Failure> {
             Ok(id)
         }
         _ => Ok(pipeline_run_id(&|n| std::env::var(n).ok()).unwrap_or_else(new_run_id)),
+    }
+}
+
+/// Under `--quiet`, the errors of a failed test run: a build that failed shows whole
+/// (the compiler's errors are the point), a test run only its `error:` lines.
+fn show_errors(stderr: &str) {
+    let build_failed = stderr.contains("could not compile")
+        || stderr.contains("error[")
+        || stderr.contains("error: failed to");
+    for line in stderr.lines() {
+        if build_failed || line.starts_with("error") {
+            eprintln!("{line}");
+        }
     }
 }
 
@@ -95,15 +112,21 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
             String::new()
         };
         eprintln!("heddle: run {id}{round_note}");
-        if args.quiet {
-            cmd.stdout(Stdio::null()).stderr(Stdio::null());
-        }
-        let status = cmd
-            .status()
-            .map_err(|e| usage(format!("could not start `{}`: {e}", cargo.to_string_lossy())))?;
-        if args.quiet && !status.success() {
-            eprintln!("heddle: the test run exited with {status}");
-        }
+        let start_failed =
+            |e: std::io::Error| usage(format!("could not start `{}`: {e}", cargo.to_string_lossy()));
+        let status = if args.quiet {
+            let out = cmd.stdin(Stdio::null()).output().map_err(start_failed)?;
+            if !out.status.success() {
+                show_errors(&String::from_utf8_lossy(&out.stderr));
+                eprintln!("heddle: the test run exited with {}", out.status);
+            }
+            out.status
+        } else {
+            // stdout is the report's alone (`--format junit > file` is XML): the test
+            // run's own output goes to stderr
+            cmd.stdout(std::io::stderr());
+            cmd.status().map_err(start_failed)?
+        };
         if !status.success() && status_code == 0 {
             status_code = status.code().map_or(1, |c| c.clamp(1, 255) as u8);
         }
@@ -134,9 +157,10 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
                 store: Vec::new(),
                 confidence: args.confidence,
                 fail_on: args.fail_on.clone(),
+                output: args.output.clone(),
             };
             let stores = store.as_ref().map_or(1, |s| s.roots().len());
-            let verdict = report::print(&records, &rargs, &packages, others, stores);
+            let verdict = report::print(&records, &rargs, &packages, others, stores)?;
             // the test run's own failure comes first; `--fail-on` speaks when it passed
             if status_code != 0 {
                 return Ok(ExitCode::from(status_code));

@@ -685,3 +685,67 @@ fn exit_codes_fail_ci_on_request() {
     std::fs::remove_file(pinned.root().join("heddle-pins.toml")).unwrap();
     assert_eq!(heddle(&pinned, &["check"], None, &[]).code, Some(1));
 }
+
+/// stdout belongs to the report: `test --format junit > file` is XML alone (the test
+/// run's output goes to stderr); `--quiet` still shows a build's errors; `--output`
+/// writes the report's format to a file while the terminal shows the table.
+#[test]
+fn streams_keep_the_report_apart() {
+    let krate = create("ci_streams", "tests/greenhouse.rs", CLEAN_AND_PARITY);
+    let run = heddle(
+        &krate,
+        &["test", "--format", "junit", "--", "--test", "greenhouse"],
+        None,
+        &[],
+    );
+    assert_eq!(run.code, Some(101), "{}", run.stderr);
+    assert!(
+        run.stdout.starts_with("<?xml"),
+        "stdout is the XML alone:\n{}",
+        run.stdout
+    );
+    assert!(!run.stdout.contains("running "), "{}", run.stdout);
+    assert!(
+        run.stderr.contains("running "),
+        "the test output is on stderr: {}",
+        run.stderr
+    );
+    quick_junit::Report::deserialize_from_str(&run.stdout).expect("the XML parses");
+    junit_valid(&run.stdout);
+
+    let file = krate.root().join("report.json");
+    let both = heddle(
+        &krate,
+        &[
+            "test",
+            "--quiet",
+            "--format",
+            "json",
+            "--output",
+            file.to_str().unwrap(),
+            "--",
+            "--test",
+            "greenhouse",
+        ],
+        None,
+        &[],
+    );
+    assert!(
+        both.stdout.starts_with("heddle report: run "),
+        "the terminal shows the table: {}",
+        both.stdout
+    );
+    let v: Value =
+        serde_json::from_str(&std::fs::read_to_string(&file).unwrap()).expect("the file holds the JSON");
+    assert!(v["suites"].as_array().is_some_and(|s| s.len() == 2), "{v:#}");
+
+    // a build error is never hidden by --quiet
+    krate.write(
+        "tests/broken.rs",
+        "#[test]\nfn f() {\n    let x: u32 = \"text\";\n}\n",
+    );
+    let broken = heddle(&krate, &["test", "--quiet", "--", "--test", "broken"], None, &[]);
+    assert_ne!(broken.code, Some(0));
+    assert!(broken.stderr.contains("error[E0308]"), "{}", broken.stderr);
+    assert!(broken.stderr.contains("mismatched types"), "{}", broken.stderr);
+}

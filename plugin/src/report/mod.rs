@@ -47,6 +47,9 @@ pub struct ReportArgs {
     /// Confidence the λ advice aims for.
     #[arg(long, value_name = "C", default_value_t = 0.95)]
     pub confidence: f64,
+    /// Also write the report in `--format` to FILE; the terminal then shows the table.
+    #[arg(long, value_name = "FILE")]
+    pub output: Option<PathBuf>,
     /// Exit with a failing code when the report finds this (repeatable or
     /// comma-separated): `failures` (3), `flaky` (4), `incomplete` (5).
     #[arg(long, value_enum, value_name = "WHAT", value_delimiter = ',')]
@@ -440,11 +443,12 @@ pub fn run(args: ReportArgs) -> Result<ExitCode, Failure> {
     }
     let (store, packages) = open_store(&args)?;
     let (records, other) = read(&store, &args, &packages)?;
-    Ok(print(&records, &args, &packages, other, store.roots().len()))
+    print(&records, &args, &packages, other, store.roots().len())
 }
 
 /// Prints the report of some records, keeping the suites of `packages` (all when
-/// empty), to stdout (notes about skipped lines to stderr); returns the exit code
+/// empty), to stdout (notes about skipped lines to stderr), and with `--output` writes
+/// it in its format to that file (stdout then shows the table); returns the exit code
 /// `--fail-on` asks for.
 pub fn print(
     records: &Records,
@@ -452,15 +456,28 @@ pub fn print(
     packages: &[String],
     other_runs: usize,
     stores: usize,
-) -> ExitCode {
+) -> Result<ExitCode, Failure> {
     let mut report = build(records, packages, args.confidence, args.all);
     report.other_runs = other_runs;
     report.stores = stores;
     for n in &report.notes {
         eprintln!("note: {n}");
     }
-    let text = render(&report, args.format, crate::style::color_stdout());
+    let shown = match &args.output {
+        Some(path) => {
+            let text = render(&report, args.format, false);
+            std::fs::write(path, text).map_err(|e| {
+                usage(
+                    Diagnostic::new(format!("cannot write `{}`: {e}", path.display()))
+                        .hint("check that its directory exists and is writable"),
+                )
+            })?;
+            Format::Table
+        }
+        None => args.format,
+    };
+    let text = render(&report, shown, crate::style::color_stdout());
     let mut out = std::io::stdout().lock();
     let _ = out.write_all(text.as_bytes()).and_then(|_| out.flush());
-    fail_code(&report, &args.fail_on)
+    Ok(fail_code(&report, &args.fail_on))
 }
