@@ -5,9 +5,9 @@ use std::process::{Command, ExitCode, Stdio};
 
 use clap::Args;
 use heddle_store::{Store, find_root};
-use heddle_test::record::layout::{RUN_ID_VAR, new_run_id, pipeline_run_id, validate_run_id};
+use heddle_test::record::layout::{RUN_ID_VAR, TARGET_DIR_VAR, new_run_id, pipeline_run_id, validate_run_id};
 
-use crate::failure::{Diagnostic, Failure, usage};
+use crate::failure::{Diagnostic, Failure, found, usage};
 use crate::report::{self, FailOn, Format, ReportArgs};
 use crate::workspace::{self, Selection};
 
@@ -75,15 +75,95 @@ fn show_errors(stderr: &str) {
     }
 }
 
+/// One test process's line saying that recording failed (the runtime's warning).
+const RECORDING_WARNING: &str = "heddle: warning: outcomes are";
+
+/// Runs the cargo command, its stdout and stderr both copied to this process's stderr
+/// (stdout is the report's alone: `--format junit > file` stays XML) unless `quiet`,
+/// collecting the runtime's warnings on the way. Under `quiet` a failed run still shows
+/// its errors.
+fn run_cargo(
+    cmd: &mut Command,
+    quiet: bool,
+    warnings: &mut Vec<String>,
+) -> std::io::Result<std::process::ExitStatus> {
+    use std::io::{BufRead, BufReader, Write};
+    cmd.stdin(Stdio::null())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped());
+    let mut child = cmd.spawn()?;
+    let pipes: Vec<Box<dyn std::io::Read + Send>> = [
+        child
+            .stdout
+            .take()
+            .map(|p| Box::new(p) as Box<dyn std::io::Read + Send>),
+        child
+            .stderr
+            .take()
+            .map(|p| Box::new(p) as Box<dyn std::io::Read + Send>),
+    ]
+    .into_iter()
+    .flatten()
+    .collect();
+    let (status, lines) = std::thread::scope(|scope| {
+        let readers: Vec<_> = pipes
+            .into_iter()
+            .map(|pipe| {
+                scope.spawn(move || {
+                    let mut kept = Vec::new();
+                    for line in BufReader::new(pipe).lines() {
+                        let Ok(line) = line else { break };
+                        if !quiet {
+                            let _ = writeln!(std::io::stderr().lock(), "{line}");
+                        }
+                        kept.push(line);
+                    }
+                    kept
+                })
+            })
+            .collect();
+        let status = child.wait();
+        let lines: Vec<String> = readers
+            .into_iter()
+            .flat_map(|r| r.join().unwrap_or_default())
+            .collect();
+        (status, lines)
+    });
+    let status = status?;
+    for line in &lines {
+        if line.contains(RECORDING_WARNING) && !warnings.contains(line) {
+            warnings.push(line.trim().to_string());
+        }
+    }
+    if quiet && !status.success() {
+        show_errors(&lines.join("\n"));
+        eprintln!("heddle: the test run exited with {status}");
+    }
+    Ok(status)
+}
+
 /// Runs `test`.
 pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
     if args.repeat == 0 {
         return Err(usage("`--repeat` must be at least 1"));
     }
-    let project = workspace::load(&args.selection)?;
+    let mut project = workspace::load(&args.selection)?;
+    if let Some(dir) = workspace::target_dir_arg(&args.cargo_args) {
+        project.target_dir = dir;
+        project.build_dir = None;
+    }
+    // the test processes write where this command reads, wherever cargo or nextest runs
+    // the test binaries from (a nextest archive is extracted to a temporary directory)
+    let store_dir = project.record_roots().remove(0);
+    let store_dir = if store_dir.is_absolute() {
+        store_dir
+    } else {
+        std::env::current_dir().map_or(store_dir.clone(), |cwd| cwd.join(&store_dir))
+    };
     let id = run_id()?;
     let cargo = std::env::var_os("CARGO").unwrap_or_else(|| "cargo".into());
     let mut status_code: u8 = 0;
+    let mut warnings = Vec::new();
     for round in 1..=args.repeat {
         let mut cmd = Command::new(&cargo);
         if args.nextest {
@@ -106,37 +186,20 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
         }
         cmd.args(&args.cargo_args);
         cmd.env(RUN_ID_VAR, &id);
+        cmd.env(TARGET_DIR_VAR, &store_dir);
         let round_note = if args.repeat > 1 {
             format!(" (round {round} of {})", args.repeat)
         } else {
             String::new()
         };
         eprintln!("heddle: run {id}{round_note}");
-        let start_failed =
-            |e: std::io::Error| usage(format!("could not start `{}`: {e}", cargo.to_string_lossy()));
-        let status = if args.quiet {
-            let out = cmd.stdin(Stdio::null()).output().map_err(start_failed)?;
-            if !out.status.success() {
-                show_errors(&String::from_utf8_lossy(&out.stderr));
-                eprintln!("heddle: the test run exited with {}", out.status);
-            }
-            out.status
-        } else {
-            // stdout is the report's alone (`--format junit > file` is XML): the test
-            // run's own output goes to stderr
-            cmd.stdout(std::io::stderr());
-            cmd.status().map_err(start_failed)?
-        };
+        let status = run_cargo(&mut cmd, args.quiet, &mut warnings)
+            .map_err(|e| usage(format!("could not start `{}`: {e}", cargo.to_string_lossy())))?;
         if !status.success() && status_code == 0 {
             status_code = status.code().map_or(1, |c| c.clamp(1, 255) as u8);
         }
     }
-    let roots: Vec<_> = project
-        .record_roots()
-        .into_iter()
-        .filter(|r| find_root(r).is_some())
-        .collect();
-    let store = Store::merge(roots).ok();
+    let store = find_root(&store_dir).and_then(|_| Store::open(&store_dir).ok());
     let records = store.as_ref().and_then(|s| s.read_run(&id).ok());
     match records {
         Some(records) => {
@@ -159,8 +222,7 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
                 fail_on: args.fail_on.clone(),
                 output: args.output.clone(),
             };
-            let stores = store.as_ref().map_or(1, |s| s.roots().len());
-            let verdict = report::print(&records, &rargs, &packages, others, stores)?;
+            let verdict = report::print(&records, &rargs, &packages, others, 1)?;
             // the test run's own failure comes first; `--fail-on` speaks when it passed
             if status_code != 0 {
                 return Ok(ExitCode::from(status_code));
@@ -168,12 +230,25 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
             Ok(verdict)
         }
         None => {
-            eprintln!(
-                "heddle: {}",
-                Diagnostic::new(format!("no records for run {id}"))
-                    .hint("no `#[cover]` test ran (did the build fail, or a filter exclude them?)")
-            );
-            Ok(ExitCode::from(status_code))
+            let why = if let Some(w) = warnings.first() {
+                format!(
+                    "the test processes could not record ({})",
+                    w.trim_start_matches("heddle: warning: ")
+                )
+            } else if status_code != 0 {
+                "the test run failed before any `#[cover]` row ran (did the build fail?)".to_string()
+            } else {
+                "no `#[cover]` test ran (does a filter exclude them, or has the package none?)".to_string()
+            };
+            let d = Diagnostic::new(format!("run {id} recorded nothing: {why}")).hint(format!(
+                "records go to `{}`; the report needs at least one `#[cover]` row to have run",
+                store_dir.join(heddle_test::record::layout::STORE_DIR).display()
+            ));
+            if status_code != 0 {
+                eprintln!("error: {d}");
+                return Ok(ExitCode::from(status_code));
+            }
+            Err(found(d))
         }
     }
 }

@@ -749,3 +749,109 @@ fn streams_keep_the_report_apart() {
     assert!(broken.stderr.contains("error[E0308]"), "{}", broken.stderr);
     assert!(broken.stderr.contains("mismatched types"), "{}", broken.stderr);
 }
+
+/// The plugin reads the store where the runtime writes it: `HEDDLE_TARGET_DIR`,
+/// `-- --target-dir DIR`, and a nextest archive run through `cargo heddle test` (the
+/// binaries run from an extracted copy); a run that recorded nothing is an error saying
+/// why, and `report` names the archive case when it finds no run.
+#[test]
+fn the_store_is_where_the_runtime_wrote_it() {
+    let krate = create("ci_store", "tests/greenhouse.rs", CLEAN_AND_PARITY);
+    // HEDDLE_TARGET_DIR, for the test processes and the plugin alike
+    let own = krate.store_dir("own");
+    let run = heddle(
+        &krate,
+        &[
+            "test",
+            "--quiet",
+            "--format",
+            "json",
+            "--",
+            "--test",
+            "greenhouse",
+            "tally",
+        ],
+        Some(&own),
+        &[],
+    );
+    assert_eq!(run.code, Some(0), "{}", run.stderr);
+    assert_eq!(suite(&parse_json(&run), "tally")["coverage"]["complete"], true);
+    assert!(own.join("heddle/runs").is_dir());
+    let again = heddle(&krate, &["report", "--format", "json"], Some(&own), &[]);
+    assert_eq!(parse_json(&again)["runs"], parse_json(&run)["runs"]);
+
+    // --target-dir among cargo's arguments: cargo builds there (the harness's shared
+    // directory, already built), not where its configuration says
+    let configured = krate.root().join("configured-target");
+    let shared = heddle_e2e::scratch::shared_target_dir();
+    let run = heddle(
+        &krate,
+        &[
+            "test",
+            "--quiet",
+            "--format",
+            "json",
+            "--",
+            "--test",
+            "greenhouse",
+            "tally",
+            "--target-dir",
+            shared.to_str().unwrap(),
+        ],
+        None,
+        &[("CARGO_TARGET_DIR", configured.to_str().unwrap())],
+    );
+    assert_eq!(run.code, Some(0), "{}", run.stderr);
+    assert_eq!(suite(&parse_json(&run), "tally")["coverage"]["complete"], true);
+    assert!(!configured.join("heddle").exists());
+
+    // nothing recorded: an error with the reason
+    let none = heddle(
+        &krate,
+        &["test", "--quiet", "--", "--test", "greenhouse", "no_such_test"],
+        None,
+        &[],
+    );
+    assert_eq!(none.code, Some(1), "{}", none.stderr);
+    assert!(
+        none.stderr.contains("recorded nothing: no `#[cover]` test ran"),
+        "{}",
+        none.stderr
+    );
+
+    if have_nextest() {
+        let archive = krate.root().join("tests.tar.zst");
+        let archive = archive.to_str().unwrap();
+        krate
+            .cargo(&["nextest", "archive", "--archive-file", archive], None, &[])
+            .assert_compiled();
+        let from_archive = heddle(
+            &krate,
+            &[
+                "test",
+                "--nextest",
+                "--quiet",
+                "--format",
+                "json",
+                "--",
+                "--archive-file",
+                archive,
+                "-E",
+                "test(/^tally::/)",
+            ],
+            None,
+            &[],
+        );
+        assert_eq!(from_archive.code, Some(0), "{}", from_archive.stderr);
+        assert_eq!(
+            suite(&parse_json(&from_archive), "tally")["coverage"]["complete"],
+            true
+        );
+        // straight from nextest, the runtime cannot find cargo's target directory and
+        // records nothing: a report that finds no store says where records go then
+        let bare = krate.store_dir("bare");
+        let report = heddle(&krate, &["report", "--store", bare.to_str().unwrap()], None, &[]);
+        assert_eq!(report.code, Some(2));
+        assert!(report.stderr.contains("nextest archive"), "{}", report.stderr);
+    }
+}

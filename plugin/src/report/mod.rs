@@ -248,10 +248,10 @@ pub fn levels_text(pairs: &[(&str, &str)]) -> String {
 /// no project) it covers the `-p` given, else every package found.
 pub fn open_store(args: &ReportArgs) -> Result<(Store, Vec<String>), Failure> {
     let not_found = |what: String| {
-        usage(
-            Diagnostic::new(format!("no heddle records found {what}"))
-                .hint("run the tests first, e.g. `cargo heddle test`"),
-        )
+        usage(Diagnostic::new(format!("no heddle records found {what}")).hint(format!(
+            "run the tests first, e.g. `cargo heddle test`; tests that ran outside cargo's target directory (a nextest archive, `--archive-file`) record only where `{}` points",
+            heddle_test::record::layout::TARGET_DIR_VAR
+        )))
     };
     if !args.store.is_empty() {
         let mut roots = Vec::new();
@@ -310,7 +310,10 @@ pub fn read(store: &Store, args: &ReportArgs, packages: &[String]) -> Result<(Re
                     format!("a suite of {}", names.join(", "))
                 }
             ))
-            .hint("run its tests first (`cargo heddle test`), or choose packages with `-p` or `--workspace`"),
+            .hint(format!(
+                "run its tests first (`cargo heddle test`), or choose packages with `-p` or `--workspace`; tests run from a nextest archive (`--archive-file`) record only where `{}` points",
+                heddle_test::record::layout::TARGET_DIR_VAR
+            )),
         ));
     }
     let keep = ours.len().saturating_sub(n);
