@@ -212,7 +212,11 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
                 })
             });
             let rargs = ReportArgs {
-                selection: Selection::default(),
+                // the manifest path travels into the rerun commands
+                selection: Selection {
+                    manifest_path: args.selection.manifest_path.clone(),
+                    ..Selection::default()
+                },
                 run: id.clone(),
                 runs: None,
                 all: args.all,

@@ -855,3 +855,109 @@ fn the_store_is_where_the_runtime_wrote_it() {
         assert!(report.stderr.contains("nextest archive"), "{}", report.stderr);
     }
 }
+
+/// Runs a rerun command the report printed, as a person would paste it into a shell in
+/// `dir` (the one quoted filter has no spaces).
+fn paste(krate: &Scratch, command: &str, dir: &Path) -> std::process::Output {
+    let words: Vec<String> = command.split_whitespace().map(|w| w.replace('\'', "")).collect();
+    assert_eq!(words[0], "cargo", "{command}");
+    std::process::Command::new(cargo_program())
+        .args(&words[1..])
+        .current_dir(dir)
+        .env("CARGO_TARGET_DIR", heddle_e2e::scratch::shared_target_dir())
+        .env("MARKERS", krate.root().join("markers"))
+        .output()
+        .expect("cargo starts")
+}
+
+/// The λ advice counts the rounds already run (`--repeat`), and a failing row's rerun
+/// command is the runner's own (nextest's filterset under nextest) and carries
+/// `--manifest-path` when the report was asked for with one, so it works pasted from
+/// another directory.
+#[test]
+fn advice_and_rerun_commands_fit_the_run() {
+    let krate = create("ci_rerun", "tests/misting.rs", FLAKY_ONCE);
+    let markers = krate.root().join("markers");
+    let env = [("MARKERS", markers.to_str().unwrap())];
+    let run = heddle(
+        &krate,
+        &[
+            "test", "--quiet", "--repeat", "3", "--format", "json", "--", "--test", "misting",
+        ],
+        None,
+        &env,
+    );
+    let v = parse_json(&run);
+    let misting = suite(&v, "misting");
+    assert_eq!(misting["advice"]["rounds"], 3, "{misting:#}");
+    assert_eq!(misting["advice"]["runs_per_interaction"], 6, "{misting:#}");
+    let table = heddle(&krate, &["report"], None, &env);
+    assert!(
+        table
+            .stdout
+            .contains("at lambda 2 over 3 rounds (6 runs per interaction)"),
+        "{}",
+        table.stdout
+    );
+
+    // from another directory, with --manifest-path
+    let manifest = krate.root().join("Cargo.toml");
+    let manifest = manifest.to_str().unwrap();
+    let elsewhere = tempfile::tempdir().unwrap();
+    let v = parse_json(&heddle(
+        &krate,
+        &["report", "--manifest-path", manifest, "--format", "json"],
+        None,
+        &env,
+    ));
+    let rerun = suite(&v, "valves")["failing_rows"][0]["rerun"]
+        .as_str()
+        .unwrap()
+        .to_string();
+    assert!(
+        rerun.starts_with(&format!(
+            "cargo test --manifest-path {manifest} -p ci_rerun --test misting valves::row_"
+        )),
+        "{rerun}"
+    );
+    let pasted = paste(&krate, &rerun, elsewhere.path());
+    let out = String::from_utf8_lossy(&pasted.stdout);
+    assert!(out.contains("1 failed"), "the row reruns and fails: {out}");
+
+    if have_nextest() {
+        let run = heddle(
+            &krate,
+            &[
+                "test",
+                "--nextest",
+                "--quiet",
+                "--format",
+                "json",
+                "--",
+                "--test",
+                "misting",
+            ],
+            None,
+            &env,
+        );
+        let v = parse_json(&run);
+        let rerun = suite(&v, "valves")["failing_rows"][0]["rerun"]
+            .as_str()
+            .unwrap()
+            .to_string();
+        assert!(
+            rerun.starts_with("cargo nextest run -p ci_rerun --test misting -E 'test(=valves::row_"),
+            "{rerun}"
+        );
+        let pasted = paste(&krate, &rerun, krate.root());
+        let text = format!(
+            "{}{}",
+            String::from_utf8_lossy(&pasted.stdout),
+            String::from_utf8_lossy(&pasted.stderr)
+        );
+        assert!(
+            text.contains("1 test run: 0 passed, 1 failed"),
+            "exactly the row runs: {text}"
+        );
+    }
+}

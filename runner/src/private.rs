@@ -348,7 +348,7 @@ mod tests {
             "{text}"
         );
         assert!(
-            text.ends_with("rerun: cargo test -p demo --test t f::row_01 -- --exact"),
+            text.ends_with(&format!("rerun: {}", message::rerun_command(&SUITE, 1))),
             "{text}"
         );
         assert_eq!(

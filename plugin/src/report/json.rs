@@ -23,7 +23,10 @@
 //!                                              only interactions a row of which both
 //!                                              passed and failed
 //!       "failing_rows": [ { "row", "test", "levels", "runs", "failures", "message", "rerun" } ],
-//!       "advice": { "confidence", "detectable_rate", "flake_rate", "lambda_needed", "rows_needed" }
+//!       "advice": { "confidence", "detectable_rate", "runs_per_interaction", "rounds",
+//!                   "flake_rate", "lambda_needed", "rows_needed" }
+//!                                              detectable_rate at runs_per_interaction
+//!                                              (λ × rounds of --repeat, runs merged)
 //!   } ] }
 //! ```
 //! `levels` objects list parameters in declaration order.
@@ -136,6 +139,8 @@ struct FailingRow<'a> {
 struct Advice {
     confidence: f64,
     detectable_rate: f64,
+    runs_per_interaction: u64,
+    rounds: u64,
     flake_rate: Option<f64>,
     lambda_needed: Option<u32>,
     rows_needed: Option<usize>,
@@ -223,12 +228,14 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
                 runs: r.count.runs,
                 failures: r.count.failures,
                 message: r.message.as_deref(),
-                rerun: spec.rerun_command(r.row).unwrap_or_default(),
+                rerun: s.rerun(r.row),
             })
             .collect(),
         advice: Advice {
             confidence: s.advice.confidence,
             detectable_rate: s.advice.detectable,
+            runs_per_interaction: s.advice.runs,
+            rounds: s.advice.rounds,
             flake_rate: s.advice.flake.map(|f| f.0),
             lambda_needed: s.advice.flake.map(|f| f.1),
             rows_needed: s.advice.flake.and_then(|f| f.2),

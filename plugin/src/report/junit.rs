@@ -123,7 +123,7 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, runs: &[String]) {
             esc(&format!("{}::{}", spec.krate, spec.target)),
             secs(r.duration_ns)
         );
-        let rerun_cmd = spec.rerun_command(r.row).unwrap_or_default();
+        let rerun_cmd = s.rerun(r.row);
         match status(r) {
             Status::Passed => {}
             Status::Skipped => {

@@ -181,8 +181,14 @@ pub struct FailedRun {
 pub struct Advice {
     /// Confidence aimed for.
     pub confidence: f64,
-    /// Smallest failure probability the current λ catches with that confidence.
+    /// Smallest failure probability the runs read catch with that confidence.
     pub detectable: f64,
+    /// Executions per t-way interaction that figure is for: the fewest any t-way
+    /// interaction got in the runs read (λ × rounds), λ when some did not run.
+    pub runs: u64,
+    /// Rounds every row went through (`--repeat`, runs merged, retries): the fewest
+    /// executions of any row that ran.
+    pub rounds: u64,
     /// The observed failure rate of the top flaky interaction, with the λ needed to
     /// catch it and the rows that λ costs for this spec (None when it could not be
     /// generated).
@@ -209,6 +215,20 @@ pub struct SuiteReport<'a> {
     pub ran: Ran,
     /// λ advice.
     pub advice: Advice,
+    /// The manifest path the report was asked for, carried into rerun commands.
+    pub manifest_path: Option<String>,
+}
+
+impl SuiteReport<'_> {
+    /// The command that reruns one row: the nextest form when the row ran under
+    /// nextest, with `--manifest-path` when the report was asked for with one.
+    pub fn rerun(&self, row: usize) -> String {
+        let form = heddle_test::record::RerunForm {
+            nextest: self.rows.get(row).is_some_and(|r| r.max_attempt.is_some()),
+            manifest_path: self.manifest_path.clone(),
+        };
+        self.spec.rerun_command_as(row, &form).unwrap_or_default()
+    }
 }
 
 /// The whole report.
@@ -392,9 +412,16 @@ fn suite_report<'a>(
         };
         (rate, lambda, rows)
     });
+    let runs = if ran.min_runs == 0 {
+        u64::from(spec.lambda.max(1))
+    } else {
+        ran.min_runs
+    };
     let advice = Advice {
         confidence,
-        detectable: analysis::detectable_rate(spec.lambda.max(1), confidence),
+        detectable: analysis::detectable_rate(u32::try_from(runs).unwrap_or(u32::MAX), confidence),
+        runs,
+        rounds: ran.min_row_runs.max(1),
         flake,
     };
     SuiteReport {
@@ -407,6 +434,7 @@ fn suite_report<'a>(
         not_run,
         ran,
         advice,
+        manifest_path: None,
     }
 }
 
@@ -461,6 +489,14 @@ pub fn print(
     stores: usize,
 ) -> Result<ExitCode, Failure> {
     let mut report = build(records, packages, args.confidence, args.all);
+    let manifest = args
+        .selection
+        .manifest_path
+        .as_ref()
+        .map(|p| p.display().to_string());
+    for s in &mut report.suites {
+        s.manifest_path = manifest.clone();
+    }
     report.other_runs = other_runs;
     report.stores = stores;
     for n in &report.notes {

@@ -207,11 +207,7 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, report_other_runs: us
         {
             let _ = writeln!(out, "      {}", st.dim(m));
         }
-        let _ = writeln!(
-            out,
-            "      rerun: {}",
-            spec.rerun_command(r.row).unwrap_or_default()
-        );
+        let _ = writeln!(out, "      rerun: {}", s.rerun(r.row));
     }
     if failing.len() > SHOWN_ROWS {
         let _ = writeln!(
@@ -259,33 +255,44 @@ fn partial(out: &mut String, s: &SuiteReport<'_>, other_runs: usize, st: Style) 
 fn advice(out: &mut String, s: &SuiteReport<'_>, st: Style) {
     let a = &s.advice;
     let c = pct(a.confidence);
+    let lambda = s.spec.lambda;
     let _ = writeln!(out, "\n  {}", st.bold("lambda advice"));
+    let over = if a.rounds > 1 {
+        format!(" over {} rounds ({} runs per interaction)", a.rounds, a.runs)
+    } else {
+        String::new()
+    };
     let _ = writeln!(
         out,
-        "    at lambda {}, an interaction failing at least {} of the time is seen failing with {c} confidence",
-        s.spec.lambda,
+        "    at lambda {lambda}{over}, an interaction failing at least {} of the time is seen failing with {c} confidence",
         pct(a.detectable)
     );
-    if let Some((rate, lambda, rows)) = a.flake {
-        if lambda <= s.spec.lambda {
+    if let Some((rate, needed, rows)) = a.flake {
+        if u64::from(needed) <= a.runs {
             let _ = writeln!(
                 out,
-                "    the top flaky interaction fails {} of the time: lambda {} already sees it with {c} confidence",
+                "    the top flaky interaction fails {} of the time: {needed} runs per interaction see it with {c} confidence, and the runs read have {}",
                 pct(rate),
-                s.spec.lambda
+                a.runs
             );
         } else {
-            let repeat = lambda.div_ceil(s.spec.lambda.max(1));
+            // rounds of the whole suite at this lambda that reach `needed` runs
+            let repeat = u64::from(needed).div_ceil(u64::from(lambda.max(1)));
+            let done = if a.rounds > 1 {
+                format!(", this report has {}", a.rounds)
+            } else {
+                String::new()
+            };
             let cost = match rows {
                 Some(r) => format!(
-                    "{r} rows for this spec, now {}; or `--repeat {repeat}`",
+                    "lambda {needed}: {r} rows for this spec, now {}; or `--repeat {repeat}` at lambda {lambda}{done}",
                     s.spec.rows.len()
                 ),
-                None => format!("or run it `--repeat {repeat}` times"),
+                None => format!("`--repeat {repeat}` at lambda {lambda}{done}"),
             };
             let _ = writeln!(
                 out,
-                "    the top flaky interaction fails {} of the time: lambda {lambda} sees it with {c} confidence ({cost})",
+                "    the top flaky interaction fails {} of the time: {needed} runs per interaction see it with {c} confidence ({cost})",
                 pct(rate)
             );
         }

@@ -40,7 +40,7 @@ mod names;
 pub mod layout;
 
 pub use line::{Line, LineError, LineKind, spec_identity};
-pub use names::{rerun_command, test_path};
+pub use names::{RerunForm, rerun_command, rerun_command_as, test_path};
 
 use serde::{Deserialize, Serialize};
 
@@ -225,12 +225,18 @@ impl SpecRecord {
         Some(test_path(&self.suite, name))
     }
 
-    /// The command that reruns just this row, as the failing row printed it.
+    /// The command that reruns just this row with `cargo test`.
     pub fn rerun_command(&self, row: usize) -> Option<String> {
-        Some(rerun_command(
+        self.rerun_command_as(row, &RerunForm::default())
+    }
+
+    /// The command that reruns just this row, in a given form (nextest, manifest path).
+    pub fn rerun_command_as(&self, row: usize, form: &RerunForm) -> Option<String> {
+        Some(rerun_command_as(
             &self.krate,
             &self.selector,
             &self.row_test_name(row)?,
+            form,
         ))
     }
 
