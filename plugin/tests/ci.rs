@@ -961,3 +961,81 @@ fn advice_and_rerun_commands_fit_the_run() {
         );
     }
 }
+
+/// A seed above 2^53 (where JSON readers holding numbers as doubles lose digits) reads
+/// the same, in decimal, in the JSON report (a string), the table, JUnit's properties,
+/// the pins file (format 2) and `design`'s JSON; a pins file of format 1 (hex seeds) is
+/// refused by the build with a message saying how to upgrade, and `pin` upgrades it.
+#[test]
+fn seeds_are_decimal_everywhere() {
+    const SEED: &str = "18446744073709551557"; // 2^64 − 59, far above 2^53
+    let source = format!(
+        "#[heddle_test::cover(strength = 2, seed = {SEED})]\n\
+         fn vents(#[levels(1, 2, 3)] a: u8, #[levels(true, false)] b: bool, #[levels(\"x\", \"y\")] c: &str) {{\n\
+         \x20   let _ = (a, b, c);\n}}\n"
+    );
+    let krate = create("ci_seeds", "tests/vents.rs", &source);
+    let run = heddle(&krate, &["test", "--quiet", "--format", "json"], None, &[]);
+    assert_eq!(run.code, Some(0), "{}", run.stderr);
+    let v = parse_json(&run);
+    assert_eq!(v["format"], 2);
+    assert_eq!(suite(&v, "vents")["seed"], SEED, "the seed is a decimal string");
+    let table = heddle(&krate, &["report"], None, &[]);
+    assert!(
+        table.stdout.contains(&format!("seed {SEED} ")),
+        "{}",
+        table.stdout
+    );
+    let junit = heddle(&krate, &["report", "--format", "junit"], None, &[]);
+    assert!(
+        junit
+            .stdout
+            .contains(&format!("<property name=\"heddle.seed\" value=\"{SEED}\"/>")),
+        "{}",
+        junit.stdout
+    );
+    junit_valid(&junit.stdout);
+
+    assert_eq!(heddle(&krate, &["pin"], None, &[]).code, Some(0));
+    let pins = krate.read("heddle-pins.toml");
+    assert!(pins.contains("\nformat = 2\n"), "{pins}");
+    assert!(pins.contains(&format!("seed = \"{SEED}\"\n")), "{pins}");
+
+    // the same file in format 1, as an older heddle wrote it
+    let old = pins.replace("\nformat = 2\n", "\nformat = 1\n").replace(
+        &format!("seed = \"{SEED}\""),
+        &format!("seed = \"{:016x}\"", SEED.parse::<u64>().unwrap()),
+    );
+    krate.write("heddle-pins.toml", &old);
+    let check = heddle(&krate, &["check"], None, &[]);
+    assert_eq!(check.code, Some(2), "{}", check.stderr);
+    assert!(
+        check.stderr.contains("has `format = 1` (seeds in hex)"),
+        "{}",
+        check.stderr
+    );
+    let build = heddle(&krate, &["test", "--quiet"], None, &[]);
+    assert_ne!(build.code, Some(0));
+    assert!(
+        build.stderr.contains("run `cargo heddle pin`"),
+        "{}",
+        build.stderr
+    );
+    let upgrade = heddle(&krate, &["pin"], None, &[]);
+    assert_eq!(upgrade.code, Some(0), "{}", upgrade.stderr);
+    assert_eq!(
+        krate.read("heddle-pins.toml"),
+        pins,
+        "pin rewrites format 1 as format 2, rows kept"
+    );
+    assert_eq!(heddle(&krate, &["check"], None, &[]).code, Some(0));
+
+    let design = heddle(
+        &krate,
+        &["design", "2^3", "--seed", SEED, "--format", "json"],
+        None,
+        &[],
+    );
+    let d: Value = serde_json::from_str(&design.stdout).expect("design JSON");
+    assert_eq!(d["parameters"]["seed"], SEED);
+}

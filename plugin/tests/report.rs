@@ -110,7 +110,8 @@ fn json_names_the_planted_pair_first_and_follows_the_schema() {
     let tmp = tempfile::tempdir().unwrap();
     write_run(tmp.path(), "run-a", 1_700_000_000_000, |_, r| planted(r));
     let v = json(tmp.path(), &[]);
-    assert_eq!(v["format"], 1);
+    assert_eq!(v["format"], 2);
+    assert_eq!(v["suites"][0]["seed"], "4", "seeds are decimal strings");
     assert_eq!(v["runs"], serde_json::json!(["run-a"]));
     let s = &v["suites"][0];
     for key in [

@@ -1,15 +1,17 @@
 //! The JSON report, for scripts and dashboards.
 //!
-//! Schema, version [`REPORT_FORMAT`] (fields are only ever added within a version):
+//! Schema, version [`REPORT_FORMAT`] (fields are only ever added within a version;
+//! version 2 writes the seed as a decimal string, since JSON readers that hold numbers as
+//! doubles corrupt seeds above 2^53):
 //!
 //! ```text
-//! { "format": 1,
+//! { "format": 2,
 //!   "runs": [run id, …],                      oldest first
 //!   "stores": n,                              store roots read (shards merged)
 //!   "notes": [text, …],                       what reading skipped
 //!   "suites": [ {
 //!       "crate", "target", "file", "function", "test",   test = rows module path
-//!       "fingerprint", "strength", "lambda", "seed",
+//!       "fingerprint", "strength", "lambda", "seed",         seed: a decimal string
 //!       "rows", "passed", "failed", "not_run", "executions",
 //!       "coverage": { "rows_run", "interactions", "interactions_run",
 //!                     "interactions_at_lambda", "complete" },      t-way interactions of
@@ -37,7 +39,7 @@ use serde::ser::SerializeMap;
 use super::{Report, SuiteReport, described};
 
 /// Version of the JSON report schema.
-pub const REPORT_FORMAT: u32 = 1;
+pub const REPORT_FORMAT: u32 = 2;
 
 struct Levels<'a>(Vec<(&'a str, &'a str)>);
 
@@ -71,7 +73,7 @@ struct Suite<'a> {
     fingerprint: &'a str,
     strength: u32,
     lambda: u32,
-    seed: u64,
+    seed: String,
     rows: usize,
     passed: usize,
     failed: usize,
@@ -158,7 +160,7 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
         fingerprint: &spec.fingerprint,
         strength: spec.strength,
         lambda: spec.lambda,
-        seed: spec.seed,
+        seed: spec.seed.to_string(),
         rows: spec.rows.len(),
         passed: s.passed,
         failed: s.failed,
