@@ -41,6 +41,11 @@ pub struct TestArgs {
     /// Also write the report in `--format` to FILE; the terminal then shows the table.
     #[arg(long, value_name = "FILE")]
     pub output: Option<std::path::PathBuf>,
+    /// Colours of the report and of the test run's output: `auto` (default;
+    /// `CARGO_TERM_COLOR`, `NO_COLOR`, `CLICOLOR`, `CLICOLOR_FORCE` and `TERM` decide),
+    /// `always` or `never`.
+    #[arg(long, value_enum, value_name = "WHEN")]
+    pub color: Option<crate::style::ColorChoice>,
     /// Hide the test run's own output (build and test errors still show); print only
     /// the report.
     #[arg(long, short = 'q')]
@@ -187,6 +192,16 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
         cmd.args(&args.cargo_args);
         cmd.env(RUN_ID_VAR, &id);
         cmd.env(TARGET_DIR_VAR, &store_dir);
+        // the run's output is piped through this process to stderr: cargo colours it
+        // only when told to
+        cmd.env(
+            "CARGO_TERM_COLOR",
+            if crate::style::color_stderr(args.color) {
+                "always"
+            } else {
+                "never"
+            },
+        );
         let round_note = if args.repeat > 1 {
             format!(" (round {round} of {})", args.repeat)
         } else {
@@ -225,6 +240,7 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
                 confidence: args.confidence,
                 fail_on: args.fail_on.clone(),
                 output: args.output.clone(),
+                color: args.color,
             };
             let verdict = report::print(&records, &rargs, &packages, others, 1)?;
             // the test run's own failure comes first; `--fail-on` speaks when it passed

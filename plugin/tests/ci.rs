@@ -1039,3 +1039,81 @@ fn seeds_are_decimal_everywhere() {
     let d: Value = serde_json::from_str(&design.stdout).expect("design JSON");
     assert_eq!(d["parameters"]["seed"], SEED);
 }
+
+/// `cargo heddle ARGS` with the colour environment given and nothing else: the harness's
+/// `CARGO_TERM_COLOR=never` back to `auto` (cargo refuses an empty value), no
+/// `NO_COLOR`.
+fn heddle_colour(krate: &Scratch, args: &[&str], env: &[(&str, &str)]) -> Run {
+    let mut full = vec!["heddle"];
+    full.extend_from_slice(args);
+    let mut all_env = vec![("CARGO_TERM_COLOR", "auto")];
+    all_env.extend_from_slice(env);
+    krate.run_program(env!("CARGO_BIN_EXE_cargo-heddle").as_ref(), &full, None, &all_env)
+}
+
+/// The same on a pseudo-terminal (`script` from util-linux), for the `auto` cases.
+fn heddle_on_tty(krate: &Scratch, args: &str, env: &[(&str, &str)]) -> Option<Run> {
+    if !have_tool("script (util-linux)", "script".as_ref(), &["--version"]) {
+        return None;
+    }
+    let command = format!("{} heddle {args}", env!("CARGO_BIN_EXE_cargo-heddle"));
+    let mut all_env = vec![("CARGO_TERM_COLOR", "auto")];
+    all_env.extend_from_slice(env);
+    Some(krate.run_program(
+        "script".as_ref(),
+        &["-qec", &command, "/dev/null"],
+        None,
+        &all_env,
+    ))
+}
+
+/// Colours follow `--color`, `CARGO_TERM_COLOR`, `NO_COLOR`, `CLICOLOR`,
+/// `CLICOLOR_FORCE` and `TERM=dumb`, written with anstyle's sequences.
+#[test]
+fn colour_follows_the_conventions() {
+    let krate = create("ci_colour", "tests/greenhouse.rs", CLEAN_AND_PARITY);
+    heddle(
+        &krate,
+        &["test", "--quiet", "--", "--test", "greenhouse"],
+        None,
+        &[],
+    );
+    let coloured = |run: &Run| run.stdout.contains("\x1b[");
+    let red = "\x1b[31m";
+    let piped = heddle_colour(&krate, &["report"], &[]);
+    assert!(!coloured(&piped), "no colours into a pipe: {}", piped.stdout);
+    let always = heddle_colour(&krate, &["report", "--color", "always"], &[]);
+    assert!(always.stdout.contains(red), "{}", always.stdout);
+    for (env, want) in [
+        (&[("CARGO_TERM_COLOR", "always")][..], true),
+        (&[("CLICOLOR_FORCE", "1")][..], true),
+        (&[("CLICOLOR_FORCE", "1"), ("NO_COLOR", "1")][..], false),
+        (
+            &[("CARGO_TERM_COLOR", "never"), ("CLICOLOR_FORCE", "1")][..],
+            false,
+        ),
+    ] {
+        let run = heddle_colour(&krate, &["report"], env);
+        assert_eq!(coloured(&run), want, "{env:?}: {}", run.stdout);
+    }
+    let never = heddle_colour(
+        &krate,
+        &["report", "--color", "never"],
+        &[("CARGO_TERM_COLOR", "always")],
+    );
+    assert!(!coloured(&never), "the flag wins: {}", never.stdout);
+
+    // on a terminal, `auto` colours unless the terminal or the user says otherwise
+    if let Some(tty) = heddle_on_tty(&krate, "report", &[("TERM", "xterm")]) {
+        assert!(coloured(&tty), "a terminal gets colours: {}", tty.stdout);
+        for env in [
+            &[("TERM", "dumb")][..],
+            &[("TERM", "xterm"), ("NO_COLOR", "1")][..],
+            &[("TERM", "xterm"), ("CLICOLOR", "0")][..],
+        ] {
+            let run = heddle_on_tty(&krate, "report", env).unwrap();
+            assert!(!coloured(&run), "{env:?}: {}", run.stdout);
+            assert!(run.stdout.contains("heddle report:"), "{env:?}: {}", run.stdout);
+        }
+    }
+}

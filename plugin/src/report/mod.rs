@@ -50,6 +50,10 @@ pub struct ReportArgs {
     /// Also write the report in `--format` to FILE; the terminal then shows the table.
     #[arg(long, value_name = "FILE")]
     pub output: Option<PathBuf>,
+    /// Colours: `auto` (default; `CARGO_TERM_COLOR`, `NO_COLOR`, `CLICOLOR`,
+    /// `CLICOLOR_FORCE` and `TERM` decide), `always` or `never`.
+    #[arg(long, value_enum, value_name = "WHEN")]
+    pub color: Option<crate::style::ColorChoice>,
     /// Exit with a failing code when the report finds this (repeatable or
     /// comma-separated): `failures` (3), `flaky` (4), `incomplete` (5).
     #[arg(long, value_enum, value_name = "WHAT", value_delimiter = ',')]
@@ -515,7 +519,7 @@ pub fn print(
         }
         None => args.format,
     };
-    let text = render(&report, shown, crate::style::color_stdout());
+    let text = render(&report, shown, crate::style::color_stdout(args.color));
     let mut out = std::io::stdout().lock();
     let _ = out.write_all(text.as_bytes()).and_then(|_| out.flush());
     Ok(fail_code(&report, &args.fail_on))
