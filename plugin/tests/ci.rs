@@ -1117,3 +1117,96 @@ fn colour_follows_the_conventions() {
         }
     }
 }
+
+/// A row body knows its row: one call gives per-row snapshot names and directories, in
+/// sync rows and in async rows across awaits (tokio, current-thread and multi-thread).
+#[test]
+fn a_row_body_knows_its_row() {
+    const SNAPSHOTS: &str = r#"//! Every row writes its own snapshot file, named by its row.
+
+fn write(kind: &str) {
+    let row = heddle_test::current_row().expect("inside a row body");
+    let dir = std::path::PathBuf::from(std::env::var("SNAPSHOTS").unwrap()).join(kind);
+    std::fs::create_dir_all(&dir).unwrap();
+    let labels: Vec<String> = row.labels().iter().map(|(p, l)| format!("{p}={l}")).collect();
+    let text = format!("{} {} {}\n", row.test_name(), row.index(), labels.join(","));
+    let path = dir.join(format!("{}.snap", row.slug()));
+    assert!(!path.exists(), "two rows wrote {}", path.display());
+    std::fs::write(path, text).unwrap();
+}
+
+#[heddle_test::cover(strength = 2, seed = 8)]
+fn sensors(#[levels(1, 2, 3)] count: u8, #[levels("probe", "array")] kind: &str, #[levels(true, false)] wired: bool) {
+    let _ = (count, kind, wired);
+    write("sync");
+}
+
+#[heddle_test::cover(strength = 2, seed = 8)]
+#[tokio::test]
+async fn sensors_async(#[levels(1, 2, 3)] count: u8, #[levels("probe", "array")] kind: &str) {
+    let _ = (count, kind);
+    tokio::task::yield_now().await;
+    write("current-thread");
+}
+
+#[heddle_test::cover(strength = 2, seed = 8)]
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn sensors_threads(#[levels(1, 2, 3)] count: u8, #[levels("probe", "array")] kind: &str) {
+    let _ = (count, kind);
+    for _ in 0..3 {
+        tokio::task::yield_now().await;
+    }
+    write("multi-thread");
+    assert!(heddle_test::current_row().is_some());
+}
+
+#[test]
+fn outside_a_row_there_is_none() {
+    assert!(heddle_test::current_row().is_none());
+}
+"#;
+    let krate = match Scratch::create(&CrateDef {
+        name: "ci_row_info",
+        dev_dependencies: &[
+            r#"tokio = { version = "1", default-features = false, features = ["rt", "rt-multi-thread", "macros"] }"#,
+        ],
+        files: &[("tests/snap.rs", SNAPSHOTS)],
+        ..CrateDef::default()
+    }) {
+        Ok(k) => k,
+        Err(e) => {
+            let ci = std::env::var_os("CI").is_some_and(|v| !v.is_empty());
+            assert!(!ci, "tokio cannot be had on CI: {e}");
+            note(&format!("SKIPPED a_row_body_knows_its_row: {e}"));
+            return;
+        }
+    };
+    let snapshots = krate.root().join("snapshots");
+    let run = heddle(
+        &krate,
+        &["test", "--quiet", "--format", "json", "--", "--test", "snap"],
+        None,
+        &[("SNAPSHOTS", snapshots.to_str().unwrap())],
+    );
+    assert_eq!(run.code, Some(0), "{}", run.stderr);
+    let v = parse_json(&run);
+    for (kind, function) in [
+        ("sync", "sensors"),
+        ("current-thread", "sensors_async"),
+        ("multi-thread", "sensors_threads"),
+    ] {
+        let rows = suite(&v, function)["rows"].as_u64().unwrap() as usize;
+        let mut names: Vec<String> = std::fs::read_dir(snapshots.join(kind))
+            .unwrap_or_else(|e| panic!("{kind}: {e}"))
+            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+            .collect();
+        names.sort();
+        let want: Vec<String> = (0..rows).map(|r| format!("{function}-row_{r:02}.snap")).collect();
+        assert_eq!(names, want, "{kind}: one snapshot per row, named by the row");
+        let first = std::fs::read_to_string(snapshots.join(kind).join(&want[0])).unwrap();
+        assert!(
+            first.starts_with(&format!("{function}::row_00 0 count=")),
+            "{first}"
+        );
+    }
+}
