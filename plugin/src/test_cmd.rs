@@ -166,6 +166,8 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
         std::env::current_dir().map_or(store_dir.clone(), |cwd| cwd.join(&store_dir))
     };
     let id = run_id()?;
+    // a bad retention is an error before the run, not after it
+    crate::runs::keep_from_env()?;
     let cargo = std::env::var_os("CARGO").unwrap_or_else(|| "cargo".into());
     let mut status_code: u8 = 0;
     let mut warnings = Vec::new();
@@ -215,6 +217,9 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
         }
     }
     let store = find_root(&store_dir).and_then(|_| Store::open(&store_dir).ok());
+    if let Some(store) = &store {
+        crate::runs::prune_after_test(store)?;
+    }
     let records = store.as_ref().and_then(|s| s.read_run(&id).ok());
     match records {
         Some(records) => {

@@ -1210,3 +1210,85 @@ fn outside_a_row_there_is_none() {
         );
     }
 }
+
+/// The store keeps a bounded history: `cargo heddle test` prunes to `HEDDLE_KEEP_RUNS`
+/// runs per package, `runs` lists what is there, `runs prune` removes more by hand (a
+/// dry run first), and a retention that is not a number is a named error.
+#[test]
+fn runs_are_listed_and_pruned() {
+    let krate = create("ci_runs", "tests/greenhouse.rs", CLEAN_AND_PARITY);
+    let store = krate.store_dir("history");
+    let mut ids = Vec::new();
+    for _ in 0..4 {
+        let run = heddle(
+            &krate,
+            &["test", "--quiet", "--", "--test", "greenhouse", "tally"],
+            Some(&store),
+            &[("HEDDLE_KEEP_RUNS", "3")],
+        );
+        assert_eq!(run.code, Some(0), "{}", run.stderr);
+        ids.push(run_id(&run));
+    }
+    let list = heddle(&krate, &["runs"], Some(&store), &[]);
+    assert_eq!(list.code, Some(0), "{}", list.stderr);
+    assert!(list.stdout.starts_with("3 runs in "), "{}", list.stdout);
+    let listed: Vec<&str> = list
+        .stdout
+        .lines()
+        .skip(1)
+        .filter_map(|l| l.split_whitespace().next())
+        .collect();
+    let newest: Vec<&str> = ids.iter().rev().take(3).map(String::as_str).collect();
+    assert_eq!(listed, newest, "newest first, the oldest pruned");
+    assert!(
+        list.stdout.lines().nth(1).unwrap().ends_with("ci_runs"),
+        "{}",
+        list.stdout
+    );
+
+    let dry = heddle(
+        &krate,
+        &["runs", "prune", "--keep", "1", "--dry-run"],
+        Some(&store),
+        &[],
+    );
+    assert!(
+        dry.stdout.contains("would remove 2 of 3 runs, kept 1"),
+        "{}",
+        dry.stdout
+    );
+    assert!(
+        heddle(&krate, &["runs"], Some(&store), &[])
+            .stdout
+            .starts_with("3 runs")
+    );
+    let pruned = heddle(&krate, &["runs", "prune", "--keep", "1"], Some(&store), &[]);
+    assert!(
+        pruned.stdout.contains("removed 2 of 3 runs, kept 1"),
+        "{}",
+        pruned.stdout
+    );
+    let left = std::fs::read_dir(store.join("heddle/runs")).unwrap().count();
+    assert_eq!(left, 1);
+    let report = parse_json(&heddle(
+        &krate,
+        &["report", "--format", "json"],
+        Some(&store),
+        &[],
+    ));
+    assert_eq!(report["runs"], serde_json::json!([ids[3]]));
+
+    let bad = heddle(
+        &krate,
+        &["test", "--quiet"],
+        Some(&store),
+        &[("HEDDLE_KEEP_RUNS", "many")],
+    );
+    assert_eq!(bad.code, Some(2));
+    assert!(
+        bad.stderr
+            .contains("`HEDDLE_KEEP_RUNS` is `many`, not a count of runs"),
+        "{}",
+        bad.stderr
+    );
+}
