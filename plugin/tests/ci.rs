@@ -1292,3 +1292,191 @@ fn runs_are_listed_and_pruned() {
         bad.stderr
     );
 }
+
+/// The shell lines of one `# recipe:NAME` … `# recipe:end` block of a CI recipe file,
+/// with `cargo heddle` pointed at the binary under test.
+fn recipe_block(recipe: &str, name: &str) -> String {
+    let start = format!("# recipe:{name}");
+    let mut lines = recipe.lines().skip_while(|l| l.trim() != start).skip(1);
+    let block: Vec<&str> = lines
+        .by_ref()
+        .take_while(|l| l.trim() != "# recipe:end")
+        .collect();
+    assert!(!block.is_empty(), "no `{start}` block");
+    let bin = env!("CARGO_BIN_EXE_cargo-heddle");
+    block
+        .iter()
+        .map(|l| l.trim().replace("cargo heddle ", &format!("{bin} heddle ")))
+        .collect::<Vec<_>>()
+        .join("\n")
+}
+
+/// Runs a recipe block with `sh -e` in the crate, as a CI job's shell would.
+fn run_block(krate: &Scratch, block: &str, env: &[(&str, &str)]) -> Run {
+    let mut all = vec![("CARGO_NET_OFFLINE", "true"), ("CI", "true")];
+    all.extend_from_slice(env);
+    krate.run_program("sh".as_ref(), &["-ec", block], None, &all)
+}
+
+/// The CI recipes of `docs/ci/`, run locally: two nextest partitions (jobs) whose
+/// stores come back as artifacts, a row that passes on nextest's retry, the report job
+/// merging the shards into the kept history (JUnit valid against the Jenkins schema with
+/// a `flakyFailure`, the markdown summary, the history JSON) and its gate; then a second
+/// pipeline missing a shard, which the gate fails as incomplete (exit 5).
+#[test]
+fn the_ci_recipes_work_with_two_shards_and_a_retry() {
+    if !have_nextest() {
+        return;
+    }
+    const SUITE: &str = r#"//! One row pair fails on its first try only; the rest is clean.
+
+#[heddle_test::cover(strength = 2, lambda = 2, seed = 21)]
+fn misting(
+    #[levels(false, true)] mist: bool,
+    #[levels(1, 2, 3)] zone: u32,
+    #[levels("day", "night")] phase: &str,
+) {
+    if mist && zone == 2 {
+        let dir = std::path::PathBuf::from(std::env::var("MARKERS").expect("MARKERS is set"));
+        let marker = dir.join(format!("{mist}-{zone}-{phase}"));
+        if !marker.exists() {
+            std::fs::create_dir_all(&dir).unwrap();
+            std::fs::write(&marker, "").unwrap();
+            panic!("first try fails");
+        }
+    }
+}
+
+#[heddle_test::cover(strength = 2, seed = 3)]
+fn shelves(#[levels(1, 2, 3)] count: u32, #[levels("fan", "vent")] air: &str, #[levels(true, false)] lit: bool) {
+    let _ = (count, air, lit);
+}
+"#;
+    let docs = Path::new(env!("CARGO_MANIFEST_DIR")).join("../docs/ci");
+    for (recipe, pipeline, next) in [
+        (
+            "github-actions.yml",
+            [("GITHUB_RUN_ID", "900"), ("GITHUB_RUN_ATTEMPT", "1")],
+            [("GITHUB_RUN_ID", "901"), ("GITHUB_RUN_ATTEMPT", "1")],
+        ),
+        (
+            "gitlab-ci.yml",
+            [("CI_PIPELINE_ID", "900"), ("CI_JOB_ID", "1")],
+            [("CI_PIPELINE_ID", "901"), ("CI_JOB_ID", "2")],
+        ),
+    ] {
+        let text = std::fs::read_to_string(docs.join(recipe)).unwrap();
+        let name = format!("ci_recipe_{}", recipe.split('-').next().unwrap());
+        let krate = create(&name, "tests/misting.rs", SUITE);
+        let root = krate.root();
+        let markers = root.join("markers");
+        let summary = root.join("step-summary.md");
+        let common = |pipeline: &[(&'static str, &'static str)]| {
+            let mut env: Vec<(&str, String)> = pipeline.iter().map(|(k, v)| (*k, v.to_string())).collect();
+            env.push(("MARKERS", markers.to_string_lossy().into_owned()));
+            env.push(("GITHUB_STEP_SUMMARY", summary.to_string_lossy().into_owned()));
+            env.push(("SHARDS", "2".into()));
+            env.push(("CI_NODE_TOTAL", "2".into()));
+            env
+        };
+        let with = |env: &Vec<(&str, String)>, extra: &[(&'static str, String)]| -> Vec<(String, String)> {
+            env.iter()
+                .map(|(k, v)| (k.to_string(), v.clone()))
+                .chain(extra.iter().map(|(k, v)| (k.to_string(), v.clone())))
+                .collect()
+        };
+        let run = |block: &str, env: &[(String, String)]| {
+            let env: Vec<(&str, &str)> = env.iter().map(|(k, v)| (k.as_str(), v.as_str())).collect();
+            run_block(&krate, block, &env)
+        };
+        // the artifact a shard job uploads, as the report job downloads it
+        let collect = |label: &str| {
+            let dest = root.join("shards").join(label);
+            std::fs::create_dir_all(&dest).unwrap();
+            std::fs::rename(root.join("heddle-store/heddle"), dest.join("heddle")).unwrap();
+        };
+
+        let check = run(&recipe_block(&text, "check"), &with(&common(&pipeline), &[]));
+        assert_eq!(check.code, Some(0), "{recipe} check: {}", check.stderr);
+
+        let env = common(&pipeline);
+        for shard in ["1", "2"] {
+            let job = run(
+                &recipe_block(&text, "shard"),
+                &with(&env, &[("SHARD", shard.into()), ("CI_NODE_INDEX", shard.into())]),
+            );
+            assert_eq!(
+                job.code,
+                Some(0),
+                "{recipe} shard {shard}: the retry passes\n{}",
+                job.stderr
+            );
+            collect(&format!("heddle-shard-{shard}"));
+        }
+        let report = run(&recipe_block(&text, "report"), &with(&env, &[]));
+        assert_eq!(
+            report.code,
+            Some(0),
+            "{recipe} report:\n{}\n{}",
+            report.stdout,
+            report.stderr
+        );
+        let junit = std::fs::read_to_string(root.join("heddle-junit.xml")).unwrap();
+        junit_valid(&junit);
+        assert!(junit.contains("<flakyFailure "), "the retried rows: {junit}");
+        let md = std::fs::read_to_string(root.join("heddle-summary.md")).unwrap();
+        assert!(md.starts_with("## heddle report"), "{md}");
+        assert!(!md.contains("partial run"), "the shards merged: {md}");
+        if recipe.starts_with("github") {
+            let page = std::fs::read_to_string(&summary).unwrap();
+            assert_eq!(page, md, "the summary is on the job page");
+        }
+        let history: Value =
+            serde_json::from_str(&std::fs::read_to_string(root.join("heddle-history.json")).unwrap())
+                .unwrap();
+        let id = if recipe.starts_with("github") {
+            "gha-900-1"
+        } else {
+            "gitlab-900"
+        };
+        assert_eq!(
+            history["runs"],
+            serde_json::json!([id]),
+            "one run for the pipeline's two shards"
+        );
+        let misting = suite(&history, "misting");
+        assert_eq!(misting["suspects"][0]["verdict"], "flaky", "{misting:#}");
+        assert_eq!(misting["coverage"]["complete"], true);
+
+        // the next pipeline: shard 2 never reports back
+        std::fs::remove_dir_all(root.join("shards")).unwrap();
+        let env = common(&next);
+        let job = run(
+            &recipe_block(&text, "shard"),
+            &with(&env, &[("SHARD", "1".into()), ("CI_NODE_INDEX", "1".into())]),
+        );
+        assert_eq!(job.code, Some(0), "{}", job.stderr);
+        collect("heddle-shard-1");
+        let report = run(&recipe_block(&text, "report"), &with(&env, &[]));
+        assert_eq!(
+            report.code,
+            Some(5),
+            "{recipe}: a missing shard is incomplete\n{}\n{}",
+            report.stdout,
+            report.stderr
+        );
+        assert!(
+            report.stdout.contains("partial run, not all clear"),
+            "{}",
+            report.stdout
+        );
+        let history: Value =
+            serde_json::from_str(&std::fs::read_to_string(root.join("heddle-history.json")).unwrap())
+                .unwrap();
+        assert_eq!(
+            history["runs"].as_array().map(Vec::len),
+            Some(2),
+            "the kept store is history: {history:#}"
+        );
+    }
+}
