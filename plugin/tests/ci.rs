@@ -42,8 +42,7 @@ fn parity(
 /// A suite whose rows with `mist = true` and `zone = 2` fail the first time they run and
 /// pass after (a marker file per row in `$MARKERS`): a real flake, seen only when a row
 /// runs twice.
-const FLAKY_ONCE: &str = r#"//! A flaky pair: fails once per row, then passes.
-
+const MISTING: &str = r#"
 #[heddle_test::cover(strength = 2, lambda = 2, seed = 21)]
 fn misting(
     #[levels(false, true)] mist: bool,
@@ -60,7 +59,10 @@ fn misting(
         }
     }
 }
+"#;
 
+/// A suite with a deterministic pair fault: `valve = "shut"` with `zone = 3`.
+const VALVES: &str = r#"
 #[heddle_test::cover(strength = 2, lambda = 2, seed = 22)]
 fn valves(
     #[levels("open", "shut")] valve: &str,
@@ -71,6 +73,16 @@ fn valves(
     assert!(!(valve == "shut" && zone == 3), "shut valve starves zone 3");
 }
 "#;
+
+/// The flaky suite beside the broken one, in one test file.
+fn flaky_once() -> String {
+    format!("//! A flaky pair (fails once per row, then passes) and a broken one.\n{MISTING}{VALVES}")
+}
+
+/// Command-line words, written as one string.
+fn words(line: &str) -> Vec<&str> {
+    line.split_whitespace().collect()
+}
 
 /// Runs `cargo heddle ARGS` in the crate, recording into `store` when given.
 fn heddle(krate: &Scratch, args: &[&str], store: Option<&Path>, env: &[(&str, &str)]) -> Run {
@@ -137,16 +149,7 @@ fn a_partial_run_is_never_all_clear() {
     let krate = create("ci_partial", "tests/greenhouse.rs", CLEAN_AND_PARITY);
     let one = heddle(
         &krate,
-        &[
-            "test",
-            "--quiet",
-            "--",
-            "--test",
-            "greenhouse",
-            "tally::row_00",
-            "--",
-            "--exact",
-        ],
+        &words("test --quiet -- --test greenhouse tally::row_00 -- --exact"),
         None,
         &[],
     );
@@ -162,16 +165,7 @@ fn a_partial_run_is_never_all_clear() {
     // the whole suite, then a one-row rerun: the rerun says the store holds more
     let full = heddle(
         &krate,
-        &[
-            "test",
-            "--quiet",
-            "--format",
-            "json",
-            "--",
-            "--test",
-            "greenhouse",
-            "tally",
-        ],
+        &words("test --quiet --format json -- --test greenhouse tally"),
         None,
         &[],
     );
@@ -181,16 +175,7 @@ fn a_partial_run_is_never_all_clear() {
     let rows = tally["rows"].as_u64().unwrap();
     let rerun = heddle(
         &krate,
-        &[
-            "test",
-            "--quiet",
-            "--",
-            "--test",
-            "greenhouse",
-            "tally::row_01",
-            "--",
-            "--exact",
-        ],
+        &words("test --quiet -- --test greenhouse tally::row_01 -- --exact"),
         None,
         &[],
     );
@@ -204,18 +189,7 @@ fn a_partial_run_is_never_all_clear() {
     assert!(rerun.stdout.contains("`--runs N` merges"), "{}", rerun.stdout);
     let json = heddle(
         &krate,
-        &[
-            "test",
-            "--quiet",
-            "--format",
-            "json",
-            "--",
-            "--test",
-            "greenhouse",
-            "tally::row_02",
-            "--",
-            "--exact",
-        ],
+        &words("test --quiet --format json -- --test greenhouse tally::row_02 -- --exact"),
         None,
         &[],
     );
@@ -232,19 +206,7 @@ fn a_partial_run_is_never_all_clear() {
     if have_nextest() {
         let half = heddle(
             &krate,
-            &[
-                "test",
-                "--nextest",
-                "--quiet",
-                "--format",
-                "json",
-                "--",
-                "--test",
-                "greenhouse",
-                "tally",
-                "--partition",
-                "count:1/2",
-            ],
+            &words("test --nextest --quiet --format json -- --test greenhouse tally --partition count:1/2"),
             None,
             &[],
         );
@@ -263,16 +225,7 @@ fn flaky_needs_a_row_that_both_passed_and_failed() {
     let krate = create("ci_flaky_word", "tests/greenhouse.rs", CLEAN_AND_PARITY);
     let run = heddle(
         &krate,
-        &[
-            "test",
-            "--quiet",
-            "--format",
-            "json",
-            "--",
-            "--test",
-            "greenhouse",
-            "parity",
-        ],
+        &words("test --quiet --format json -- --test greenhouse parity"),
         None,
         &[],
     );
@@ -288,7 +241,7 @@ fn flaky_needs_a_row_that_both_passed_and_failed() {
     assert!(suspects.iter().all(|s| s["verdict"] != "flaky"), "{suspects:#?}");
     let table = heddle(
         &krate,
-        &["test", "--quiet", "--", "--test", "greenhouse", "parity"],
+        &words("test --quiet -- --test greenhouse parity"),
         None,
         &[],
     );
@@ -301,14 +254,12 @@ fn flaky_needs_a_row_that_both_passed_and_failed() {
     assert!(!table.stdout.contains("flaky:"), "{}", table.stdout);
 
     // a row that fails once and then passes (two rounds) is flaky evidence
-    let flaky = create("ci_flaky_rows", "tests/misting.rs", FLAKY_ONCE);
+    let flaky = create("ci_flaky_rows", "tests/misting.rs", &flaky_once());
     let markers = flaky.root().join("markers");
     let markers = markers.to_str().unwrap();
     let run = heddle(
         &flaky,
-        &[
-            "test", "--quiet", "--repeat", "2", "--format", "json", "--", "--test", "misting",
-        ],
+        &words("test --quiet --repeat 2 --format json -- --test misting"),
         None,
         &[("MARKERS", markers)],
     );
@@ -349,21 +300,12 @@ fn retries_are_attempts_of_one_row() {
     if !have_nextest() {
         return;
     }
-    let krate = create("ci_retries", "tests/misting.rs", FLAKY_ONCE);
+    let krate = create("ci_retries", "tests/misting.rs", &flaky_once());
     let markers = krate.root().join("markers");
     let markers = markers.to_str().unwrap();
     let run = heddle(
         &krate,
-        &[
-            "test",
-            "--nextest",
-            "--quiet",
-            "--format",
-            "json",
-            "--",
-            "--retries",
-            "2",
-        ],
+        &words("test --nextest --quiet --format json -- --retries 2"),
         None,
         &[("MARKERS", markers)],
     );
@@ -527,13 +469,13 @@ fn shards_of_one_pipeline_merge_by_default() {
 #[test]
 fn a_shared_target_dir_keeps_projects_apart() {
     let a = create("ci_scope_a", "tests/greenhouse.rs", CLEAN_AND_PARITY);
-    let b = create("ci_scope_b", "tests/misting.rs", FLAKY_ONCE);
+    let b = create("ci_scope_b", "tests/misting.rs", &flaky_once());
     let markers = b.root().join("markers");
     // plain `cargo test`, each recording into the shared target directory's store
-    a.cargo(&["test", "--test", "greenhouse", "--no-fail-fast"], None, &[])
+    a.cargo(&words("test --test greenhouse --no-fail-fast"), None, &[])
         .assert_compiled();
     b.cargo(
-        &["test", "--test", "misting", "--no-fail-fast"],
+        &words("test --test misting --no-fail-fast"),
         None,
         &[("MARKERS", markers.to_str().unwrap())],
     )
@@ -558,7 +500,7 @@ fn a_shared_target_dir_keeps_projects_apart() {
     // `-p` names the package explicitly: the same run
     let p = parse_json(&heddle(
         &a,
-        &["report", "-p", "ci_scope_a", "--format", "json"],
+        &words("report -p ci_scope_a --format json"),
         None,
         &[],
     ));
@@ -582,12 +524,7 @@ fn a_shared_target_dir_keeps_projects_apart() {
 #[test]
 fn exit_codes_fail_ci_on_request() {
     let krate = create("ci_exit", "tests/greenhouse.rs", CLEAN_AND_PARITY);
-    let run = heddle(
-        &krate,
-        &["test", "--quiet", "--", "--test", "greenhouse"],
-        None,
-        &[],
-    );
+    let run = heddle(&krate, &words("test --quiet -- --test greenhouse"), None, &[]);
     assert_eq!(run.code, Some(101), "{}", run.stderr);
     let code = |args: &[&str]| {
         let mut full = vec!["report"];
@@ -608,45 +545,21 @@ fn exit_codes_fail_ci_on_request() {
         "no row both passed and failed"
     );
     assert_eq!(code(&["--fail-on", "flaky,incomplete"]).0, Some(0));
-    assert_eq!(
-        code(&["--fail-on", "incomplete", "--fail-on", "failures"]).0,
-        Some(3)
-    );
+    assert_eq!(code(&words("--fail-on incomplete --fail-on failures")).0, Some(3));
     let partial = heddle(
         &krate,
-        &[
-            "test",
-            "--quiet",
-            "--fail-on",
-            "incomplete",
-            "--",
-            "--test",
-            "greenhouse",
-            "tally::row_00",
-            "--",
-            "--exact",
-        ],
+        &words("test --quiet --fail-on incomplete -- --test greenhouse tally::row_00 -- --exact"),
         None,
         &[],
     );
     assert_eq!(partial.code, Some(5), "{}", partial.stderr);
 
-    let flaky = create("ci_exit_flaky", "tests/misting.rs", FLAKY_ONCE);
+    let flaky = create("ci_exit_flaky", "tests/misting.rs", &flaky_once());
     let markers = flaky.root().join("markers");
     let env = [("MARKERS", markers.to_str().unwrap())];
     let rounds = heddle(
         &flaky,
-        &[
-            "test",
-            "--quiet",
-            "--repeat",
-            "2",
-            "--fail-on",
-            "flaky",
-            "--",
-            "--test",
-            "misting",
-        ],
+        &words("test --quiet --repeat 2 --fail-on flaky -- --test misting"),
         None,
         &env,
     );
@@ -677,7 +590,7 @@ fn exit_codes_fail_ci_on_request() {
     // the build accepts the key
     let build = heddle(
         &pinned,
-        &["test", "--quiet", "--", "--test", "greenhouse", "tally"],
+        &words("test --quiet -- --test greenhouse tally"),
         None,
         &[],
     );
@@ -694,7 +607,7 @@ fn streams_keep_the_report_apart() {
     let krate = create("ci_streams", "tests/greenhouse.rs", CLEAN_AND_PARITY);
     let run = heddle(
         &krate,
-        &["test", "--format", "junit", "--", "--test", "greenhouse"],
+        &words("test --format junit -- --test greenhouse"),
         None,
         &[],
     );
@@ -744,7 +657,7 @@ fn streams_keep_the_report_apart() {
         "tests/broken.rs",
         "#[test]\nfn f() {\n    let x: u32 = \"text\";\n}\n",
     );
-    let broken = heddle(&krate, &["test", "--quiet", "--", "--test", "broken"], None, &[]);
+    let broken = heddle(&krate, &words("test --quiet -- --test broken"), None, &[]);
     assert_ne!(broken.code, Some(0));
     assert!(broken.stderr.contains("error[E0308]"), "{}", broken.stderr);
     assert!(broken.stderr.contains("mismatched types"), "{}", broken.stderr);
@@ -761,16 +674,7 @@ fn the_store_is_where_the_runtime_wrote_it() {
     let own = krate.store_dir("own");
     let run = heddle(
         &krate,
-        &[
-            "test",
-            "--quiet",
-            "--format",
-            "json",
-            "--",
-            "--test",
-            "greenhouse",
-            "tally",
-        ],
+        &words("test --quiet --format json -- --test greenhouse tally"),
         Some(&own),
         &[],
     );
@@ -808,7 +712,7 @@ fn the_store_is_where_the_runtime_wrote_it() {
     // nothing recorded: an error with the reason
     let none = heddle(
         &krate,
-        &["test", "--quiet", "--", "--test", "greenhouse", "no_such_test"],
+        &words("test --quiet -- --test greenhouse no_such_test"),
         None,
         &[],
     );
@@ -876,14 +780,12 @@ fn paste(krate: &Scratch, command: &str, dir: &Path) -> std::process::Output {
 /// another directory.
 #[test]
 fn advice_and_rerun_commands_fit_the_run() {
-    let krate = create("ci_rerun", "tests/misting.rs", FLAKY_ONCE);
+    let krate = create("ci_rerun", "tests/misting.rs", &flaky_once());
     let markers = krate.root().join("markers");
     let env = [("MARKERS", markers.to_str().unwrap())];
     let run = heddle(
         &krate,
-        &[
-            "test", "--quiet", "--repeat", "3", "--format", "json", "--", "--test", "misting",
-        ],
+        &words("test --quiet --repeat 3 --format json -- --test misting"),
         None,
         &env,
     );
@@ -927,16 +829,7 @@ fn advice_and_rerun_commands_fit_the_run() {
     if have_nextest() {
         let run = heddle(
             &krate,
-            &[
-                "test",
-                "--nextest",
-                "--quiet",
-                "--format",
-                "json",
-                "--",
-                "--test",
-                "misting",
-            ],
+            &words("test --nextest --quiet --format json -- --test misting"),
             None,
             &env,
         );
@@ -975,7 +868,7 @@ fn seeds_are_decimal_everywhere() {
          \x20   let _ = (a, b, c);\n}}\n"
     );
     let krate = create("ci_seeds", "tests/vents.rs", &source);
-    let run = heddle(&krate, &["test", "--quiet", "--format", "json"], None, &[]);
+    let run = heddle(&krate, &words("test --quiet --format json"), None, &[]);
     assert_eq!(run.code, Some(0), "{}", run.stderr);
     let v = parse_json(&run);
     assert_eq!(v["format"], 2);
@@ -1072,12 +965,7 @@ fn heddle_on_tty(krate: &Scratch, args: &str, env: &[(&str, &str)]) -> Option<Ru
 #[test]
 fn colour_follows_the_conventions() {
     let krate = create("ci_colour", "tests/greenhouse.rs", CLEAN_AND_PARITY);
-    heddle(
-        &krate,
-        &["test", "--quiet", "--", "--test", "greenhouse"],
-        None,
-        &[],
-    );
+    heddle(&krate, &words("test --quiet -- --test greenhouse"), None, &[]);
     let coloured = |run: &Run| run.stdout.contains("\x1b[");
     let red = "\x1b[31m";
     let piped = heddle_colour(&krate, &["report"], &[]);
@@ -1184,7 +1072,7 @@ fn outside_a_row_there_is_none() {
     let snapshots = krate.root().join("snapshots");
     let run = heddle(
         &krate,
-        &["test", "--quiet", "--format", "json", "--", "--test", "snap"],
+        &words("test --quiet --format json -- --test snap"),
         None,
         &[("SNAPSHOTS", snapshots.to_str().unwrap())],
     );
@@ -1222,7 +1110,7 @@ fn runs_are_listed_and_pruned() {
     for _ in 0..4 {
         let run = heddle(
             &krate,
-            &["test", "--quiet", "--", "--test", "greenhouse", "tally"],
+            &words("test --quiet -- --test greenhouse tally"),
             Some(&store),
             &[("HEDDLE_KEEP_RUNS", "3")],
         );
@@ -1246,12 +1134,7 @@ fn runs_are_listed_and_pruned() {
         list.stdout
     );
 
-    let dry = heddle(
-        &krate,
-        &["runs", "prune", "--keep", "1", "--dry-run"],
-        Some(&store),
-        &[],
-    );
+    let dry = heddle(&krate, &words("runs prune --keep 1 --dry-run"), Some(&store), &[]);
     assert!(
         dry.stdout.contains("would remove 2 of 3 runs, kept 1"),
         "{}",
@@ -1262,7 +1145,7 @@ fn runs_are_listed_and_pruned() {
             .stdout
             .starts_with("3 runs")
     );
-    let pruned = heddle(&krate, &["runs", "prune", "--keep", "1"], Some(&store), &[]);
+    let pruned = heddle(&krate, &words("runs prune --keep 1"), Some(&store), &[]);
     assert!(
         pruned.stdout.contains("removed 2 of 3 runs, kept 1"),
         "{}",
@@ -1328,30 +1211,14 @@ fn the_ci_recipes_work_with_two_shards_and_a_retry() {
     if !have_nextest() {
         return;
     }
-    const SUITE: &str = r#"//! One row pair fails on its first try only; the rest is clean.
-
-#[heddle_test::cover(strength = 2, lambda = 2, seed = 21)]
-fn misting(
-    #[levels(false, true)] mist: bool,
-    #[levels(1, 2, 3)] zone: u32,
-    #[levels("day", "night")] phase: &str,
-) {
-    if mist && zone == 2 {
-        let dir = std::path::PathBuf::from(std::env::var("MARKERS").expect("MARKERS is set"));
-        let marker = dir.join(format!("{mist}-{zone}-{phase}"));
-        if !marker.exists() {
-            std::fs::create_dir_all(&dir).unwrap();
-            std::fs::write(&marker, "").unwrap();
-            panic!("first try fails");
-        }
-    }
-}
-
+    const SHELVES: &str = r#"
 #[heddle_test::cover(strength = 2, seed = 3)]
 fn shelves(#[levels(1, 2, 3)] count: u32, #[levels("fan", "vent")] air: &str, #[levels(true, false)] lit: bool) {
     let _ = (count, air, lit);
 }
 "#;
+    let suite_text =
+        format!("//! One row pair fails on its first try only; the rest is clean.\n{MISTING}{SHELVES}");
     let docs = Path::new(env!("CARGO_MANIFEST_DIR")).join("../docs/ci");
     for (recipe, pipeline, next) in [
         (
@@ -1367,7 +1234,7 @@ fn shelves(#[levels(1, 2, 3)] count: u32, #[levels("fan", "vent")] air: &str, #[
     ] {
         let text = std::fs::read_to_string(docs.join(recipe)).unwrap();
         let name = format!("ci_recipe_{}", recipe.split('-').next().unwrap());
-        let krate = create(&name, "tests/misting.rs", SUITE);
+        let krate = create(&name, "tests/misting.rs", &suite_text);
         let root = krate.root();
         let markers = root.join("markers");
         let summary = root.join("step-summary.md");

@@ -17,16 +17,8 @@ pub fn render(report: &Report<'_>) -> String {
         out.push_str("No `#[cover]` suite recorded in the selected runs.\n");
         return out;
     }
-    if report.stores > 1 || report.runs.len() > 1 {
-        let _ = writeln!(
-            out,
-            "Merged {} run{} (`{}`) from {} store{}.\n",
-            report.runs.len(),
-            if report.runs.len() == 1 { "" } else { "s" },
-            cell(&report.runs.join("`, `")),
-            report.stores,
-            if report.stores == 1 { "" } else { "s" }
-        );
+    if let Some(merged) = report.merged("`") {
+        let _ = writeln!(out, "Merged {merged}.\n");
     }
     out.push_str(
         "| suite | t | λ | rows | passed | failed | not run | top suspect |\n|---|---|---|---|---|---|---|---|\n",

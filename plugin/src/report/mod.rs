@@ -252,6 +252,23 @@ pub struct Report<'a> {
     pub stores: usize,
 }
 
+impl Report<'_> {
+    /// What was merged, when more than one run or store was read: `2 runs (a, b) from 3
+    /// stores`, each run id between `quote`s.
+    pub fn merged(&self, quote: &str) -> Option<String> {
+        if self.stores <= 1 && self.runs.len() <= 1 {
+            return None;
+        }
+        let ids: Vec<String> = self.runs.iter().map(|r| format!("{quote}{r}{quote}")).collect();
+        Some(format!(
+            "{} ({}) from {}",
+            heddle_store::words::plural(self.runs.len(), "run", "runs"),
+            ids.join(", "),
+            heddle_store::words::plural(self.stores, "store", "stores")
+        ))
+    }
+}
+
 /// Labels of an interaction as `(parameter, label)` pairs.
 pub fn described<'s>(spec: &'s SpecRecord, i: &heddle_store::Interaction) -> Vec<(&'s str, &'s str)> {
     i.describe(spec).unwrap_or_default()

@@ -34,16 +34,8 @@ pub fn render(report: &Report<'_>, color: bool) -> String {
         report.suites.len(),
         if report.suites.len() == 1 { "" } else { "s" }
     );
-    if report.stores > 1 || report.runs.len() > 1 {
-        let _ = writeln!(
-            out,
-            "merged: {} run{} ({}) from {} store{}",
-            report.runs.len(),
-            if report.runs.len() == 1 { "" } else { "s" },
-            report.runs.join(", "),
-            report.stores,
-            if report.stores == 1 { "" } else { "s" }
-        );
+    if let Some(merged) = report.merged("") {
+        let _ = writeln!(out, "merged: {merged}");
     }
     if report.suites.is_empty() {
         let _ = writeln!(out, "\nno `#[cover]` suite recorded in the selected runs");

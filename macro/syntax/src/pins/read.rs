@@ -86,41 +86,32 @@ impl PinsFile {
         };
         let version = format.get_ref().as_integer();
         let hex_seeds = version == Some(i64::from(PINS_FORMAT_HEX_SEEDS));
+        // the file's format refused: `has` says what it has, placed at the `format` line
+        let refuse = |has: String, hint: String| PinsError {
+            diagnostic: diag::diagnostic(
+                format!("`{}`{} has {has}", PINS_FILE, at(text, Some(format.span()))),
+                hint,
+            ),
+            ..located(text, Some(format.span().start), String::new())
+        };
         if hex_seeds && !upgrading {
-            return Err(PinsError {
-                diagnostic: diag::diagnostic(
-                    format!(
-                        "`{}`{} has `format = {}` (seeds in hex), this heddle reads format {} (seeds in decimal)",
-                        PINS_FILE,
-                        at(text, Some(format.span())),
-                        PINS_FORMAT_HEX_SEEDS,
-                        PINS_FORMAT
-                    ),
-                    format!(
-                        "run `{}`: it reads format {} and rewrites the file in format {}, keeping every row",
-                        PIN_COMMAND, PINS_FORMAT_HEX_SEEDS, PINS_FORMAT
-                    ),
+            return Err(refuse(
+                format!(
+                    "`format = {PINS_FORMAT_HEX_SEEDS}` (seeds in hex), this heddle reads format {PINS_FORMAT} (seeds in decimal)"
                 ),
-                ..located(text, Some(format.span().start), String::new())
-            });
+                format!(
+                    "run `{PIN_COMMAND}`: it reads format {PINS_FORMAT_HEX_SEEDS} and rewrites the file in format {PINS_FORMAT}, keeping every row"
+                ),
+            ));
         }
         if version != Some(i64::from(PINS_FORMAT)) && !hex_seeds {
-            return Err(PinsError {
-                diagnostic: diag::diagnostic(
-                    format!(
-                        "`{}`{} has `format = {}`, this heddle reads format {}",
-                        PINS_FILE,
-                        at(text, Some(format.span())),
-                        format.get_ref(),
-                        PINS_FORMAT
-                    ),
-                    format!(
-                        "use the heddle that wrote it, or run `{}` to rewrite it",
-                        PIN_COMMAND
-                    ),
+            return Err(refuse(
+                format!(
+                    "`format = {}`, this heddle reads format {PINS_FORMAT}",
+                    format.get_ref()
                 ),
-                ..located(text, Some(format.span().start), String::new())
-            });
+                format!("use the heddle that wrote it, or run `{PIN_COMMAND}` to rewrite it"),
+            ));
         }
         let raw: RawFile = toml::from_str(text)
             .map_err(|e| located(text, e.span().map(|s| s.start), e.message().to_string()))?;
