@@ -196,12 +196,12 @@ pub fn detectable_rate(lambda: u32, confidence: f64) -> f64 {
 /// counts once), with the executions when there were more than rows.
 fn split_words(s: &RowSplit, runs: u64, failures: u64) -> String {
     let plural = |n: u64| if n == 1 { "" } else { "s" };
-    let executions = if runs > s.ran {
-        format!(" ({failures} of {runs} runs failed)")
-    } else {
-        String::new()
-    };
     if s.passed == 0 && s.mixed == 0 {
+        let executions = if runs > s.ran {
+            format!(" ({failures} of {runs} runs failed)")
+        } else {
+            String::new()
+        };
         return format!("failed in all {} of its rows{executions}", s.ran);
     }
     let mut text = format!(
@@ -211,11 +211,13 @@ fn split_words(s: &RowSplit, runs: u64, failures: u64) -> String {
         plural(s.ran)
     );
     if s.mixed > 0 {
-        text.push_str(&format!(", {} of which also passed (flaky evidence)", s.mixed));
+        text.push_str(&format!(", {} of which also passed: flaky evidence", s.mixed));
     } else {
         text.push_str(", and no row both passed and failed");
     }
-    text.push_str(&executions);
+    if runs > s.ran {
+        text.push_str(&format!("; {failures} of {runs} runs failed"));
+    }
     text
 }
 
