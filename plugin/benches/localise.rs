@@ -4,8 +4,9 @@
 //! 1. Deterministic fault: random specs (4–12 factors, 2–5 levels, t = 2, λ = 1..4),
 //!    rows from the engine, one planted 2-way interaction whose rows all fail; figure:
 //!    how often it is ranked first among the suspects (target: ≥ 95% for λ ≥ 2).
-//! 2. Flaky fault: the same specs at λ = 4, each row containing the planted interaction
-//!    fails with probability 0.5; figures: how often it is flagged flaky (target ≥ 90%),
+//! 2. Flaky fault: the same specs at λ = 4, every row run twice (flakiness is seen only in
+//!    a row that both passed and failed), each run of a row containing the planted
+//!    interaction fails with probability 0.5; figures: how often it is flagged flaky (target ≥ 90%),
 //!    how often it is named among the suspects at all, and the share of clean 2-way
 //!    interactions flagged (target ≤ 5%).
 //! 3. The report (tallies, analysis, table and JSON rendering) over 100 000 row records
@@ -133,6 +134,9 @@ fn deterministic(trials: usize) {
     }
 }
 
+/// Rounds of every row in the flaky trials (`cargo heddle test --repeat 2`).
+const ROUNDS: usize = 2;
+
 fn flaky(trials: usize) {
     let lambda = 4;
     let (mut flagged, mut named, mut clean_flagged, mut clean_total, mut silent) = (0, 0, 0usize, 0usize, 0);
@@ -140,14 +144,14 @@ fn flaky(trials: usize) {
         let mut rng = Mix(77_000 + trial as u64);
         let (levels, rows, seed) = random_design(&mut rng, lambda);
         let fault = plant(&mut rng, &rows);
-        let outcomes: Vec<(usize, Outcome)> = rows
-            .iter()
-            .enumerate()
-            .map(|(r, row)| {
+        // two rounds: a row is flaky evidence only when it both passed and failed
+        let mut outcomes: Vec<(usize, Outcome)> = Vec::new();
+        for _ in 0..ROUNDS {
+            for (r, row) in rows.iter().enumerate() {
                 let fail = fault.in_row(row) && rng.unit() < 0.5;
-                (r, if fail { Outcome::Failed } else { Outcome::Passed })
-            })
-            .collect();
+                outcomes.push((r, if fail { Outcome::Failed } else { Outcome::Passed }));
+            }
+        }
         if outcomes.iter().all(|(_, o)| o.is_pass()) {
             silent += 1;
         }
@@ -167,7 +171,7 @@ fn flaky(trials: usize) {
             .filter(|f| t.entries[f.interaction].interaction.arity() == 2 && !is_fault(f.interaction))
             .count();
     }
-    println!("flaky 2-way fault (fails with probability 0.5 per run), lambda {lambda}, one run:");
+    println!("flaky 2-way fault (fails with probability 0.5 per run), lambda {lambda}, {ROUNDS} rounds:");
     println!(
         "  flagged flaky in {:.1}% of {trials} trials; named as a suspect in {:.1}%; no row failed in {:.1}%",
         100.0 * flagged as f64 / trials as f64,

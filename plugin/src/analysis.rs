@@ -6,8 +6,16 @@
 //! interaction that accounts for the most still-unexplained failures, preferring the
 //! purest (share of its runs that failed) and then the simplest (fewest factors), until
 //! every failing row is accounted for. An interaction whose every run failed is a strong
-//! suspect; one that also passed is weaker and, if it explains failures, flaky. Equally
-//! good explanations are all reported, since the rows cannot tell them apart.
+//! suspect; one that also passed is weaker. Equally good explanations are all reported,
+//! since the rows cannot tell them apart.
+//!
+//! Flakiness is a property of a row, not of an interaction: only a row that both passed
+//! and failed (repeated with `--repeat`, retried by nextest, or run again in a later run)
+//! shows that the same configuration gives different outcomes. An interaction that
+//! passed in some of its rows and failed in others, with no row of both kinds, may as
+//! well be part of a fault of more factors than the strength (a higher-order fault):
+//! its verdict is [`Verdict::SomeRows`], and only an interaction whose failing rows
+//! include one that also passed is [`Verdict::Flaky`].
 
 use std::cmp::Ordering;
 
@@ -26,13 +34,81 @@ pub struct Suspect {
     pub score: f64,
     /// True when every run containing it failed ("fails always").
     pub always: bool,
+    /// What kind of failure it is.
+    pub verdict: Verdict,
     /// Failures it explains that nothing ranked above it explains.
     pub explains: u64,
     /// Why it is suspected, in words.
     pub reason: String,
 }
 
-/// An interaction that both passed and failed and explains failures.
+/// The verdict on one suspect.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Verdict {
+    /// Every run of every row containing it failed.
+    Always,
+    /// Some row containing it both passed and failed: the same configuration gave both
+    /// outcomes.
+    Flaky,
+    /// Some of its rows failed and others passed, but no row both passed and failed: a
+    /// fault of more factors than the strength, or a flake not yet seen twice in one
+    /// row; repeating the rows (`--repeat`) tells the two apart.
+    SomeRows,
+}
+
+impl Verdict {
+    /// The words the reports use.
+    pub fn words(self) -> &'static str {
+        match self {
+            Verdict::Always => "fails always",
+            Verdict::Flaky => "flaky",
+            Verdict::SomeRows => "fails in some of its rows",
+        }
+    }
+
+    /// The name in the JSON report.
+    pub fn key(self) -> &'static str {
+        match self {
+            Verdict::Always => "always",
+            Verdict::Flaky => "flaky",
+            Verdict::SomeRows => "some-rows",
+        }
+    }
+}
+
+/// How the rows containing one interaction ran.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct RowSplit {
+    /// Rows containing it that ran at least once.
+    pub ran: u64,
+    /// Of those, rows that only failed.
+    pub failed: u64,
+    /// Rows that both passed and failed.
+    pub mixed: u64,
+    /// Rows that only passed.
+    pub passed: u64,
+}
+
+/// Counts the rows of one interaction by how they ran: distinct rows, not executions, so
+/// retries and repeats of one row count once.
+pub fn row_split(tallies: &Tallies, interaction: usize) -> RowSplit {
+    let mut s = RowSplit::default();
+    for &r in &tallies.entries[interaction].rows {
+        let c = &tallies.rows[r as usize];
+        if c.runs == 0 {
+            continue;
+        }
+        s.ran += 1;
+        match (c.passes > 0, c.failures > 0) {
+            (true, true) => s.mixed += 1,
+            (false, true) => s.failed += 1,
+            _ => s.passed += 1,
+        }
+    }
+    s
+}
+
+/// An interaction some row of which both passed and failed, and which explains failures.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Flaky {
     /// Index into [`Tallies::entries`].
@@ -114,6 +190,35 @@ pub fn lambda_for(p: f64, confidence: f64) -> Option<u32> {
 /// ```
 pub fn detectable_rate(lambda: u32, confidence: f64) -> f64 {
     1.0 - (1.0 - confidence).powf(1.0 / lambda as f64)
+}
+
+/// The rows of an interaction in words, counting distinct rows (a row retried or repeated
+/// counts once), with the executions when there were more than rows.
+fn split_words(s: &RowSplit, runs: u64, failures: u64) -> String {
+    let plural = |n: u64| if n == 1 { "" } else { "s" };
+    if s.passed == 0 && s.mixed == 0 {
+        let executions = if runs > s.ran {
+            format!(" ({failures} of {runs} runs failed)")
+        } else {
+            String::new()
+        };
+        return format!("failed in all {} of its rows{executions}", s.ran);
+    }
+    let mut text = format!(
+        "failed in {} of its {} row{}",
+        s.failed + s.mixed,
+        s.ran,
+        plural(s.ran)
+    );
+    if s.mixed > 0 {
+        text.push_str(&format!(", {} of which also passed: flaky evidence", s.mixed));
+    } else {
+        text.push_str(", and no row both passed and failed");
+    }
+    if runs > s.ran {
+        text.push_str(&format!("; {failures} of {runs} runs failed"));
+    }
+    text
 }
 
 /// How much lower (natural log) an explanation's likelihood may be than the best one's
@@ -243,18 +348,19 @@ pub fn analyse(tallies: &Tallies) -> Analysis {
     let suspect = |i: usize, g: u64, open: u64| {
         let c = &entries[i].count;
         let always = c.passes == 0;
-        let share = g as f64 / failures as f64;
-        let reason = if always {
-            format!(
-                "failed in all {} of its runs; explains {g} of {failures} failures",
-                c.runs
-            )
+        let split = row_split(tallies, i);
+        let verdict = if always {
+            Verdict::Always
+        } else if split.mixed > 0 {
+            Verdict::Flaky
         } else {
-            format!(
-                "failed in {} of its {} runs and passed in {}; explains {g} of {failures} failures",
-                c.failures, c.runs, c.passes
-            )
+            Verdict::SomeRows
         };
+        let share = g as f64 / failures as f64;
+        let reason = format!(
+            "{}; explains {g} of {failures} failures",
+            split_words(&split, c.runs, c.failures)
+        );
         Suspect {
             interaction: i,
             score: if always {
@@ -263,6 +369,7 @@ pub fn analyse(tallies: &Tallies) -> Analysis {
                 0.5 * share * (g as f64 / open as f64).min(1.0)
             },
             always,
+            verdict,
             explains: g,
             reason,
         }
@@ -276,14 +383,16 @@ pub fn analyse(tallies: &Tallies) -> Analysis {
     for (c, (i, _)) in cands.iter().enumerate() {
         let tally = &entries[*i].count;
         if tally.passes == 0 && !picked.iter().any(|&(p, _, _)| p == c) {
+            let split = row_split(tallies, *i);
             suspects.push(Suspect {
                 interaction: *i,
                 score: 0.0,
                 always: true,
+                verdict: Verdict::Always,
                 explains: 0,
                 reason: format!(
-                    "failed in all {} of its runs, but a higher-ranked suspect already explains those failures",
-                    tally.runs
+                    "{}, but a higher-ranked suspect already explains those failures",
+                    split_words(&split, tally.runs, tally.failures)
                 ),
             });
         }
@@ -312,7 +421,7 @@ pub fn analyse(tallies: &Tallies) -> Analysis {
     });
     let flaky = suspects
         .iter()
-        .filter(|s| !s.always && s.explains > 0)
+        .filter(|s| s.verdict == Verdict::Flaky && s.explains > 0)
         .map(|s| {
             let c = &entries[s.interaction].count;
             let (low, high) = wilson(c.passes, c.runs, Z95);

@@ -71,8 +71,28 @@ pub fn run(args: CheckArgs) -> Result<ExitCode, Failure> {
         failing += pkg.broken_keys.len();
         unparsed += pkg.broken_files.len();
         manifests += usize::from(!pkg.defaults_ok);
+        if pkg.pinned && pins.is_none() && !pkg.functions.is_empty() {
+            say_err!(
+                "error: {}",
+                Diagnostic::new(format!(
+                    "`{}` declares `{} = true` but has no `{}`",
+                    pkg.package.name,
+                    heddle_syntax::defaults::PINNED_KEY,
+                    heddle_syntax::pins::PINS_FILE
+                ))
+                .hint(format!(
+                    "run `{}` and commit the file, or drop the key",
+                    heddle_syntax::pins::PIN_COMMAND
+                ))
+                .at(pkg.display(heddle_syntax::defaults::MANIFEST_FILE))
+            );
+        }
         for f in &pkg.functions {
-            let s = status(f, pins.as_ref());
+            let mut s = status(f, pins.as_ref());
+            // a crate that pins: a function generated at build time lacks its pin
+            if pkg.pinned && matches!(s, Status::Generated(_)) {
+                s = Status::Missing;
+            }
             match &s {
                 Status::Pinned(_) => pinned += 1,
                 Status::Generated(_) => generated += 1,

@@ -118,8 +118,9 @@ fn csv(spec: &Spec, design: &Design) -> String {
     out
 }
 
-/// Version of the JSON document `design --format json` prints.
-const DESIGN_JSON_FORMAT: u32 = 1;
+/// Version of the JSON document `design --format json` prints (2: the seed is a decimal
+/// string, as in every heddle output).
+const DESIGN_JSON_FORMAT: u32 = 2;
 
 #[derive(Serialize)]
 struct JsonDesign<'a> {
@@ -141,7 +142,8 @@ struct JsonFactor<'a> {
 struct JsonParameters {
     strength: usize,
     lambda: u32,
-    seed: u64,
+    /// Decimal string: JSON readers that hold numbers as doubles corrupt seeds above 2^53.
+    seed: String,
     effort: &'static str,
     excludes: Vec<String>,
 }
@@ -173,7 +175,7 @@ fn json(spec: &Spec, design: &Design, args: &DesignArgs, seconds: f64) -> String
         parameters: JsonParameters {
             strength: spec.strength,
             lambda: spec.lambda,
-            seed: spec.seed,
+            seed: spec.seed.to_string(),
             effort: match args.effort {
                 EffortArg::Fast => "fast",
                 EffortArg::Tight => "tight",

@@ -11,7 +11,8 @@
 //!
 //! # Modules
 //! - [`cli`]: the grammar and the dispatch to one module per subcommand: [`design`],
-//!   [`pin`], [`check`], [`show`], [`test_cmd`] (`test`), [`report`];
+//!   [`pin`], [`check`], [`show`], [`test_cmd`] (`test`), [`report`], [`runs`] (listing
+//!   and pruning the store);
 //! - reading the project: [`workspace`] (cargo metadata, packages, target directories),
 //!   [`sources`] (annotated functions found with the macro's own parser), [`pinfile`]
 //!   (loading and writing pins files), [`status`] (a function's rows against its pin),
@@ -44,6 +45,7 @@ pub mod failure;
 pub mod pin;
 pub mod pinfile;
 pub mod report;
+pub mod runs;
 pub mod say;
 pub mod show;
 pub mod sources;

@@ -51,7 +51,7 @@ pub fn run(args: PinArgs) -> Result<ExitCode, Failure> {
     // every pins file is read before anything is written: a broken one stops it all
     let mut files = Vec::with_capacity(scanned.len());
     for pkg in &scanned {
-        files.push(pinfile::load(pkg)?);
+        files.push(pinfile::load_upgrading(pkg)?);
     }
     let mut problems = 0usize;
     for p in scanned.iter().flat_map(|s| &s.problems) {

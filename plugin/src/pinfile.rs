@@ -16,7 +16,19 @@ use crate::sources::Scanned;
 /// The package's pins file, `None` when it has none. A file that cannot be read is a
 /// usage error (exit code 2) placed at `path:line:col`.
 pub fn load(pkg: &Scanned) -> Result<Option<PinsFile>, Failure> {
-    PinsFile::load(&pkg.package.root).map_err(|e| {
+    located(pkg, PinsFile::load(&pkg.package.root))
+}
+
+/// [`load`] that also reads the previous format, for `pin`, which rewrites it.
+pub fn load_upgrading(pkg: &Scanned) -> Result<Option<PinsFile>, Failure> {
+    located(pkg, PinsFile::load_upgrading(&pkg.package.root))
+}
+
+fn located(
+    pkg: &Scanned,
+    read: Result<Option<PinsFile>, heddle_syntax::pins::PinsError>,
+) -> Result<Option<PinsFile>, Failure> {
+    read.map_err(|e| {
         let place = match (e.line, e.column) {
             (Some(l), Some(c)) => format!("{}:{l}:{c}", pkg.display(heddle_syntax::pins::PINS_FILE)),
             (Some(l), None) => format!("{}:{l}", pkg.display(heddle_syntax::pins::PINS_FILE)),

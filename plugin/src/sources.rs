@@ -67,6 +67,9 @@ pub struct Scanned {
     pub broken_files: BTreeSet<String>,
     /// Annotated functions found but not usable (invalid spec, duplicate name).
     pub broken_keys: BTreeSet<PinKey>,
+    /// The crate declares that it pins its rows (`pinned = true` in its
+    /// `[package.metadata.heddle]`).
+    pub pinned: bool,
 }
 
 impl Scanned {
@@ -117,6 +120,7 @@ fn scan_package(project: &Project, package: &Package) -> Scanned {
         defaults_ok: true,
         broken_files: BTreeSet::new(),
         broken_keys: BTreeSet::new(),
+        pinned: false,
     };
     let defaults = match Defaults::load(&package.root) {
         Ok(d) => d,
@@ -127,6 +131,7 @@ fn scan_package(project: &Project, package: &Package) -> Scanned {
             return out;
         }
     };
+    out.pinned = defaults.pinned;
     for file in rust_files(&package.root) {
         scan_file(&package.root, &file, &defaults, &mut out);
     }

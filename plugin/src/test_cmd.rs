@@ -5,10 +5,10 @@ use std::process::{Command, ExitCode, Stdio};
 
 use clap::Args;
 use heddle_store::{Store, find_root};
-use heddle_test::record::layout::{RUN_ID_VAR, new_run_id, validate_run_id};
+use heddle_test::record::layout::{RUN_ID_VAR, TARGET_DIR_VAR, new_run_id, pipeline_run_id, validate_run_id};
 
-use crate::failure::{Diagnostic, Failure, usage};
-use crate::report::{self, Format, ReportArgs};
+use crate::failure::{Diagnostic, Failure, found, usage};
+use crate::report::{self, FailOn, Format, ReportArgs};
 use crate::workspace::{self, Selection};
 
 /// Arguments of `test`.
@@ -33,7 +33,21 @@ pub struct TestArgs {
     /// Confidence the λ advice aims for.
     #[arg(long, value_name = "C", default_value_t = 0.95)]
     pub confidence: f64,
-    /// Hide the test run's own output; print only the report.
+    /// Exit with a failing code when the report finds this, if the test run itself
+    /// passed (see `cargo heddle report --help`): `failures` (3), `flaky` (4),
+    /// `incomplete` (5).
+    #[arg(long, value_enum, value_name = "WHAT", value_delimiter = ',')]
+    pub fail_on: Vec<FailOn>,
+    /// Also write the report in `--format` to FILE; the terminal then shows the table.
+    #[arg(long, value_name = "FILE")]
+    pub output: Option<std::path::PathBuf>,
+    /// Colours of the report and of the test run's output: `auto` (default;
+    /// `CARGO_TERM_COLOR`, `NO_COLOR`, `CLICOLOR`, `CLICOLOR_FORCE` and `TERM` decide),
+    /// `always` or `never`.
+    #[arg(long, value_enum, value_name = "WHEN")]
+    pub color: Option<crate::style::ColorChoice>,
+    /// Hide the test run's own output (build and test errors still show); print only
+    /// the report.
     #[arg(long, short = 'q')]
     pub quiet: bool,
     /// Arguments for `cargo test` (or nextest), after `--`.
@@ -41,15 +55,96 @@ pub struct TestArgs {
     pub cargo_args: Vec<String>,
 }
 
-/// The run id for this invocation: the user's `HEDDLE_RUN_ID` if set, else a new one.
+/// The run id for this invocation: the user's `HEDDLE_RUN_ID` if set, else the CI
+/// pipeline's (so the jobs of one pipeline merge), else a new one.
 fn run_id() -> Result<String, Failure> {
     match std::env::var(RUN_ID_VAR) {
         Ok(id) if !id.is_empty() => {
             validate_run_id(&id).map_err(|e| usage(format!("`{RUN_ID_VAR}`: {e}")))?;
             Ok(id)
         }
-        _ => Ok(new_run_id()),
+        _ => Ok(pipeline_run_id(&|n| std::env::var(n).ok()).unwrap_or_else(new_run_id)),
     }
+}
+
+/// Under `--quiet`, the errors of a failed test run: a build that failed shows whole
+/// (the compiler's errors are the point), a test run only its `error:` lines.
+fn show_errors(stderr: &str) {
+    let build_failed = stderr.contains("could not compile")
+        || stderr.contains("error[")
+        || stderr.contains("error: failed to");
+    for line in stderr.lines() {
+        if build_failed || line.starts_with("error") {
+            eprintln!("{line}");
+        }
+    }
+}
+
+/// One test process's line saying that recording failed (the runtime's warning).
+const RECORDING_WARNING: &str = "heddle: warning: outcomes are";
+
+/// Runs the cargo command, its stdout and stderr both copied to this process's stderr
+/// (stdout is the report's alone: `--format junit > file` stays XML) unless `quiet`,
+/// collecting the runtime's warnings on the way. Under `quiet` a failed run still shows
+/// its errors.
+fn run_cargo(
+    cmd: &mut Command,
+    quiet: bool,
+    warnings: &mut Vec<String>,
+) -> std::io::Result<std::process::ExitStatus> {
+    use std::io::{BufRead, BufReader, Write};
+    cmd.stdin(Stdio::null())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped());
+    let mut child = cmd.spawn()?;
+    let pipes: Vec<Box<dyn std::io::Read + Send>> = [
+        child
+            .stdout
+            .take()
+            .map(|p| Box::new(p) as Box<dyn std::io::Read + Send>),
+        child
+            .stderr
+            .take()
+            .map(|p| Box::new(p) as Box<dyn std::io::Read + Send>),
+    ]
+    .into_iter()
+    .flatten()
+    .collect();
+    let (status, lines) = std::thread::scope(|scope| {
+        let readers: Vec<_> = pipes
+            .into_iter()
+            .map(|pipe| {
+                scope.spawn(move || {
+                    let mut kept = Vec::new();
+                    for line in BufReader::new(pipe).lines() {
+                        let Ok(line) = line else { break };
+                        if !quiet {
+                            let _ = writeln!(std::io::stderr().lock(), "{line}");
+                        }
+                        kept.push(line);
+                    }
+                    kept
+                })
+            })
+            .collect();
+        let status = child.wait();
+        let lines: Vec<String> = readers
+            .into_iter()
+            .flat_map(|r| r.join().unwrap_or_default())
+            .collect();
+        (status, lines)
+    });
+    let status = status?;
+    for line in &lines {
+        if line.contains(RECORDING_WARNING) && !warnings.contains(line) {
+            warnings.push(line.trim().to_string());
+        }
+    }
+    if quiet && !status.success() {
+        show_errors(&lines.join("\n"));
+        eprintln!("heddle: the test run exited with {status}");
+    }
+    Ok(status)
 }
 
 /// Runs `test`.
@@ -57,10 +152,25 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
     if args.repeat == 0 {
         return Err(usage("`--repeat` must be at least 1"));
     }
-    let project = workspace::load(&args.selection)?;
+    let mut project = workspace::load(&args.selection)?;
+    if let Some(dir) = workspace::target_dir_arg(&args.cargo_args) {
+        project.target_dir = dir;
+        project.build_dir = None;
+    }
+    // the test processes write where this command reads, wherever cargo or nextest runs
+    // the test binaries from (a nextest archive is extracted to a temporary directory)
+    let store_dir = project.record_roots().remove(0);
+    let store_dir = if store_dir.is_absolute() {
+        store_dir
+    } else {
+        std::env::current_dir().map_or(store_dir.clone(), |cwd| cwd.join(&store_dir))
+    };
     let id = run_id()?;
+    // a bad retention is an error before the run, not after it
+    crate::runs::keep_from_env()?;
     let cargo = std::env::var_os("CARGO").unwrap_or_else(|| "cargo".into());
     let mut status_code: u8 = 0;
+    let mut warnings = Vec::new();
     for round in 1..=args.repeat {
         let mut cmd = Command::new(&cargo);
         if args.nextest {
@@ -83,49 +193,87 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
         }
         cmd.args(&args.cargo_args);
         cmd.env(RUN_ID_VAR, &id);
+        cmd.env(TARGET_DIR_VAR, &store_dir);
+        // the run's output is piped through this process to stderr: cargo colours it
+        // only when told to
+        cmd.env(
+            "CARGO_TERM_COLOR",
+            if crate::style::color_stderr(args.color) {
+                "always"
+            } else {
+                "never"
+            },
+        );
         let round_note = if args.repeat > 1 {
             format!(" (round {round} of {})", args.repeat)
         } else {
             String::new()
         };
         eprintln!("heddle: run {id}{round_note}");
-        if args.quiet {
-            cmd.stdout(Stdio::null()).stderr(Stdio::null());
-        }
-        let status = cmd
-            .status()
+        let status = run_cargo(&mut cmd, args.quiet, &mut warnings)
             .map_err(|e| usage(format!("could not start `{}`: {e}", cargo.to_string_lossy())))?;
-        if args.quiet && !status.success() {
-            eprintln!("heddle: the test run exited with {status}");
-        }
         if !status.success() && status_code == 0 {
             status_code = status.code().map_or(1, |c| c.clamp(1, 255) as u8);
         }
     }
-    let roots: Vec<_> = project
-        .record_roots()
-        .into_iter()
-        .filter(|r| find_root(r).is_some())
-        .collect();
-    let records = Store::merge(roots).ok().and_then(|s| s.read_run(&id).ok());
+    let store = find_root(&store_dir).and_then(|_| Store::open(&store_dir).ok());
+    if let Some(store) = &store {
+        crate::runs::prune_after_test(store)?;
+    }
+    let records = store.as_ref().and_then(|s| s.read_run(&id).ok());
     match records {
         Some(records) => {
+            let packages: Vec<String> = project.packages.iter().map(|p| p.name.clone()).collect();
+            let others = store.as_ref().map_or(0, |s| {
+                s.runs().map_or(0, |runs| {
+                    runs.iter()
+                        .filter(|r| r.id != id && s.packages(r).iter().any(|p| packages.contains(p)))
+                        .count()
+                })
+            });
             let rargs = ReportArgs {
-                selection: Selection::default(),
+                // the manifest path travels into the rerun commands
+                selection: Selection {
+                    manifest_path: args.selection.manifest_path.clone(),
+                    ..Selection::default()
+                },
                 run: id.clone(),
                 runs: None,
                 all: args.all,
                 format: args.format,
                 store: Vec::new(),
                 confidence: args.confidence,
+                fail_on: args.fail_on.clone(),
+                output: args.output.clone(),
+                color: args.color,
             };
-            report::print(&records, &rargs);
+            let verdict = report::print(&records, &rargs, &packages, others, 1)?;
+            // the test run's own failure comes first; `--fail-on` speaks when it passed
+            if status_code != 0 {
+                return Ok(ExitCode::from(status_code));
+            }
+            Ok(verdict)
         }
-        None => eprintln!(
-            "heddle: {}",
-            Diagnostic::new(format!("no records for run {id}"))
-                .hint("no `#[cover]` test ran (did the build fail, or a filter exclude them?)")
-        ),
+        None => {
+            let why = if let Some(w) = warnings.first() {
+                format!(
+                    "the test processes could not record ({})",
+                    w.trim_start_matches("heddle: warning: ")
+                )
+            } else if status_code != 0 {
+                "the test run failed before any `#[cover]` row ran (did the build fail?)".to_string()
+            } else {
+                "no `#[cover]` test ran (does a filter exclude them, or has the package none?)".to_string()
+            };
+            let d = Diagnostic::new(format!("run {id} recorded nothing: {why}")).hint(format!(
+                "records go to `{}`; the report needs at least one `#[cover]` row to have run",
+                store_dir.join(heddle_test::record::layout::STORE_DIR).display()
+            ));
+            if status_code != 0 {
+                eprintln!("error: {d}");
+                return Ok(ExitCode::from(status_code));
+            }
+            Err(found(d))
+        }
     }
-    Ok(ExitCode::from(status_code))
 }

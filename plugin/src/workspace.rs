@@ -47,8 +47,12 @@ pub struct Project {
 }
 
 impl Project {
-    /// Directories records may be under: the target directory, then the build directory.
+    /// Directories records may be under: `HEDDLE_TARGET_DIR` when set (where the runtime
+    /// then writes), else the target directory, then the build directory.
     pub fn record_roots(&self) -> Vec<PathBuf> {
+        if let Some(dir) = store_override() {
+            return vec![dir];
+        }
         let mut roots = vec![self.target_dir.clone()];
         if let Some(b) = &self.build_dir
             && *b != self.target_dir
@@ -57,6 +61,33 @@ impl Project {
         }
         roots
     }
+}
+
+/// `HEDDLE_TARGET_DIR` as an absolute path (relative to the working directory), when
+/// set and not empty: the directory the runtime puts its store in.
+pub fn store_override() -> Option<PathBuf> {
+    let dir = std::env::var_os(heddle_test::record::layout::TARGET_DIR_VAR).filter(|v| !v.is_empty())?;
+    let dir = PathBuf::from(dir);
+    Some(if dir.is_absolute() {
+        dir
+    } else {
+        std::env::current_dir().map_or(dir.clone(), |cwd| cwd.join(&dir))
+    })
+}
+
+/// The `--target-dir DIR` (or `--target-dir=DIR`) among arguments for cargo, before any
+/// `--` that starts the test binary's own arguments.
+pub fn target_dir_arg(args: &[String]) -> Option<PathBuf> {
+    let mut it = args.iter().take_while(|a| *a != "--");
+    while let Some(a) = it.next() {
+        if a == "--target-dir" {
+            return it.next().map(PathBuf::from);
+        }
+        if let Some(dir) = a.strip_prefix("--target-dir=") {
+            return Some(PathBuf::from(dir));
+        }
+    }
+    None
 }
 
 /// Loads the project the way cargo would for these flags.
@@ -178,4 +209,21 @@ pub fn rust_files(root: &Path) -> Vec<String> {
     let mut out = Vec::new();
     walk(root, root, &mut out);
     out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn target_dir_is_read_from_cargo_arguments() {
+        let args = |a: &[&str]| a.iter().map(|s| s.to_string()).collect::<Vec<_>>();
+        assert_eq!(target_dir_arg(&args(&["--target-dir", "x"])), Some("x".into()));
+        assert_eq!(
+            target_dir_arg(&args(&["-p", "a", "--target-dir=y/z"])),
+            Some("y/z".into())
+        );
+        assert_eq!(target_dir_arg(&args(&["--", "--target-dir", "x"])), None);
+        assert_eq!(target_dir_arg(&args(&["--target-dir"])), None);
+    }
 }

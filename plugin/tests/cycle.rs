@@ -88,8 +88,16 @@ fn test_report_pin_check_cycle() {
     let cases = &junit.test_suites[0].test_cases;
     assert_eq!(cases.len(), rows, "one testcase per row");
     for (i, case) in cases.iter().enumerate() {
-        let labels: Vec<String> = case.properties.iter().map(|p| p.value.to_string()).collect();
-        let labels: Vec<&str> = labels.iter().map(String::as_str).collect();
+        // the testcase's output lists `name = label` per parameter
+        let out = case
+            .system_out
+            .as_ref()
+            .map(|s| s.to_string())
+            .unwrap_or_default();
+        let labels: Vec<&str> = out
+            .lines()
+            .map(|l| l.split_once(" = ").map_or(l, |(_, v)| v))
+            .collect();
         let failed = !matches!(case.status, quick_junit::TestCaseStatus::Success { .. });
         assert_eq!(failed, planted(&labels), "row {i}: {labels:?}");
         assert_eq!(failed, failing.contains(&(i as u64)));

@@ -54,9 +54,9 @@ fn json_has_factors_parameters_rows_statistics() {
     let o = design(&["2^3", "--format", "json", "--seed", "9"]);
     assert!(o.status.success(), "{}", stderr(&o));
     let v: serde_json::Value = serde_json::from_str(&stdout(&o)).expect("valid JSON");
-    assert_eq!(v["format"], 1);
+    assert_eq!(v["format"], 2);
     assert_eq!(v["factors"].as_array().unwrap().len(), 3);
-    assert_eq!(v["parameters"]["seed"], 9);
+    assert_eq!(v["parameters"]["seed"], "9", "seeds are decimal strings");
     assert_eq!(v["parameters"]["strength"], 2);
     let rows = v["rows"].as_array().unwrap();
     assert_eq!(v["statistics"]["rows"], rows.len());

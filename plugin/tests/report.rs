@@ -1,6 +1,8 @@
 //! `cargo heddle report` end to end, on stores written here record by record (the
 //! runner's own record types), so every outcome is known in advance.
 
+mod common;
+
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
@@ -108,7 +110,8 @@ fn json_names_the_planted_pair_first_and_follows_the_schema() {
     let tmp = tempfile::tempdir().unwrap();
     write_run(tmp.path(), "run-a", 1_700_000_000_000, |_, r| planted(r));
     let v = json(tmp.path(), &[]);
-    assert_eq!(v["format"], 1);
+    assert_eq!(v["format"], 2);
+    assert_eq!(v["suites"][0]["seed"], "4", "seeds are decimal strings");
     assert_eq!(v["runs"], serde_json::json!(["run-a"]));
     let s = &v["suites"][0];
     for key in [
@@ -142,7 +145,7 @@ fn json_names_the_planted_pair_first_and_follows_the_schema() {
         top["reason"]
             .as_str()
             .unwrap()
-            .contains("failed in all 2 of its runs")
+            .contains("failed in all 2 of its rows")
     );
     assert_eq!(
         s["flaky"].as_array().unwrap().len(),
@@ -256,16 +259,26 @@ fn junit_parses_and_lists_every_row() {
     let names: Vec<String> = suite.test_cases.iter().map(|c| c.name.to_string()).collect();
     assert_eq!(names[0], "totals::row_00");
     assert_eq!(names[17], "totals::row_17");
-    // labels travel as properties
+    // labels travel as the testcase's output and as a suite property per row (the
+    // schema has no testcase properties)
     let first = &suite.test_cases[0];
-    let props: Vec<(String, String)> = first
-        .properties
-        .iter()
-        .map(|p| (p.name.to_string(), p.value.to_string()))
-        .collect();
+    let out = first
+        .system_out
+        .as_ref()
+        .map(|s| s.to_string())
+        .unwrap_or_default();
+    assert!(out.contains("currency = currency0"), "{out}");
     assert!(
-        props.contains(&("currency".to_string(), "currency0".to_string())),
-        "{props:?}"
+        suite
+            .properties
+            .iter()
+            .any(|p| p.name.as_str() == "heddle.row.row_00"
+                && p.value.as_str().contains("currency = currency0")),
+        "{:?}",
+        suite.properties
+    );
+    assert!(
+        common::validate_junit(&xml).unwrap_or_else(|e| panic!("{e}")) || std::env::var_os("CI").is_none()
     );
 }
 
@@ -284,11 +297,11 @@ fn table_and_markdown_say_the_same_thing() {
     assert!(!table.contains('\x1b'), "no colours when not on a terminal");
     let md = text(&report(&["--store", tmp.path().to_str().unwrap(), "--format", "markdown"]).stdout);
     assert!(
-        md.contains("| suite | t | λ | rows | passed | failed | top suspect |"),
+        md.contains("| suite | t | λ | rows | passed | failed | not run | top suspect |"),
         "{md}"
     );
     assert!(
-        md.contains("`currency = currency2, tax = tax1` (always, 1.00)"),
+        md.contains("`currency = currency2, tax = tax1` (fails always, 1.00)"),
         "{md}"
     );
 }
@@ -299,7 +312,9 @@ fn all_clear_reports_coverage() {
     write_run(tmp.path(), "run-ok", 1_700_000_000_000, |_, _| false);
     let table = text(&report(&["--store", tmp.path().to_str().unwrap()]).stdout);
     assert!(
-        table.contains("all clear: every one of the 54 2-way interactions passed, each run at least 2 times"),
+        table.contains(
+            "all clear: every one of the 54 2-way interactions passed in at least 2 rows, each run at least 2 times"
+        ),
         "{table}"
     );
     let all = text(&report(&["--store", tmp.path().to_str().unwrap(), "--all"]).stdout);
@@ -360,13 +375,13 @@ fn bad_input_exits_with_2() {
     assert_eq!(fmt.status.code(), Some(2));
 }
 
-/// A crate with no build at all: `report` finds the store where cargo says the target
+/// A crate with no build at all (the package the records name): `report` finds the store where cargo says the target
 /// (or build) directory is, however that was configured.
 fn bare_crate(dir: &Path) -> PathBuf {
     std::fs::create_dir_all(dir.join("src")).unwrap();
     std::fs::write(
         dir.join("Cargo.toml"),
-        "[package]\nname = \"bare\"\nversion = \"0.0.0\"\nedition = \"2024\"\n\n[workspace]\n",
+        "[package]\nname = \"shop\"\nversion = \"0.0.0\"\nedition = \"2024\"\n\n[workspace]\n",
     )
     .unwrap();
     std::fs::write(dir.join("src/lib.rs"), "").unwrap();

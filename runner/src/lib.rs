@@ -43,6 +43,8 @@
 //!
 //! # What this crate holds
 //! - [`cover`], re-exported from `heddle-macros`;
+//! - [`current_row`]: inside a row's body, which row it is ([`RowInfo`]: name, index,
+//!   labels), for per-row snapshot names and temporary directories;
 //! - [`record`]: the versioned JSON-lines format of the records and the store's layout
 //!   (read back by `heddle-store`);
 //! - a hidden module for the generated code (runs a row, catches a panic or `Err`,
@@ -114,6 +116,9 @@ extern crate self as heddle_test;
 ///   renamed dependency (`ht = { package = "heddle-test", … }`) works.
 pub use heddle_macros::cover;
 
+pub use current::{RowInfo, current_row};
+
+mod current;
 mod message;
 pub mod record;
 mod recorder;

@@ -29,9 +29,19 @@ pub(crate) fn test_name(suite: &Suite, row: usize) -> String {
     record::test_path(suite_path(suite.module), row_name(suite, row))
 }
 
-/// The command that reruns just this row.
+/// The command that reruns just this row, in the form of the runner running it now
+/// (nextest sets `NEXTEST=1` for its test processes).
 pub(crate) fn rerun_command(suite: &Suite, row: usize) -> String {
-    record::rerun_command(suite.krate, suite.target, &test_name(suite, row))
+    rerun_command_in(suite, row, std::env::var_os("NEXTEST").is_some_and(|v| v == "1"))
+}
+
+/// [`rerun_command`] for a given runner.
+pub(crate) fn rerun_command_in(suite: &Suite, row: usize, nextest: bool) -> String {
+    let form = record::RerunForm {
+        nextest,
+        manifest_path: None,
+    };
+    record::rerun_command_as(suite.krate, suite.target, &test_name(suite, row), &form)
 }
 
 /// The label of every factor in this row; a row or level index outside the suite (only
@@ -115,21 +125,29 @@ mod tests {
     #[test]
     fn rerun_command_names_package_target_and_exact_test() {
         assert_eq!(
-            rerun_command(&SUITE, 3),
+            rerun_command_in(&SUITE, 3, false),
             "cargo test -p demo-crate --test codec-io roundtrip::row_03 -- --exact"
+        );
+        assert_eq!(
+            rerun_command_in(&SUITE, 3, true),
+            "cargo nextest run -p demo-crate --test codec-io -E 'test(=roundtrip::row_03)'"
         );
     }
 
     #[test]
     fn context_names_every_parameter_seed_and_rerun() {
         let text = context(&SUITE, 3, "panicked");
+        // the rerun line is in the form of the runner running this test (checked above)
         assert_eq!(
             text,
-            "heddle: `roundtrip` row 3 of 6 (`roundtrip::row_03`) panicked\n  \
-             batch = 8\n  \
-             codec = Codec::Rle\n  \
-             seed 11 (strength 2, lambda 1, rows from the engine)\n  \
-             rerun: cargo test -p demo-crate --test codec-io roundtrip::row_03 -- --exact"
+            format!(
+                "heddle: `roundtrip` row 3 of 6 (`roundtrip::row_03`) panicked\n  \
+                 batch = 8\n  \
+                 codec = Codec::Rle\n  \
+                 seed 11 (strength 2, lambda 1, rows from the engine)\n  \
+                 rerun: {}",
+                rerun_command(&SUITE, 3)
+            )
         );
     }
 

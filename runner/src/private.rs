@@ -7,6 +7,7 @@
 //! outcome is recorded; then a panic is resumed and an `Err` returned, so libtest judges
 //! the row exactly as if heddle were not there (`#[should_panic]` included).
 
+use crate::current;
 use crate::message;
 use crate::record::Outcome;
 use crate::recorder::{self, Recorder, RowResult};
@@ -88,7 +89,7 @@ pub fn run_result<E: Debug>(
 /// Async form of [`run`]: a panic while the future is polled is caught too.
 pub async fn run_async<F: Future<Output = ()>>(suite: &'static Suite, row: usize, body: F) {
     let start = Instant::now();
-    let caught = catch_future(body).await;
+    let caught = catch_future(suite, row, body).await;
     finish_unit(&GLOBAL, suite, row, caught, start);
 }
 
@@ -99,7 +100,7 @@ pub async fn run_async_result<E: Debug, F: Future<Output = Result<(), E>>>(
     body: F,
 ) -> Result<(), RowError<E>> {
     let start = Instant::now();
-    let caught = catch_future(body).await;
+    let caught = catch_future(suite, row, body).await;
     finish_result(&GLOBAL, suite, row, caught, start)
 }
 
@@ -144,17 +145,23 @@ impl<E: Debug + std::error::Error + 'static> std::error::Error for RowError<E> {
 
 type Payload = Box<dyn Any + Send>;
 
-/// Polls `body` to completion, each poll under `catch_unwind`; after a panic the future
-/// is dropped unpolled.
-async fn catch_future<T, F: Future<Output = T>>(body: F) -> Result<T, Payload> {
+/// Polls `body` to completion, each poll under `catch_unwind` and with its row as the
+/// current row ([`crate::current_row`]); after a panic the future is dropped unpolled.
+async fn catch_future<T, F: Future<Output = T>>(
+    suite: &'static Suite,
+    row: usize,
+    body: F,
+) -> Result<T, Payload> {
     let mut body = pin!(body);
-    std::future::poll_fn(
-        move |cx| match panic::catch_unwind(AssertUnwindSafe(|| body.as_mut().poll(cx))) {
+    std::future::poll_fn(move |cx| {
+        match current::within(suite, row, || {
+            panic::catch_unwind(AssertUnwindSafe(|| body.as_mut().poll(cx)))
+        }) {
             Ok(Poll::Pending) => Poll::Pending,
             Ok(Poll::Ready(v)) => Poll::Ready(Ok(v)),
             Err(payload) => Poll::Ready(Err(payload)),
-        },
-    )
+        }
+    })
     .await
 }
 
@@ -163,7 +170,7 @@ pub(crate) fn run_in(rec: &Recorder, suite: &'static Suite, row: usize, body: im
     let start = Instant::now();
     // AssertUnwindSafe: the panic is always resumed, so nobody observes state the body
     // left half-updated
-    let caught = panic::catch_unwind(AssertUnwindSafe(body));
+    let caught = current::within(suite, row, || panic::catch_unwind(AssertUnwindSafe(body)));
     finish_unit(rec, suite, row, caught, start);
 }
 
@@ -175,7 +182,7 @@ pub(crate) fn run_result_in<E: Debug>(
     body: impl FnOnce() -> Result<(), E>,
 ) -> Result<(), RowError<E>> {
     let start = Instant::now();
-    let caught = panic::catch_unwind(AssertUnwindSafe(body));
+    let caught = current::within(suite, row, || panic::catch_unwind(AssertUnwindSafe(body)));
     finish_result(rec, suite, row, caught, start)
 }
 
@@ -348,13 +355,29 @@ mod tests {
             "{text}"
         );
         assert!(
-            text.ends_with("rerun: cargo test -p demo --test t f::row_01 -- --exact"),
+            text.ends_with(&format!("rerun: {}", message::rerun_command(&SUITE, 1))),
             "{text}"
         );
         assert_eq!(
             run_result_in(&rec, &SUITE, 0, || Ok::<(), &str>(())).map_err(|_| ()),
             Ok(())
         );
+    }
+
+    #[test]
+    fn the_body_sees_its_row_and_nothing_leaks_after() {
+        let rec = Recorder::new(off, silent);
+        assert!(crate::current_row().is_none());
+        run_in(&rec, &SUITE, 1, || {
+            let r = crate::current_row().expect("inside the body");
+            assert_eq!((r.function(), r.index(), r.name()), ("f", 1, "row_01"));
+            assert_eq!(r.test_name(), "f::row_01");
+            assert_eq!(r.labels(), vec![("x", "2")]);
+            assert_eq!(r.slug(), "f-row_01");
+        });
+        assert!(crate::current_row().is_none());
+        let _ = panic::catch_unwind(|| run_in(&rec, &SUITE, 0, || panic!("boom")));
+        assert!(crate::current_row().is_none(), "restored after a panic");
     }
 
     #[test]

@@ -40,6 +40,7 @@ struct Writer {
     file: File,
     path: PathBuf,
     run_id: String,
+    attempt: Option<u32>,
     /// Suites whose spec line this process already wrote, by address (suites are
     /// `'static`, so an address names one suite for the life of the process).
     specs: BTreeSet<usize>,
@@ -114,6 +115,7 @@ fn open(config: Config) -> Result<Writer, SetupError> {
         file,
         path,
         run_id: config.run_id,
+        attempt: config.attempt,
         specs: BTreeSet::new(),
     })
 }
@@ -128,7 +130,9 @@ impl Writer {
         if new_suite {
             buf.push_str(&Line::Spec(spec_record(suite, &self.run_id, &stamp)).to_json_line());
         }
-        buf.push_str(&Line::Row(row_record(suite, result, &self.run_id, stamp)).to_json_line());
+        let mut row = row_record(suite, result, &self.run_id, stamp);
+        row.attempt = self.attempt;
+        buf.push_str(&Line::Row(row).to_json_line());
         // one write of whole lines; the spec goes out with its suite's first row
         self.file
             .write_all(buf.as_bytes())
@@ -190,6 +194,7 @@ fn row_record(suite: &Suite, result: &RowResult, run_id: &str, time: String) -> 
         message: result.message.clone(),
         duration_ns: u64::try_from(result.duration.as_nanos()).unwrap_or(u64::MAX),
         time,
+        attempt: None,
     }
 }
 
@@ -273,6 +278,7 @@ mod tests {
         let cfg = Config {
             store: tmp.path().join("heddle"),
             run_id: "run-1".into(),
+            attempt: None,
         };
         let mut w = open(cfg).unwrap();
         w.write(&SUITE, &result(0, Outcome::Passed)).unwrap();

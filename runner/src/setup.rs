@@ -13,6 +13,8 @@ pub(crate) struct Config {
     pub(crate) store: PathBuf,
     /// The run id its records carry.
     pub(crate) run_id: String,
+    /// nextest's attempt number for this process (nextest runs one test per process).
+    pub(crate) attempt: Option<u32>,
 }
 
 /// Why a process cannot record. Printed as a one-line warning; never fails a test.
@@ -73,10 +75,17 @@ fn non_empty(var: &dyn Fn(&str) -> Option<OsString>, name: &str) -> Option<OsStr
     var(name).filter(|v| !v.is_empty())
 }
 
-/// The run id: `HEDDLE_RUN_ID` (set explicitly, e.g. by `cargo heddle test`), else
-/// nextest's, else a fresh one for this process.
+/// The run id: `HEDDLE_RUN_ID` (set explicitly, e.g. by `cargo heddle test`), else the
+/// CI pipeline's (so the shards of one pipeline are one run), else nextest's, else a
+/// fresh one for this process.
 pub(crate) fn run_id(var: &dyn Fn(&str) -> Option<OsString>) -> Result<String, SetupError> {
-    for name in [RUN_ID_VAR, NEXTEST_RUN_ID_VAR] {
+    let names: &[&'static str] = &[RUN_ID_VAR, NEXTEST_RUN_ID_VAR];
+    for (i, &name) in names.iter().enumerate() {
+        if i == 1
+            && let Some(id) = layout::pipeline_run_id(&|n| var(n).and_then(|v| v.into_string().ok()))
+        {
+            return Ok(id);
+        }
         if let Some(value) = non_empty(var, name) {
             let value = value
                 .into_string()
@@ -86,6 +95,16 @@ pub(crate) fn run_id(var: &dyn Fn(&str) -> Option<OsString>) -> Result<String, S
         }
     }
     Ok(layout::new_run_id())
+}
+
+/// nextest's attempt number (`NEXTEST_ATTEMPT`, 1-based), when running under nextest.
+/// nextest owns the variable, so a value it would never set is passed over, not an error.
+pub(crate) fn attempt(var: &dyn Fn(&str) -> Option<OsString>) -> Option<u32> {
+    non_empty(var, layout::NEXTEST_ATTEMPT_VAR)?
+        .to_str()?
+        .parse()
+        .ok()
+        .filter(|&n| n >= 1)
 }
 
 /// Resolves the store and run id from an env lookup and the executable's path.
@@ -113,6 +132,7 @@ pub(crate) fn resolve(
     Ok(Config {
         store: layout::store_root(&dir),
         run_id,
+        attempt: attempt(var),
     })
 }
 
@@ -144,10 +164,24 @@ mod tests {
         assert_eq!(run_id(&both).unwrap(), "hd-1");
         let empty_heddle = env(&[(NEXTEST_RUN_ID_VAR, "nx-1"), (RUN_ID_VAR, "")]);
         assert_eq!(run_id(&empty_heddle).unwrap(), "nx-1");
+        // a CI pipeline's id comes before nextest's: the shards of a pipeline are one run
+        let shard = env(&[(NEXTEST_RUN_ID_VAR, "nx-1"), ("CI_PIPELINE_ID", "42")]);
+        assert_eq!(run_id(&shard).unwrap(), "gitlab-42");
+        let explicit = env(&[(RUN_ID_VAR, "hd-1"), ("CI_PIPELINE_ID", "42")]);
+        assert_eq!(run_id(&explicit).unwrap(), "hd-1");
         let none = env(&[(RUN_ID_VAR, "")]);
         let fresh = run_id(&none).unwrap();
         assert!(layout::validate_run_id(&fresh).is_ok());
         assert_ne!(fresh, run_id(&none).unwrap());
+    }
+
+    #[test]
+    fn the_attempt_comes_from_nextest() {
+        assert_eq!(attempt(&env(&[(layout::NEXTEST_ATTEMPT_VAR, "2")])), Some(2));
+        for v in ["", "0", "x", "-1"] {
+            assert_eq!(attempt(&env(&[(layout::NEXTEST_ATTEMPT_VAR, v)])), None, "{v:?}");
+        }
+        assert_eq!(attempt(&env(&[])), None);
     }
 
     #[test]

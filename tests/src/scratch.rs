@@ -360,6 +360,12 @@ const INHERITED_NOT: &[&str] = &[
     "CARGO_PRIMARY_PACKAGE",
     "CARGO_TARGET_TMPDIR",
     "RUST_TEST_THREADS",
+    // a CI service's pipeline ids would make every temporary crate's runs one run
+    "GITHUB_RUN_ID",
+    "GITHUB_RUN_ATTEMPT",
+    "CI_PIPELINE_ID",
+    "BUILDKITE_BUILD_ID",
+    "CIRCLE_WORKFLOW_ID",
 ];
 
 /// The first `error` line of cargo's stderr, for a one-line reason.

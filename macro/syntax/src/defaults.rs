@@ -5,6 +5,7 @@
 //! strength = 2   # 1 ..= heddle_generator::MAX_STRENGTH
 //! lambda = 2     # 1 ..= heddle_generator::MAX_LAMBDA
 //! seed = 7       # 0 ..= 2^63 - 1 (TOML integers are signed 64-bit)
+//! pinned = true  # the crate pins its rows: `cargo heddle check` fails without a pin
 //! ```
 //!
 //! The attribute's own keys override these. A default strength is capped at a function's
@@ -28,8 +29,12 @@ pub const DEFAULT_LAMBDA: u32 = 1;
 
 /// The table of crate-wide defaults: `[package.metadata.heddle]`.
 pub const METADATA_TABLE: &str = "heddle";
+/// The key by which a crate declares that it pins every annotated function's rows, so a
+/// missing pins file or pin fails `cargo heddle check` instead of passing as "generated
+/// at build time". Builds do not need it: a function without a pin is generated as ever.
+pub const PINNED_KEY: &str = "pinned";
 /// Keys the defaults table accepts.
-pub const METADATA_KEYS: &[&str] = &[kw::STRENGTH, kw::LAMBDA, kw::SEED];
+pub const METADATA_KEYS: &[&str] = &[kw::STRENGTH, kw::LAMBDA, kw::SEED, PINNED_KEY];
 /// The manifest the defaults live in.
 pub const MANIFEST_FILE: &str = "Cargo.toml";
 
@@ -42,6 +47,8 @@ pub struct Defaults {
     pub lambda: Option<u32>,
     /// Default seed (else each function's is derived from its name).
     pub seed: Option<u64>,
+    /// The crate pins its rows (`pinned = true`).
+    pub pinned: bool,
 }
 
 /// Why the defaults could not be read; the message is in the house style (lower case,
@@ -116,6 +123,18 @@ impl Defaults {
                     Some(v) => d.seed = Some(v),
                     None => return Err(bad("a non-negative integer")),
                 },
+                PINNED_KEY => match value.as_bool() {
+                    Some(b) => d.pinned = b,
+                    None => {
+                        return Err(DefaultsError(diag::diagnostic(
+                            format!(
+                                "`{key} = {found}` in `[package.metadata.{}]` of `{}`{table_at} is not `true` or `false`",
+                                METADATA_TABLE, MANIFEST_FILE
+                            ),
+                            format!("write `{PINNED_KEY} = true` when the crate pins its rows"),
+                        )));
+                    }
+                },
                 _ => {
                     return Err(DefaultsError(diag::diagnostic(
                         format!(
@@ -171,17 +190,25 @@ mod tests {
 
     #[test]
     fn reads_the_table() {
-        let text =
-            "[package]\nname = \"x\"\n\n[package.metadata.heddle]\nstrength = 3\nlambda = 2\nseed = 9\n";
+        let text = "[package]\nname = \"x\"\n\n[package.metadata.heddle]\nstrength = 3\nlambda = 2\nseed = 9\npinned = true\n";
         let d = Defaults::from_manifest(text).unwrap();
         assert_eq!(
             d,
             Defaults {
                 strength: Some(3),
                 lambda: Some(2),
-                seed: Some(9)
+                seed: Some(9),
+                pinned: true,
             }
         );
+        let e = Defaults::from_manifest("[package.metadata.heddle]\npinned = 1\n")
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.starts_with("`pinned = 1` in `[package.metadata.heddle]`"),
+            "{e}"
+        );
+        assert!(e.contains("is not `true` or `false`"), "{e}");
     }
 
     #[test]

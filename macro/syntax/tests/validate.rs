@@ -48,6 +48,7 @@ fn defaults_and_their_sources() {
         strength: Some(3),
         lambda: Some(4),
         seed: Some(99),
+        ..Defaults::default()
     };
     let s = check_with("", ROUNDTRIP, &d).unwrap();
     assert_eq!((s.spec.strength, s.spec.lambda, s.spec.seed), (3, 4, 99));

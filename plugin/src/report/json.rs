@@ -1,22 +1,34 @@
 //! The JSON report, for scripts and dashboards.
 //!
-//! Schema, version [`REPORT_FORMAT`] (fields are only ever added within a version):
+//! Schema, version [`REPORT_FORMAT`] (fields are only ever added within a version;
+//! version 2 writes the seed as a decimal string, since JSON readers that hold numbers as
+//! doubles corrupt seeds above 2^53):
 //!
 //! ```text
-//! { "format": 1,
+//! { "format": 2,
 //!   "runs": [run id, …],                      oldest first
+//!   "stores": n,                              store roots read (shards merged)
 //!   "notes": [text, …],                       what reading skipped
 //!   "suites": [ {
 //!       "crate", "target", "file", "function", "test",   test = rows module path
-//!       "fingerprint", "strength", "lambda", "seed",
+//!       "fingerprint", "strength", "lambda", "seed",         seed: a decimal string
 //!       "rows", "passed", "failed", "not_run", "executions",
+//!       "coverage": { "rows_run", "interactions", "interactions_run",
+//!                     "interactions_at_lambda", "complete" },      t-way interactions of
+//!                                              the runs read; complete: all at lambda
 //!       "interactions": [ { "levels": {parameter: label, …}, "runs", "passes", "failures" } ],
 //!                                              every single level and every 2..t-way one
-//!       "suspects": [ { "levels", "score", "reason", "always", "explains",
+//!       "suspects": [ { "levels", "score", "reason", "always", "verdict", "explains",
 //!                       "runs", "passes", "failures" } ],          best first
-//!       "flaky": [ { "levels", "runs", "passes", "low", "high" } ],  95% Wilson interval
+//!                                              verdict: always | flaky | some-rows
+//!       "flaky": [ { "levels", "runs", "passes", "low", "high" } ],  95% Wilson interval;
+//!                                              only interactions a row of which both
+//!                                              passed and failed
 //!       "failing_rows": [ { "row", "test", "levels", "runs", "failures", "message", "rerun" } ],
-//!       "advice": { "confidence", "detectable_rate", "flake_rate", "lambda_needed", "rows_needed" }
+//!       "advice": { "confidence", "detectable_rate", "runs_per_interaction", "rounds",
+//!                   "flake_rate", "lambda_needed", "rows_needed" }
+//!                                              detectable_rate at runs_per_interaction
+//!                                              (λ × rounds of --repeat, runs merged)
 //!   } ] }
 //! ```
 //! `levels` objects list parameters in declaration order.
@@ -27,7 +39,7 @@ use serde::ser::SerializeMap;
 use super::{Report, SuiteReport, described};
 
 /// Version of the JSON report schema.
-pub const REPORT_FORMAT: u32 = 1;
+pub const REPORT_FORMAT: u32 = 2;
 
 struct Levels<'a>(Vec<(&'a str, &'a str)>);
 
@@ -45,6 +57,7 @@ impl Serialize for Levels<'_> {
 struct Doc<'a> {
     format: u32,
     runs: &'a [String],
+    stores: usize,
     notes: &'a [String],
     suites: Vec<Suite<'a>>,
 }
@@ -60,17 +73,27 @@ struct Suite<'a> {
     fingerprint: &'a str,
     strength: u32,
     lambda: u32,
-    seed: u64,
+    seed: String,
     rows: usize,
     passed: usize,
     failed: usize,
     not_run: usize,
     executions: u64,
+    coverage: Coverage,
     interactions: Vec<Interaction<'a>>,
     suspects: Vec<Suspect<'a>>,
     flaky: Vec<Flaky<'a>>,
     failing_rows: Vec<FailingRow<'a>>,
     advice: Advice,
+}
+
+#[derive(Serialize)]
+struct Coverage {
+    rows_run: usize,
+    interactions: usize,
+    interactions_run: usize,
+    interactions_at_lambda: usize,
+    complete: bool,
 }
 
 #[derive(Serialize)]
@@ -87,6 +110,7 @@ struct Suspect<'a> {
     score: f64,
     reason: &'a str,
     always: bool,
+    verdict: &'static str,
     explains: u64,
     runs: u64,
     passes: u64,
@@ -117,6 +141,8 @@ struct FailingRow<'a> {
 struct Advice {
     confidence: f64,
     detectable_rate: f64,
+    runs_per_interaction: u64,
+    rounds: u64,
     flake_rate: Option<f64>,
     lambda_needed: Option<u32>,
     rows_needed: Option<usize>,
@@ -134,12 +160,19 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
         fingerprint: &spec.fingerprint,
         strength: spec.strength,
         lambda: spec.lambda,
-        seed: spec.seed,
+        seed: spec.seed.to_string(),
         rows: spec.rows.len(),
         passed: s.passed,
         failed: s.failed,
         not_run: s.not_run,
         executions: s.tallies.total().runs,
+        coverage: Coverage {
+            rows_run: s.ran.rows_run,
+            interactions: s.ran.interactions,
+            interactions_run: s.ran.interactions_run,
+            interactions_at_lambda: s.ran.interactions_at_lambda,
+            complete: s.ran.complete(),
+        },
         interactions: entries
             .iter()
             .map(|e| Interaction {
@@ -160,6 +193,7 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
                     score: x.score,
                     reason: &x.reason,
                     always: x.always,
+                    verdict: x.verdict.key(),
                     explains: x.explains,
                     runs: e.count.runs,
                     passes: e.count.passes,
@@ -196,12 +230,14 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
                 runs: r.count.runs,
                 failures: r.count.failures,
                 message: r.message.as_deref(),
-                rerun: spec.rerun_command(r.row).unwrap_or_default(),
+                rerun: s.rerun(r.row),
             })
             .collect(),
         advice: Advice {
             confidence: s.advice.confidence,
             detectable_rate: s.advice.detectable,
+            runs_per_interaction: s.advice.runs,
+            rounds: s.advice.rounds,
             flake_rate: s.advice.flake.map(|f| f.0),
             lambda_needed: s.advice.flake.map(|f| f.1),
             rows_needed: s.advice.flake.and_then(|f| f.2),
@@ -214,6 +250,7 @@ pub fn render(report: &Report<'_>) -> String {
     let doc = Doc {
         format: REPORT_FORMAT,
         runs: &report.runs,
+        stores: report.stores,
         notes: &report.notes,
         suites: report.suites.iter().map(suite).collect(),
     };

@@ -17,11 +17,16 @@ pub fn render(report: &Report<'_>) -> String {
         out.push_str("No `#[cover]` suite recorded in the selected runs.\n");
         return out;
     }
-    out.push_str("| suite | t | λ | rows | passed | failed | top suspect |\n|---|---|---|---|---|---|---|\n");
+    if let Some(merged) = report.merged("`") {
+        let _ = writeln!(out, "Merged {merged}.\n");
+    }
+    out.push_str(
+        "| suite | t | λ | rows | passed | failed | not run | top suspect |\n|---|---|---|---|---|---|---|---|\n",
+    );
     for s in &report.suites {
         let top = s.analysis.suspects.first().map_or("–".to_string(), |x| {
             let e = &s.tallies.entries[x.interaction];
-            let kind = if x.always { "always" } else { "sometimes" };
+            let kind = x.verdict.words();
             format!(
                 "`{}` ({kind}, {:.2})",
                 levels_text(&described(s.spec, &e.interaction)),
@@ -30,7 +35,7 @@ pub fn render(report: &Report<'_>) -> String {
         });
         let _ = writeln!(
             out,
-            "| `{}` {} | {} | {} | {} | {} | {} | {} |",
+            "| `{}` {} | {} | {} | {} | {} | {} | {} | {} |",
             cell(&s.spec.suite),
             cell(&s.spec.file),
             s.spec.strength,
@@ -38,7 +43,23 @@ pub fn render(report: &Report<'_>) -> String {
             s.spec.rows.len(),
             s.passed,
             s.failed,
+            s.not_run,
             cell(&top)
+        );
+    }
+    for s in report.suites.iter().filter(|s| !s.ran.complete()) {
+        let _ = writeln!(
+            out,
+            "\n> **partial run** `{}`: {} of {} rows ran; {} of {} {}-way interactions ran ({:.0}%), {} met lambda {}; not all clear",
+            cell(&s.spec.suite),
+            s.ran.rows_run,
+            s.ran.rows,
+            s.ran.interactions_run,
+            s.ran.interactions,
+            s.spec.strength,
+            s.ran.share_run() * 100.0,
+            s.ran.interactions_at_lambda,
+            s.spec.lambda
         );
     }
     for s in report.suites.iter().filter(|s| !s.analysis.suspects.is_empty()) {

@@ -4,6 +4,7 @@
 mod json;
 mod junit;
 mod markdown;
+pub mod ran;
 mod table;
 
 use std::io::Write;
@@ -18,6 +19,7 @@ use heddle_test::record::{RowRecord, SpecRecord};
 use crate::analysis::{self, Analysis};
 use crate::failure::{Diagnostic, Failure, usage};
 use crate::workspace::{self, Selection};
+use ran::Ran;
 
 /// Arguments of `report`.
 #[derive(Args, Debug, Clone)]
@@ -28,8 +30,9 @@ pub struct ReportArgs {
     /// Run to report: `latest` or a run id.
     #[arg(long, value_name = "latest|ID", default_value = "latest")]
     pub run: String,
-    /// Merge the last N runs (history across CI runs, for flakiness).
-    #[arg(long, value_name = "N", conflicts_with = "run")]
+    /// Merge the last N runs (history across CI runs, for flakiness), or `all`: every run
+    /// found in the stores read (shards of one pipeline recorded under different ids).
+    #[arg(long, value_name = "N|all", conflicts_with = "run", value_parser = parse_runs)]
     pub runs: Option<usize>,
     /// List every interaction's pass counts, not only those with failures.
     #[arg(long)]
@@ -44,6 +47,96 @@ pub struct ReportArgs {
     /// Confidence the λ advice aims for.
     #[arg(long, value_name = "C", default_value_t = 0.95)]
     pub confidence: f64,
+    /// Also write the report in `--format` to FILE; the terminal then shows the table.
+    #[arg(long, value_name = "FILE")]
+    pub output: Option<PathBuf>,
+    /// Colours: `auto` (default; `CARGO_TERM_COLOR`, `NO_COLOR`, `CLICOLOR`,
+    /// `CLICOLOR_FORCE` and `TERM` decide), `always` or `never`.
+    #[arg(long, value_enum, value_name = "WHEN")]
+    pub color: Option<crate::style::ColorChoice>,
+    /// Exit with a failing code when the report finds this (repeatable or
+    /// comma-separated): `failures` (3), `flaky` (4), `incomplete` (5).
+    #[arg(long, value_enum, value_name = "WHAT", value_delimiter = ',')]
+    pub fail_on: Vec<FailOn>,
+}
+
+/// What `--fail-on` can fail a CI job on, each with its exit code. The first that holds,
+/// in this order, is the exit code; 0 when none does. 2 stays a usage error and 1 a
+/// problem found before any report.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, ValueEnum)]
+pub enum FailOn {
+    /// A row failed in every execution read (a row that also passed is flaky instead):
+    /// exit code 3.
+    Failures,
+    /// A row both passed and failed (retries, repeats, runs merged): exit code 4.
+    Flaky,
+    /// A suite's t-way interactions did not all run in λ rows (a partial run, a filter,
+    /// a missing shard), or no suite was recorded at all: exit code 5.
+    Incomplete,
+}
+
+impl FailOn {
+    /// The exit code.
+    pub fn code(self) -> u8 {
+        match self {
+            FailOn::Failures => 3,
+            FailOn::Flaky => 4,
+            FailOn::Incomplete => 5,
+        }
+    }
+
+    /// Whether it holds for a report, in words.
+    pub fn holds(self, report: &Report<'_>) -> Option<String> {
+        let rows = |f: &dyn Fn(&RowView) -> bool| -> usize {
+            report
+                .suites
+                .iter()
+                .map(|s| s.rows.iter().filter(|r| f(r)).count())
+                .sum()
+        };
+        let s = |n: usize| if n == 1 { "" } else { "s" };
+        match self {
+            FailOn::Failures => {
+                let n = rows(&|r| r.count.failures > 0 && r.count.passes == 0);
+                (n > 0).then(|| format!("{n} row{} failed in every run", s(n)))
+            }
+            FailOn::Flaky => {
+                let n = rows(&|r| r.count.is_mixed());
+                (n > 0).then(|| format!("{n} row{} both passed and failed", s(n)))
+            }
+            FailOn::Incomplete if report.suites.is_empty() => Some("no suite was recorded".into()),
+            FailOn::Incomplete => {
+                let n = report.suites.iter().filter(|x| !x.ran.complete()).count();
+                (n > 0).then(|| format!("{n} suite{} did not run every interaction in lambda rows", s(n)))
+            }
+        }
+    }
+}
+
+/// The exit code `--fail-on` asks for, saying on stderr which condition held.
+pub fn fail_code(report: &Report<'_>, fail_on: &[FailOn]) -> ExitCode {
+    let mut asked = fail_on.to_vec();
+    asked.sort();
+    asked.dedup();
+    for f in asked {
+        if let Some(why) = f.holds(report) {
+            let name = f
+                .to_possible_value()
+                .map_or_else(String::new, |v| v.get_name().to_string());
+            eprintln!("heddle: {why} (`--fail-on {name}`: exit code {})", f.code());
+            return ExitCode::from(f.code());
+        }
+    }
+    ExitCode::SUCCESS
+}
+
+/// `--runs`: a count, or `all` (every run).
+fn parse_runs(text: &str) -> Result<usize, String> {
+    if text == "all" {
+        return Ok(usize::MAX);
+    }
+    text.parse()
+        .map_err(|_| format!("`{text}` is not a count of runs; hint: a number such as `10`, or `all`"))
 }
 
 /// Report formats.
@@ -70,6 +163,21 @@ pub struct RowView {
     pub message: Option<String>,
     /// Total body time over its executions, nanoseconds.
     pub duration_ns: u64,
+    /// Every failed execution, in run and file order (retries and repeats included).
+    pub failed_runs: Vec<FailedRun>,
+    /// Highest nextest attempt number seen (retries), when run under nextest.
+    pub max_attempt: Option<u32>,
+}
+
+/// One failed execution of a row.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct FailedRun {
+    /// Its failure message.
+    pub message: Option<String>,
+    /// Body time, nanoseconds.
+    pub duration_ns: u64,
+    /// nextest's attempt number, when run under nextest.
+    pub attempt: Option<u32>,
 }
 
 /// The λ advice for a suite.
@@ -77,8 +185,14 @@ pub struct RowView {
 pub struct Advice {
     /// Confidence aimed for.
     pub confidence: f64,
-    /// Smallest failure probability the current λ catches with that confidence.
+    /// Smallest failure probability the runs read catch with that confidence.
     pub detectable: f64,
+    /// Executions per t-way interaction that figure is for: the fewest any t-way
+    /// interaction got in the runs read (λ × rounds), λ when some did not run.
+    pub runs: u64,
+    /// Rounds every row went through (`--repeat`, runs merged, retries): the fewest
+    /// executions of any row that ran.
+    pub rounds: u64,
     /// The observed failure rate of the top flaky interaction, with the λ needed to
     /// catch it and the rows that λ costs for this spec (None when it could not be
     /// generated).
@@ -101,8 +215,24 @@ pub struct SuiteReport<'a> {
     pub failed: usize,
     /// Rows with no record.
     pub not_run: usize,
+    /// What the runs read covered.
+    pub ran: Ran,
     /// λ advice.
     pub advice: Advice,
+    /// The manifest path the report was asked for, carried into rerun commands.
+    pub manifest_path: Option<String>,
+}
+
+impl SuiteReport<'_> {
+    /// The command that reruns one row: the nextest form when the row ran under
+    /// nextest, with `--manifest-path` when the report was asked for with one.
+    pub fn rerun(&self, row: usize) -> String {
+        let form = heddle_test::record::RerunForm {
+            nextest: self.rows.get(row).is_some_and(|r| r.max_attempt.is_some()),
+            manifest_path: self.manifest_path.clone(),
+        };
+        self.spec.rerun_command_as(row, &form).unwrap_or_default()
+    }
 }
 
 /// The whole report.
@@ -115,6 +245,28 @@ pub struct Report<'a> {
     pub notes: Vec<String>,
     /// Whether `--all` was given.
     pub all: bool,
+    /// Runs in the store that were not read (older, or of other packages): a partial
+    /// run's report says how to merge them.
+    pub other_runs: usize,
+    /// Store roots read (several: shards merged).
+    pub stores: usize,
+}
+
+impl Report<'_> {
+    /// What was merged, when more than one run or store was read: `2 runs (a, b) from 3
+    /// stores`, each run id between `quote`s.
+    pub fn merged(&self, quote: &str) -> Option<String> {
+        if self.stores <= 1 && self.runs.len() <= 1 {
+            return None;
+        }
+        let ids: Vec<String> = self.runs.iter().map(|r| format!("{quote}{r}{quote}")).collect();
+        Some(format!(
+            "{} ({}) from {}",
+            heddle_store::words::plural(self.runs.len(), "run", "runs"),
+            ids.join(", "),
+            heddle_store::words::plural(self.stores, "store", "stores")
+        ))
+    }
 }
 
 /// Labels of an interaction as `(parameter, label)` pairs.
@@ -131,13 +283,16 @@ pub fn levels_text(pairs: &[(&str, &str)]) -> String {
         .join(", ")
 }
 
-/// Reads the store the arguments name.
-pub fn open_store(args: &ReportArgs) -> Result<Store, Failure> {
+/// The store the arguments name, and the packages the report covers (empty: all). A
+/// run belongs to the packages it ran: without `-p` the report covers the current
+/// package as cargo chooses it (`--workspace`: every member); with `--store` (shards,
+/// no project) it covers the `-p` given, else every package found.
+pub fn open_store(args: &ReportArgs) -> Result<(Store, Vec<String>), Failure> {
     let not_found = |what: String| {
-        usage(
-            Diagnostic::new(format!("no heddle records found {what}"))
-                .hint("run the tests first, e.g. `cargo heddle test`"),
-        )
+        usage(Diagnostic::new(format!("no heddle records found {what}")).hint(format!(
+            "run the tests first, e.g. `cargo heddle test`; tests that ran outside cargo's target directory (a nextest archive, `--archive-file`) record only where `{}` points",
+            heddle_test::record::layout::TARGET_DIR_VAR
+        )))
     };
     if !args.store.is_empty() {
         let mut roots = Vec::new();
@@ -150,7 +305,8 @@ pub fn open_store(args: &ReportArgs) -> Result<Store, Failure> {
                 Err(e) => return Err(usage(e.diagnostic())),
             }
         }
-        return Store::merge(roots).map_err(|e| usage(e.diagnostic()));
+        let store = Store::merge(roots).map_err(|e| usage(e.diagnostic()))?;
+        return Ok((store, args.selection.package.clone()));
     }
     let project = workspace::load(&args.selection)?;
     let roots: Vec<PathBuf> = project
@@ -161,18 +317,49 @@ pub fn open_store(args: &ReportArgs) -> Result<Store, Failure> {
     if roots.is_empty() {
         return Err(not_found(format!("in `{}`", project.target_dir.display())));
     }
-    Store::merge(roots).map_err(|e| usage(e.diagnostic()))
+    let store = Store::merge(roots).map_err(|e| usage(e.diagnostic()))?;
+    let packages = project.packages.iter().map(|p| p.name.clone()).collect();
+    Ok((store, packages))
 }
 
-/// Reads the records the arguments select.
-pub fn read(store: &Store, args: &ReportArgs) -> Result<Records, Failure> {
-    let r = match (args.runs, args.run.as_str()) {
-        (Some(0), _) => return Err(usage("`--runs` must be at least 1")),
-        (Some(n), _) => store.read_last(n),
-        (None, "latest") => store.read_last(1),
-        (None, id) => store.read_run(id),
+/// Reads the records the arguments select among the runs of `packages` (all when
+/// empty): "latest" and `--runs N` count only runs that recorded one of them. Returns
+/// the records and how many other runs of those packages the store holds.
+pub fn read(store: &Store, args: &ReportArgs, packages: &[String]) -> Result<(Records, usize), Failure> {
+    let runs = store.runs().map_err(|e| usage(e.diagnostic()))?;
+    let ours: Vec<_> = runs
+        .into_iter()
+        .filter(|r| packages.is_empty() || store.packages(r).iter().any(|p| packages.contains(p)))
+        .collect();
+    if args.runs.is_none() && args.run != "latest" {
+        let records = store.read_run(&args.run).map_err(|e| usage(e.diagnostic()))?;
+        return Ok((records, ours.len().saturating_sub(1)));
+    }
+    let n = match args.runs {
+        Some(0) => return Err(usage("`--runs` must be at least 1")),
+        Some(n) => n,
+        None => 1,
     };
-    r.map_err(|e| usage(e.diagnostic()))
+    if ours.is_empty() {
+        let names: Vec<String> = packages.iter().map(|p| format!("`{p}`")).collect();
+        return Err(usage(
+            Diagnostic::new(format!(
+                "no run in the store recorded {}",
+                if names.is_empty() {
+                    "a suite".to_string()
+                } else {
+                    format!("a suite of {}", names.join(", "))
+                }
+            ))
+            .hint(format!(
+                "run its tests first (`cargo heddle test`), or choose packages with `-p` or `--workspace`; tests run from a nextest archive (`--archive-file`) record only where `{}` points",
+                heddle_test::record::layout::TARGET_DIR_VAR
+            )),
+        ));
+    }
+    let keep = ours.len().saturating_sub(n);
+    let other = keep;
+    Ok((store.read_runs(ours.into_iter().skip(keep).collect()), other))
 }
 
 /// Builds the report of some records, keeping the suites of `packages` (all if empty).
@@ -193,6 +380,8 @@ pub fn build<'a>(records: &'a Records, packages: &[String], confidence: f64, all
         suites,
         notes,
         all,
+        other_runs: 0,
+        stores: 1,
     }
 }
 
@@ -208,13 +397,21 @@ fn suite_report<'a>(
             count: tallies.rows[row],
             message: None,
             duration_ns: 0,
+            failed_runs: Vec::new(),
+            max_attempt: None,
         })
         .collect();
     for r in records {
         if let Some(v) = rows.get_mut(r.row as usize) {
             v.duration_ns += r.duration_ns;
+            v.max_attempt = v.max_attempt.max(r.attempt);
             if !r.outcome.is_pass() {
                 v.message = r.message.clone().or(Some(String::new()));
+                v.failed_runs.push(FailedRun {
+                    message: r.message.clone(),
+                    duration_ns: r.duration_ns,
+                    attempt: r.attempt,
+                });
             }
         }
     }
@@ -224,6 +421,7 @@ fn suite_report<'a>(
         .count();
     let failed = rows.iter().filter(|r| r.count.failures > 0).count();
     let not_run = rows.iter().filter(|r| r.count.runs == 0).count();
+    let ran = Ran::measure(&tallies, spec.lambda);
     let analysis = analysis::analyse(&tallies);
     let flake = analysis.flaky.first().map(|f| {
         let rate = 1.0 - f.passes as f64 / f.runs.max(1) as f64;
@@ -235,9 +433,16 @@ fn suite_report<'a>(
         };
         (rate, lambda, rows)
     });
+    let runs = if ran.min_runs == 0 {
+        u64::from(spec.lambda.max(1))
+    } else {
+        ran.min_runs
+    };
     let advice = Advice {
         confidence,
-        detectable: analysis::detectable_rate(spec.lambda.max(1), confidence),
+        detectable: analysis::detectable_rate(u32::try_from(runs).unwrap_or(u32::MAX), confidence),
+        runs,
+        rounds: ran.min_row_runs.max(1),
         flake,
     };
     SuiteReport {
@@ -248,7 +453,9 @@ fn suite_report<'a>(
         passed,
         failed,
         not_run,
+        ran,
         advice,
+        manifest_path: None,
     }
 }
 
@@ -286,19 +493,51 @@ pub fn run(args: ReportArgs) -> Result<ExitCode, Failure> {
             .hint("for example `--confidence 0.95`"),
         ));
     }
-    let store = open_store(&args)?;
-    let records = read(&store, &args)?;
-    print(&records, &args);
-    Ok(ExitCode::SUCCESS)
+    let (store, packages) = open_store(&args)?;
+    let (records, other) = read(&store, &args, &packages)?;
+    print(&records, &args, &packages, other, store.roots().len())
 }
 
-/// Prints the report of some records to stdout (notes about skipped lines to stderr).
-pub fn print(records: &Records, args: &ReportArgs) {
-    let report = build(records, &args.selection.package, args.confidence, args.all);
+/// Prints the report of some records, keeping the suites of `packages` (all when
+/// empty), to stdout (notes about skipped lines to stderr), and with `--output` writes
+/// it in its format to that file (stdout then shows the table); returns the exit code
+/// `--fail-on` asks for.
+pub fn print(
+    records: &Records,
+    args: &ReportArgs,
+    packages: &[String],
+    other_runs: usize,
+    stores: usize,
+) -> Result<ExitCode, Failure> {
+    let mut report = build(records, packages, args.confidence, args.all);
+    let manifest = args
+        .selection
+        .manifest_path
+        .as_ref()
+        .map(|p| p.display().to_string());
+    for s in &mut report.suites {
+        s.manifest_path = manifest.clone();
+    }
+    report.other_runs = other_runs;
+    report.stores = stores;
     for n in &report.notes {
         eprintln!("note: {n}");
     }
-    let text = render(&report, args.format, crate::style::color_stdout());
+    let shown = match &args.output {
+        Some(path) => {
+            let text = render(&report, args.format, false);
+            std::fs::write(path, text).map_err(|e| {
+                usage(
+                    Diagnostic::new(format!("cannot write `{}`: {e}", path.display()))
+                        .hint("check that its directory exists and is writable"),
+                )
+            })?;
+            Format::Table
+        }
+        None => args.format,
+    };
+    let text = render(&report, shown, crate::style::color_stdout(args.color));
     let mut out = std::io::stdout().lock();
     let _ = out.write_all(text.as_bytes()).and_then(|_| out.flush());
+    Ok(fail_code(&report, &args.fail_on))
 }

@@ -4,6 +4,7 @@
 use std::fmt::Write as _;
 
 use super::{Report, SuiteReport, described, levels_text};
+use crate::analysis::Verdict;
 use crate::style::Style;
 
 /// Suspects shown before "and N more".
@@ -33,17 +34,20 @@ pub fn render(report: &Report<'_>, color: bool) -> String {
         report.suites.len(),
         if report.suites.len() == 1 { "" } else { "s" }
     );
+    if let Some(merged) = report.merged("") {
+        let _ = writeln!(out, "merged: {merged}");
+    }
     if report.suites.is_empty() {
         let _ = writeln!(out, "\nno `#[cover]` suite recorded in the selected runs");
     }
     for s in &report.suites {
         out.push('\n');
-        suite(&mut out, s, report.all, st);
+        suite(&mut out, s, report.all, report.other_runs, st);
     }
     out
 }
 
-fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, st: Style) {
+fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, report_other_runs: usize, st: Style) {
     let spec = s.spec;
     let _ = writeln!(
         out,
@@ -72,18 +76,29 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, st: Style) {
     }
     let _ = writeln!(out, "{line}");
 
-    if s.analysis.failures == 0 {
-        let t_way = s.tallies.interactions();
-        let min_runs = t_way.iter().map(|t| t.count.runs).min().unwrap_or(0);
+    let ran = &s.ran;
+    if s.analysis.failures == 0 && ran.complete() {
         let _ = writeln!(
             out,
-            "  {} every one of the {} {}-way interactions passed, each run at least {} time{}",
+            "  {} every one of the {} {}-way interactions passed in at least {} row{}, each run at least {} time{}",
             st.green("all clear:"),
-            t_way.len(),
+            ran.interactions,
             spec.strength,
-            min_runs,
-            if min_runs == 1 { "" } else { "s" }
+            spec.lambda,
+            if spec.lambda == 1 { "" } else { "s" },
+            ran.min_runs,
+            if ran.min_runs == 1 { "" } else { "s" }
         );
+        advice(out, s, st);
+        if all {
+            interactions(out, s, true, st);
+        }
+        return;
+    }
+    if !ran.complete() {
+        partial(out, s, report_other_runs, st);
+    }
+    if s.analysis.failures == 0 {
         advice(out, s, st);
         if all {
             interactions(out, s, true, st);
@@ -94,10 +109,9 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, st: Style) {
     let _ = writeln!(out, "\n  {}", st.bold("suspects, best first"));
     for (n, sus) in s.analysis.suspects.iter().take(SHOWN_SUSPECTS).enumerate() {
         let entry = &s.tallies.entries[sus.interaction];
-        let kind = if sus.always {
-            st.red("fails always")
-        } else {
-            st.yellow("fails sometimes")
+        let kind = match sus.verdict {
+            Verdict::Always => st.red(sus.verdict.words()),
+            _ => st.yellow(sus.verdict.words()),
         };
         let _ = writeln!(
             out,
@@ -118,7 +132,11 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, st: Style) {
         );
     }
     if !s.analysis.flaky.is_empty() {
-        let _ = writeln!(out, "\n  {}", st.bold("flaky: passed and failed"));
+        let _ = writeln!(
+            out,
+            "\n  {}",
+            st.bold("flaky: a row of it both passed and failed")
+        );
         for f in &s.analysis.flaky {
             let entry = &s.tallies.entries[f.interaction];
             let _ = writeln!(
@@ -132,6 +150,23 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, st: Style) {
                 pct(f.high)
             );
         }
+    }
+    let some_rows = s
+        .analysis
+        .suspects
+        .iter()
+        .filter(|x| x.verdict == Verdict::SomeRows && x.explains > 0)
+        .count();
+    if some_rows > 0 {
+        let _ = writeln!(
+            out,
+            "\n  {} suspect{} {} in some of {} rows, but no row both passed and failed: a fault of more than {} factors and a flaky one look alike until each row runs more than once (`cargo heddle test --repeat 3`)",
+            some_rows,
+            if some_rows == 1 { "" } else { "s" },
+            if some_rows == 1 { "fails" } else { "fail" },
+            if some_rows == 1 { "its" } else { "their" },
+            spec.strength
+        );
     }
     advice(out, s, st);
 
@@ -164,11 +199,7 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, st: Style) {
         {
             let _ = writeln!(out, "      {}", st.dim(m));
         }
-        let _ = writeln!(
-            out,
-            "      rerun: {}",
-            spec.rerun_command(r.row).unwrap_or_default()
-        );
+        let _ = writeln!(out, "      rerun: {}", s.rerun(r.row));
     }
     if failing.len() > SHOWN_ROWS {
         let _ = writeln!(
@@ -183,36 +214,77 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, st: Style) {
     interactions(out, s, all, st);
 }
 
+/// What a partial run did not cover, and how to see the whole suite.
+fn partial(out: &mut String, s: &SuiteReport<'_>, other_runs: usize, st: Style) {
+    let ran = &s.ran;
+    let t = s.spec.strength;
+    let _ = writeln!(
+        out,
+        "  {} {} of {} rows ran; {} of the {} {t}-way interactions ran ({}), {} in at least {} row{} (lambda); {} did not run",
+        st.yellow("partial run, not all clear:"),
+        ran.rows_run,
+        ran.rows,
+        ran.interactions_run,
+        ran.interactions,
+        pct(ran.share_run()),
+        ran.interactions_at_lambda,
+        s.spec.lambda,
+        if s.spec.lambda == 1 { "" } else { "s" },
+        ran.interactions_not_run()
+    );
+    if other_runs > 0 {
+        let _ = writeln!(
+            out,
+            "  {}",
+            st.dim(&format!(
+                "this report covers only the runs selected; the store holds {other_runs} other run{} (`--runs N` merges the last N)",
+                if other_runs == 1 { "" } else { "s" }
+            ))
+        );
+    }
+}
+
 fn advice(out: &mut String, s: &SuiteReport<'_>, st: Style) {
     let a = &s.advice;
     let c = pct(a.confidence);
+    let lambda = s.spec.lambda;
     let _ = writeln!(out, "\n  {}", st.bold("lambda advice"));
+    let over = if a.rounds > 1 {
+        format!(" over {} rounds ({} runs per interaction)", a.rounds, a.runs)
+    } else {
+        String::new()
+    };
     let _ = writeln!(
         out,
-        "    at lambda {}, an interaction failing at least {} of the time is seen failing with {c} confidence",
-        s.spec.lambda,
+        "    at lambda {lambda}{over}, an interaction failing at least {} of the time is seen failing with {c} confidence",
         pct(a.detectable)
     );
-    if let Some((rate, lambda, rows)) = a.flake {
-        if lambda <= s.spec.lambda {
+    if let Some((rate, needed, rows)) = a.flake {
+        if u64::from(needed) <= a.runs {
             let _ = writeln!(
                 out,
-                "    the top flaky interaction fails {} of the time: lambda {} already sees it with {c} confidence",
+                "    the top flaky interaction fails {} of the time: {needed} runs per interaction see it with {c} confidence, and the runs read have {}",
                 pct(rate),
-                s.spec.lambda
+                a.runs
             );
         } else {
-            let repeat = lambda.div_ceil(s.spec.lambda.max(1));
+            // rounds of the whole suite at this lambda that reach `needed` runs
+            let repeat = u64::from(needed).div_ceil(u64::from(lambda.max(1)));
+            let done = if a.rounds > 1 {
+                format!(", this report has {}", a.rounds)
+            } else {
+                String::new()
+            };
             let cost = match rows {
                 Some(r) => format!(
-                    "{r} rows for this spec, now {}; or `--repeat {repeat}`",
+                    "lambda {needed}: {r} rows for this spec, now {}; or `--repeat {repeat}` at lambda {lambda}{done}",
                     s.spec.rows.len()
                 ),
-                None => format!("or run it `--repeat {repeat}` times"),
+                None => format!("`--repeat {repeat}` at lambda {lambda}{done}"),
             };
             let _ = writeln!(
                 out,
-                "    the top flaky interaction fails {} of the time: lambda {lambda} sees it with {c} confidence ({cost})",
+                "    the top flaky interaction fails {} of the time: {needed} runs per interaction see it with {c} confidence ({cost})",
                 pct(rate)
             );
         }

@@ -5,6 +5,7 @@ use std::io;
 use std::path::{Path, PathBuf};
 
 use heddle_generator::Diagnostic;
+use heddle_test::record::Line;
 use heddle_test::record::layout::{self, FILE_EXTENSION, RUNS_DIR, STORE_DIR};
 
 use crate::join::Records;
@@ -249,6 +250,34 @@ impl Store {
     /// The records of every run.
     pub fn read_all(&self) -> Result<Records, StoreError> {
         self.read_last(usize::MAX)
+    }
+
+    /// The records of the given runs (as [`Store::runs`] lists them), merged.
+    pub fn read_runs(&self, runs: Vec<RunInfo>) -> Records {
+        read_runs(runs)
+    }
+
+    /// The packages a run recorded suites of, from the first line of each of its files:
+    /// one file is one test process of one package, and the runtime writes a suite's
+    /// spec line before its first row, so the first line names the package. Cheap next
+    /// to reading the run; files that cannot be read or start otherwise are passed over.
+    pub fn packages(&self, run: &RunInfo) -> BTreeSet<String> {
+        use std::io::BufRead;
+        let mut out = BTreeSet::new();
+        let mut line = String::new();
+        for path in &run.files {
+            let Ok(file) = std::fs::File::open(path) else {
+                continue;
+            };
+            line.clear();
+            if std::io::BufReader::new(file).read_line(&mut line).is_err() {
+                continue;
+            }
+            if let Ok(Line::Spec(spec)) = Line::parse(line.trim_end()) {
+                out.insert(spec.krate);
+            }
+        }
+        out
     }
 }
 

@@ -177,5 +177,6 @@ pub fn row(spec: &SpecRecord, row: usize, outcome: Outcome) -> RowRecord {
         message: (!outcome.is_pass()).then(|| format!("row {row} failed")),
         duration_ns: 1_000,
         time: "2026-01-01T00:00:01.000000Z".into(),
+        attempt: None,
     }
 }

@@ -1,3 +1,4 @@
+#![allow(dead_code)] // each test binary uses some of these
 //! Helpers shared by the plugin's end-to-end tests.
 
 use heddle_generator::Factor;
@@ -29,4 +30,44 @@ pub fn csv_rows(csv: &str, factors: &[Factor]) -> Vec<Vec<u8>> {
                 .collect()
         })
         .collect()
+}
+
+/// Validates JUnit XML against the Jenkins schema shipped in `tests/data` with `xmllint`
+/// (Debian's `libxml2-utils`). Returns `Ok(false)` when `xmllint` is missing outside CI
+/// (the caller's check is skipped, with a note); in CI (`CI` set) a missing `xmllint`
+/// is an error, since `.ci/run` installs it.
+pub fn validate_junit(xml: &str) -> Result<bool, String> {
+    let schema = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/jenkins-junit-10.xsd");
+    let present = std::process::Command::new("xmllint")
+        .arg("--version")
+        .output()
+        .is_ok_and(|o| o.status.success());
+    if !present {
+        if std::env::var_os("CI").is_some_and(|v| !v.is_empty()) {
+            return Err("xmllint is missing on CI: `.ci/run` installs libxml2-utils".into());
+        }
+        eprintln!(
+            "SKIPPED JUnit schema validation: xmllint is not installed (apt-get install libxml2-utils)"
+        );
+        return Ok(false);
+    }
+    let dir = tempfile::tempdir().map_err(|e| e.to_string())?;
+    let file = dir.path().join("report.xml");
+    std::fs::write(&file, xml).map_err(|e| e.to_string())?;
+    let out = std::process::Command::new("xmllint")
+        .arg("--noout")
+        .arg("--schema")
+        .arg(&schema)
+        .arg(&file)
+        .output()
+        .map_err(|e| e.to_string())?;
+    if out.status.success() {
+        Ok(true)
+    } else {
+        Err(format!(
+            "the JUnit report does not validate against {}:\n{}\n{xml}",
+            schema.display(),
+            String::from_utf8_lossy(&out.stderr)
+        ))
+    }
 }

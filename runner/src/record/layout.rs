@@ -22,6 +22,45 @@ pub const TARGET_DIR_VAR: &str = "HEDDLE_TARGET_DIR";
 pub const RUN_ID_VAR: &str = "HEDDLE_RUN_ID";
 /// Env var nextest sets to its run id; used when [`RUN_ID_VAR`] is unset.
 pub const NEXTEST_RUN_ID_VAR: &str = "NEXTEST_RUN_ID";
+/// Env var nextest sets to the attempt number of the test process (1, then 2, … under
+/// `--retries`).
+pub const NEXTEST_ATTEMPT_VAR: &str = "NEXTEST_ATTEMPT";
+/// CI services' pipeline ids, in the order they are tried, with the prefix each run id
+/// gets: every job (shard) of one pipeline records under one run id, so the stores of a
+/// pipeline's jobs merge into one run by default. GitHub Actions' run id is joined with
+/// `GITHUB_RUN_ATTEMPT` (a re-run of the workflow is a run of its own).
+///
+/// | service | variables | run id |
+/// |---|---|---|
+/// | GitHub Actions | `GITHUB_RUN_ID`, `GITHUB_RUN_ATTEMPT` | `gha-<id>-<attempt>` |
+/// | GitLab CI | `CI_PIPELINE_ID` | `gitlab-<id>` |
+/// | Buildkite | `BUILDKITE_BUILD_ID` | `buildkite-<id>` |
+/// | CircleCI | `CIRCLE_WORKFLOW_ID` | `circleci-<id>` |
+pub const PIPELINE_VARS: &[(&str, &str)] = &[
+    ("GITHUB_RUN_ID", "gha"),
+    ("CI_PIPELINE_ID", "gitlab"),
+    ("BUILDKITE_BUILD_ID", "buildkite"),
+    ("CIRCLE_WORKFLOW_ID", "circleci"),
+];
+
+/// The run id of the CI pipeline this process runs in (see [`PIPELINE_VARS`]), from an
+/// env lookup; `None` outside a known CI service or when its value cannot name a run.
+pub fn pipeline_run_id(var: &dyn Fn(&str) -> Option<String>) -> Option<String> {
+    let get = |name: &str| var(name).filter(|v| !v.is_empty());
+    PIPELINE_VARS.iter().find_map(|(name, prefix)| {
+        let id = get(name)?;
+        let id = if *name == "GITHUB_RUN_ID" {
+            format!(
+                "{prefix}-{id}-{}",
+                get("GITHUB_RUN_ATTEMPT").unwrap_or_else(|| "1".into())
+            )
+        } else {
+            format!("{prefix}-{id}")
+        };
+        validate_run_id(&id).is_ok().then_some(id)
+    })
+}
+
 /// Name of the store directory inside the target (or build) directory.
 pub const STORE_DIR: &str = "heddle";
 /// Name of the directory holding one directory per run inside the store.
@@ -158,6 +197,22 @@ mod tests {
         ] {
             assert_eq!(validate_run_id(good), Ok(()), "{good:?}");
         }
+    }
+
+    #[test]
+    fn pipeline_ids_name_one_run_per_pipeline() {
+        let env = |pairs: &'static [(&'static str, &'static str)]| {
+            move |name: &str| pairs.iter().find(|(k, _)| *k == name).map(|(_, v)| v.to_string())
+        };
+        let gh = env(&[("GITHUB_RUN_ID", "1234"), ("GITHUB_RUN_ATTEMPT", "2")]);
+        assert_eq!(pipeline_run_id(&gh).as_deref(), Some("gha-1234-2"));
+        let gh1 = env(&[("GITHUB_RUN_ID", "1234")]);
+        assert_eq!(pipeline_run_id(&gh1).as_deref(), Some("gha-1234-1"));
+        let gl = env(&[("CI_PIPELINE_ID", "99"), ("CI", "true")]);
+        assert_eq!(pipeline_run_id(&gl).as_deref(), Some("gitlab-99"));
+        assert_eq!(pipeline_run_id(&env(&[("CI", "true")])), None);
+        assert_eq!(pipeline_run_id(&env(&[("CI_PIPELINE_ID", "a/b")])), None);
+        assert_eq!(pipeline_run_id(&env(&[("CI_PIPELINE_ID", "")])), None);
     }
 
     #[test]

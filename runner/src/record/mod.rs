@@ -40,7 +40,7 @@ mod names;
 pub mod layout;
 
 pub use line::{Line, LineError, LineKind, spec_identity};
-pub use names::{rerun_command, test_path};
+pub use names::{RerunForm, rerun_command, rerun_command_as, test_path};
 
 use serde::{Deserialize, Serialize};
 
@@ -161,6 +161,11 @@ pub struct RowRecord {
     pub duration_ns: u64,
     /// When the row finished (UTC, RFC 3339).
     pub time: String,
+    /// nextest's attempt number of this execution (`NEXTEST_ATTEMPT`: 1 for the first
+    /// try, 2 for the first retry under `--retries`); absent outside nextest. A row that
+    /// failed and then passed on a retry is flaky evidence for that row.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub attempt: Option<u32>,
 }
 
 /// Identity of one annotated function's spec across processes, runs and shards.
@@ -220,12 +225,18 @@ impl SpecRecord {
         Some(test_path(&self.suite, name))
     }
 
-    /// The command that reruns just this row, as the failing row printed it.
+    /// The command that reruns just this row with `cargo test`.
     pub fn rerun_command(&self, row: usize) -> Option<String> {
-        Some(rerun_command(
+        self.rerun_command_as(row, &RerunForm::default())
+    }
+
+    /// The command that reruns just this row, in a given form (nextest, manifest path).
+    pub fn rerun_command_as(&self, row: usize, form: &RerunForm) -> Option<String> {
+        Some(rerun_command_as(
             &self.krate,
             &self.selector,
             &self.row_test_name(row)?,
+            form,
         ))
     }
 
@@ -326,6 +337,7 @@ mod tests {
             message: Some("assertion failed: ok".into()),
             duration_ns: 41250,
             time: "2025-01-02T03:04:05.000042Z".into(),
+            attempt: None,
         }
     }
 
@@ -425,6 +437,16 @@ mod tests {
         ] {
             assert!(matches!(Line::parse(bad), Err(LineError::Corrupt(_))), "{bad:?}");
         }
+    }
+
+    #[test]
+    fn the_attempt_is_written_only_under_nextest() {
+        let mut r = row();
+        assert!(!Line::Row(r.clone()).to_json_line().contains("attempt"));
+        r.attempt = Some(2);
+        let text = Line::Row(r.clone()).to_json_line();
+        assert!(text.contains(",\"attempt\":2}"), "{text}");
+        assert_eq!(Line::parse(text.trim_end()).unwrap(), Line::Row(r));
     }
 
     #[test]

@@ -1,5 +1,5 @@
 //! How a row is named and rerun. The expansion chooses each row's function name; these
-//! two functions are the only places that join it into a libtest name and a command, for
+//! functions are the only places that join it into a libtest name and a command, for
 //! the message a failing row prints and for every report alike.
 
 /// libtest's name of the test `name` in the rows module at `suite` (the module path
@@ -27,13 +27,53 @@ pub fn test_path(suite: &str, name: &str) -> String {
 /// );
 /// ```
 pub fn rerun_command(package: &str, selector: &str, test: &str) -> String {
-    let mut cmd = format!("cargo test -p {package}");
+    rerun_command_as(package, selector, test, &RerunForm::default())
+}
+
+/// How a rerun command is written: for the runner the row ran under, and with the
+/// manifest path when the command is run from elsewhere (a workspace root above a crate
+/// outside the workspace).
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub struct RerunForm {
+    /// The row ran under cargo-nextest: `cargo nextest run … -E 'test(=NAME)'`.
+    pub nextest: bool,
+    /// `--manifest-path PATH`, as the user gave it.
+    pub manifest_path: Option<String>,
+}
+
+/// [`rerun_command`] in a given form.
+///
+/// ```
+/// use heddle_test::record::{RerunForm, rerun_command_as};
+/// let form = RerunForm { nextest: true, manifest_path: Some("demo/Cargo.toml".into()) };
+/// assert_eq!(
+///     rerun_command_as("demo", "--test hub", "read::row_03", &form),
+///     "cargo nextest run --manifest-path demo/Cargo.toml -p demo --test hub -E 'test(=read::row_03)'"
+/// );
+/// ```
+pub fn rerun_command_as(package: &str, selector: &str, test: &str, form: &RerunForm) -> String {
+    let mut cmd = String::from(if form.nextest {
+        "cargo nextest run"
+    } else {
+        "cargo test"
+    });
+    if let Some(m) = &form.manifest_path {
+        cmd.push_str(" --manifest-path ");
+        cmd.push_str(m);
+    }
+    cmd.push_str(" -p ");
+    cmd.push_str(package);
     if !selector.is_empty() {
         cmd.push(' ');
         cmd.push_str(selector);
     }
-    cmd.push(' ');
-    cmd.push_str(test);
-    cmd.push_str(" -- --exact");
+    if form.nextest {
+        // nextest's filterset for exactly this test name
+        cmd.push_str(&format!(" -E 'test(={test})'"));
+    } else {
+        cmd.push(' ');
+        cmd.push_str(test);
+        cmd.push_str(" -- --exact");
+    }
     cmd
 }

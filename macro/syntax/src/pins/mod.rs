@@ -8,7 +8,7 @@
 //! ```toml
 //! # Rows pinned by `cargo heddle pin`; `#[cover]` uses an entry's rows verbatim while
 //! # its fingerprint matches the spec in the source. Regenerate rather than edit.
-//! format = 1
+//! format = 2
 //!
 //! [pins."tests/codec.rs".roundtrip]
 //! fingerprint = "d0e48fe4e5c1a0e1"
@@ -20,7 +20,7 @@
 //! ]
 //! strength = 2
 //! lambda = 2
-//! seed = "000000000000000b"
+//! seed = "11"
 //! rows = [
 //!     [0, 0, 0],
 //!     [1, 2, 1],
@@ -28,7 +28,9 @@
 //! ```
 //!
 //! - `format` (required): the version of this layout, [`PINS_FORMAT`]; a reader refuses
-//!   any other.
+//!   any other. Format 1 wrote the seed as 16 hex digits; builds and `check` refuse it
+//!   with a message saying so, and `cargo heddle pin` reads it and rewrites the file in
+//!   format 2, keeping every row ([`PinsFile::parse_upgrading`]).
 //! - `pins.FILE.FUNCTION`: one entry per annotated function. `FILE` is the test file's
 //!   path relative to the crate root with `/` separators (`..` components when the file
 //!   lies outside the root); `FUNCTION` is the function's name. Two annotated functions
@@ -36,9 +38,9 @@
 //! - `fingerprint` (required): the spec's [`Fingerprint`], 16 lowercase hex digits.
 //! - `factors` (optional, informative): the parameter names, in column order.
 //! - `levels`, `strength`, `lambda`, `seed` (optional, together: the [`Origin`]): the
-//!   level labels of each factor in index order, and the strength, λ and seed (16
-//!   lowercase hex digits; seeds span all of `u64`, TOML integers do not) the rows were
-//!   made for. Builds ignore them; `cargo heddle pin` reads them to carry rows over to a
+//!   level labels of each factor in index order, and the strength, λ and seed (a decimal
+//!   string, as every heddle output writes seeds; seeds span all of `u64`, TOML integers
+//!   do not) the rows were made for. Builds ignore them; `cargo heddle pin` reads them to carry rows over to a
 //!   changed spec (remapping level indices by label). An entry with only some of them is
 //!   read as having none.
 //! - `rows` (required): one array per row, the level index (0-based, in `#[levels]`
@@ -69,7 +71,10 @@ use crate::fingerprint::Fingerprint;
 /// Name of the pins file at the crate root.
 pub const PINS_FILE: &str = "heddle-pins.toml";
 /// Version of the pins file format this crate reads and writes.
-pub const PINS_FORMAT: u32 = 1;
+pub const PINS_FORMAT: u32 = 2;
+/// The previous version, whose seeds were 16 hex digits: only
+/// [`PinsFile::parse_upgrading`] reads it.
+pub const PINS_FORMAT_HEX_SEEDS: u32 = 1;
 /// The command that (re)writes pins, quoted by stale-pin messages.
 pub const PIN_COMMAND: &str = "cargo heddle pin";
 
@@ -202,9 +207,22 @@ impl PinsFile {
 
     /// Reads the pins file of a crate: `None` when there is none.
     pub fn load(crate_root: &Path) -> Result<Option<PinsFile>, PinsError> {
+        PinsFile::load_with(crate_root, PinsFile::parse)
+    }
+
+    /// [`PinsFile::load`] that also reads the previous format (for `cargo heddle pin`,
+    /// which rewrites it).
+    pub fn load_upgrading(crate_root: &Path) -> Result<Option<PinsFile>, PinsError> {
+        PinsFile::load_with(crate_root, PinsFile::parse_upgrading)
+    }
+
+    fn load_with(
+        crate_root: &Path,
+        parse: fn(&str) -> Result<PinsFile, PinsError>,
+    ) -> Result<Option<PinsFile>, PinsError> {
         let path = PinsFile::path(crate_root);
         match std::fs::read_to_string(&path) {
-            Ok(text) => PinsFile::parse(&text).map(Some),
+            Ok(text) => parse(&text).map(Some),
             Err(e) if e.kind() == std::io::ErrorKind::NotFound => Ok(None),
             Err(e) => Err(PinsError {
                 line: None,
@@ -315,7 +333,7 @@ mod tests {
         };
         p.insert_with_origin(key.clone(), pin.clone(), origin.clone());
         let text = p.to_toml();
-        assert!(text.contains("seed = \"fffffffffffffffe\"\n"), "{text}");
+        assert!(text.contains("seed = \"18446744073709551614\"\n"), "{text}");
         assert!(
             text.contains("levels = [\n    [\"1\", \"8\", \"6\\\"4\"],\n    [\"a\", \"b\"],\n]\n"),
             "{text}"
@@ -334,14 +352,14 @@ mod tests {
     #[test]
     fn partial_origin_is_none_and_bad_seed_is_located() {
         let text =
-            "format = 1\n[pins.\"t.rs\".f]\nfingerprint = \"0000000000000001\"\nlambda = 2\nrows = [[0]]\n";
+            "format = 2\n[pins.\"t.rs\".f]\nfingerprint = \"0000000000000001\"\nlambda = 2\nrows = [[0]]\n";
         let p = PinsFile::parse(text).unwrap();
         assert_eq!(p.origin(&PinKey::new("t.rs", "f")), None);
-        let text = "format = 1\n[pins.\"t.rs\".f]\nfingerprint = \"0000000000000001\"\nlevels = [[\"x\"]]\n\
-                    strength = 1\nlambda = 1\nseed = \"12\"\nrows = [[0]]\n";
+        let text = "format = 2\n[pins.\"t.rs\".f]\nfingerprint = \"0000000000000001\"\nlevels = [[\"x\"]]\n\
+                    strength = 1\nlambda = 1\nseed = \"0x12\"\nrows = [[0]]\n";
         let e = PinsFile::parse(text).unwrap_err();
         assert_eq!(e.line, Some(7), "{e}");
-        assert!(e.to_string().contains("`12` is not a seed"), "{e}");
+        assert!(e.to_string().contains("`0x12` is not a seed"), "{e}");
     }
 
     #[test]
@@ -351,7 +369,7 @@ mod tests {
         let b = text.find("[pins.\"tests/a.rs\".b]").unwrap();
         let c = text.find("[pins.\"tests/codec.rs\".roundtrip]").unwrap();
         assert!(a < b && b < c, "{text}");
-        assert!(text.contains("\nformat = 1\n"));
+        assert!(text.contains("\nformat = 2\n"));
         assert!(text.contains("rows = [\n    [0, 0],\n    [1, 2],\n]\n"), "{text}");
         assert!(text.contains("fingerprint = \"d0e48fe4e5c1a0e1\""));
         assert!(text.contains(".\"r#type\"]"), "{text}");
@@ -359,7 +377,7 @@ mod tests {
 
     #[test]
     fn lines_of_entries() {
-        let text = "format = 1\n\n[pins.\"t.rs\".f]\nfingerprint = \"0000000000000001\"\nrows = [[0]]\n";
+        let text = "format = 2\n\n[pins.\"t.rs\".f]\nfingerprint = \"0000000000000001\"\nrows = [[0]]\n";
         let p = PinsFile::parse(text).unwrap();
         let key = PinKey::new("t.rs", "f");
         assert_eq!(p.get(&key).unwrap().rows, vec![vec![0]]);
@@ -369,7 +387,7 @@ mod tests {
 
     #[test]
     fn syntax_errors_are_located() {
-        let text = "format = 1\n\n[pins.\"t.rs\".f]\nfingerprint = \"0000000000000001\"\nrows = [[0, ]\n";
+        let text = "format = 2\n\n[pins.\"t.rs\".f]\nfingerprint = \"0000000000000001\"\nrows = [[0, ]\n";
         let e = PinsFile::parse(text).unwrap_err();
         assert_eq!(e.line, Some(5), "{e}");
         assert!(
@@ -382,17 +400,17 @@ mod tests {
 
     #[test]
     fn bad_values_are_located() {
-        let text = "format = 1\n[pins.\"t.rs\".f]\nfingerprint = \"xyz\"\nrows = [[0]]\n";
+        let text = "format = 2\n[pins.\"t.rs\".f]\nfingerprint = \"xyz\"\nrows = [[0]]\n";
         let e = PinsFile::parse(text).unwrap_err();
         assert_eq!(e.line, Some(3), "{e}");
         assert!(e.to_string().contains("`xyz` is not a fingerprint"), "{e}");
 
-        let text = "format = 1\n[pins.\"t.rs\".f]\nfingerprint = \"0000000000000001\"\nrows = [[300]]\n";
+        let text = "format = 2\n[pins.\"t.rs\".f]\nfingerprint = \"0000000000000001\"\nrows = [[300]]\n";
         let e = PinsFile::parse(text).unwrap_err();
         assert_eq!(e.line, Some(4), "{e}");
 
         let text =
-            "format = 1\n[pins.\"t.rs\".f]\nfingerprint = \"0000000000000001\"\nrows = [[0]]\ncolour = 1\n";
+            "format = 2\n[pins.\"t.rs\".f]\nfingerprint = \"0000000000000001\"\nrows = [[0]]\ncolour = 1\n";
         let e = PinsFile::parse(text).unwrap_err();
         assert!(e.to_string().contains("colour"), "{e}");
     }
@@ -400,15 +418,36 @@ mod tests {
     #[test]
     fn format_is_required_and_checked() {
         let e = PinsFile::parse("[pins]\n").unwrap_err();
-        assert!(e.to_string().contains("`format = 1` is missing"), "{e}");
-        let e = PinsFile::parse("format = 2\n").unwrap_err();
+        assert!(e.to_string().contains("`format = 2` is missing"), "{e}");
+        let e = PinsFile::parse("format = 3\n").unwrap_err();
         assert_eq!(e.line, Some(1));
         assert!(
             e.to_string()
-                .contains("has `format = 2`, this heddle reads format 1"),
+                .contains("has `format = 3`, this heddle reads format 2"),
             "{e}"
         );
-        assert!(PinsFile::parse("format = 1\n").unwrap().pins.is_empty());
+        assert!(PinsFile::parse("format = 2\n").unwrap().pins.is_empty());
+    }
+
+    #[test]
+    fn format_1_with_hex_seeds_is_refused_by_builds_and_upgraded_by_pin() {
+        let old = "format = 1\n[pins.\"t.rs\".f]\nfingerprint = \"0000000000000001\"\nlevels = [[\"x\"]]\n\
+                   strength = 1\nlambda = 1\nseed = \"000000000000000b\"\nrows = [[0]]\n";
+        let e = PinsFile::parse(old).unwrap_err().to_string();
+        assert!(e.contains("has `format = 1` (seeds in hex)"), "{e}");
+        assert!(e.contains("run `cargo heddle pin`"), "{e}");
+        let up = PinsFile::parse_upgrading(old).unwrap();
+        let key = PinKey::new("t.rs", "f");
+        assert_eq!(up.origin(&key).map(|o| o.seed), Some(11));
+        let text = up.to_toml();
+        assert!(
+            text.contains("format = 2\n") && text.contains("seed = \"11\"\n"),
+            "{text}"
+        );
+        assert_eq!(
+            PinsFile::parse(&text).unwrap().origin(&key).map(|o| o.seed),
+            Some(11)
+        );
     }
 
     #[test]

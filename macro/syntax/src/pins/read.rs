@@ -6,7 +6,9 @@ use std::collections::BTreeMap;
 use serde::Deserialize;
 use toml::Spanned;
 
-use super::{Origin, PIN_COMMAND, PINS_FILE, PINS_FORMAT, Pin, PinKey, PinsError, PinsFile};
+use super::{
+    Origin, PIN_COMMAND, PINS_FILE, PINS_FORMAT, PINS_FORMAT_HEX_SEEDS, Pin, PinKey, PinsError, PinsFile,
+};
 use crate::defaults::{at, line_col};
 use crate::diag;
 use crate::fingerprint::Fingerprint;
@@ -61,8 +63,18 @@ fn located(text: &str, offset: Option<usize>, what: String) -> PinsError {
 }
 
 impl PinsFile {
-    /// Parses the text of a pins file.
+    /// Parses the text of a pins file of the current format.
     pub fn parse(text: &str) -> Result<PinsFile, PinsError> {
+        PinsFile::parse_formats(text, false)
+    }
+
+    /// Parses the text of a pins file of the current or the previous format (seeds in
+    /// hex): what `cargo heddle pin` reads before rewriting the file.
+    pub fn parse_upgrading(text: &str) -> Result<PinsFile, PinsError> {
+        PinsFile::parse_formats(text, true)
+    }
+
+    fn parse_formats(text: &str, upgrading: bool) -> Result<PinsFile, PinsError> {
         let head: Head = toml::from_str(text)
             .map_err(|e| located(text, e.span().map(|s| s.start), e.message().to_string()))?;
         let Some(format) = head.format else {
@@ -72,23 +84,34 @@ impl PinsFile {
                 format!("`format = {}` is missing", PINS_FORMAT),
             ));
         };
-        if format.get_ref().as_integer() != Some(i64::from(PINS_FORMAT)) {
-            return Err(PinsError {
-                diagnostic: diag::diagnostic(
-                    format!(
-                        "`{}`{} has `format = {}`, this heddle reads format {}",
-                        PINS_FILE,
-                        at(text, Some(format.span())),
-                        format.get_ref(),
-                        PINS_FORMAT
-                    ),
-                    format!(
-                        "use the heddle that wrote it, or run `{}` to rewrite it",
-                        PIN_COMMAND
-                    ),
+        let version = format.get_ref().as_integer();
+        let hex_seeds = version == Some(i64::from(PINS_FORMAT_HEX_SEEDS));
+        // the file's format refused: `has` says what it has, placed at the `format` line
+        let refuse = |has: String, hint: String| PinsError {
+            diagnostic: diag::diagnostic(
+                format!("`{}`{} has {has}", PINS_FILE, at(text, Some(format.span()))),
+                hint,
+            ),
+            ..located(text, Some(format.span().start), String::new())
+        };
+        if hex_seeds && !upgrading {
+            return Err(refuse(
+                format!(
+                    "`format = {PINS_FORMAT_HEX_SEEDS}` (seeds in hex), this heddle reads format {PINS_FORMAT} (seeds in decimal)"
                 ),
-                ..located(text, Some(format.span().start), String::new())
-            });
+                format!(
+                    "run `{PIN_COMMAND}`: it reads format {PINS_FORMAT_HEX_SEEDS} and rewrites the file in format {PINS_FORMAT}, keeping every row"
+                ),
+            ));
+        }
+        if version != Some(i64::from(PINS_FORMAT)) && !hex_seeds {
+            return Err(refuse(
+                format!(
+                    "`format = {}`, this heddle reads format {PINS_FORMAT}",
+                    format.get_ref()
+                ),
+                format!("use the heddle that wrote it, or run `{PIN_COMMAND}` to rewrite it"),
+            ));
         }
         let raw: RawFile = toml::from_str(text)
             .map_err(|e| located(text, e.span().map(|s| s.start), e.message().to_string()))?;
@@ -109,8 +132,12 @@ impl PinsFile {
                 if let (Some(levels), Some(strength), Some(lambda), Some(seed)) =
                     (pin.levels, pin.strength, pin.lambda, pin.seed)
                 {
-                    let seed =
-                        parse_seed(seed.get_ref()).map_err(|e| located(text, Some(seed.span().start), e))?;
+                    let parsed = if hex_seeds {
+                        parse_hex_seed(seed.get_ref())
+                    } else {
+                        parse_seed(seed.get_ref())
+                    };
+                    let seed = parsed.map_err(|e| located(text, Some(seed.span().start), e))?;
                     out.origins.insert(
                         key.clone(),
                         Origin {
@@ -136,8 +163,18 @@ impl PinsFile {
     }
 }
 
-/// A seed as the file writes it: 16 lowercase hex digits.
+/// A seed as the file writes it: a decimal string (digits only).
 fn parse_seed(s: &str) -> Result<u64, String> {
+    if !s.is_empty() && s.bytes().all(|b| b.is_ascii_digit()) {
+        s.parse()
+            .map_err(|_| format!("`{s}` is not a seed (a decimal number below 2^64)"))
+    } else {
+        Err(format!("`{s}` is not a seed (a decimal number below 2^64)"))
+    }
+}
+
+/// A seed as format 1 wrote it: 16 lowercase hex digits.
+fn parse_hex_seed(s: &str) -> Result<u64, String> {
     if s.len() == 16
         && s.bytes()
             .all(|b| b.is_ascii_digit() || (b'a'..=b'f').contains(&b))

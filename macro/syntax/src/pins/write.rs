@@ -33,7 +33,7 @@ impl PinsFile {
                 out.push_str("]\n");
                 let _ = writeln!(out, "strength = {}", o.strength);
                 let _ = writeln!(out, "lambda = {}", o.lambda);
-                let _ = writeln!(out, "seed = \"{:016x}\"", o.seed);
+                let _ = writeln!(out, "seed = \"{}\"", o.seed);
             }
             out.push_str("rows = [\n");
             for row in &pin.rows {

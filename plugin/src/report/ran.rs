@@ -1,0 +1,85 @@
+//! What a suite's selected runs actually covered: rows that ran, and t-way interactions
+//! that ran at all and in at least λ distinct rows. A verdict of "all clear" needs every
+//! t-way interaction at λ; a partial run (one nextest partition, a single row rerun with
+//! `--exact`, a filter) says what did not run instead.
+
+use heddle_store::Tallies;
+
+/// Coverage of one suite by the runs read.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct Ran {
+    /// Rows of the design.
+    pub rows: usize,
+    /// Rows that ran at least once.
+    pub rows_run: usize,
+    /// t-way interactions the design contains.
+    pub interactions: usize,
+    /// t-way interactions in at least one row that ran.
+    pub interactions_run: usize,
+    /// t-way interactions in at least λ distinct rows that ran.
+    pub interactions_at_lambda: usize,
+    /// The fewest executions of any t-way interaction (0 when one did not run).
+    pub min_runs: u64,
+    /// The fewest executions of any row that ran: the rounds every row went through
+    /// (`--repeat`, runs merged), 0 when none ran.
+    pub min_row_runs: u64,
+}
+
+impl Ran {
+    /// Measures the tallies of a suite at index `lambda`.
+    pub fn measure(tallies: &Tallies, lambda: u32) -> Ran {
+        let t_way = tallies.interactions();
+        let mut ran = Ran {
+            rows: tallies.rows.len(),
+            rows_run: tallies.rows.iter().filter(|c| c.runs > 0).count(),
+            interactions: t_way.len(),
+            min_runs: t_way.iter().map(|t| t.count.runs).min().unwrap_or(0),
+            min_row_runs: tallies
+                .rows
+                .iter()
+                .map(|c| c.runs)
+                .filter(|&r| r > 0)
+                .min()
+                .unwrap_or(0),
+            ..Ran::default()
+        };
+        for t in t_way {
+            let rows = t
+                .rows
+                .iter()
+                .filter(|&&r| tallies.rows[r as usize].runs > 0)
+                .count();
+            if rows > 0 {
+                ran.interactions_run += 1;
+            }
+            if rows >= lambda.max(1) as usize {
+                ran.interactions_at_lambda += 1;
+            }
+        }
+        ran
+    }
+
+    /// Every t-way interaction ran in at least λ rows.
+    pub fn complete(&self) -> bool {
+        self.interactions_at_lambda == self.interactions
+    }
+
+    /// Rows with no record.
+    pub fn rows_not_run(&self) -> usize {
+        self.rows - self.rows_run
+    }
+
+    /// t-way interactions in no row that ran.
+    pub fn interactions_not_run(&self) -> usize {
+        self.interactions - self.interactions_run
+    }
+
+    /// Share of t-way interactions that ran at all.
+    pub fn share_run(&self) -> f64 {
+        if self.interactions == 0 {
+            1.0
+        } else {
+            self.interactions_run as f64 / self.interactions as f64
+        }
+    }
+}
