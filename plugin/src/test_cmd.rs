@@ -3,8 +3,10 @@
 
 use std::process::{Command, ExitCode, Stdio};
 
+use std::path::PathBuf;
+
 use clap::Args;
-use heddle_store::{Store, find_root};
+use heddle_store::{Records, Store, find_root};
 use heddle_test::record::layout::{RUN_ID_VAR, new_run_id, validate_run_id};
 
 use crate::failure::{Diagnostic, Failure, usage};
@@ -36,6 +38,9 @@ pub struct TestArgs {
     /// Hide the test run's own output; print only the report.
     #[arg(long, short = 'q')]
     pub quiet: bool,
+    /// Write the report to FILE (replaced whole) instead of stdout.
+    #[arg(long, value_name = "FILE")]
+    pub output: Option<PathBuf>,
     /// Arguments for `cargo test` (or nextest), after `--`.
     #[arg(last = true, value_name = "ARGS")]
     pub cargo_args: Vec<String>,
@@ -52,8 +57,49 @@ fn run_id() -> Result<String, Failure> {
     }
 }
 
-/// Runs `test`.
+/// What the test rounds left behind.
+pub struct Rounds {
+    /// The run id they recorded under.
+    pub id: String,
+    /// The first failing round's exit status, 0 when every round passed.
+    pub status: u8,
+    /// The records of that run, `None` when nothing was recorded under it.
+    pub records: Option<Records>,
+    /// The target directory of the packages tested (the store is below it).
+    pub target_dir: PathBuf,
+}
+
+/// Runs `test`: the rounds, then the report of their run, exiting with the test run's
+/// status.
 pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
+    let rounds = run_rounds(&args)?;
+    match &rounds.records {
+        Some(records) => {
+            let rargs = ReportArgs {
+                selection: Selection::default(),
+                run: rounds.id.clone(),
+                runs: None,
+                all: args.all,
+                format: args.format,
+                store: Vec::new(),
+                confidence: args.confidence,
+                output: args.output.clone(),
+            };
+            report::print(records, &rargs)?;
+        }
+        None => eprintln!(
+            "heddle: {}",
+            Diagnostic::new(format!("no records for run {}", rounds.id))
+                .hint("no `#[cover]` test ran (did the build fail, or a filter exclude them?)")
+        ),
+    }
+    Ok(ExitCode::from(rounds.status))
+}
+
+/// Runs the tests `args.repeat` times under one run id and reads back what they recorded,
+/// for callers that report in their own way (the demo runner prints a table and writes a
+/// page from one run).
+pub fn run_rounds(args: &TestArgs) -> Result<Rounds, Failure> {
     if args.repeat == 0 {
         return Err(usage("`--repeat` must be at least 1"));
     }
@@ -108,24 +154,10 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
         .filter(|r| find_root(r).is_some())
         .collect();
     let records = Store::merge(roots).ok().and_then(|s| s.read_run(&id).ok());
-    match records {
-        Some(records) => {
-            let rargs = ReportArgs {
-                selection: Selection::default(),
-                run: id.clone(),
-                runs: None,
-                all: args.all,
-                format: args.format,
-                store: Vec::new(),
-                confidence: args.confidence,
-            };
-            report::print(&records, &rargs);
-        }
-        None => eprintln!(
-            "heddle: {}",
-            Diagnostic::new(format!("no records for run {id}"))
-                .hint("no `#[cover]` test ran (did the build fail, or a filter exclude them?)")
-        ),
-    }
-    Ok(ExitCode::from(status_code))
+    Ok(Rounds {
+        id,
+        status: status_code,
+        records,
+        target_dir: project.target_dir,
+    })
 }

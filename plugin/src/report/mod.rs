@@ -1,13 +1,15 @@
 //! `cargo heddle report`: from the record store alone to per-interaction pass counts,
-//! suspects, flaky interactions and λ advice, in four formats.
+//! suspects, flaky interactions and λ advice, in five formats.
 
+mod html;
 mod json;
 mod junit;
 mod markdown;
+mod per_run;
 mod table;
 
 use std::io::Write;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 
 use clap::{Args, ValueEnum};
@@ -44,6 +46,9 @@ pub struct ReportArgs {
     /// Confidence the λ advice aims for.
     #[arg(long, value_name = "C", default_value_t = 0.95)]
     pub confidence: f64,
+    /// Write the report to FILE (replaced whole) instead of stdout.
+    #[arg(long, value_name = "FILE")]
+    pub output: Option<PathBuf>,
 }
 
 /// Report formats.
@@ -57,6 +62,9 @@ pub enum Format {
     Junit,
     /// A compact summary for CI job pages.
     Markdown,
+    /// One self-contained page with charts (heat maps, coverage, intervals), for a
+    /// browser or a CI artifact (`report::html` module docs).
+    Html,
 }
 
 /// What the report says about one row.
@@ -103,6 +111,9 @@ pub struct SuiteReport<'a> {
     pub not_run: usize,
     /// λ advice.
     pub advice: Advice,
+    /// Per run read (in the order of [`Report::runs`]), the count of each row: the
+    /// history behind `--runs N`.
+    pub by_run: Vec<Vec<Count>>,
 }
 
 /// The whole report.
@@ -179,12 +190,13 @@ pub fn read(store: &Store, args: &ReportArgs) -> Result<Records, Failure> {
 pub fn build<'a>(records: &'a Records, packages: &[String], confidence: f64, all: bool) -> Report<'a> {
     let mut notes: Vec<String> = records.stats.notes().iter().map(Diagnostic::one_line).collect();
     let mut suites = Vec::new();
+    let run_ids: Vec<&str> = records.runs.iter().map(|r| r.id.as_str()).collect();
     for s in &records.suites {
         if !packages.is_empty() && !packages.contains(&s.spec.krate) {
             continue;
         }
         match tally(&s.spec, s.outcomes()) {
-            Ok(t) => suites.push(suite_report(&s.spec, &s.rows, t, confidence)),
+            Ok(t) => suites.push(suite_report(&s.spec, &s.rows, t, confidence, &run_ids)),
             Err(e) => notes.push(format!("skipped suite `{}`: {e}", s.spec.suite)),
         }
     }
@@ -201,6 +213,7 @@ fn suite_report<'a>(
     records: &[RowRecord],
     tallies: Tallies,
     confidence: f64,
+    run_ids: &[&str],
 ) -> SuiteReport<'a> {
     let mut rows: Vec<RowView> = (0..spec.rows.len())
         .map(|row| RowView {
@@ -249,6 +262,7 @@ fn suite_report<'a>(
         failed,
         not_run,
         advice,
+        by_run: per_run::row_counts(run_ids, records, spec.rows.len()),
     }
 }
 
@@ -272,6 +286,7 @@ pub fn render(report: &Report<'_>, format: Format, color: bool) -> String {
         Format::Json => json::render(report),
         Format::Junit => junit::render(report),
         Format::Markdown => markdown::render(report),
+        Format::Html => html::render(report),
     }
 }
 
@@ -288,17 +303,38 @@ pub fn run(args: ReportArgs) -> Result<ExitCode, Failure> {
     }
     let store = open_store(&args)?;
     let records = read(&store, &args)?;
-    print(&records, &args);
+    print(&records, &args)?;
     Ok(ExitCode::SUCCESS)
 }
 
-/// Prints the report of some records to stdout (notes about skipped lines to stderr).
-pub fn print(records: &Records, args: &ReportArgs) {
+/// Prints the report of some records to stdout, or writes it to `--output` (notes about
+/// skipped lines to stderr).
+pub fn print(records: &Records, args: &ReportArgs) -> Result<(), Failure> {
     let report = build(records, &args.selection.package, args.confidence, args.all);
     for n in &report.notes {
         eprintln!("note: {n}");
     }
-    let text = render(&report, args.format, crate::style::color_stdout());
-    let mut out = std::io::stdout().lock();
-    let _ = out.write_all(text.as_bytes()).and_then(|_| out.flush());
+    match &args.output {
+        Some(path) => {
+            write_to(path, &render(&report, args.format, false))?;
+            eprintln!("heddle: wrote the report to {}", path.display());
+        }
+        None => {
+            let text = render(&report, args.format, crate::style::color_stdout());
+            let mut out = std::io::stdout().lock();
+            let _ = out.write_all(text.as_bytes()).and_then(|_| out.flush());
+        }
+    }
+    Ok(())
+}
+
+/// Writes a rendered report to a file whole (a temporary file renamed over it), so a
+/// reader such as a browser or a CI upload never sees half a page.
+pub fn write_to(path: &Path, text: &str) -> Result<(), Failure> {
+    crate::pinfile::write_atomically(path, text).map_err(|e| {
+        crate::failure::found(
+            Diagnostic::new(format!("cannot write the report to `{}`: {e}", path.display()))
+                .hint("check that the directory exists and is writable"),
+        )
+    })
 }
