@@ -287,3 +287,28 @@ fn the_first_command_exits_zero_names_both_defects_and_writes_a_page() {
         .any(|c| c.contains("codec = Codec::Delta, unit = Unit::Fahrenheit: passed 0 of"));
     assert!(suspect_cell, "no outlined cell for the deterministic defect");
 }
+
+#[test]
+fn the_console_check_sees_what_a_page_should_not_do() {
+    // the control for `judge`: a page that tries to fetch an image, which the report's
+    // own policy forbids, must leave a console message, or an empty console proves nothing
+    let Some(browser) = browser() else { return };
+    let dir = tempfile::tempdir().unwrap();
+    let page = dir.path().join("fetches.html");
+    std::fs::write(
+        &page,
+        "<!DOCTYPE html><html><head><meta charset=\"utf-8\">\
+         <meta http-equiv=\"Content-Security-Policy\" content=\"default-src 'none'\">\
+         <title>t</title></head><body><img src=\"http://127.0.0.1:9/x.png\" alt=\"x\"></body></html>",
+    )
+    .unwrap();
+    let loaded = browser.load(&page).unwrap();
+    assert!(
+        loaded
+            .console
+            .iter()
+            .any(|l| l.contains("Content Security Policy")),
+        "{:?}",
+        loaded.console
+    );
+}

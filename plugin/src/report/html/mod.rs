@@ -424,9 +424,13 @@ fn failing_rows(s: &SuiteReport<'_>) -> Markup {
                                     th scope="row" { code { (spec.row_test_name(r.row).unwrap_or_default()) } }
                                     @for l in spec.row_labels(r.row).unwrap_or_default() { td { code { (l) } } }
                                     td class="num" { (r.count.failures) "/" (r.count.runs) }
-                                    td {
+                                    td class="message" {
                                         @if let Some(m) = r.message.as_deref().filter(|m| !m.is_empty()) {
-                                            pre class="message" { (m) }
+                                            @let (first, rest) = m.split_once('\n').unwrap_or((m, ""));
+                                            pre class="message" { (first) }
+                                            @if !rest.trim().is_empty() {
+                                                details { summary { "the whole message" } pre class="message" { (rest) } }
+                                            }
                                         }
                                         pre class="rerun" { code { (spec.rerun_command(r.row).unwrap_or_default()) } }
                                     }
