@@ -416,7 +416,6 @@ fn failing_rows(s: &SuiteReport<'_>) -> Markup {
                             th scope="col" { "row" }
                             @for f in &spec.factors { th scope="col" { (f.name) } }
                             th scope="col" { "failed" }
-                            th scope="col" { "message and rerun command" }
                         } }
                         tbody {
                             @for r in &failing {
@@ -424,7 +423,11 @@ fn failing_rows(s: &SuiteReport<'_>) -> Markup {
                                     th scope="row" { code { (spec.row_test_name(r.row).unwrap_or_default()) } }
                                     @for l in spec.row_labels(r.row).unwrap_or_default() { td { code { (l) } } }
                                     td class="num" { (r.count.failures) "/" (r.count.runs) }
-                                    td class="message" {
+                                }
+                                // message and command span the table below their row,
+                                // so neither is squeezed into a column
+                                tr class="detail" {
+                                    td colspan=(spec.factors.len() + 2) {
                                         @if let Some(m) = r.message.as_deref().filter(|m| !m.is_empty()) {
                                             @let (first, rest) = m.split_once('\n').unwrap_or((m, ""));
                                             pre class="message" { (first) }
@@ -432,7 +435,7 @@ fn failing_rows(s: &SuiteReport<'_>) -> Markup {
                                                 details { summary { "the whole message" } pre class="message" { (rest) } }
                                             }
                                         }
-                                        pre class="rerun" { code { (spec.rerun_command(r.row).unwrap_or_default()) } }
+                                        pre class="rerun" { "rerun: " code { (spec.rerun_command(r.row).unwrap_or_default()) } }
                                     }
                                 }
                             }
