@@ -476,3 +476,31 @@ fn html_goes_whole_to_the_output_file_and_shows_a_run_cut_short() {
         .collect();
     assert_eq!(names.len(), 1, "{names:?}");
 }
+
+#[test]
+fn html_of_a_strength_one_suite_shows_levels_not_pairs() {
+    // strength 1 promises no pair of levels, so the page draws one strip per factor
+    let tmp = tempfile::tempdir().unwrap();
+    let s = SpecBuilder::new("single")
+        .krate("shop")
+        .test_target("checkout")
+        .run("run-a")
+        .factor("currency", &["eur", "usd", "gbp"])
+        .factor("tax", &["on", "off"])
+        .rows(vec![vec![0, 0], vec![1, 1], vec![2, 0]])
+        .build();
+    let mut lines = vec![Line::Spec(s.clone()).to_json_line()];
+    for (r, o) in [(0, Outcome::Passed), (1, Outcome::Failed), (2, Outcome::Passed)] {
+        lines.push(Line::Row(row(&s, r, o, "run-a")).to_json_line());
+    }
+    write_process(tmp.path(), "run-a", 1_700_000_000_000, &lines);
+    let o = report(&["--store", tmp.path().to_str().unwrap(), "--format", "html"]);
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    let html = text(&o.stdout);
+    assert!(html.contains("Pass rate by level</h3>"), "{html}");
+    assert_eq!(html.matches("<svg class=\"grid\"").count(), 2);
+    assert!(
+        html.contains("<title>currency = usd: passed 0 of 1 runs (0%) in rows 1; suspect 1</title>"),
+        "{html}"
+    );
+}
