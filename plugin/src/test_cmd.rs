@@ -1,10 +1,11 @@
 //! `cargo heddle test`: one `cargo test` (or `cargo nextest run`) invocation under one
 //! run id, then the report of exactly that run.
 
+use std::path::PathBuf;
 use std::process::{Command, ExitCode, Stdio};
 
 use clap::Args;
-use heddle_store::{Store, find_root};
+use heddle_store::{Records, Store, find_root};
 use heddle_test::record::layout::{RUN_ID_VAR, TARGET_DIR_VAR, new_run_id, pipeline_run_id, validate_run_id};
 
 use crate::failure::{Diagnostic, Failure, found, usage};
@@ -40,7 +41,7 @@ pub struct TestArgs {
     pub fail_on: Vec<FailOn>,
     /// Also write the report in `--format` to FILE; the terminal then shows the table.
     #[arg(long, value_name = "FILE")]
-    pub output: Option<std::path::PathBuf>,
+    pub output: Option<PathBuf>,
     /// Colours of the report and of the test run's output: `auto` (default;
     /// `CARGO_TERM_COLOR`, `NO_COLOR`, `CLICOLOR`, `CLICOLOR_FORCE` and `TERM` decide),
     /// `always` or `never`.
@@ -147,8 +148,88 @@ fn run_cargo(
     Ok(status)
 }
 
-/// Runs `test`.
+/// What the test rounds left behind.
+pub struct Rounds {
+    /// The run id they recorded under.
+    pub id: String,
+    /// The first failing round's exit status, 0 when every round passed.
+    pub status: u8,
+    /// The records of that run, `None` when nothing was recorded under it.
+    pub records: Option<Records>,
+    /// The packages tested.
+    pub packages: Vec<String>,
+    /// Other runs in the store that recorded one of those packages.
+    pub other_runs: usize,
+    /// The target directory of the packages tested.
+    pub target_dir: PathBuf,
+    /// The directory the store is under (the test processes were pointed at it).
+    pub store_dir: PathBuf,
+    /// The runtime's warnings that recording failed, one per distinct line.
+    pub warnings: Vec<String>,
+}
+
+impl Rounds {
+    /// Why nothing was recorded, as an error naming the cause.
+    pub fn nothing_recorded(&self) -> Diagnostic {
+        let why = if let Some(w) = self.warnings.first() {
+            format!(
+                "the test processes could not record ({})",
+                w.trim_start_matches("heddle: warning: ")
+            )
+        } else if self.status != 0 {
+            "the test run failed before any `#[cover]` row ran (did the build fail?)".to_string()
+        } else {
+            "no `#[cover]` test ran (does a filter exclude them, or has the package none?)".to_string()
+        };
+        Diagnostic::new(format!("run {} recorded nothing: {why}", self.id)).hint(format!(
+            "records go to `{}`; the report needs at least one `#[cover]` row to have run",
+            self.store_dir
+                .join(heddle_test::record::layout::STORE_DIR)
+                .display()
+        ))
+    }
+}
+
+/// Runs `test`: the rounds, then the report of their run. The exit status is the test
+/// run's when it failed, else what `--fail-on` asks for.
 pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
+    let rounds = run_rounds(&args)?;
+    let Some(records) = &rounds.records else {
+        let d = rounds.nothing_recorded();
+        if rounds.status != 0 {
+            eprintln!("error: {d}");
+            return Ok(ExitCode::from(rounds.status));
+        }
+        return Err(found(d));
+    };
+    let rargs = ReportArgs {
+        // the manifest path travels into the rerun commands
+        selection: Selection {
+            manifest_path: args.selection.manifest_path.clone(),
+            ..Selection::default()
+        },
+        run: rounds.id.clone(),
+        runs: None,
+        all: args.all,
+        format: args.format,
+        store: Vec::new(),
+        confidence: args.confidence,
+        fail_on: args.fail_on.clone(),
+        output: args.output.clone(),
+        color: args.color,
+    };
+    let verdict = report::print(records, &rargs, &rounds.packages, rounds.other_runs, 1)?;
+    // the test run's own failure comes first; `--fail-on` speaks when it passed
+    if rounds.status != 0 {
+        return Ok(ExitCode::from(rounds.status));
+    }
+    Ok(verdict)
+}
+
+/// Runs the tests `args.repeat` times under one run id and reads back what they
+/// recorded, for callers that report in their own way (the demo runner prints a table
+/// and writes a page from one run).
+pub fn run_rounds(args: &TestArgs) -> Result<Rounds, Failure> {
     if args.repeat == 0 {
         return Err(usage("`--repeat` must be at least 1"));
     }
@@ -221,59 +302,22 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
         crate::runs::prune_after_test(store)?;
     }
     let records = store.as_ref().and_then(|s| s.read_run(&id).ok());
-    match records {
-        Some(records) => {
-            let packages: Vec<String> = project.packages.iter().map(|p| p.name.clone()).collect();
-            let others = store.as_ref().map_or(0, |s| {
-                s.runs().map_or(0, |runs| {
-                    runs.iter()
-                        .filter(|r| r.id != id && s.packages(r).iter().any(|p| packages.contains(p)))
-                        .count()
-                })
-            });
-            let rargs = ReportArgs {
-                // the manifest path travels into the rerun commands
-                selection: Selection {
-                    manifest_path: args.selection.manifest_path.clone(),
-                    ..Selection::default()
-                },
-                run: id.clone(),
-                runs: None,
-                all: args.all,
-                format: args.format,
-                store: Vec::new(),
-                confidence: args.confidence,
-                fail_on: args.fail_on.clone(),
-                output: args.output.clone(),
-                color: args.color,
-            };
-            let verdict = report::print(&records, &rargs, &packages, others, 1)?;
-            // the test run's own failure comes first; `--fail-on` speaks when it passed
-            if status_code != 0 {
-                return Ok(ExitCode::from(status_code));
-            }
-            Ok(verdict)
-        }
-        None => {
-            let why = if let Some(w) = warnings.first() {
-                format!(
-                    "the test processes could not record ({})",
-                    w.trim_start_matches("heddle: warning: ")
-                )
-            } else if status_code != 0 {
-                "the test run failed before any `#[cover]` row ran (did the build fail?)".to_string()
-            } else {
-                "no `#[cover]` test ran (does a filter exclude them, or has the package none?)".to_string()
-            };
-            let d = Diagnostic::new(format!("run {id} recorded nothing: {why}")).hint(format!(
-                "records go to `{}`; the report needs at least one `#[cover]` row to have run",
-                store_dir.join(heddle_test::record::layout::STORE_DIR).display()
-            ));
-            if status_code != 0 {
-                eprintln!("error: {d}");
-                return Ok(ExitCode::from(status_code));
-            }
-            Err(found(d))
-        }
-    }
+    let packages: Vec<String> = project.packages.iter().map(|p| p.name.clone()).collect();
+    let other_runs = store.as_ref().map_or(0, |s| {
+        s.runs().map_or(0, |runs| {
+            runs.iter()
+                .filter(|r| r.id != id && s.packages(r).iter().any(|p| packages.contains(p)))
+                .count()
+        })
+    });
+    Ok(Rounds {
+        id,
+        status: status_code,
+        records,
+        packages,
+        other_runs,
+        target_dir: project.target_dir,
+        store_dir,
+        warnings,
+    })
 }

@@ -433,3 +433,94 @@ fn the_store_is_found_in_a_custom_target_dir_and_build_dir() {
     let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
     assert_eq!(v["runs"], serde_json::json!(["run-b"]));
 }
+
+#[test]
+fn html_goes_whole_to_the_output_file_and_shows_a_run_cut_short() {
+    // rows 8 to 17 never ran: the six pairs of row 8 appear nowhere else in the rows that
+    // ran (OA9 has index 1, and its second copy is among the rows left out), so exactly
+    // those cells are hatched, and the run stopped after row 7
+    let tmp = tempfile::tempdir().unwrap();
+    let s = spec(rows_l2(), 2, "run-a");
+    let mut lines = vec![Line::Spec(s.clone()).to_json_line()];
+    for r in 0..8 {
+        let o = if planted(&s.rows[r]) {
+            Outcome::Failed
+        } else {
+            Outcome::Passed
+        };
+        lines.push(Line::Row(row(&s, r, o, "run-a")).to_json_line());
+    }
+    write_process(tmp.path(), "run-a", 1_700_000_000_000, &lines);
+    let store = tmp.path().to_str().unwrap();
+    let page = tmp.path().join("out").join("report.html");
+    let page_arg = page.to_str().unwrap();
+    let args = ["--store", store, "--format", "html", "--output", page_arg];
+    // a directory that does not exist: a located error, and nothing written
+    let o = report(&args);
+    assert_eq!(o.status.code(), Some(1), "{}", text(&o.stderr));
+    assert!(
+        text(&o.stderr).contains("cannot write the report to `") && text(&o.stderr).contains("hint:"),
+        "{}",
+        text(&o.stderr)
+    );
+    assert!(!page.exists());
+    std::fs::create_dir(tmp.path().join("out")).unwrap();
+    let o = report(&args);
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    // the page goes to the file; the terminal shows the table
+    assert!(
+        text(&o.stdout).starts_with("heddle report"),
+        "{}",
+        text(&o.stdout)
+    );
+    let html = std::fs::read_to_string(&page).unwrap();
+    assert!(html.starts_with("<!DOCTYPE html>"));
+    assert!(html.contains("<meta name=\"generator\" content=\"cargo-heddle "));
+    assert_eq!(
+        html.matches("fill=\"url(#heddle-not-run)\"").count(),
+        1 + 6,
+        "legend and six cells"
+    );
+    assert!(html.contains("the run stopped after row 7"));
+    assert!(html.contains("10 not run"));
+    // the six pairs of row 8 (currency2, tax2, coupon1, cart0) are the ones not run
+    assert!(html.contains("<title>currency = currency2, tax = tax2: not run (rows 8, "));
+    // the same records give the same bytes
+    let first = std::fs::read(&page).unwrap();
+    assert!(report(&args).status.success());
+    assert_eq!(std::fs::read(&page).unwrap(), first);
+    // no temporary file left beside it
+    let names: Vec<_> = std::fs::read_dir(tmp.path().join("out"))
+        .unwrap()
+        .map(|e| e.unwrap().file_name())
+        .collect();
+    assert_eq!(names.len(), 1, "{names:?}");
+}
+
+#[test]
+fn html_of_a_strength_one_suite_shows_levels_not_pairs() {
+    // strength 1 promises no pair of levels, so the page draws one strip per factor
+    let tmp = tempfile::tempdir().unwrap();
+    let s = SpecBuilder::new("single")
+        .krate("shop")
+        .test_target("checkout")
+        .run("run-a")
+        .factor("currency", &["eur", "usd", "gbp"])
+        .factor("tax", &["on", "off"])
+        .rows(vec![vec![0, 0], vec![1, 1], vec![2, 0]])
+        .build();
+    let mut lines = vec![Line::Spec(s.clone()).to_json_line()];
+    for (r, o) in [(0, Outcome::Passed), (1, Outcome::Failed), (2, Outcome::Passed)] {
+        lines.push(Line::Row(row(&s, r, o, "run-a")).to_json_line());
+    }
+    write_process(tmp.path(), "run-a", 1_700_000_000_000, &lines);
+    let o = report(&["--store", tmp.path().to_str().unwrap(), "--format", "html"]);
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    let html = text(&o.stdout);
+    assert!(html.contains("Pass rate by level</h3>"), "{html}");
+    assert_eq!(html.matches("<svg class=\"grid\"").count(), 2);
+    assert!(
+        html.contains("<title>currency = usd: passed 0 of 1 runs (0%) in rows 1; suspect 1</title>"),
+        "{html}"
+    );
+}

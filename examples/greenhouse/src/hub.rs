@@ -98,7 +98,7 @@ mod log {
 
     /// Longest pause before a close-time write, so that workers closing together do not
     /// all hit the audit log at once.
-    const MAX_JITTER_US: u64 = 2_000;
+    const MAX_JITTER_US: u64 = 6_000;
     /// How long one audit write takes (the site's log is synced on every entry).
     const WRITE_US: u64 = 50;
 

@@ -1,14 +1,16 @@
 //! `cargo heddle report`: from the record store alone to per-interaction pass counts,
-//! suspects, flaky interactions and λ advice, in four formats.
+//! suspects, flaky interactions and λ advice, in five formats.
 
+mod html;
 mod json;
 mod junit;
 mod markdown;
+mod per_run;
 pub mod ran;
 mod table;
 
 use std::io::Write;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 
 use clap::{Args, ValueEnum};
@@ -150,6 +152,9 @@ pub enum Format {
     Junit,
     /// A compact summary for CI job pages.
     Markdown,
+    /// One self-contained page with charts (heat maps, coverage, intervals), for a
+    /// browser or a CI artifact (`report::html` module docs).
+    Html,
 }
 
 /// What the report says about one row.
@@ -221,6 +226,9 @@ pub struct SuiteReport<'a> {
     pub advice: Advice,
     /// The manifest path the report was asked for, carried into rerun commands.
     pub manifest_path: Option<String>,
+    /// Per run read (in the order of [`Report::runs`]), the count of each row: the
+    /// history behind `--runs N`.
+    pub by_run: Vec<Vec<Count>>,
 }
 
 impl SuiteReport<'_> {
@@ -366,12 +374,13 @@ pub fn read(store: &Store, args: &ReportArgs, packages: &[String]) -> Result<(Re
 pub fn build<'a>(records: &'a Records, packages: &[String], confidence: f64, all: bool) -> Report<'a> {
     let mut notes: Vec<String> = records.stats.notes().iter().map(Diagnostic::one_line).collect();
     let mut suites = Vec::new();
+    let run_ids: Vec<&str> = records.runs.iter().map(|r| r.id.as_str()).collect();
     for s in &records.suites {
         if !packages.is_empty() && !packages.contains(&s.spec.krate) {
             continue;
         }
         match tally(&s.spec, s.outcomes()) {
-            Ok(t) => suites.push(suite_report(&s.spec, &s.rows, t, confidence)),
+            Ok(t) => suites.push(suite_report(&s.spec, &s.rows, t, confidence, &run_ids)),
             Err(e) => notes.push(format!("skipped suite `{}`: {e}", s.spec.suite)),
         }
     }
@@ -390,6 +399,7 @@ fn suite_report<'a>(
     records: &[RowRecord],
     tallies: Tallies,
     confidence: f64,
+    run_ids: &[&str],
 ) -> SuiteReport<'a> {
     let mut rows: Vec<RowView> = (0..spec.rows.len())
         .map(|row| RowView {
@@ -456,6 +466,7 @@ fn suite_report<'a>(
         ran,
         advice,
         manifest_path: None,
+        by_run: per_run::row_counts(run_ids, records, spec.rows.len()),
     }
 }
 
@@ -479,6 +490,7 @@ pub fn render(report: &Report<'_>, format: Format, color: bool) -> String {
         Format::Json => json::render(report),
         Format::Junit => junit::render(report),
         Format::Markdown => markdown::render(report),
+        Format::Html => html::render(report),
     }
 }
 
@@ -525,13 +537,8 @@ pub fn print(
     }
     let shown = match &args.output {
         Some(path) => {
-            let text = render(&report, args.format, false);
-            std::fs::write(path, text).map_err(|e| {
-                usage(
-                    Diagnostic::new(format!("cannot write `{}`: {e}", path.display()))
-                        .hint("check that its directory exists and is writable"),
-                )
-            })?;
+            write_to(path, &render(&report, args.format, false))?;
+            eprintln!("heddle: wrote the report to {}", path.display());
             Format::Table
         }
         None => args.format,
@@ -540,4 +547,15 @@ pub fn print(
     let mut out = std::io::stdout().lock();
     let _ = out.write_all(text.as_bytes()).and_then(|_| out.flush());
     Ok(fail_code(&report, &args.fail_on))
+}
+
+/// Writes a rendered report to a file whole (a temporary file renamed over it), so a
+/// reader such as a browser or a CI upload never sees half a page.
+pub fn write_to(path: &Path, text: &str) -> Result<(), Failure> {
+    crate::pinfile::write_atomically(path, text).map_err(|e| {
+        crate::failure::found(
+            Diagnostic::new(format!("cannot write the report to `{}`: {e}", path.display()))
+                .hint("check that the directory exists and is writable"),
+        )
+    })
 }
