@@ -218,6 +218,9 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
             for e in &f.spec.excludes {
                 let _ = writeln!(out, "{}({e})", kw::EXCLUDE);
             }
+            for r in &f.spec.required {
+                let _ = writeln!(out, "{}({r})", kw::REQUIRE);
+            }
             out.push('\n');
             let mut table: Vec<Vec<String>> = Vec::with_capacity(n + 1);
             let mut head = vec!["row".to_string()];

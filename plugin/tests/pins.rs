@@ -770,3 +770,50 @@ fn check_warns_about_pins_without_a_function_and_show_refuses_stale_pins() {
     assert!(r.stderr().contains("is stale"), "{}", r.stderr());
     assert_eq!(r.stdout(), "");
 }
+
+#[test]
+fn a_required_row_makes_the_pin_stale_and_comes_first_when_repinned() {
+    let c = Crate::new(&[("tests/codec.rs", CODEC)]);
+    c.heddle(&["pin"]).ok();
+    let old = c.rows("tests/codec.rs", "roundtrip");
+    // a configuration the old rows lack: batch 64 with Delta, checksum left to the engine
+    let (b, k) = (2u8, 2u8);
+    let already = old.iter().position(|r| r[0] == b && r[1] == k);
+    let changed = CODEC.replace(
+        "seed = 11)]",
+        "seed = 11, require(codec = Codec::Delta, batch = 64))]",
+    );
+    c.write("tests/codec.rs", &changed);
+    let r = c.heddle(&["check"]);
+    r.fails(1);
+    match already {
+        // the old first row is another one: the change is named
+        Some(i) if i != 0 => assert!(
+            r.stderr()
+                .contains("the pin of `roundtrip` is stale: the required rows changed"),
+            "{}",
+            r.stderr()
+        ),
+        _ => assert!(
+            r.stderr().contains("the pin of `roundtrip` is stale"),
+            "{}",
+            r.stderr()
+        ),
+    }
+    c.heddle(&["pin"]).ok();
+    let new = c.rows("tests/codec.rs", "roundtrip");
+    assert_eq!((new[0][0], new[0][1]), (b, k), "{new:?}");
+    let mut spec = Spec::new(roundtrip_factors(&["1", "8", "64"])).lambda(2);
+    spec.required = vec![vec![b, k, heddle_generator::UNSET]];
+    verify(&spec, &new).expect("the repinned rows start with the required row and cover every pair twice");
+    c.heddle(&["check"]).ok();
+    let shown = c.heddle(&["show", "roundtrip"]);
+    shown.ok();
+    assert!(
+        shown
+            .stdout()
+            .contains("\nrequire(codec = Codec::Delta, batch = 64)\n"),
+        "{}",
+        shown.stdout()
+    );
+}

@@ -77,7 +77,13 @@ extern crate self as heddle_test;
 /// ```
 /// use heddle_test::cover;
 ///
-/// #[cover(strength = 2, lambda = 2, seed = 11, exclude(codec == "delta" && batch == 1))]
+/// #[cover(
+///     strength = 2,
+///     lambda = 2,
+///     seed = 11,
+///     exclude(codec == "delta" && batch == 1),
+///     require(codec = "delta", batch = 64),
+/// )]
 /// fn roundtrip(
 ///     #[levels(1, 8, 64)] batch: usize,
 ///     #[levels("plain", "rle", "delta")] codec: &str,
@@ -96,6 +102,7 @@ extern crate self as heddle_test;
 /// | `lambda = L` | each combination is covered in at least L rows | 1 |
 /// | `seed = S` | seed of the engine's choices (u64) | a hash of the function's name |
 /// | `exclude(EXPR)` | rows where EXPR holds are never generated; EXPR uses `==`, `!=`, `&&`, `\|\|`, `!` and parentheses over parameter names and level expressions; repeatable | none |
+/// | `require(NAME = LEVEL, …)` | a row the design must contain, by level labels (`require(codec = "delta", batch = 64)`); parameters left out are filled by the engine; required rows come first, in the order written, and count toward coverage; the excludes must allow the row; repeatable | none |
 ///
 /// - The function stays an ordinary function; a module of the same name holds one
 ///   `#[test]` per row: `roundtrip::row_00`, `roundtrip::row_01`, … A failing row prints
@@ -108,6 +115,8 @@ extern crate self as heddle_test;
 ///   every row.
 /// - Rows come from the pins file `heddle-pins.toml` when `cargo heddle pin` wrote one
 ///   for this function and its spec is unchanged, else from the engine at build time.
+/// - Required rows are part of the spec: changing one makes a pin stale, like changing a
+///   level.
 /// - Mistakes are compile errors at the offending tokens, all of them at once, with a
 ///   hint; the plain function is still emitted so no follow-on errors appear.
 /// - The generated code reaches this crate by the name your `Cargo.toml` gives it, so a
