@@ -65,6 +65,7 @@ fn ui() {
         "accumulated",
         "pins",
         "require",
+        "budget",
     ] {
         t.compile_fail(format!("tests/ui/{topic}/*.rs"));
     }

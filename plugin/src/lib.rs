@@ -18,7 +18,8 @@
 //!   [`carry`] (old pinned rows carried over to a changed spec);
 //! - judging runs: [`analysis`] (suspects, flaky interactions, λ advice) over the
 //!   tallies of `heddle-store`, laid out by the formats under [`report`];
-//! - shared by the subcommands: [`spec_args`] (factors on the command line), [`effort`]
+//! - shared by the subcommands: [`budget`] (what a row budget reaches, in words),
+//!   [`spec_args`] (factors on the command line), [`effort`]
 //!   (`--effort`, `--budget`), [`failure`] (the error type and exit codes), [`style`]
 //!   (terminal colours), [`say`] (printing that survives a closed pipe).
 
@@ -35,6 +36,7 @@ macro_rules! say_err {
 }
 
 pub mod analysis;
+pub mod budget;
 pub mod carry;
 pub mod check;
 pub mod cli;

@@ -12,11 +12,14 @@ use heddle_syntax::expand::row_name;
 use heddle_syntax::keywords as kw;
 use heddle_syntax::rows_for;
 
+use crate::budget::BudgetReach;
 use crate::design::field;
 use crate::failure::{Diagnostic, Failure, found, usage};
 use crate::pinfile;
 use crate::sources::{self, Function, Scanned};
 use crate::workspace::{self, Selection};
+use heddle_syntax::CoverSpec;
+use heddle_syntax::budget::{BUDGET_VAR, Budget};
 
 /// Arguments of `show`.
 #[derive(Args, Debug)]
@@ -192,6 +195,7 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
         ),
         Err(v) => format!("coverage: the rows do not cover the spec: {v}"),
     };
+    let budget = show_budget(&f.spec, &rows.rows)?;
     let labels = |row: &[u8]| -> Vec<String> {
         row.iter()
             .zip(&spec.factors)
@@ -248,6 +252,9 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
             out.push('\n');
             let _ = writeln!(out, "{bounds_line}");
             let _ = writeln!(out, "{coverage_line}");
+            if let Some((b, source)) = &budget {
+                let _ = writeln!(out, "{} ({source})", b.line(spec.lambda));
+            }
         }
     }
     {
@@ -257,8 +264,11 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
         let _ = stdout.write_all(out.as_bytes()).and_then(|_| stdout.flush());
     }
     if args.format == Format::Csv {
+        let budget = budget
+            .map(|(b, source)| format!("; {} ({source})", b.line(spec.lambda)))
+            .unwrap_or_default();
         say_err!(
-            "heddle: {} ({place}), rows {source}; {bounds_line}; {coverage_line}",
+            "heddle: {} ({place}), rows {source}; {bounds_line}; {coverage_line}{budget}",
             f.function
         );
     }
@@ -272,6 +282,34 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
             .hint(format!("run `{}`", heddle_syntax::pins::PIN_COMMAND)),
         )),
     }
+}
+
+/// The budget a build would use for this function (`HEDDLE_BUDGET`, else the attribute's)
+/// when it leaves rows out: what its rows reach, and where it comes from.
+fn show_budget(spec: &CoverSpec, rows: &[Vec<u8>]) -> Result<Option<(BudgetReach, String)>, Failure> {
+    let env = Budget::from_env(std::env::var_os(BUDGET_VAR)).map_err(usage)?;
+    let Some(b) = Budget::effective(env, spec.budget) else {
+        return Ok(None);
+    };
+    let n = rows.len();
+    let runs = b.rows(n);
+    if runs >= n {
+        return Ok(None);
+    }
+    let source = match env {
+        Some(_) => format!("`{BUDGET_VAR}={b}`"),
+        None => format!("`{}({b})`", kw::BUDGET),
+    };
+    let s = &spec.spec;
+    let reach = heddle_store::reach(rows, s.factors.len(), s.strength, s.lambda, runs);
+    Ok(Some((
+        BudgetReach {
+            rows: runs,
+            of: n,
+            reach,
+        },
+        source,
+    )))
 }
 
 #[cfg(test)]

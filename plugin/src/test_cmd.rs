@@ -5,6 +5,7 @@ use std::process::{Command, ExitCode, Stdio};
 
 use clap::Args;
 use heddle_store::{Store, find_root};
+use heddle_syntax::budget::{BUDGET_VAR, Budget};
 use heddle_test::record::layout::{RUN_ID_VAR, new_run_id, validate_run_id};
 
 use crate::failure::{Diagnostic, Failure, usage};
@@ -33,6 +34,11 @@ pub struct TestArgs {
     /// Confidence the λ advice aims for.
     #[arg(long, value_name = "C", default_value_t = 0.95)]
     pub confidence: f64,
+    /// Run only the first rows of each design: a row count (`12`), a share (`25%`), or
+    /// `all` to override the budgets the attributes set. Passed to the build as
+    /// `HEDDLE_BUDGET`; rows past it are ignored, and changing it rebuilds the tests.
+    #[arg(long, value_name = "N|P%|all", value_parser = Budget::parse)]
+    pub budget: Option<Budget>,
     /// Hide the test run's own output; print only the report.
     #[arg(long, short = 'q')]
     pub quiet: bool,
@@ -83,12 +89,19 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
         }
         cmd.args(&args.cargo_args);
         cmd.env(RUN_ID_VAR, &id);
+        if let Some(b) = args.budget {
+            cmd.env(BUDGET_VAR, b.to_string());
+        }
         let round_note = if args.repeat > 1 {
             format!(" (round {round} of {})", args.repeat)
         } else {
             String::new()
         };
-        eprintln!("heddle: run {id}{round_note}");
+        let budget_note = match args.budget {
+            Some(b) => format!(", row budget {b}"),
+            None => String::new(),
+        };
+        eprintln!("heddle: run {id}{round_note}{budget_note}");
         if args.quiet {
             cmd.stdout(Stdio::null()).stderr(Stdio::null());
         }

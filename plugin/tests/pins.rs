@@ -557,6 +557,16 @@ fn unknown_package_and_bad_flags_are_usage_errors() {
         r.stderr()
     );
     assert!(!c.path("heddle-pins.toml").exists());
+    // the row budget of `test` is refused before anything runs
+    for (bad, says) in [
+        ("0", "a budget of `0` rows runs nothing"),
+        ("150%", "is not a share between 1% and 100%"),
+    ] {
+        let r = c.heddle(&["test", "--budget", bad]);
+        r.fails(2);
+        assert!(r.stderr().contains(says), "{}", r.stderr());
+        assert!(!r.stderr().contains("heddle: run "), "{}", r.stderr());
+    }
     // the selection flags reach the project from elsewhere too
     let manifest = c.path("Cargo.toml");
     let r = Command::new(env!("CARGO_BIN_EXE_cargo-heddle"))
@@ -815,5 +825,53 @@ fn a_required_row_makes_the_pin_stale_and_comes_first_when_repinned() {
             .contains("\nrequire(codec = Codec::Delta, batch = 64)\n"),
         "{}",
         shown.stdout()
+    );
+}
+
+#[test]
+fn show_states_what_the_budget_reaches() {
+    let source = CODEC.replace("seed = 11)]", "seed = 11, budget(4))]");
+    let c = Crate::new(&[("tests/codec.rs", &source)]);
+    let r = c.heddle(&["show", "roundtrip"]);
+    r.ok();
+    let out = r.stdout();
+    let n = out.lines().filter(|l| l.starts_with("row_")).count();
+    assert!(
+        out.contains(&format!(
+            "\nbudget: 4 of {n} rows run, the rest are ignored; they cover strength 2: "
+        )),
+        "{out}"
+    );
+    assert!(out.contains("at least lambda = 2 times; strength 1: "), "{out}");
+    assert!(out.contains(" (`budget(4)`)\n"), "{out}");
+    // HEDDLE_BUDGET overrides the attribute, as it does in a build
+    let run = |value: &str| {
+        let o = Command::new(env!("CARGO_BIN_EXE_cargo-heddle"))
+            .args(["heddle", "show", "roundtrip"])
+            .env("HEDDLE_BUDGET", value)
+            .current_dir(c.root())
+            .output()
+            .unwrap();
+        Run(o)
+    };
+    let o = run("all");
+    o.ok();
+    assert!(!o.stdout().contains("budget:"), "{}", o.stdout());
+    let o = run("50%");
+    o.ok();
+    assert!(
+        o.stdout()
+            .contains(&format!("budget: {} of {n} rows run", n.div_ceil(2))),
+        "{}",
+        o.stdout()
+    );
+    assert!(o.stdout().contains("(`HEDDLE_BUDGET=50%`)"), "{}", o.stdout());
+    let o = run("half");
+    o.fails(2);
+    assert!(
+        o.stderr()
+            .contains("`HEDDLE_BUDGET` is invalid: `half` is not a row budget"),
+        "{}",
+        o.stderr()
     );
 }

@@ -57,6 +57,7 @@ static SUITE: Suite = Suite {
     pinned: false,
     should_panic: false,
     should_panic_expected: None,
+    budget: None,
 };
 
 /// A small, real amount of work, like a quick unit test: build and sort a vector.

@@ -52,14 +52,18 @@
 //! one warning and the tests run as they would without heddle.
 //!
 //! # Environment
-//! Empty values count as unset; an invalid value turns recording off with a one-line
-//! warning naming the variable (tests still run and pass or fail as usual).
+//! Empty values count as unset. An invalid value of a recording variable turns recording
+//! off with a one-line warning naming the variable (tests still run and pass or fail as
+//! usual).
 //!
 //! - `HEDDLE_TARGET_DIR`: the directory to put the store (`heddle/`) in, created if
 //!   missing; relative paths are taken from the test's working directory (cargo runs
 //!   tests in the package root). Unset: the nearest ancestor of the test executable
 //!   holding cargo's `CACHEDIR.TAG`, that is the target directory, or the build
 //!   directory when `build.build-dir` is set.
+//! - `HEDDLE_BUDGET`, read when the tests compile (cargo rebuilds them when it
+//!   changes): a row budget for every `#[cover]` function, overriding their `budget(…)`:
+//!   a row count (`12`), a share (`25%`) or `all`; an invalid value is a compile error.
 //! - `HEDDLE_RUN_ID` (set by `cargo heddle test` for a whole invocation), else
 //!   `NEXTEST_RUN_ID` (set by nextest): the run id, ASCII letters, digits, `.`, `_`, `-`.
 //!   Neither: each test process is a run of its own.
@@ -103,6 +107,7 @@ extern crate self as heddle_test;
 /// | `seed = S` | seed of the engine's choices (u64) | a hash of the function's name |
 /// | `exclude(EXPR)` | rows where EXPR holds are never generated; EXPR uses `==`, `!=`, `&&`, `\|\|`, `!` and parentheses over parameter names and level expressions; repeatable | none |
 /// | `require(NAME = LEVEL, …)` | a row the design must contain, by level labels (`require(codec = "delta", batch = 64)`); parameters left out are filled by the engine; required rows come first, in the order written, and count toward coverage; the excludes must allow the row; repeatable | none |
+/// | `budget(N)`, `budget(P%)` | run the first N rows, or the first P percent (rounded up); the rows past it are compiled with `#[ignore]`, so libtest counts them as ignored; `HEDDLE_BUDGET` overrides it | every row |
 ///
 /// - The function stays an ordinary function; a module of the same name holds one
 ///   `#[test]` per row: `roundtrip::row_00`, `roundtrip::row_01`, … A failing row prints

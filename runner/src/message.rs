@@ -110,6 +110,7 @@ mod tests {
         pinned: false,
         should_panic: false,
         should_panic_expected: None,
+        budget: None,
     };
 
     #[test]

@@ -65,6 +65,9 @@ pub struct Suite {
     /// The `expected = "…"` text of its `#[should_panic]`: a panic whose message does not
     /// contain it is a failure, as libtest decides.
     pub should_panic_expected: Option<&'static str>,
+    /// How many rows the row budget lets run when it leaves some out (the rows past it
+    /// are compiled with `#[ignore]`); `None` when every row runs.
+    pub budget: Option<u32>,
 }
 
 /// The process-wide recorder every row test writes through.
@@ -313,6 +316,7 @@ mod tests {
         pinned: false,
         should_panic: false,
         should_panic_expected: None,
+        budget: None,
     };
 
     fn off() -> Result<Config, SetupError> {

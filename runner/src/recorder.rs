@@ -170,6 +170,7 @@ pub(crate) fn spec_record(suite: &Suite, run_id: &str, time: &str) -> SpecRecord
         fingerprint: suite.fingerprint.to_string(),
         pinned: suite.pinned,
         should_panic: suite.should_panic,
+        budget: suite.budget,
         time: time.to_string(),
     }
 }
@@ -220,6 +221,7 @@ mod tests {
         pinned: true,
         should_panic: false,
         should_panic_expected: None,
+        budget: None,
     };
 
     static WARNINGS: AtomicUsize = AtomicUsize::new(0);

@@ -62,6 +62,7 @@ impl KeyKind {
             kw::SEED => KeyKind::Seed,
             kw::EXCLUDE => KeyKind::Exclude,
             kw::REQUIRE => KeyKind::Require,
+            kw::BUDGET => KeyKind::Budget,
             _ => KeyKind::Unknown,
         }
     }

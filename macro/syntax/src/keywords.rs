@@ -24,7 +24,7 @@ pub const REQUIRE: &str = "require";
 /// Key: how many rows of the design run by default, `budget(12)` or `budget(25%)`.
 pub const BUDGET: &str = "budget";
 /// Every key `#[cover(...)]` accepts, in the order messages list them.
-pub const KEYS: &[&str] = &[STRENGTH, LAMBDA, SEED, EXCLUDE, REQUIRE];
+pub const KEYS: &[&str] = &[STRENGTH, LAMBDA, SEED, EXCLUDE, REQUIRE, BUDGET];
 
 /// libtest's attribute, which `#[cover]` writes itself on every row.
 pub const TEST: &str = "test";

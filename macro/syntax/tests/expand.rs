@@ -356,3 +356,95 @@ fn generated_code_reaches_the_runtime_by_the_context_path_and_names_the_target()
     assert!(all.contains("target : \"\""), "{all}");
     assert_eq!(text(&default_runtime()), ":: heddle_test");
 }
+
+/// Whether a row function carries `#[ignore]`, and its reason.
+fn ignored(r: &ItemFn) -> Option<String> {
+    r.attrs.iter().find(|a| a.path().is_ident("ignore")).map(text)
+}
+
+#[test]
+fn rows_past_the_budget_are_ignored_and_the_suite_says_how_many_run() {
+    use heddle_syntax::budget::Budget;
+    let attr = format!("{ATTR}, budget(25%)");
+    let out = run(&attr, ITEM, &ctx_in("tests/codec.rs"));
+    assert!(errors(&out).is_empty(), "{:?}", errors(&out));
+    let m = the_mod(&out).unwrap();
+    let rows = row_fns(m);
+    let runs = Budget::Percent(25).rows(rows.len());
+    assert!(runs < rows.len());
+    for (i, r) in rows.iter().enumerate() {
+        match ignored(r) {
+            None => assert!(i < runs, "row {i} runs"),
+            Some(why) => {
+                assert!(i >= runs, "row {i} is ignored");
+                assert!(
+                    why.contains(&format!("`budget(25%)` runs {runs} of {} rows", rows.len())),
+                    "{why}"
+                );
+            }
+        }
+    }
+    let all = text(m);
+    assert!(
+        all.contains(&format!("budget : :: core :: option :: Option :: Some ({runs})")),
+        "{all}"
+    );
+    // the rows are those of the spec without a budget: a budget is no part of the spec
+    let plain = run(ATTR, ITEM, &ctx_in("tests/codec.rs"));
+    let plain_rows: Vec<String> = row_fns(the_mod(&plain).unwrap())
+        .iter()
+        .map(|r| text(&r.block))
+        .collect();
+    let budget_rows: Vec<String> = rows.iter().map(|r| text(&r.block)).collect();
+    assert_eq!(plain_rows, budget_rows);
+    assert!(text(the_mod(&plain).unwrap()).contains("budget : :: core :: option :: Option :: None"));
+    // every expansion names the variable, so cargo tracks it
+    assert!(all.contains("option_env ! (\"HEDDLE_BUDGET\")"), "{all}");
+}
+
+#[test]
+fn the_env_budget_overrides_the_attribute_and_a_bad_one_is_an_error() {
+    use heddle_syntax::budget::Budget;
+    let attr = format!("{ATTR}, budget(2)");
+    let all = Context {
+        budget_env: Ok(Some(Budget::All)),
+        ..ctx_in("tests/codec.rs")
+    };
+    let out = run(&attr, ITEM, &all);
+    let m = the_mod(&out).unwrap();
+    assert!(row_fns(m).iter().all(|r| ignored(r).is_none()));
+    assert!(text(m).contains("budget : :: core :: option :: Option :: None"));
+
+    let three = Context {
+        budget_env: Ok(Some(Budget::Rows(3))),
+        ..ctx_in("tests/codec.rs")
+    };
+    let out = run(ATTR, ITEM, &three);
+    let rows = row_fns(the_mod(&out).unwrap());
+    let ignored_at: Vec<usize> = (0..rows.len()).filter(|&i| ignored(rows[i]).is_some()).collect();
+    assert_eq!(ignored_at, (3..rows.len()).collect::<Vec<_>>());
+    assert!(ignored(rows[3]).unwrap().contains("`HEDDLE_BUDGET=3` runs 3 of"));
+
+    // a function ignored as a whole keeps its one `#[ignore]`
+    let out = run(
+        "budget(1)",
+        "#[ignore] fn f(#[levels(1, 2)] a: u8) {}",
+        &Context::detached(),
+    );
+    for r in row_fns(the_mod(&out).unwrap()) {
+        assert_eq!(r.attrs.iter().filter(|a| a.path().is_ident("ignore")).count(), 1);
+    }
+
+    let bad = Context {
+        budget_env: heddle_syntax::budget::Budget::from_env(Some("lots".into())),
+        ..ctx_in("tests/codec.rs")
+    };
+    let out = run(ATTR, ITEM, &bad);
+    let errs = errors(&out);
+    assert_eq!(errs.len(), 1, "{errs:?}");
+    assert!(
+        errs[0].starts_with("`HEDDLE_BUDGET` is invalid: `lots` is not a row budget\nhint: "),
+        "{errs:?}"
+    );
+    assert!(the_mod(&out).is_none());
+}

@@ -380,3 +380,51 @@ fn bad_required_rows() {
     let errs = check("require(d = 1, a = 9), require(b = X::C)", f).unwrap_err();
     assert_eq!(errs.len(), 3, "{errs:#?}");
 }
+
+#[test]
+fn budgets_and_their_mistakes() {
+    use heddle_syntax::budget::Budget;
+    let f = "fn f(#[levels(1, 2)] a: u8, #[levels(1, 2)] b: u8) {}";
+    assert_eq!(check("budget(3)", f).unwrap().budget, Some(Budget::Rows(3)));
+    assert_eq!(check("budget(25%)", f).unwrap().budget, Some(Budget::Percent(25)));
+    assert_eq!(check("", f).unwrap().budget, None);
+    // a budget picks rows of the design, it is not part of the spec
+    assert_eq!(
+        check("budget(3)", f).unwrap().fingerprint,
+        check("", f).unwrap().fingerprint
+    );
+    assert_one_error(
+        check("budget = 3", f),
+        "`budget` takes a row count or a share in parentheses",
+    );
+    assert_one_error(
+        check("budget", f),
+        "`budget` takes a row count or a share in parentheses",
+    );
+    assert_one_error(
+        check("budget(0)", f),
+        "`budget(0)`: a budget of `0` rows runs nothing",
+    );
+    assert_one_error(
+        check("budget(0%)", f),
+        "`budget(0%)`: `0%` is not a share between 1% and 100%",
+    );
+    assert_one_error(
+        check("budget(101%)", f),
+        "`budget(101%)`: `101%` is not a share between",
+    );
+    assert_one_error(
+        check("budget(1.5)", f),
+        "`budget(1.5)`: `1.5` is not a whole number",
+    );
+    assert_one_error(
+        check("budget(3u8)", f),
+        "`budget(3u8)`: `3u8` is not a whole number",
+    );
+    assert_one_error(
+        check("budget(all)", f),
+        "`budget(all)` is not a row count or a share",
+    );
+    assert_one_error(check("budget()", f), "`budget()` is not a row count or a share");
+    assert_one_error(check("budget(3), budget(4)", f), "duplicate key `budget`");
+}

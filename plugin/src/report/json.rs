@@ -16,7 +16,10 @@
 //!                       "runs", "passes", "failures" } ],          best first
 //!       "flaky": [ { "levels", "runs", "passes", "low", "high" } ],  95% Wilson interval
 //!       "failing_rows": [ { "row", "test", "levels", "runs", "failures", "message", "rerun" } ],
-//!       "advice": { "confidence", "detectable_rate", "flake_rate", "lambda_needed", "rows_needed" }
+//!       "advice": { "confidence", "detectable_rate", "flake_rate", "lambda_needed", "rows_needed" },
+//!       "budget": { "rows", "of", "reach": [ { "strength", "interactions", "once", "lambda" } ] }
+//!                                              only when a row budget left rows out: the run
+//!                                              is then not complete; reach per strength 1..t
 //!   } ] }
 //! ```
 //! `levels` objects list parameters in declaration order.
@@ -71,6 +74,23 @@ struct Suite<'a> {
     flaky: Vec<Flaky<'a>>,
     failing_rows: Vec<FailingRow<'a>>,
     advice: Advice,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    budget: Option<Budget>,
+}
+
+#[derive(Serialize)]
+struct Budget {
+    rows: usize,
+    of: usize,
+    reach: Vec<Reach>,
+}
+
+#[derive(Serialize)]
+struct Reach {
+    strength: usize,
+    interactions: u64,
+    once: u64,
+    lambda: u64,
 }
 
 #[derive(Serialize)]
@@ -206,6 +226,20 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
             lambda_needed: s.advice.flake.map(|f| f.1),
             rows_needed: s.advice.flake.and_then(|f| f.2),
         },
+        budget: s.budget.as_ref().map(|b| Budget {
+            rows: b.rows,
+            of: b.of,
+            reach: b
+                .reach
+                .iter()
+                .map(|r| Reach {
+                    strength: r.strength,
+                    interactions: r.interactions,
+                    once: r.once,
+                    lambda: r.lambda,
+                })
+                .collect(),
+        }),
     }
 }
 

@@ -16,6 +16,7 @@ use heddle_store::{Records, Store, StoreError, find_root};
 use heddle_test::record::{RowRecord, SpecRecord};
 
 use crate::analysis::{self, Analysis};
+use crate::budget::BudgetReach;
 use crate::failure::{Diagnostic, Failure, usage};
 use crate::workspace::{self, Selection};
 
@@ -103,6 +104,9 @@ pub struct SuiteReport<'a> {
     pub not_run: usize,
     /// λ advice.
     pub advice: Advice,
+    /// The row budget the run had, when it left rows out (such a run is never
+    /// complete), and the coverage its rows reach.
+    pub budget: Option<BudgetReach>,
 }
 
 /// The whole report.
@@ -240,6 +244,7 @@ fn suite_report<'a>(
         detectable: analysis::detectable_rate(spec.lambda.max(1), confidence),
         flake,
     };
+    let budget = budget_reach(spec, &tallies);
     SuiteReport {
         spec,
         tallies,
@@ -249,7 +254,19 @@ fn suite_report<'a>(
         failed,
         not_run,
         advice,
+        budget,
     }
+}
+
+/// What the rows a budgeted run let through cover, by the one function `show` uses too.
+fn budget_reach(spec: &SpecRecord, tallies: &Tallies) -> Option<BudgetReach> {
+    let design = spec.rows.len();
+    let rows = (spec.budget? as usize).min(design);
+    (rows < design).then(|| BudgetReach {
+        rows,
+        of: design,
+        reach: tallies.reach(rows, design, spec.lambda),
+    })
 }
 
 /// Highest λ the advice prices by generating the design; above it, repeating runs

@@ -71,8 +71,30 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, st: Style) {
         let _ = write!(line, " ({} executions)", total.runs);
     }
     let _ = writeln!(out, "{line}");
+    if let Some(b) = &s.budget {
+        let _ = writeln!(
+            out,
+            "  {} {}",
+            st.yellow("not a complete run:"),
+            b.line(spec.lambda)
+        );
+    }
 
     if s.analysis.failures == 0 {
+        if let Some(b) = &s.budget {
+            let _ = writeln!(
+                out,
+                "  {} no failures in the {} rows the budget ran; the other {} did not run",
+                st.green("budget clear:"),
+                b.rows,
+                b.of - b.rows
+            );
+            advice(out, s, st);
+            if all {
+                interactions(out, s, true, st);
+            }
+            return;
+        }
         let t_way = s.tallies.interactions();
         let min_runs = t_way.iter().map(|t| t.count.runs).min().unwrap_or(0);
         let _ = writeln!(

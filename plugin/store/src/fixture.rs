@@ -50,6 +50,7 @@ impl SpecBuilder {
                 fingerprint: "00000000000000fp".into(),
                 pinned: false,
                 should_panic: false,
+                budget: None,
                 time: "2026-01-01T00:00:00.000000Z".into(),
             },
         };
@@ -100,6 +101,12 @@ impl SpecBuilder {
         let width = rows.len().saturating_sub(1).to_string().len().max(2);
         self.rec.row_names = (0..rows.len()).map(|i| format!("row_{i:0width$}")).collect();
         self.rec.rows = rows;
+        self
+    }
+
+    /// The rows the row budget let run (the first `rows`).
+    pub fn budget(mut self, rows: u32) -> SpecBuilder {
+        self.rec.budget = Some(rows);
         self
     }
 

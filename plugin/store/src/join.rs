@@ -50,7 +50,11 @@ pub(crate) fn join(runs: Vec<RunInfo>, partials: Vec<Partial>) -> Records {
         stats.absorb(part.stats);
         for spec in part.specs {
             let known = variants.entry(spec.key()).or_default();
-            if !known.iter().any(|k| k.same_spec(&spec)) {
+            if let Some(same) = known.iter_mut().find(|k| k.same_spec(&spec)) {
+                // runs of one spec under different row budgets: the merge ran what the
+                // widest allowed
+                same.budget = SpecRecord::wider_budget(same.budget, spec.budget);
+            } else {
                 if !known.is_empty() {
                     stats.conflicting_specs += 1;
                 }

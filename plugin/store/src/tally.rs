@@ -181,7 +181,7 @@ pub fn tally(
 
 /// [`tally`] over plain rows; the caller guarantees `rows` have `k` levels each and
 /// `1 <= t <= k.min(8)` (as [`spec::check`] checks).
-fn tally_rows(
+pub(crate) fn tally_rows(
     rows: &[Vec<u8>],
     k: usize,
     t: usize,

@@ -86,6 +86,7 @@ mod roundtrip {
         pinned: false,
         should_panic: false,
         should_panic_expected: None,
+        budget: None,
     };
 
     #[test]
@@ -170,6 +171,7 @@ mod expected_panic {
         pinned: true,
         should_panic: true,
         should_panic_expected: Some("kaboom"),
+        budget: None,
     };
 
     #[test]
@@ -229,6 +231,7 @@ mod threads {
         pinned: false,
         should_panic: false,
         should_panic_expected: None,
+        budget: None,
     };
 
     pub const THREADS: usize = 16;

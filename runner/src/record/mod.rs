@@ -130,6 +130,11 @@ pub struct SpecRecord {
     pub pinned: bool,
     /// Whether the function carries `#[should_panic]`.
     pub should_panic: bool,
+    /// How many rows the row budget let run (the first ones); absent when every row
+    /// runs. The rows past it were compiled as ignored: a run of this spec is never
+    /// complete.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub budget: Option<u32>,
     /// When the line was written (UTC, RFC 3339).
     pub time: String,
 }
@@ -229,17 +234,26 @@ impl SpecRecord {
         ))
     }
 
-    /// Whether two spec lines describe the same spec (they differ only in run and time).
+    /// Whether two spec lines describe the same spec: they differ only in run, time and
+    /// the row budget (how much of the design a run was allowed, not what it is).
     pub fn same_spec(&self, other: &SpecRecord) -> bool {
         SpecRecord {
             run: String::new(),
             time: String::new(),
+            budget: None,
             ..self.clone()
         } == SpecRecord {
             run: String::new(),
             time: String::new(),
+            budget: None,
             ..other.clone()
         }
+    }
+
+    /// The larger of two budgets of one spec, `None` (every row) the largest: what runs
+    /// merged from both were allowed.
+    pub fn wider_budget(a: Option<u32>, b: Option<u32>) -> Option<u32> {
+        a.zip(b).map(|(a, b)| a.max(b))
     }
 }
 
@@ -309,6 +323,7 @@ mod tests {
             fingerprint: "f00d".into(),
             pinned: false,
             should_panic: false,
+            budget: None,
             time: "2025-01-02T03:04:05.000006Z".into(),
         }
     }
@@ -447,6 +462,24 @@ mod tests {
             Some("cargo test -p demo --test codec roundtrip::row_02 -- --exact")
         );
         assert_eq!(spec().row_test_name(3), None);
+    }
+
+    #[test]
+    fn the_budget_is_optional_and_read_back() {
+        let mut s = spec();
+        s.budget = Some(2);
+        let text = Line::Spec(s.clone()).to_json_line();
+        assert!(
+            text.contains(",\"should_panic\":false,\"budget\":2,\"time\":"),
+            "{text}"
+        );
+        assert_eq!(Line::parse(text.trim_end()).unwrap(), Line::Spec(s.clone()));
+        // the line differs, the spec does not: runs with other budgets merge
+        let plain = Line::Spec(spec()).to_json_line();
+        assert_ne!(spec_identity(text.trim_end()), spec_identity(plain.trim_end()));
+        assert!(spec().same_spec(&s));
+        assert_eq!(SpecRecord::wider_budget(Some(2), Some(3)), Some(3));
+        assert_eq!(SpecRecord::wider_budget(Some(2), None), None);
     }
 
     #[test]
