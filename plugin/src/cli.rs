@@ -36,6 +36,8 @@ enum Command {
     Test(crate::test_cmd::TestArgs),
     /// Report on recorded runs: pass counts per interaction, suspects, flaky ones.
     Report(crate::report::ReportArgs),
+    /// Propose follow-up rows that tell apart the suspects of the last run's failures.
+    Probe(crate::probe::ProbeArgs),
 }
 
 /// Parses the arguments and runs the chosen subcommand.
@@ -57,5 +59,6 @@ pub fn run(args: impl IntoIterator<Item = OsString>) -> Result<ExitCode, Failure
         Command::Show(a) => crate::show::run(a),
         Command::Test(a) => crate::test_cmd::run(a),
         Command::Report(a) => crate::report::run(a),
+        Command::Probe(a) => crate::probe::run(a),
     }
 }

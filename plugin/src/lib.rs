@@ -11,12 +11,13 @@
 //!
 //! # Modules
 //! - [`cli`]: the grammar and the dispatch to one module per subcommand: [`design`],
-//!   [`pin`], [`check`], [`show`], [`test_cmd`] (`test`), [`report`];
+//!   [`pin`], [`check`], [`show`], [`test_cmd`] (`test`), [`report`], [`probe`];
 //! - reading the project: [`workspace`] (cargo metadata, packages, target directories),
 //!   [`sources`] (annotated functions found with the macro's own parser), [`pinfile`]
 //!   (loading and writing pins files), [`status`] (a function's rows against its pin),
 //!   [`carry`] (old pinned rows carried over to a changed spec);
-//! - judging runs: [`analysis`] (suspects, flaky interactions, λ advice) over the
+//! - judging runs: [`analysis`] (suspects, flaky interactions, λ advice) and
+//!   [`followup`] (extra rows that tell suspects apart) over the
 //!   tallies of `heddle-store`, laid out by the formats under [`report`];
 //! - shared by the subcommands: [`budget`] (what a row budget reaches, in words),
 //!   [`spec_args`] (factors on the command line), [`effort`]
@@ -43,8 +44,10 @@ pub mod cli;
 pub mod design;
 pub mod effort;
 pub mod failure;
+pub mod followup;
 pub mod pin;
 pub mod pinfile;
+pub mod probe;
 pub mod report;
 pub mod say;
 pub mod show;

@@ -11,7 +11,7 @@ use std::time::Duration;
 use clap::Args;
 use heddle_generator::{Effort, Row, Spec, UNSET, generate};
 use heddle_syntax::keywords as kw;
-use heddle_syntax::{Origin, Pin, PinsFile};
+use heddle_syntax::{Origin, Pin, PinKey, PinsFile};
 use indicatif::{ProgressBar, ProgressStyle};
 
 use crate::carry::{Carried, carry_over, describe_change};
@@ -52,6 +52,14 @@ pub fn run(args: PinArgs) -> Result<ExitCode, Failure> {
     let mut files = Vec::with_capacity(scanned.len());
     for pkg in &scanned {
         files.push(pinfile::load(pkg)?);
+    }
+    // follow-up rows of a changed or removed function go before the pins are planned
+    for (pkg, pins) in scanned.iter().zip(&mut files) {
+        if let Some(pins) = pins {
+            for line in drop_stale_followups(pkg, pins) {
+                say!("{line}");
+            }
+        }
     }
     let mut problems = 0usize;
     for p in scanned.iter().flat_map(|s| &s.problems) {
@@ -185,6 +193,41 @@ fn remove_gone(pkg: &Scanned, pins: &mut PinsFile, bar: &ProgressBar) -> usize {
         });
     }
     gone.len()
+}
+
+/// Removes follow-up rows proposed for another spec than their function's (they could
+/// not run) or for a function that is gone; one line for each.
+fn drop_stale_followups(pkg: &Scanned, pins: &mut PinsFile) -> Vec<String> {
+    let stale: Vec<(PinKey, String)> = pins
+        .followups
+        .iter()
+        .filter_map(|(key, f)| match pkg.functions.iter().find(|g| g.key() == *key) {
+            Some(g) if g.spec.fingerprint != f.fingerprint => Some((
+                key.clone(),
+                format!(
+                    "{}: dropped its follow-up rows, proposed for the spec before it changed",
+                    place(pkg, g)
+                ),
+            )),
+            Some(_) => None,
+            None if !pkg.protects(key) => Some((
+                key.clone(),
+                format!(
+                    "{} {}: removed its follow-up rows, the function no longer exists",
+                    pkg.display(&key.file),
+                    key.function
+                ),
+            )),
+            None => None,
+        })
+        .collect();
+    stale
+        .into_iter()
+        .map(|(key, line)| {
+            pins.set_followup(key, None);
+            line
+        })
+        .collect()
 }
 
 /// Writes the package's pins file when it changed, touches the test files whose pins

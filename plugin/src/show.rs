@@ -8,7 +8,7 @@ use std::process::ExitCode;
 
 use clap::{Args, ValueEnum};
 use heddle_generator::{bounds, verify};
-use heddle_syntax::expand::row_name;
+use heddle_syntax::expand::{followup_name, row_name};
 use heddle_syntax::keywords as kw;
 use heddle_syntax::rows_for;
 
@@ -81,7 +81,10 @@ fn full_name(pkg: &Scanned, f: &Function) -> String {
 
 /// The one function `test` names, or a usage error listing near matches or the
 /// candidates it cannot tell apart.
-fn resolve<'a>(scanned: &'a [Scanned], test: &str) -> Result<(&'a Scanned, &'a Function), Failure> {
+pub(crate) fn resolve<'a>(
+    scanned: &'a [Scanned],
+    test: &str,
+) -> Result<(&'a Scanned, &'a Function), Failure> {
     let all: Vec<(&Scanned, &Function)> = scanned
         .iter()
         .flat_map(|p| p.functions.iter().map(move |f| (p, f)))
@@ -235,6 +238,12 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
                 line.extend(labels(row));
                 table.push(line);
             }
+            let extra = rows.followups.len();
+            for (i, row) in rows.followups.iter().enumerate() {
+                let mut line = vec![followup_name(i, extra)];
+                line.extend(labels(row));
+                table.push(line);
+            }
             let cols = table[0].len();
             let width: Vec<usize> = (0..cols)
                 .map(|c| table.iter().map(|r| r[c].chars().count()).max().unwrap_or(0))
@@ -251,6 +260,9 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
             }
             out.push('\n');
             let _ = writeln!(out, "{bounds_line}");
+            if !rows.followups.is_empty() {
+                let _ = writeln!(out, "{}", followup_line(rows.followups.len()));
+            }
             let _ = writeln!(out, "{coverage_line}");
             if let Some((b, source)) = &budget {
                 let _ = writeln!(out, "{} ({source})", b.line(spec.lambda));
@@ -264,11 +276,16 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
         let _ = stdout.write_all(out.as_bytes()).and_then(|_| stdout.flush());
     }
     if args.format == Format::Csv {
+        let followups = if rows.followups.is_empty() {
+            String::new()
+        } else {
+            format!("; {} (not in the csv)", followup_line(rows.followups.len()))
+        };
         let budget = budget
             .map(|(b, source)| format!("; {} ({source})", b.line(spec.lambda)))
             .unwrap_or_default();
         say_err!(
-            "heddle: {} ({place}), rows {source}; {bounds_line}; {coverage_line}{budget}",
+            "heddle: {} ({place}), rows {source}; {bounds_line}; {coverage_line}{budget}{followups}",
             f.function
         );
     }
@@ -282,6 +299,15 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
             .hint(format!("run `{}`", heddle_syntax::pins::PIN_COMMAND)),
         )),
     }
+}
+
+/// The line about a function's follow-up rows.
+fn followup_line(n: usize) -> String {
+    format!(
+        "plus {} after the design's, from `{}` (not counted above)",
+        heddle_store::words::plural(n, "follow-up row", "follow-up rows"),
+        heddle_syntax::pins::PROBE_COMMAND
+    )
 }
 
 /// The budget a build would use for this function (`HEDDLE_BUDGET`, else the attribute's)

@@ -476,3 +476,52 @@ fn a_budgeted_run_states_its_reach_and_is_never_complete() {
     assert_eq!(s["not_run"], 0);
     assert!(v["notes"].as_array().unwrap().is_empty(), "{}", v["notes"]);
 }
+
+#[test]
+fn runs_with_and_without_follow_up_rows_merge() {
+    let tmp = tempfile::tempdir().unwrap();
+    let design: Vec<Vec<u8>> = OA9.iter().map(|r| r.to_vec()).collect();
+    let write = |run: &str, ms: u64, followups: Vec<Vec<u8>>| {
+        let mut s = spec(design.clone(), 1, run);
+        let extra = SpecBuilder::new("totals").followup_rows(followups).build();
+        s.rows.extend(extra.rows);
+        s.row_names.extend(extra.row_names);
+        s.followups = extra.followups;
+        let mut lines = vec![Line::Spec(s.clone()).to_json_line()];
+        for r in 0..s.rows.len() {
+            let o = if planted(&s.rows[r]) {
+                Outcome::Failed
+            } else {
+                Outcome::Passed
+            };
+            lines.push(Line::Row(row(&s, r, o, run)).to_json_line());
+        }
+        write_process(tmp.path(), run, ms, &lines);
+    };
+    write("design", 1_700_000_000_000, Vec::new());
+    write(
+        "round-1",
+        1_700_000_100_000,
+        vec![vec![2, 1, 0, 0], vec![2, 0, 0, 0]],
+    );
+    let v = json(tmp.path(), &["--runs", "2"]);
+    assert!(v["notes"].as_array().unwrap().is_empty(), "{}", v["notes"]);
+    let s = &v["suites"][0];
+    assert_eq!((s["rows"].as_u64(), s["followups"].as_u64()), (Some(11), Some(2)));
+    assert_eq!(s["executions"], 9 + 11);
+    let o = report(&["--store", tmp.path().to_str().unwrap()]);
+    assert!(
+        text(&o.stdout).contains("· 9 rows + 2 follow-up: "),
+        "{}",
+        text(&o.stdout)
+    );
+    // the follow-up row holding the planted pair failed, and reruns by its own name
+    let failing: Vec<&str> = s["failing_rows"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|r| r["test"].as_str().unwrap())
+        .collect();
+    assert!(failing.contains(&"totals::row_followup_00"), "{failing:?}");
+    assert!(!failing.contains(&"totals::row_followup_01"), "{failing:?}");
+}

@@ -58,6 +58,7 @@ static SUITE: Suite = Suite {
     should_panic: false,
     should_panic_expected: None,
     budget: None,
+    followups: 0,
 };
 
 /// A small, real amount of work, like a quick unit test: build and sort a vector.

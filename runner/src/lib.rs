@@ -122,6 +122,10 @@ extern crate self as heddle_test;
 ///   for this function and its spec is unchanged, else from the engine at build time.
 /// - Required rows are part of the spec: changing one makes a pin stale, like changing a
 ///   level.
+/// - Follow-up rows that `cargo heddle probe` writes to the pins file, to tell apart the
+///   suspects of a failure, run after the design's rows as `roundtrip::row_followup_00`,
+///   …; a budget never holds them back, and a spec change makes them stale (an error
+///   until `cargo heddle probe --clear` or `cargo heddle pin` drops them).
 /// - Mistakes are compile errors at the offending tokens, all of them at once, with a
 ///   hint; the plain function is still emitted so no follow-on errors appear.
 /// - The generated code reaches this crate by the name your `Cargo.toml` gives it, so a

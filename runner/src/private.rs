@@ -68,6 +68,9 @@ pub struct Suite {
     /// How many rows the row budget lets run when it leaves some out (the rows past it
     /// are compiled with `#[ignore]`); `None` when every row runs.
     pub budget: Option<u32>,
+    /// How many of the last rows are follow-up rows (`cargo heddle probe`), not the
+    /// design's.
+    pub followups: u32,
 }
 
 /// The process-wide recorder every row test writes through.
@@ -317,6 +320,7 @@ mod tests {
         should_panic: false,
         should_panic_expected: None,
         budget: None,
+        followups: 0,
     };
 
     fn off() -> Result<Config, SetupError> {

@@ -171,6 +171,7 @@ pub(crate) fn spec_record(suite: &Suite, run_id: &str, time: &str) -> SpecRecord
         pinned: suite.pinned,
         should_panic: suite.should_panic,
         budget: suite.budget,
+        followups: suite.followups,
         time: time.to_string(),
     }
 }
@@ -222,6 +223,7 @@ mod tests {
         should_panic: false,
         should_panic_expected: None,
         budget: None,
+        followups: 0,
     };
 
     static WARNINGS: AtomicUsize = AtomicUsize::new(0);

@@ -243,6 +243,13 @@ pub fn row_name(i: usize, n: usize) -> String {
     format!("row_{i:0width$}")
 }
 
+/// The name of follow-up row `i` of `n`: after every design row in name order (a
+/// letter sorts after digits), numbered like the design's rows.
+pub fn followup_name(i: usize, n: usize) -> String {
+    let width = n.saturating_sub(1).to_string().len().max(2);
+    format!("row_followup_{i:0width$}")
+}
+
 fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStream {
     let cover = &checked.cover;
     let cs = &checked.spec;
@@ -257,7 +264,9 @@ fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStre
         let labels = &f.levels;
         quote!(#rt::__private::Factor { name: #n, labels: &[#(#labels),*] })
     });
-    let row_lits = rows.rows.iter().map(|r| {
+    // the design's rows, then the follow-up rows (`cargo heddle probe`)
+    let all_rows: Vec<&Vec<u8>> = rows.rows.iter().chain(&rows.followups).collect();
+    let row_lits = all_rows.iter().map(|r| {
         let cells = r.iter().map(|&l| Literal::u8_unsuffixed(l));
         quote!(&[#(#cells),*])
     });
@@ -311,7 +320,12 @@ fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStre
     };
     let row_attrs = &cover.attrs.rows;
     let n = rows.rows.len();
-    let row_names: Vec<String> = (0..n).map(|i| row_name(i, n)).collect();
+    let extra = rows.followups.len();
+    let row_names: Vec<String> = (0..n)
+        .map(|i| row_name(i, n))
+        .chain((0..extra).map(|i| followup_name(i, extra)))
+        .collect();
+    let followups = Literal::u32_unsuffixed(extra as u32);
     // the rows past the budget are ignored, so libtest counts them as such
     let env_budget = ctx.budget_env.as_ref().ok().copied().flatten();
     let budget = Budget::effective(env_budget, cs.budget);
@@ -335,7 +349,7 @@ fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStre
         }
         _ => quote!(),
     };
-    let row_fns = rows.rows.iter().enumerate().map(|(i, row)| {
+    let row_fns = all_rows.iter().enumerate().map(|(i, row)| {
         let fn_name = format_ident!("{}", row_names[i]);
         let index = Literal::usize_unsuffixed(i);
         // every index was checked against the level counts (pin check or the engine's
@@ -373,7 +387,12 @@ fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStre
                 ),
             ),
         };
-        let past = if i >= runs { past_budget.clone() } else { quote!() };
+        // follow-up rows always run: they were asked for
+        let past = if i >= runs && i < n {
+            past_budget.clone()
+        } else {
+            quote!()
+        };
         quote! {
             #test_attr
             #(#row_attrs)*
@@ -417,6 +436,7 @@ fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStre
                 should_panic: #should_panic,
                 should_panic_expected: #expected,
                 budget: #budget_field,
+                followups: #followups,
             };
 
             #(#row_fns)*

@@ -49,6 +49,6 @@ pub mod validate;
 pub use defaults::{Defaults, DefaultsError};
 pub use expand::{Context, expand};
 pub use fingerprint::{Fingerprint, fingerprint};
-pub use pins::{Origin, Pin, PinKey, PinsError, PinsFile};
+pub use pins::{FollowUp, Origin, Pin, PinKey, PinsError, PinsFile};
 pub use rows::{Rows, RowsError, rows_for};
 pub use validate::{Checked, CoverSpec, validate};

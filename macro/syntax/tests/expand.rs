@@ -448,3 +448,87 @@ fn the_env_budget_overrides_the_attribute_and_a_bad_one_is_an_error() {
     );
     assert!(the_mod(&out).is_none());
 }
+
+/// A context whose pins file holds follow-up rows for `roundtrip` (and no pin).
+fn followup_ctx(rows: Vec<Vec<u8>>, fingerprint: Option<Fingerprint>) -> Context {
+    let mut ctx = pinned_ctx(vec![vec![0, 0, 0]], None);
+    let Ok(Some(pins)) = &mut ctx.pins else {
+        unreachable!("pinned_ctx has a pins file")
+    };
+    let key = PinKey::new("tests/codec.rs", "roundtrip");
+    let fp = pins.get(&key).unwrap().fingerprint;
+    pins.remove(&key);
+    pins.set_followup(
+        key,
+        Some(heddle_syntax::FollowUp {
+            fingerprint: fingerprint.unwrap_or(fp),
+            rows,
+        }),
+    );
+    ctx
+}
+
+#[test]
+fn followup_rows_run_after_the_design_and_always() {
+    let attr = format!("{ATTR}, budget(2)");
+    let plain = run(&attr, ITEM, &ctx_in("tests/codec.rs"));
+    let design = row_fns(the_mod(&plain).unwrap()).len();
+    let out = run(
+        &attr,
+        ITEM,
+        &followup_ctx(vec![vec![2, 1, 0], vec![2, 1, 0]], None),
+    );
+    assert!(errors(&out).is_empty(), "{:?}", errors(&out));
+    let m = the_mod(&out).unwrap();
+    let rows = row_fns(m);
+    assert_eq!(rows.len(), design + 2);
+    // the design's rows are those without follow-ups, named as before
+    let plain_rows = row_fns(the_mod(&plain).unwrap());
+    for (a, b) in rows.iter().zip(&plain_rows) {
+        assert_eq!((text(&a.sig), text(&a.block)), (text(&b.sig), text(&b.block)));
+    }
+    for (i, r) in rows[design..].iter().enumerate() {
+        assert_eq!(r.sig.ident, format!("row_followup_{i:02}"));
+        assert!(text(&r.block).contains("super :: roundtrip (64 , Codec :: Rle , true)"));
+        // a budget never holds back a follow-up row
+        assert!(ignored(r).is_none());
+    }
+    let all = text(m);
+    assert!(all.contains("followups : 2"), "{all}");
+    assert!(
+        all.contains("\"row_followup_00\" , \"row_followup_01\"]"),
+        "{all}"
+    );
+    // names sort in row order, so libtest lists the follow-up rows last
+    let names: Vec<String> = rows.iter().map(|r| r.sig.ident.to_string()).collect();
+    let mut sorted = names.clone();
+    sorted.sort();
+    assert_eq!(names, sorted);
+}
+
+#[test]
+fn stale_or_unfit_followup_rows_are_errors() {
+    let out = run(
+        ATTR,
+        ITEM,
+        &followup_ctx(vec![vec![0, 0, 0]], Some(Fingerprint(9))),
+    );
+    let errs = errors(&out);
+    assert_eq!(errs.len(), 1, "{errs:?}");
+    assert!(
+        errs[0].starts_with("the follow-up rows of `roundtrip` in `heddle-pins.toml` are stale"),
+        "{errs:?}"
+    );
+    assert!(
+        errs[0].contains("`cargo heddle probe --clear roundtrip`"),
+        "{errs:?}"
+    );
+    assert!(the_mod(&out).is_none());
+    // Delta with batch 1 is excluded
+    let out = run(ATTR, ITEM, &followup_ctx(vec![vec![0, 2, 0]], None));
+    let errs = errors(&out);
+    assert!(
+        errs[0].contains("row 0 of the follow-up rows is ruled out by exclude #1"),
+        "{errs:?}"
+    );
+}

@@ -9,7 +9,9 @@
 //!   "suites": [ {
 //!       "crate", "target", "file", "function", "test",   test = rows module path
 //!       "fingerprint", "strength", "lambda", "seed",
-//!       "rows", "passed", "failed", "not_run", "executions",
+//!       "rows", "followups", "passed", "failed", "not_run", "executions",
+//!                                              rows counts the follow-up rows (`cargo heddle
+//!                                              probe`), the last `followups` of them
 //!       "interactions": [ { "levels": {parameter: label, …}, "runs", "passes", "failures" } ],
 //!                                              every single level and every 2..t-way one
 //!       "suspects": [ { "levels", "score", "reason", "always", "explains",
@@ -65,6 +67,7 @@ struct Suite<'a> {
     lambda: u32,
     seed: u64,
     rows: usize,
+    followups: u32,
     passed: usize,
     failed: usize,
     not_run: usize,
@@ -156,6 +159,7 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
         lambda: spec.lambda,
         seed: spec.seed,
         rows: spec.rows.len(),
+        followups: spec.followups,
         passed: s.passed,
         failed: s.failed,
         not_run: s.not_run,

@@ -260,7 +260,7 @@ fn suite_report<'a>(
 
 /// What the rows a budgeted run let through cover, by the one function `show` uses too.
 fn budget_reach(spec: &SpecRecord, tallies: &Tallies) -> Option<BudgetReach> {
-    let design = spec.rows.len();
+    let design = spec.design_rows();
     let rows = (spec.budget? as usize).min(design);
     (rows < design).then(|| BudgetReach {
         rows,

@@ -55,13 +55,13 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, st: Style) {
     } else {
         st.green("0 failed")
     };
+    let rows = match spec.followups {
+        0 => format!("{} rows", spec.rows.len()),
+        f => format!("{} rows + {f} follow-up", spec.design_rows()),
+    };
     let mut line = format!(
-        "  strength {}, lambda {}, seed {} · {} rows: {} passed, {status}",
-        spec.strength,
-        spec.lambda,
-        spec.seed,
-        spec.rows.len(),
-        s.passed
+        "  strength {}, lambda {}, seed {} · {rows}: {} passed, {status}",
+        spec.strength, spec.lambda, spec.seed, s.passed
     );
     if s.not_run > 0 {
         let _ = write!(line, ", {} not run", s.not_run);

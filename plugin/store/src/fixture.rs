@@ -51,6 +51,7 @@ impl SpecBuilder {
                 pinned: false,
                 should_panic: false,
                 budget: None,
+                followups: 0,
                 time: "2026-01-01T00:00:00.000000Z".into(),
             },
         };
@@ -101,6 +102,17 @@ impl SpecBuilder {
         let width = rows.len().saturating_sub(1).to_string().len().max(2);
         self.rec.row_names = (0..rows.len()).map(|i| format!("row_{i:0width$}")).collect();
         self.rec.rows = rows;
+        self
+    }
+
+    /// Follow-up rows after the design's, named `row_followup_00`, … as the expansion
+    /// names them.
+    pub fn followup_rows(mut self, rows: Vec<Vec<u8>>) -> SpecBuilder {
+        let width = rows.len().saturating_sub(1).to_string().len().max(2);
+        let names = (0..rows.len()).map(|i| format!("row_followup_{i:0width$}"));
+        self.rec.row_names.extend(names);
+        self.rec.followups += rows.len() as u32;
+        self.rec.rows.extend(rows);
         self
     }
 

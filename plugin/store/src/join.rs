@@ -54,6 +54,15 @@ pub(crate) fn join(runs: Vec<RunInfo>, partials: Vec<Partial>) -> Records {
                 // runs of one spec under different row budgets: the merge ran what the
                 // widest allowed
                 same.budget = SpecRecord::wider_budget(same.budget, spec.budget);
+                // a later round of follow-up rows continues an earlier one: keep the
+                // longer, so the rows of both place
+                if spec.extends(same) {
+                    same.rows = spec.rows;
+                    same.row_names = spec.row_names;
+                    same.followups = spec.followups;
+                } else if !same.extends(&spec) {
+                    stats.conflicting_specs += 1;
+                }
             } else {
                 if !known.is_empty() {
                     stats.conflicting_specs += 1;

@@ -87,6 +87,7 @@ mod roundtrip {
         should_panic: false,
         should_panic_expected: None,
         budget: None,
+        followups: 0,
     };
 
     #[test]
@@ -172,6 +173,7 @@ mod expected_panic {
         should_panic: true,
         should_panic_expected: Some("kaboom"),
         budget: None,
+        followups: 0,
     };
 
     #[test]
@@ -232,6 +234,7 @@ mod threads {
         should_panic: false,
         should_panic_expected: None,
         budget: None,
+        followups: 0,
     };
 
     pub const THREADS: usize = 16;

@@ -135,8 +135,16 @@ pub struct SpecRecord {
     /// complete.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub budget: Option<u32>,
+    /// How many of the last rows are follow-up rows (proposed by `cargo heddle probe` to
+    /// tell suspects apart), not the design's; absent when none.
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub followups: u32,
     /// When the line was written (UTC, RFC 3339).
     pub time: String,
+}
+
+fn is_zero(n: &u32) -> bool {
+    *n == 0
 }
 
 /// The outcome of one row run.
@@ -234,20 +242,34 @@ impl SpecRecord {
         ))
     }
 
-    /// Whether two spec lines describe the same spec: they differ only in run, time and
-    /// the row budget (how much of the design a run was allowed, not what it is).
+    /// How many rows the design has (the rows before the follow-up rows).
+    pub fn design_rows(&self) -> usize {
+        self.rows.len().saturating_sub(self.followups as usize)
+    }
+
+    /// Whether two spec lines describe the same spec and design: they differ only in
+    /// run, time, the row budget (how much of the design a run was allowed) and the
+    /// follow-up rows after the design (see [`SpecRecord::extends`]).
     pub fn same_spec(&self, other: &SpecRecord) -> bool {
-        SpecRecord {
-            run: String::new(),
-            time: String::new(),
-            budget: None,
-            ..self.clone()
-        } == SpecRecord {
-            run: String::new(),
-            time: String::new(),
-            budget: None,
-            ..other.clone()
-        }
+        let design = |s: &SpecRecord| {
+            let n = s.design_rows();
+            SpecRecord {
+                run: String::new(),
+                time: String::new(),
+                budget: None,
+                followups: 0,
+                rows: s.rows[..n].to_vec(),
+                row_names: s.row_names.iter().take(n).cloned().collect(),
+                ..s.clone()
+            }
+        };
+        design(self) == design(other)
+    }
+
+    /// Whether this spec line's rows continue `other`'s: the same rows and names, then
+    /// more follow-up rows (a later round of `cargo heddle probe`).
+    pub fn extends(&self, other: &SpecRecord) -> bool {
+        self.rows.starts_with(&other.rows) && self.row_names.starts_with(&other.row_names)
     }
 
     /// The larger of two budgets of one spec, `None` (every row) the largest: what runs
@@ -324,6 +346,7 @@ mod tests {
             pinned: false,
             should_panic: false,
             budget: None,
+            followups: 0,
             time: "2025-01-02T03:04:05.000006Z".into(),
         }
     }
@@ -480,6 +503,23 @@ mod tests {
         assert!(spec().same_spec(&s));
         assert_eq!(SpecRecord::wider_budget(Some(2), Some(3)), Some(3));
         assert_eq!(SpecRecord::wider_budget(Some(2), None), None);
+    }
+
+    #[test]
+    fn followup_rows_extend_a_design() {
+        let mut more = spec();
+        more.rows.push(vec![1, 1]);
+        more.row_names.push("row_followup_00".into());
+        more.followups = 1;
+        assert_eq!((more.design_rows(), spec().design_rows()), (3, 3));
+        let text = Line::Spec(more.clone()).to_json_line();
+        assert!(text.contains(",\"followups\":1,\"time\":"), "{text}");
+        assert_eq!(Line::parse(text.trim_end()).unwrap(), Line::Spec(more.clone()));
+        assert!(more.same_spec(&spec()) && more.extends(&spec()) && !spec().extends(&more));
+        // another design is another spec, follow-up rows or not
+        let mut other = more.clone();
+        other.rows[0] = vec![1, 0];
+        assert!(!other.same_spec(&spec()));
     }
 
     #[test]

@@ -6,7 +6,10 @@ use std::collections::BTreeMap;
 use serde::Deserialize;
 use toml::Spanned;
 
-use super::{Origin, PIN_COMMAND, PINS_FILE, PINS_FORMAT, Pin, PinKey, PinsError, PinsFile};
+use super::{
+    FollowUp, OLDEST_PINS_FORMAT, Origin, PIN_COMMAND, PINS_FILE, PINS_FORMAT, Pin, PinKey, PinsError,
+    PinsFile,
+};
 use crate::defaults::{at, line_col};
 use crate::diag;
 use crate::fingerprint::Fingerprint;
@@ -23,6 +26,15 @@ struct RawFile {
     format: toml::Value,
     #[serde(default)]
     pins: BTreeMap<String, BTreeMap<String, Spanned<RawPin>>>,
+    #[serde(default)]
+    followup: BTreeMap<String, BTreeMap<String, Spanned<RawFollowUp>>>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawFollowUp {
+    fingerprint: Spanned<String>,
+    rows: Vec<Vec<u8>>,
 }
 
 #[derive(Deserialize)]
@@ -69,17 +81,19 @@ impl PinsFile {
             return Err(located(
                 text,
                 None,
-                format!("`format = {}` is missing", PINS_FORMAT),
+                format!("`format = {}` is missing", OLDEST_PINS_FORMAT),
             ));
         };
-        if format.get_ref().as_integer() != Some(i64::from(PINS_FORMAT)) {
+        let version = format.get_ref().as_integer();
+        if !(i64::from(OLDEST_PINS_FORMAT)..=i64::from(PINS_FORMAT)).contains(&version.unwrap_or(0)) {
             return Err(PinsError {
                 diagnostic: diag::diagnostic(
                     format!(
-                        "`{}`{} has `format = {}`, this heddle reads format {}",
+                        "`{}`{} has `format = {}`, this heddle reads formats {} and {}",
                         PINS_FILE,
                         at(text, Some(format.span())),
                         format.get_ref(),
+                        OLDEST_PINS_FORMAT,
                         PINS_FORMAT
                     ),
                     format!(
@@ -93,6 +107,36 @@ impl PinsFile {
         let raw: RawFile = toml::from_str(text)
             .map_err(|e| located(text, e.span().map(|s| s.start), e.message().to_string()))?;
         let mut out = PinsFile::default();
+        for (file, fns) in raw.followup {
+            for (function, f) in fns {
+                let start = f.span().start;
+                if version == Some(i64::from(OLDEST_PINS_FORMAT)) {
+                    return Err(located(
+                        text,
+                        Some(start),
+                        format!("follow-up rows need `format = {PINS_FORMAT}`"),
+                    ));
+                }
+                let f = f.into_inner();
+                let fingerprint = f
+                    .fingerprint
+                    .get_ref()
+                    .parse::<Fingerprint>()
+                    .map_err(|e| located(text, Some(f.fingerprint.span().start), e))?;
+                let key = PinKey {
+                    file: file.clone(),
+                    function,
+                };
+                out.followup_lines.insert(key.clone(), line_col(text, start).0);
+                out.followups.insert(
+                    key,
+                    FollowUp {
+                        fingerprint,
+                        rows: f.rows,
+                    },
+                );
+            }
+        }
         for (file, fns) in raw.pins {
             for (function, pin) in fns {
                 let start = pin.span().start;
