@@ -509,7 +509,7 @@ mod tests {
     use super::*;
     use crate::analysis::analyse;
     use heddle_generator::{Effort, Expr, Factor, generate};
-    use heddle_store::fixture::SpecBuilder;
+    use heddle_store::fixture::{SpecBuilder, oa9};
     use heddle_test::record::Outcome;
 
     fn record(spec: &Spec, rows: &[Row]) -> heddle_test::record::SpecRecord {
@@ -535,19 +535,6 @@ mod tests {
         let t = heddle_store::tally(&record(spec, rows), outcomes).unwrap();
         let a = analyse(&t);
         (t, a)
-    }
-
-    /// OA(9; 2, 4, 3) by the linear construction (a, b, a+b, a+2b) mod 3 (Hedayat,
-    /// Sloane & Stufken 1999, "Orthogonal Arrays", Theorem 3.20, numbering from memory):
-    /// no two rows share a pair, so the six pairs of a failing row are aliases.
-    fn oa9() -> Vec<Row> {
-        let mut rows = Vec::new();
-        for a in 0..3u8 {
-            for b in 0..3u8 {
-                rows.push(vec![a, b, (a + b) % 3, (a + 2 * b) % 3]);
-            }
-        }
-        rows
     }
 
     fn four_by_three() -> Spec {
@@ -594,8 +581,9 @@ mod tests {
 
     #[test]
     fn aliased_pairs_of_an_orthogonal_array_are_told_apart() {
+        // OA(9; 2, 4, 3) (see `oa9`): no two rows share a pair, so the six pairs of a
+        // failing row are aliases; every one of the 54 pairs is planted in turn
         let spec = four_by_three();
-        // every one of the 54 pairs, planted in turn
         for row in oa9() {
             for (x, y) in [(0, 1), (0, 2), (0, 3), (1, 2), (1, 3), (2, 3)] {
                 let fault = Interaction {

@@ -303,8 +303,12 @@ pub const SUITES_SILENT: &[&str] = &["skipped", "gone"];
 
 /// The expectation for one function of [`SUITES`].
 pub fn expect(function: &str) -> &'static Expect {
-    SUITES_EXPECT
-        .iter()
+    expect_in(SUITES_EXPECT, function)
+}
+
+/// The expectation for one function in a list of them.
+pub fn expect_in(list: &'static [Expect], function: &str) -> &'static Expect {
+    list.iter()
         .find(|e| e.function == function)
         .unwrap_or_else(|| panic!("no expectation for `{function}`"))
 }

@@ -5,7 +5,7 @@
 
 use heddle_e2e::coverage::{check_by_definition, labels, verify_recorded};
 use heddle_e2e::ensure;
-use heddle_e2e::fixtures::{CONTROLS, CONTROLS_EXPECT, CONTROLS_FILE, CONTROLS_TARGET, Expect};
+use heddle_e2e::fixtures::{CONTROLS, CONTROLS_EXPECT, CONTROLS_FILE, CONTROLS_TARGET, Expect, expect_in};
 use heddle_e2e::output::{self, Status};
 use heddle_e2e::records::check_suite;
 use heddle_e2e::scratch::{CrateDef, Run, Scratch};
@@ -19,10 +19,7 @@ fn test_args() -> Vec<&'static str> {
 }
 
 fn expect(function: &str) -> &'static Expect {
-    CONTROLS_EXPECT
-        .iter()
-        .find(|e| e.function == function)
-        .expect("an expectation for every suite")
+    expect_in(CONTROLS_EXPECT, function)
 }
 
 /// Runs the tests into a fresh store with `HEDDLE_BUDGET` set to `budget` (empty:

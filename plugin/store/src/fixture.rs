@@ -198,3 +198,18 @@ pub fn row(spec: &SpecRecord, row: usize, outcome: Outcome) -> RowRecord {
         time: "2026-01-01T00:00:01.000000Z".into(),
     }
 }
+
+/// OA(9; 2, 4, 3) from the linear (Rao-Hamming) construction (a, b, a+b, a+2b) mod 3:
+/// the four column vectors (1,0), (0,1), (1,1), (1,2) are pairwise linearly independent
+/// over GF(3), so every pair of columns shows each of the 9 level pairs exactly once
+/// (Hedayat, Sloane & Stufken 1999, "Orthogonal Arrays", Theorem 3.20, numbering from
+/// memory): a design whose tallies and aliases are known in advance.
+pub fn oa9() -> Vec<Vec<u8>> {
+    let mut rows = Vec::new();
+    for a in 0..3u8 {
+        for b in 0..3u8 {
+            rows.push(vec![a, b, (a + b) % 3, (a + 2 * b) % 3]);
+        }
+    }
+    rows
+}

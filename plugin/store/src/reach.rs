@@ -85,19 +85,7 @@ pub fn reach(rows: &[Vec<u8>], k: usize, t: usize, lambda: u32, prefix: usize) -
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    /// OA(9; 2, 4, 3) by the linear construction (a, b, a+b, a+2b) mod 3 (Hedayat,
-    /// Sloane & Stufken 1999, "Orthogonal Arrays", Theorem 3.20, numbering from memory):
-    /// each pair of columns shows each of its 9 level pairs exactly once.
-    fn oa9() -> Vec<Vec<u8>> {
-        let mut rows = Vec::new();
-        for a in 0..3u8 {
-            for b in 0..3u8 {
-                rows.push(vec![a, b, (a + b) % 3, (a + 2 * b) % 3]);
-            }
-        }
-        rows
-    }
+    use crate::fixture::oa9;
 
     #[test]
     fn an_orthogonal_array_reaches_one_pair_per_row_and_column_pair() {

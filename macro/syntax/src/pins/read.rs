@@ -118,11 +118,7 @@ impl PinsFile {
                     ));
                 }
                 let f = f.into_inner();
-                let fingerprint = f
-                    .fingerprint
-                    .get_ref()
-                    .parse::<Fingerprint>()
-                    .map_err(|e| located(text, Some(f.fingerprint.span().start), e))?;
+                let fingerprint = fingerprint(text, &f.fingerprint)?;
                 let key = PinKey {
                     file: file.clone(),
                     function,
@@ -141,11 +137,7 @@ impl PinsFile {
             for (function, pin) in fns {
                 let start = pin.span().start;
                 let pin = pin.into_inner();
-                let fingerprint = pin
-                    .fingerprint
-                    .get_ref()
-                    .parse::<Fingerprint>()
-                    .map_err(|e| located(text, Some(pin.fingerprint.span().start), e))?;
+                let fingerprint = fingerprint(text, &pin.fingerprint)?;
                 let key = PinKey {
                     file: file.clone(),
                     function,
@@ -178,6 +170,14 @@ impl PinsFile {
         }
         Ok(out)
     }
+}
+
+/// An entry's fingerprint, or an error at its place.
+fn fingerprint(text: &str, value: &Spanned<String>) -> Result<Fingerprint, PinsError> {
+    value
+        .get_ref()
+        .parse::<Fingerprint>()
+        .map_err(|e| located(text, Some(value.span().start), e))
 }
 
 /// A seed as the file writes it: 16 lowercase hex digits.
