@@ -101,7 +101,12 @@ pub fn run(args: ProbeArgs) -> Result<ExitCode, Failure> {
             .hint("run its tests first, e.g. `cargo heddle test`"),
         ));
     }
-    if wrote > 0 && !args.dry_run {
+    if wrote == 0 {
+        say!(
+            "heddle: no follow-up rows proposed for run {}",
+            records.runs.last().map_or("?", |r| r.id.as_str())
+        );
+    } else if !args.dry_run {
         say!(
             "heddle: run the tests again (`cargo heddle test`): the report ranks the suspects with the follow-up rows; `{PROBE_COMMAND}` proposes more if they are still needed"
         );
