@@ -264,7 +264,7 @@ fn clearing(
     max_rows: usize,
 ) -> Option<Proposal> {
     let c = &tallies.entries[named];
-    let mut out = Vec::new();
+    let mut out: Vec<(Row, u32)> = Vec::new();
     let mut cleared = Vec::new();
     for s in analysis
         .suspects
@@ -303,8 +303,12 @@ fn clearing(
         let repeat = lambda_for(rate, REPEAT_CONFIDENCE)
             .unwrap_or(1)
             .clamp(1, REPEAT_RANGE.1);
-        out.push((row, repeat));
         cleared.push(s.interaction);
+        // two suspects in one failing row may be cleared by the same row
+        match out.iter_mut().find(|(r, _)| *r == row) {
+            Some((_, r)) => *r = (*r).max(repeat),
+            None => out.push((row, repeat)),
+        }
     }
     if out.is_empty() {
         return None;
