@@ -86,6 +86,7 @@ pub fn run(args: &DemoArgs) -> Result<(), Failure> {
         output: None,
         color: None,
         quiet: true,
+        budget: None,
         cargo_args: Vec::new(),
     };
     let rounds = test_cmd::run_rounds(&test)?;

@@ -2,9 +2,10 @@
 //! (`use heddle_test::cover;`), which also carries the runtime the expansion calls.
 //!
 //! This crate is only the compiler glue: it gathers what the expansion depends on — the
-//! crate root, the test file's path, the crate's `Cargo.toml` defaults and its pins file
-//! — and hands it with the tokens to [`heddle_syntax::expand()`], where parsing,
-//! validation and code generation live (shared with the plugin). It never writes files.
+//! crate root, the test file's path, the crate's `Cargo.toml` defaults, its pins file and
+//! the row budget in `HEDDLE_BUDGET` — and hands it with the tokens to
+//! [`heddle_syntax::expand()`], where parsing, validation and code generation live
+//! (shared with the plugin). It never writes files.
 //!
 //! Creating the pins file for the first time is not noticed by tests already built
 //! without it: touch the test file (the plugin does) to make the build pick it up; later
@@ -35,6 +36,9 @@ pub fn cover(attr: TokenStream, item: TokenStream) -> TokenStream {
     }
     ctx.package = env_var("CARGO_PKG_NAME");
     ctx.crate_name = env_var("CARGO_CRATE_NAME");
+    // the expansion names the variable in an `option_env!`, so cargo rebuilds on a change
+    ctx.budget_env =
+        heddle_syntax::budget::Budget::from_env(std::env::var_os(heddle_syntax::budget::BUDGET_VAR));
     heddle_syntax::expand(attr.into(), item.into(), &ctx).into()
 }
 

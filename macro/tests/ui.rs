@@ -5,7 +5,7 @@
 use std::path::{Path, PathBuf};
 
 use heddle_syntax::paths::relative_to_root;
-use heddle_syntax::{Defaults, Pin, PinKey, PinsFile};
+use heddle_syntax::{Defaults, FollowUp, Pin, PinKey, PinsFile};
 
 /// The crate trybuild builds the cases in: `<target>/tests/trybuild/<crate>` (trybuild's
 /// own layout). Its root is the `CARGO_MANIFEST_DIR` the macro sees, so the pins file of
@@ -17,8 +17,9 @@ fn trybuild_crate_root() -> PathBuf {
 }
 
 /// Writes the pins file the `pins/` cases read: a pin with a wrong fingerprint for
-/// `stale_pin`, and one with the right fingerprint (computed through the plugin's path,
-/// so macro and plugin must agree) but rows of the wrong width for `misfit_pin`.
+/// `stale_pin`, one with the right fingerprint (computed through the plugin's path,
+/// so macro and plugin must agree) but rows of the wrong width for `misfit_pin`, and
+/// follow-up rows of another spec for `stale_followup`.
 fn write_pins() {
     let root = trybuild_crate_root();
     std::fs::create_dir_all(&root).expect("the trybuild directory can be created");
@@ -47,6 +48,15 @@ fn write_pins() {
             rows: vec![vec![0, 0], vec![1]],
         },
     );
+    // follow-up rows proposed for another spec than `stale_followup`'s
+    let followed = here.join("tests/ui/pins/stale_followup.rs");
+    pins.set_followup(
+        PinKey::new(relative_to_root(&root, &followed, None), "stale_followup"),
+        Some(FollowUp {
+            fingerprint: heddle_syntax::Fingerprint(0x0fed_cba9_8765_4321),
+            rows: vec![vec![1, 0]],
+        }),
+    );
     std::fs::write(PinsFile::path(&root), pins.to_toml()).expect("the pins file can be written");
 }
 
@@ -64,6 +74,8 @@ fn ui() {
         "signature",
         "accumulated",
         "pins",
+        "require",
+        "budget",
     ] {
         t.compile_fail(format!("tests/ui/{topic}/*.rs"));
     }

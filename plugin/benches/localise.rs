@@ -9,7 +9,13 @@
 //!    interaction fails with probability 0.5; figures: how often it is flagged flaky (target ≥ 90%),
 //!    how often it is named among the suspects at all, and the share of clean 2-way
 //!    interactions flagged (target ≤ 5%).
-//! 3. The report (tallies, analysis, table and JSON rendering) over 100 000 row records
+//! 3. Follow-up rows (`cargo_heddle::followup`): after one run of the design, rounds of
+//!    proposed rows (at most k distinct rows per trial, k = number of factors) are run and
+//!    the report judges again; figures: how often the planted pair is then the only
+//!    suspect explaining failures — a deterministic pair at λ = 1 (target ≥ 98%) and a
+//!    pair failing with probability 0.5 at λ = 2 (target ≥ 90%) — the rows and runs used,
+//!    and how often rows are proposed when no fault is planted (must be never).
+//! 4. The report (tallies, analysis, table and JSON rendering) over 100 000 row records
 //!    of 50 suites (target ≤ 2 s), store reading excluded (the runner's bench times it).
 //!
 //! `cargo bench -p cargo-heddle --bench localise [-- TRIALS]` (default 400 per case).
@@ -17,6 +23,7 @@
 use std::time::Instant;
 
 use cargo_heddle::analysis::analyse;
+use cargo_heddle::followup::propose;
 use cargo_heddle::report::{self, Format};
 use heddle_generator::{Effort, Factor, Spec, generate};
 use heddle_store::fixture::{self, SpecBuilder};
@@ -61,6 +68,12 @@ fn record(levels: &[usize], lambda: u32, seed: u64, rows: Vec<Vec<u8>>, name: &s
 
 /// A random spec and its fast-mode rows.
 fn random_design(rng: &mut Mix, lambda: u32) -> (Vec<usize>, Vec<Vec<u8>>, u64) {
+    let (levels, rows, seed, _) = random_spec(rng, lambda);
+    (levels, rows, seed)
+}
+
+/// [`random_design`] with the engine's spec.
+fn random_spec(rng: &mut Mix, lambda: u32) -> (Vec<usize>, Vec<Vec<u8>>, u64, Spec) {
     let k = 4 + rng.below(9) as usize;
     let levels: Vec<usize> = (0..k).map(|_| 2 + rng.below(4) as usize).collect();
     let seed = rng.next();
@@ -75,7 +88,7 @@ fn random_design(rng: &mut Mix, lambda: u32) -> (Vec<usize>, Vec<Vec<u8>>, u64) 
     .lambda(lambda)
     .seed(seed);
     let rows = generate(&spec, Effort::Fast).expect("valid spec").rows;
-    (levels, rows, seed)
+    (levels, rows, seed, spec)
 }
 
 /// A 2-way interaction present in the design: two columns of a random row.
@@ -184,6 +197,172 @@ fn flaky(trials: usize) {
     );
 }
 
+/// What one trial of adaptive localisation did.
+#[derive(Default)]
+struct Followed {
+    /// The planted interaction was the top suspect, and the only one explaining failures,
+    /// before any follow-up row.
+    unique_before: bool,
+    /// … and after the follow-up rows.
+    unique_after: bool,
+    /// Ranked first before.
+    first_before: bool,
+    /// Distinct follow-up rows used, and their runs.
+    rows: usize,
+    runs: usize,
+    /// Rounds with a proposal.
+    rounds: usize,
+    /// Some row failed in the design's own run.
+    failed: bool,
+}
+
+/// Runs the design once, then proposes follow-up rows (at most `cap` distinct ones over
+/// every round) and runs them, with `fails(row, rng)` deciding each run; the report's
+/// analysis judges before and after.
+fn follow_up(
+    rng: &mut Mix,
+    spec: &Spec,
+    levels: &[usize],
+    rows: Vec<Vec<u8>>,
+    fault: Option<&Interaction>,
+    cap: usize,
+    fails: &dyn Fn(&[u8], &mut Mix) -> bool,
+) -> Followed {
+    let mut all = rows;
+    let mut outcomes: Vec<(usize, Outcome)> = Vec::new();
+    let run = |rng: &mut Mix, r: usize, row: &[u8], outcomes: &mut Vec<(usize, Outcome)>| {
+        let o = if fails(row, rng) {
+            Outcome::Failed
+        } else {
+            Outcome::Passed
+        };
+        outcomes.push((r, o));
+    };
+    for (r, row) in all.iter().enumerate() {
+        run(rng, r, row, &mut outcomes);
+    }
+    let judge = |all: &[Vec<u8>], outcomes: &[(usize, Outcome)]| {
+        let rec = record(levels, spec.lambda, spec.seed, all.to_vec(), "follow");
+        let t = tally(&rec, outcomes.iter().copied()).expect("valid spec");
+        let a = analyse(&t);
+        (t, a)
+    };
+    let is = |t: &heddle_store::Tallies, i: usize| fault.is_some_and(|f| &t.entries[i].interaction == f);
+    let unique = |t: &heddle_store::Tallies, a: &cargo_heddle::analysis::Analysis| {
+        a.suspects.first().is_some_and(|s| is(t, s.interaction))
+            && a.suspects.iter().filter(|s| s.explains > 0).count() == 1
+    };
+    let (mut t, mut a) = judge(&all, &outcomes);
+    let mut out = Followed {
+        unique_before: unique(&t, &a),
+        first_before: a.suspects.first().is_some_and(|s| is(&t, s.interaction)),
+        failed: a.failures > 0,
+        ..Followed::default()
+    };
+    while out.rows < cap {
+        let Some(p) = propose(spec, &all, &t, &a, cap - out.rows) else {
+            break;
+        };
+        out.rounds += 1;
+        out.rows += p.rows.len();
+        for (row, repeat) in &p.rows {
+            for _ in 0..*repeat {
+                all.push(row.clone());
+                run(rng, all.len() - 1, row, &mut outcomes);
+                out.runs += 1;
+            }
+        }
+        (t, a) = judge(&all, &outcomes);
+    }
+    out.unique_after = unique(&t, &a);
+    out
+}
+
+fn localisation_with_follow_ups(trials: usize) {
+    println!("follow-up rows (at most k per trial, k = number of factors), one run of the design:");
+    // a deterministic pair at λ = 1
+    let (mut before, mut first, mut after, mut rows, mut runs, mut rounds) = (0, 0, 0, 0, 0, 0);
+    let (mut most, mut over_k) = (0usize, 0usize);
+    for trial in 0..trials {
+        let mut rng = Mix(500_000 + trial as u64);
+        let (levels, design, _, spec) = random_spec(&mut rng, 1);
+        let fault = plant(&mut rng, &design);
+        let k = levels.len();
+        let f = follow_up(&mut rng, &spec, &levels, design, Some(&fault), k, &|row, _| {
+            fault.in_row(row)
+        });
+        before += f.unique_before as usize;
+        first += f.first_before as usize;
+        after += f.unique_after as usize;
+        rows += f.rows;
+        runs += f.runs;
+        rounds += f.rounds;
+        most = most.max(f.rows);
+        over_k += (f.rows > k) as usize;
+    }
+    let pct = |n: usize| 100.0 * n as f64 / trials as f64;
+    println!(
+        "  deterministic pair, lambda 1: ranked first {:.1}% and uniquely named {:.1}% before; \
+         uniquely named {:.1}% after (target ≥ 98%)",
+        pct(first),
+        pct(before),
+        pct(after),
+    );
+    println!(
+        "    per trial: {:.2} extra rows ({:.2} runs), {:.2} rounds on average; at most {most} rows, \
+         more than k in {over_k} trials",
+        rows as f64 / trials as f64,
+        runs as f64 / trials as f64,
+        rounds as f64 / trials as f64
+    );
+
+    // a flaky pair at λ = 2, failing with probability 0.5 in each run
+    let (mut before, mut after, mut rows, mut runs, mut seen, mut after_seen) = (0, 0, 0, 0, 0, 0);
+    for trial in 0..trials {
+        let mut rng = Mix(600_000 + trial as u64);
+        let (levels, design, _, spec) = random_spec(&mut rng, 2);
+        let fault = plant(&mut rng, &design);
+        let k = levels.len();
+        let f = follow_up(&mut rng, &spec, &levels, design, Some(&fault), k, &|row, rng| {
+            fault.in_row(row) && rng.unit() < 0.5
+        });
+        before += f.unique_before as usize;
+        after += f.unique_after as usize;
+        rows += f.rows;
+        runs += f.runs;
+        seen += f.failed as usize;
+        after_seen += (f.failed && f.unique_after) as usize;
+    }
+    println!(
+        "  flaky pair (p = 0.5), lambda 2: some row failed in {:.1}% of trials (nothing to follow up in the \
+         others); uniquely named {:.1}% before, {:.1}% after",
+        pct(seen),
+        pct(before),
+        pct(after),
+    );
+    println!(
+        "    of the trials with a failure: uniquely named {:.1}% after (target ≥ 90%); per trial {:.2} extra \
+         rows, {:.2} runs of them",
+        100.0 * after_seen as f64 / seen.max(1) as f64,
+        rows as f64 / trials as f64,
+        runs as f64 / trials as f64
+    );
+
+    // nothing wrong: no fault planted
+    let mut proposed = 0;
+    for trial in 0..trials {
+        let mut rng = Mix(700_000 + trial as u64);
+        let lambda = 1 + (trial % 3) as u32;
+        let (levels, design, _, spec) = random_spec(&mut rng, lambda);
+        let k = levels.len();
+        let f = follow_up(&mut rng, &spec, &levels, design, None, k, &|_, _| false);
+        proposed += (f.rounds > 0) as usize;
+    }
+    println!(
+        "  nothing wrong (lambda 1..3): follow-up rows proposed in {proposed} of {trials} trials (must be 0)"
+    );
+}
+
 fn report_speed() {
     let mut rng = Mix(5);
     let mut suites = Vec::new();
@@ -233,5 +412,6 @@ fn main() {
         .unwrap_or(400);
     deterministic(trials);
     flaky(trials);
+    localisation_with_follow_ups(trials);
     report_speed();
 }

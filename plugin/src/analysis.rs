@@ -229,7 +229,7 @@ const PLAUSIBLE: f64 = 1.5;
 
 /// Log-likelihood of `g` failures in `n` runs at the failure rate that fits them best
 /// (g/n), binomial coefficient left out as it is the same for every explanation.
-fn log_likelihood(g: u64, n: u64) -> f64 {
+pub(crate) fn log_likelihood(g: u64, n: u64) -> f64 {
     let (g, n) = (g as f64, n.max(1) as f64);
     let p = (g / n).min(1.0);
     let term = |k: f64, q: f64| if k > 0.0 { k * q.ln() } else { 0.0 };

@@ -173,9 +173,23 @@ pub fn describe_change(pin: &Pin, origin: Option<&Origin>, spec: &Spec) -> Vec<S
     if o.seed != spec.seed {
         out.push(format!("seed changed from {} to {}", o.seed, spec.seed));
     }
+    let same_labels = o.levels.len() == spec.factors.len()
+        && pin.factors.iter().zip(&spec.factors).all(|(n, f)| *n == f.name)
+        && o.levels.iter().zip(&spec.factors).all(|(l, f)| *l == f.levels);
+    let fills = |row: &Vec<u8>, req: &Vec<u8>| row.iter().zip(req).all(|(&a, &b)| b == UNSET || a == b);
+    if same_labels
+        && (spec.required.len() > pin.rows.len()
+            || !pin
+                .rows
+                .iter()
+                .zip(&spec.required)
+                .all(|(row, req)| fills(row, req)))
+    {
+        out.push("the required rows changed".to_string());
+    }
     if out.is_empty() {
         // the fingerprint covers nothing else
-        out.push("the excludes or the engine version changed".to_string());
+        out.push("the excludes, the required rows or the engine version changed".to_string());
     }
     out
 }
@@ -326,9 +340,24 @@ mod tests {
         let new = base().exclude(Expr::is(0, 0));
         assert_eq!(
             describe_change(&pin, Some(&origin), &new),
-            ["the excludes or the engine version changed"]
+            ["the excludes, the required rows or the engine version changed"]
         );
         assert!(describe_change(&pin, None, &new).is_empty());
+    }
+
+    #[test]
+    fn a_new_required_row_is_named_when_the_pin_lacks_it() {
+        let spec = base();
+        let (pin, origin) = pinned(&spec);
+        let missing = (0..3u8)
+            .flat_map(|a| (0..2u8).map(move |b| vec![a, b, UNSET]))
+            .find(|r| !pin.rows[0].starts_with(&r[..2]))
+            .expect("some pair is not the first pinned row's");
+        let new = base().require(missing);
+        assert_eq!(
+            describe_change(&pin, Some(&origin), &new),
+            ["the required rows changed"]
+        );
     }
 
     #[test]

@@ -50,6 +50,13 @@ pub fn explain(f: &Function, s: &Status) -> Option<Diagnostic> {
             .hint(format!("run `{pin}` to add the missing rows")),
         Status::Engine(e) => Diagnostic::new(format!("the engine refuses the spec of `{name}`: {e}"))
             .hint("lower the strength, lambda or the number of levels"),
+        Status::StaleFollowUp => Diagnostic::new(format!(
+            "the follow-up rows of `{name}` are stale: the spec changed since they were proposed"
+        ))
+        .hint(format!(
+            "run `{} --clear {name}` or `{pin}` to drop them",
+            heddle_syntax::pins::PROBE_COMMAND
+        )),
     })
 }
 

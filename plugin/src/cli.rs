@@ -38,6 +38,8 @@ enum Command {
     Report(crate::report::ReportArgs),
     /// List the runs in the store, or prune old ones.
     Runs(crate::runs::RunsArgs),
+    /// Propose follow-up rows that tell apart the suspects of the last run's failures.
+    Probe(crate::probe::ProbeArgs),
 }
 
 /// Parses the arguments and runs the chosen subcommand.
@@ -60,5 +62,6 @@ pub fn run(args: impl IntoIterator<Item = OsString>) -> Result<ExitCode, Failure
         Command::Test(a) => crate::test_cmd::run(a),
         Command::Report(a) => crate::report::run(a),
         Command::Runs(a) => crate::runs::run(a),
+        Command::Probe(a) => crate::probe::run(a),
     }
 }

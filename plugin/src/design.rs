@@ -10,7 +10,8 @@ use serde::Serialize;
 
 use crate::effort::EffortArg;
 use crate::failure::{Diagnostic, Failure, found, usage};
-use crate::spec_args::parse_specs;
+use crate::spec_args::{parse_required, parse_specs};
+use heddle_syntax::require::{Blocked, blocked};
 
 /// Arguments of `design`.
 #[derive(Args, Debug)]
@@ -31,6 +32,11 @@ pub struct DesignArgs {
     /// Exclude rows where this holds, e.g. 'f1 == 0 && f2 == 1' (repeatable).
     #[arg(long, value_name = "EXPR")]
     exclude: Vec<String>,
+    /// A row the design must contain, by labels, e.g. 'os=mac,f1=0'; factors left out
+    /// are chosen by the engine (repeatable; such rows come first and count toward
+    /// coverage).
+    #[arg(long, value_name = "NAME=LEVEL,…")]
+    require: Vec<String>,
     /// `fast` (constructions and greedy) or `tight` (adds local search).
     #[arg(long, value_enum, default_value_t = EffortArg::Fast)]
     effort: EffortArg,
@@ -67,6 +73,27 @@ pub fn run(args: DesignArgs) -> Result<ExitCode, Failure> {
         .lambda(args.lambda)
         .seed(args.seed);
     spec.excludes = excludes;
+    for text in &args.require {
+        let row = parse_required(text, &spec.factors)?;
+        match blocked(&spec, &row) {
+            None => spec.required.push(row),
+            Some(why) => {
+                let message = match why {
+                    Blocked::Exclude(e) => format!(
+                        "`--require {text}` is ruled out by `--exclude {}`",
+                        args.exclude[e]
+                    ),
+                    Blocked::NoCompletion => format!(
+                        "`--require {text}` has no allowed row: the excludes rule out every way to fill in the other factors"
+                    ),
+                };
+                return Err(usage(
+                    Diagnostic::new(message)
+                        .hint("change a level of the required row, or loosen the excludes"),
+                ));
+            }
+        }
+    }
     let effort = args.effort.with_budget(args.budget)?;
     let started = Instant::now();
     let design = generate(&spec, effort).map_err(|e| match e {
@@ -127,7 +154,7 @@ struct JsonDesign<'a> {
     format: u32,
     engine_version: u32,
     factors: Vec<JsonFactor<'a>>,
-    parameters: JsonParameters,
+    parameters: JsonParameters<'a>,
     rows: Vec<Vec<&'a str>>,
     statistics: JsonStatistics<'a>,
 }
@@ -139,13 +166,14 @@ struct JsonFactor<'a> {
 }
 
 #[derive(Serialize)]
-struct JsonParameters {
+struct JsonParameters<'a> {
     strength: usize,
     lambda: u32,
     /// Decimal string: JSON readers that hold numbers as doubles corrupt seeds above 2^53.
     seed: String,
     effort: &'static str,
     excludes: Vec<String>,
+    required: Vec<Vec<Option<&'a str>>>,
 }
 
 #[derive(Serialize)]
@@ -184,6 +212,17 @@ fn json(spec: &Spec, design: &Design, args: &DesignArgs, seconds: f64) -> String
                 .excludes
                 .iter()
                 .map(|e| e.display(&spec.factors).to_string())
+                .collect(),
+            // a cell left to the engine is `null`
+            required: spec
+                .required
+                .iter()
+                .map(|r| {
+                    r.iter()
+                        .zip(&spec.factors)
+                        .map(|(&l, f)| f.levels.get(usize::from(l)).map(String::as_str))
+                        .collect()
+                })
                 .collect(),
         },
         rows: design

@@ -12,14 +12,16 @@
 //! # Modules
 //! - [`cli`]: the grammar and the dispatch to one module per subcommand: [`design`],
 //!   [`pin`], [`check`], [`show`], [`test_cmd`] (`test`), [`report`], [`runs`] (listing
-//!   and pruning the store);
+//!   and pruning the store), [`probe`] (follow-up rows);
 //! - reading the project: [`workspace`] (cargo metadata, packages, target directories),
 //!   [`sources`] (annotated functions found with the macro's own parser), [`pinfile`]
 //!   (loading and writing pins files), [`status`] (a function's rows against its pin),
 //!   [`carry`] (old pinned rows carried over to a changed spec);
-//! - judging runs: [`analysis`] (suspects, flaky interactions, λ advice) over the
+//! - judging runs: [`analysis`] (suspects, flaky interactions, λ advice) and
+//!   [`followup`] (extra rows that tell suspects apart) over the
 //!   tallies of `heddle-store`, laid out by the formats under [`report`];
-//! - shared by the subcommands: [`spec_args`] (factors on the command line), [`effort`]
+//! - shared by the subcommands: [`budget`] (what a row budget reaches, in words),
+//!   [`spec_args`] (factors on the command line), [`effort`]
 //!   (`--effort`, `--budget`), [`failure`] (the error type and exit codes), [`style`]
 //!   (terminal colours), [`say`] (printing that survives a closed pipe).
 
@@ -36,14 +38,17 @@ macro_rules! say_err {
 }
 
 pub mod analysis;
+pub mod budget;
 pub mod carry;
 pub mod check;
 pub mod cli;
 pub mod design;
 pub mod effort;
 pub mod failure;
+pub mod followup;
 pub mod pin;
 pub mod pinfile;
+pub mod probe;
 pub mod report;
 pub mod runs;
 pub mod say;

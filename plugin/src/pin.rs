@@ -9,9 +9,9 @@ use std::process::ExitCode;
 use std::time::Duration;
 
 use clap::Args;
-use heddle_generator::{Effort, Spec, generate};
+use heddle_generator::{Effort, Row, Spec, UNSET, generate};
 use heddle_syntax::keywords as kw;
-use heddle_syntax::{Origin, Pin, PinsFile};
+use heddle_syntax::{Origin, Pin, PinKey, PinsFile};
 use indicatif::{ProgressBar, ProgressStyle};
 
 use crate::carry::{Carried, carry_over, describe_change};
@@ -52,6 +52,14 @@ pub fn run(args: PinArgs) -> Result<ExitCode, Failure> {
     let mut files = Vec::with_capacity(scanned.len());
     for pkg in &scanned {
         files.push(pinfile::load_upgrading(pkg)?);
+    }
+    // follow-up rows of a changed or removed function go before the pins are planned
+    for (pkg, pins) in scanned.iter().zip(&mut files) {
+        if let Some(pins) = pins {
+            for line in drop_stale_followups(pkg, pins) {
+                say!("{line}");
+            }
+        }
     }
     let mut problems = 0usize;
     for p in scanned.iter().flat_map(|s| &s.problems) {
@@ -187,6 +195,41 @@ fn remove_gone(pkg: &Scanned, pins: &mut PinsFile, bar: &ProgressBar) -> usize {
     gone.len()
 }
 
+/// Removes follow-up rows proposed for another spec than their function's (they could
+/// not run) or for a function that is gone; one line for each.
+fn drop_stale_followups(pkg: &Scanned, pins: &mut PinsFile) -> Vec<String> {
+    let stale: Vec<(PinKey, String)> = pins
+        .followups
+        .iter()
+        .filter_map(|(key, f)| match pkg.functions.iter().find(|g| g.key() == *key) {
+            Some(g) if g.spec.fingerprint != f.fingerprint => Some((
+                key.clone(),
+                format!(
+                    "{}: dropped its follow-up rows, proposed for the spec before it changed",
+                    place(pkg, g)
+                ),
+            )),
+            Some(_) => None,
+            None if !pkg.protects(key) => Some((
+                key.clone(),
+                format!(
+                    "{} {}: removed its follow-up rows, the function no longer exists",
+                    pkg.display(&key.file),
+                    key.function
+                ),
+            )),
+            None => None,
+        })
+        .collect();
+    stale
+        .into_iter()
+        .map(|(key, line)| {
+            pins.set_followup(key, None);
+            line
+        })
+        .collect()
+}
+
 /// Writes the package's pins file when it changed, touches the test files whose pins
 /// changed, and prints the package's summary.
 fn write(pkg: &Scanned, out: &Package, gone: usize, bar: &ProgressBar) -> Result<(), Failure> {
@@ -268,15 +311,33 @@ fn plan<'a>(pkg: &'a Scanned, pins: Option<&PinsFile>) -> Vec<Plan<'a>> {
         .collect()
 }
 
-/// Rows for `f`: `required` first, then what the engine adds.
-fn make(f: &Function, required: Vec<Vec<u8>>, effort: Effort) -> Result<Vec<Vec<u8>>, Diagnostic> {
+/// Rows for `f`: its own required rows (`require(…)`), then the `carried` rows, then
+/// what the engine adds.
+fn make(f: &Function, carried: Vec<Vec<u8>>, effort: Effort) -> Result<Vec<Vec<u8>>, Diagnostic> {
     let spec = Spec {
-        required,
+        required: with_carried(&f.spec.spec.required, carried),
         ..f.spec.spec.clone()
     };
     generate(&spec, effort)
         .map(|d| d.rows)
         .map_err(|e| Diagnostic::new(format!("the engine refuses this spec: {e}")).hint(e.hint()))
+}
+
+/// The function's required rows followed by the carried ones. A carried row that fills
+/// in a required row (the old pin's completion of it, which carrying keeps) takes that
+/// row's place, so the completion stays as pinned instead of appearing twice.
+fn with_carried(required: &[Row], mut carried: Vec<Row>) -> Vec<Row> {
+    let mut out = Vec::with_capacity(required.len() + carried.len());
+    for req in required {
+        let fills =
+            |row: &Row| row.len() == req.len() && row.iter().zip(req).all(|(&a, &b)| b == UNSET || a == b);
+        match carried.iter().position(fills) {
+            Some(i) => out.push(carried.remove(i)),
+            None => out.push(req.clone()),
+        }
+    }
+    out.extend(carried);
+    out
 }
 
 fn store(pins: &mut PinsFile, f: &Function, rows: Vec<Vec<u8>>) {
@@ -302,4 +363,24 @@ fn progress(work: u64) -> ProgressBar {
     }
     bar.enable_steady_tick(Duration::from_millis(120));
     bar
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn carried_completions_take_the_place_of_their_required_rows() {
+        let required = vec![vec![1, UNSET, 0], vec![0, 0, 0]];
+        let carried = vec![vec![0, 1, 1], vec![1, 1, 0], vec![0, 0, 0], vec![1, 0, 1]];
+        assert_eq!(
+            with_carried(&required, carried),
+            vec![vec![1, 1, 0], vec![0, 0, 0], vec![0, 1, 1], vec![1, 0, 1]]
+        );
+        // nothing carried fills a new required row: it stays open for the engine
+        assert_eq!(
+            with_carried(&[vec![UNSET, 1]], vec![vec![0, 0]]),
+            vec![vec![UNSET, 1], vec![0, 0]]
+        );
+    }
 }

@@ -8,15 +8,18 @@ use std::process::ExitCode;
 
 use clap::{Args, ValueEnum};
 use heddle_generator::{bounds, verify};
-use heddle_syntax::expand::row_name;
+use heddle_syntax::expand::{followup_name, row_name};
 use heddle_syntax::keywords as kw;
 use heddle_syntax::rows_for;
 
+use crate::budget::BudgetReach;
 use crate::design::field;
 use crate::failure::{Diagnostic, Failure, found, usage};
 use crate::pinfile;
 use crate::sources::{self, Function, Scanned};
 use crate::workspace::{self, Selection};
+use heddle_syntax::CoverSpec;
+use heddle_syntax::budget::{BUDGET_VAR, Budget};
 
 /// Arguments of `show`.
 #[derive(Args, Debug)]
@@ -78,7 +81,10 @@ fn full_name(pkg: &Scanned, f: &Function) -> String {
 
 /// The one function `test` names, or a usage error listing near matches or the
 /// candidates it cannot tell apart.
-fn resolve<'a>(scanned: &'a [Scanned], test: &str) -> Result<(&'a Scanned, &'a Function), Failure> {
+pub(crate) fn resolve<'a>(
+    scanned: &'a [Scanned],
+    test: &str,
+) -> Result<(&'a Scanned, &'a Function), Failure> {
     let all: Vec<(&Scanned, &Function)> = scanned
         .iter()
         .flat_map(|p| p.functions.iter().map(move |f| (p, f)))
@@ -192,6 +198,7 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
         ),
         Err(v) => format!("coverage: the rows do not cover the spec: {v}"),
     };
+    let budget = show_budget(&f.spec, &rows.rows)?;
     let labels = |row: &[u8]| -> Vec<String> {
         row.iter()
             .zip(&spec.factors)
@@ -218,6 +225,9 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
             for e in &f.spec.excludes {
                 let _ = writeln!(out, "{}({e})", kw::EXCLUDE);
             }
+            for r in &f.spec.required {
+                let _ = writeln!(out, "{}({r})", kw::REQUIRE);
+            }
             out.push('\n');
             let mut table: Vec<Vec<String>> = Vec::with_capacity(n + 1);
             let mut head = vec!["row".to_string()];
@@ -225,6 +235,12 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
             table.push(head);
             for (i, row) in rows.rows.iter().enumerate() {
                 let mut line = vec![row_name(i, n)];
+                line.extend(labels(row));
+                table.push(line);
+            }
+            let extra = rows.followups.len();
+            for (i, row) in rows.followups.iter().enumerate() {
+                let mut line = vec![followup_name(i, extra)];
                 line.extend(labels(row));
                 table.push(line);
             }
@@ -244,7 +260,13 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
             }
             out.push('\n');
             let _ = writeln!(out, "{bounds_line}");
+            if !rows.followups.is_empty() {
+                let _ = writeln!(out, "{}", followup_line(rows.followups.len()));
+            }
             let _ = writeln!(out, "{coverage_line}");
+            if let Some((b, source)) = &budget {
+                let _ = writeln!(out, "{} ({source})", b.line(spec.lambda));
+            }
         }
     }
     {
@@ -254,8 +276,16 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
         let _ = stdout.write_all(out.as_bytes()).and_then(|_| stdout.flush());
     }
     if args.format == Format::Csv {
+        let followups = if rows.followups.is_empty() {
+            String::new()
+        } else {
+            format!("; {} (not in the csv)", followup_line(rows.followups.len()))
+        };
+        let budget = budget
+            .map(|(b, source)| format!("; {} ({source})", b.line(spec.lambda)))
+            .unwrap_or_default();
         say_err!(
-            "heddle: {} ({place}), rows {source}; {bounds_line}; {coverage_line}",
+            "heddle: {} ({place}), rows {source}; {bounds_line}; {coverage_line}{budget}{followups}",
             f.function
         );
     }
@@ -269,6 +299,43 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
             .hint(format!("run `{}`", heddle_syntax::pins::PIN_COMMAND)),
         )),
     }
+}
+
+/// The line about a function's follow-up rows.
+fn followup_line(n: usize) -> String {
+    format!(
+        "plus {} after the design's, from `{}` (not counted above)",
+        heddle_store::words::plural(n, "follow-up row", "follow-up rows"),
+        heddle_syntax::pins::PROBE_COMMAND
+    )
+}
+
+/// The budget a build would use for this function (`HEDDLE_BUDGET`, else the attribute's)
+/// when it leaves rows out: what its rows reach, and where it comes from.
+fn show_budget(spec: &CoverSpec, rows: &[Vec<u8>]) -> Result<Option<(BudgetReach, String)>, Failure> {
+    let env = Budget::from_env(std::env::var_os(BUDGET_VAR)).map_err(usage)?;
+    let Some(b) = Budget::effective(env, spec.budget) else {
+        return Ok(None);
+    };
+    let n = rows.len();
+    let runs = b.rows(n);
+    if runs >= n {
+        return Ok(None);
+    }
+    let source = match env {
+        Some(_) => format!("`{BUDGET_VAR}={b}`"),
+        None => format!("`{}({b})`", kw::BUDGET),
+    };
+    let s = &spec.spec;
+    let reach = heddle_store::reach(rows, s.factors.len(), s.strength, s.lambda, runs);
+    Ok(Some((
+        BudgetReach {
+            rows: runs,
+            of: n,
+            reach,
+        },
+        source,
+    )))
 }
 
 #[cfg(test)]

@@ -1,7 +1,8 @@
 //! SPEC tokens of `cargo heddle design`: `V^N` (N factors of V levels, named by position
 //! `f1`, `f2`, … and labelled `0` … `V-1`) and `NAME=L1,L2,…` (one named factor).
 
-use heddle_generator::{Factor, MAX_LEVELS};
+use heddle_generator::{Factor, MAX_LEVELS, Row};
+use heddle_syntax::require::row_of;
 
 use crate::failure::{Diagnostic, Failure, usage};
 
@@ -62,6 +63,46 @@ pub fn parse_specs(tokens: &[String]) -> Result<Vec<Factor>, Failure> {
     Ok(factors)
 }
 
+/// A required row written `NAME=LABEL,NAME=LABEL` (`--require`): the labels' level
+/// indices, [`UNSET`] for the factors it leaves out.
+pub fn parse_required(text: &str, factors: &[Factor]) -> Result<Row, Failure> {
+    let names = || heddle_syntax::diag::list(factors.iter().map(|f| &f.name));
+    let bad =
+        |what: String, hint: String| usage(Diagnostic::new(format!("`--require {text}`: {what}")).hint(hint));
+    let mut cells = Vec::new();
+    for part in text.split(',') {
+        let Some((name, label)) = part.split_once('=') else {
+            return Err(bad(
+                format!("`{part}` is not `NAME=LEVEL`"),
+                "write e.g. `--require 'os=mac,f1=0'`; factors left out are chosen by the engine".into(),
+            ));
+        };
+        let (name, label) = (name.trim(), label.trim());
+        let Some(c) = factors.iter().position(|f| f.name == name) else {
+            return Err(bad(
+                format!("unknown factor `{name}`"),
+                format!("the factors are {}", names()),
+            ));
+        };
+        let Some(l) = factors[c].level_index(label) else {
+            return Err(bad(
+                format!("`{label}` is not a level of `{name}`"),
+                format!(
+                    "the levels of `{name}` are {}",
+                    heddle_syntax::diag::list(&factors[c].levels)
+                ),
+            ));
+        };
+        cells.push((c, l));
+    }
+    row_of(factors.len(), &cells).map_err(|i| {
+        bad(
+            format!("`{}` is given twice", factors[cells[i].0].name),
+            "give each factor once per row; another row is another `--require`".into(),
+        )
+    })
+}
+
 fn parse_count(tok: &str, s: &str, what: &str) -> Result<usize, Failure> {
     match s.parse::<usize>() {
         Ok(n) if n >= 1 => Ok(n),
@@ -77,6 +118,7 @@ fn parse_count(tok: &str, s: &str, what: &str) -> Result<usize, Failure> {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use heddle_generator::UNSET;
 
     fn toks(s: &[&str]) -> Vec<String> {
         s.iter().map(|s| s.to_string()).collect()
@@ -89,6 +131,24 @@ mod tests {
         assert_eq!(names, ["f1", "f2", "os", "f4"]);
         assert_eq!(f[2].levels, ["linux", "mac", "bsd"]);
         assert_eq!(f[3].levels, ["0", "1", "2"]);
+    }
+
+    #[test]
+    fn required_rows_by_label() {
+        let f = parse_specs(&toks(&["2^2", "os=linux,mac,bsd"])).unwrap();
+        assert_eq!(parse_required("os=bsd,f1=1", &f).unwrap(), vec![1, UNSET, 2]);
+        assert_eq!(parse_required(" f2 = 0 ", &f).unwrap(), vec![UNSET, 0, UNSET]);
+        for (bad, says) in [
+            ("os", "`os` is not `NAME=LEVEL`"),
+            ("cpu=x", "unknown factor `cpu`"),
+            ("os=win", "`win` is not a level of `os`"),
+            ("os=mac,os=bsd", "`os` is given twice"),
+        ] {
+            let err = parse_required(bad, &f).unwrap_err();
+            assert_eq!(err.code(), 2, "{bad}");
+            assert!(err.to_string().contains(says), "{bad}: {err}");
+            assert!(err.diagnostic().hint.is_some(), "{bad}");
+        }
     }
 
     #[test]

@@ -26,6 +26,8 @@ pub enum Status {
     Uncovered(Violation),
     /// The engine refuses the spec.
     Engine(String),
+    /// Its follow-up rows were proposed for another spec.
+    StaleFollowUp,
 }
 
 impl Status {
@@ -38,7 +40,8 @@ impl Status {
 /// The standing of `f` given its crate's pins file.
 pub fn status(f: &Function, pins: Option<&PinsFile>) -> Status {
     let key = f.key();
-    if pins.is_some_and(|p| p.get(&key).is_none()) {
+    // a file holding only follow-up rows does not make the crate one that pins
+    if pins.is_some_and(|p| p.pins_functions() && p.get(&key).is_none()) {
         return Status::Missing;
     }
     match rows_for(&f.spec, Some(&key), pins) {
@@ -56,5 +59,6 @@ pub fn status(f: &Function, pins: Option<&PinsFile>) -> Status {
         }
         Err(RowsError::Corrupt { reason, .. }) => Status::Misfit(reason),
         Err(RowsError::Engine(e)) => Status::Engine(e.to_string()),
+        Err(RowsError::StaleFollowUp { .. }) => Status::StaleFollowUp,
     }
 }

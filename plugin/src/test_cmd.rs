@@ -6,6 +6,7 @@ use std::process::{Command, ExitCode, Stdio};
 
 use clap::Args;
 use heddle_store::{Records, Store, find_root};
+use heddle_syntax::budget::{BUDGET_VAR, Budget};
 use heddle_test::record::layout::{RUN_ID_VAR, TARGET_DIR_VAR, new_run_id, pipeline_run_id, validate_run_id};
 
 use crate::failure::{Diagnostic, Failure, found, usage};
@@ -34,6 +35,11 @@ pub struct TestArgs {
     /// Confidence the λ advice aims for.
     #[arg(long, value_name = "C", default_value_t = 0.95)]
     pub confidence: f64,
+    /// Run only the first rows of each design: a row count (`12`), a share (`25%`), or
+    /// `all` to override the budgets the attributes set. Passed to the build as
+    /// `HEDDLE_BUDGET`; rows past it are ignored, and changing it rebuilds the tests.
+    #[arg(long, value_name = "N|P%|all", value_parser = Budget::parse)]
+    pub budget: Option<Budget>,
     /// Exit with a failing code when the report finds this, if the test run itself
     /// passed (see `cargo heddle report --help`): `failures` (3), `flaky` (4),
     /// `incomplete` (5).
@@ -285,12 +291,19 @@ pub fn run_rounds(args: &TestArgs) -> Result<Rounds, Failure> {
                 "never"
             },
         );
+        if let Some(b) = args.budget {
+            cmd.env(BUDGET_VAR, b.to_string());
+        }
         let round_note = if args.repeat > 1 {
             format!(" (round {round} of {})", args.repeat)
         } else {
             String::new()
         };
-        eprintln!("heddle: run {id}{round_note}");
+        let budget_note = match args.budget {
+            Some(b) => format!(", row budget {b}"),
+            None => String::new(),
+        };
+        eprintln!("heddle: run {id}{round_note}{budget_note}");
         let status = run_cargo(&mut cmd, args.quiet, &mut warnings)
             .map_err(|e| usage(format!("could not start `{}`: {e}", cargo.to_string_lossy())))?;
         if !status.success() && status_code == 0 {

@@ -33,14 +33,7 @@ fn cart_total(
 "#;
 
 fn heddle(krate: &Scratch, args: &[&str]) -> Run {
-    let mut full = vec!["heddle"];
-    full.extend_from_slice(args);
-    krate.run_program(
-        env!("CARGO_BIN_EXE_cargo-heddle").as_ref(),
-        &full,
-        None,
-        &[("NO_COLOR", "1")],
-    )
+    krate.heddle(env!("CARGO_BIN_EXE_cargo-heddle"), args)
 }
 
 fn planted(labels: &[&str]) -> bool {

@@ -69,6 +69,39 @@ fn json_has_factors_parameters_rows_statistics() {
 }
 
 #[test]
+fn required_rows_come_first_and_count_toward_coverage() {
+    // 2^3 at strength 2 needs 4 rows, and the odd-weight rows {111, 100, 010, 001} are
+    // such an array (the complement of the parity-check OA(4; 2, 3, 2); Hedayat, Sloane
+    // and Stufken 1999, ch. 4, from memory): with `111` required no fifth row is needed
+    let o = design(&["2^3", "--require", "f1=1,f2=1,f3=1", "--format", "json"]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).expect("valid JSON");
+    let rows = v["rows"].as_array().unwrap();
+    assert_eq!(rows.len(), 4, "{rows:?}");
+    assert_eq!(rows[0], serde_json::json!(["1", "1", "1"]));
+    assert_eq!(v["parameters"]["required"], serde_json::json!([["1", "1", "1"]]));
+
+    // a factor left out is filled by the engine; the rows still cover every pair
+    let o = design(&[
+        "3^3",
+        "os=linux,mac",
+        "--require",
+        "os=mac,f2=2",
+        "--exclude",
+        "f1 == 0 && os == mac",
+    ]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let mut factors: Vec<Factor> = (1..=3).map(|i| Factor::numbered(format!("f{i}"), 3)).collect();
+    factors.push(Factor::new("os", ["linux", "mac"]));
+    let rows = csv_rows(&stdout(&o), &factors);
+    assert_eq!((rows[0][1], rows[0][3]), (2, 1), "{rows:?}");
+    assert_ne!(rows[0][0], 0, "the exclude holds in the filled-in cell");
+    let ex = Expr::parse("f1 == 0 && os == mac", &factors).unwrap();
+    let spec = Spec::new(factors).exclude(ex);
+    verify(&spec, &rows).expect("the rows cover every possible pair");
+}
+
+#[test]
 fn same_seed_gives_same_rows() {
     let a = design(&["3^6", "--seed", "5"]);
     let b = design(&["3^6", "--seed", "5"]);
@@ -100,6 +133,27 @@ fn bad_input_exits_with_2_and_says_why() {
             "`--budget` applies to `--effort tight` only",
         ),
         (&["2^2", "--format", "xml"], "invalid value 'xml'"),
+        (
+            &["2^2", "--require", "f3=0"],
+            "`--require f3=0`: unknown factor `f3`",
+        ),
+        (&["2^2", "--require", "f1=2"], "`2` is not a level of `f1`"),
+        (
+            &["2^2", "--exclude", "f1 == 1 && f2 == 0", "--require", "f2=0,f1=1"],
+            "`--require f2=0,f1=1` is ruled out by `--exclude f1 == 1 && f2 == 0`",
+        ),
+        (
+            &[
+                "2^2",
+                "--exclude",
+                "f1 == 1 && f2 == 0",
+                "--exclude",
+                "f1 == 1 && f2 == 1",
+                "--require",
+                "f1=1",
+            ],
+            "`--require f1=1` has no allowed row",
+        ),
         (&["a=x,x"], "lists level `x` twice"),
         (&["2^1", "f1=a,b"], "factor `f1` is declared twice"),
     ];

@@ -557,6 +557,16 @@ fn unknown_package_and_bad_flags_are_usage_errors() {
         r.stderr()
     );
     assert!(!c.path("heddle-pins.toml").exists());
+    // the row budget of `test` is refused before anything runs
+    for (bad, says) in [
+        ("0", "a budget of `0` rows runs nothing"),
+        ("150%", "is not a share between 1% and 100%"),
+    ] {
+        let r = c.heddle(&["test", "--budget", bad]);
+        r.fails(2);
+        assert!(r.stderr().contains(says), "{}", r.stderr());
+        assert!(!r.stderr().contains("heddle: run "), "{}", r.stderr());
+    }
     // the selection flags reach the project from elsewhere too
     let manifest = c.path("Cargo.toml");
     let r = Command::new(env!("CARGO_BIN_EXE_cargo-heddle"))
@@ -769,4 +779,277 @@ fn check_warns_about_pins_without_a_function_and_show_refuses_stale_pins() {
     );
     assert!(r.stderr().contains("is stale"), "{}", r.stderr());
     assert_eq!(r.stdout(), "");
+}
+
+#[test]
+fn a_required_row_makes_the_pin_stale_and_comes_first_when_repinned() {
+    let c = Crate::new(&[("tests/codec.rs", CODEC)]);
+    c.heddle(&["pin"]).ok();
+    let old = c.rows("tests/codec.rs", "roundtrip");
+    // a configuration the old rows lack: batch 64 with Delta, checksum left to the engine
+    let (b, k) = (2u8, 2u8);
+    let already = old.iter().position(|r| r[0] == b && r[1] == k);
+    let changed = CODEC.replace(
+        "seed = 11)]",
+        "seed = 11, require(codec = Codec::Delta, batch = 64))]",
+    );
+    c.write("tests/codec.rs", &changed);
+    let r = c.heddle(&["check"]);
+    r.fails(1);
+    match already {
+        // the old first row is another one: the change is named
+        Some(i) if i != 0 => assert!(
+            r.stderr()
+                .contains("the pin of `roundtrip` is stale: the required rows changed"),
+            "{}",
+            r.stderr()
+        ),
+        _ => assert!(
+            r.stderr().contains("the pin of `roundtrip` is stale"),
+            "{}",
+            r.stderr()
+        ),
+    }
+    c.heddle(&["pin"]).ok();
+    let new = c.rows("tests/codec.rs", "roundtrip");
+    assert_eq!((new[0][0], new[0][1]), (b, k), "{new:?}");
+    let mut spec = Spec::new(roundtrip_factors(&["1", "8", "64"])).lambda(2);
+    spec.required = vec![vec![b, k, heddle_generator::UNSET]];
+    verify(&spec, &new).expect("the repinned rows start with the required row and cover every pair twice");
+    c.heddle(&["check"]).ok();
+    let shown = c.heddle(&["show", "roundtrip"]);
+    shown.ok();
+    assert!(
+        shown
+            .stdout()
+            .contains("\nrequire(codec = Codec::Delta, batch = 64)\n"),
+        "{}",
+        shown.stdout()
+    );
+}
+
+#[test]
+fn show_states_what_the_budget_reaches() {
+    let source = CODEC.replace("seed = 11)]", "seed = 11, budget(4))]");
+    let c = Crate::new(&[("tests/codec.rs", &source)]);
+    let r = c.heddle(&["show", "roundtrip"]);
+    r.ok();
+    let out = r.stdout();
+    let n = out.lines().filter(|l| l.starts_with("row_")).count();
+    assert!(
+        out.contains(&format!(
+            "\nbudget: 4 of {n} rows run, the rest are ignored; they cover strength 2: "
+        )),
+        "{out}"
+    );
+    assert!(out.contains("at least lambda = 2 times; strength 1: "), "{out}");
+    assert!(out.contains(" (`budget(4)`)\n"), "{out}");
+    // HEDDLE_BUDGET overrides the attribute, as it does in a build
+    let run = |value: &str| {
+        let o = Command::new(env!("CARGO_BIN_EXE_cargo-heddle"))
+            .args(["heddle", "show", "roundtrip"])
+            .env("HEDDLE_BUDGET", value)
+            .current_dir(c.root())
+            .output()
+            .unwrap();
+        Run(o)
+    };
+    let o = run("all");
+    o.ok();
+    assert!(!o.stdout().contains("budget:"), "{}", o.stdout());
+    let o = run("50%");
+    o.ok();
+    assert!(
+        o.stdout()
+            .contains(&format!("budget: {} of {n} rows run", n.div_ceil(2))),
+        "{}",
+        o.stdout()
+    );
+    assert!(o.stdout().contains("(`HEDDLE_BUDGET=50%`)"), "{}", o.stdout());
+    let o = run("half");
+    o.fails(2);
+    assert!(
+        o.stderr()
+            .contains("`HEDDLE_BUDGET` is invalid: `half` is not a row budget"),
+        "{}",
+        o.stderr()
+    );
+}
+
+/// Four factors of three levels at λ = 1: the engine makes the orthogonal array OA(9;
+/// 2, 4, 3), in which no two rows share a pair (Bose 1938; the engine's construction),
+/// so a failing row's six pairs are all aliases of one another.
+const ALIASED: &str = "\
+use heddle_test::cover;
+
+#[cover(seed = 1)]
+fn f(
+    #[levels(0, 1, 2)] a: u8,
+    #[levels(0, 1, 2)] b: u8,
+    #[levels(0, 1, 2)] c: u8,
+    #[levels(0, 1, 2)] d: u8,
+) {
+}
+";
+
+/// The planted fault: `a = 1` with `c = 2`.
+fn planted_ac(row: &[u8]) -> bool {
+    row[0] == 1 && row[2] == 2
+}
+
+/// Writes a run of `f` (design rows then follow-up rows) into the crate's store, each
+/// row failing exactly when it holds the planted pair.
+fn write_aliased_run(c: &Crate, run: &str, ms: u64, design: &[Vec<u8>], followups: &[Vec<u8>]) {
+    use heddle_store::fixture::{self, SpecBuilder};
+    use heddle_test::record::{Line, Outcome};
+    let found = heddle_syntax::find::analyse_source(ALIASED, &heddle_syntax::Defaults::default()).unwrap();
+    let spec = found[0].spec.as_ref().unwrap();
+    let mut b = SpecBuilder::new("f")
+        .test_target("codec")
+        .run(run)
+        .strength(2)
+        .lambda(1)
+        .seed(spec.spec.seed)
+        .fingerprint(&spec.fingerprint.to_string());
+    for name in ["a", "b", "c", "d"] {
+        b = b.factor(name, &["0", "1", "2"]);
+    }
+    let rec = b.rows(design.to_vec()).followup_rows(followups.to_vec()).build();
+    let mut lines = vec![Line::Spec(rec.clone()).to_json_line()];
+    for (r, row) in rec.rows.iter().enumerate() {
+        let o = if planted_ac(row) {
+            Outcome::Failed
+        } else {
+            Outcome::Passed
+        };
+        lines.push(Line::Row(fixture::row(&rec, r, o)).to_json_line());
+    }
+    let dir = c.path(&format!("target/heddle/runs/{run}"));
+    std::fs::create_dir_all(&dir).unwrap();
+    std::fs::write(dir.join(format!("{ms}-1-0000000000000001.jsonl")), lines.join("")).unwrap();
+}
+
+#[test]
+fn probe_proposes_follow_up_rows_that_name_an_aliased_pair() {
+    let c = Crate::new(&[("tests/codec.rs", ALIASED)]);
+    let show = c.heddle(&["show", "f", "--format", "csv"]);
+    show.ok();
+    let factors: Vec<Factor> = ["a", "b", "c", "d"]
+        .iter()
+        .map(|n| Factor::new(*n, ["0", "1", "2"]))
+        .collect();
+    let design = csv_rows(&show.stdout(), &factors);
+    assert_eq!(design.iter().filter(|r| planted_ac(r)).count(), 1, "{design:?}");
+    write_aliased_run(&c, "run-1", 1_700_000_000_000, &design, &[]);
+
+    // the report cannot tell the failing row's pairs apart
+    let report = c.heddle(&["report", "--format", "json"]);
+    report.ok();
+    let v: serde_json::Value = serde_json::from_str(&report.stdout()).unwrap();
+    let always = v["suites"][0]["suspects"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|s| s["always"] == true)
+        .count();
+    assert!(always > 1, "{}", report.stdout());
+
+    // a dry run prints and writes nothing
+    let dry = c.heddle(&["probe", "--dry-run"]);
+    dry.ok();
+    assert!(dry.stdout().contains("tests/codec.rs:3 f: "), "{}", dry.stdout());
+    assert!(!c.path("heddle-pins.toml").exists());
+
+    let probe = c.heddle(&["probe", "f"]);
+    probe.ok();
+    let out = probe.stdout();
+    assert!(out.contains("follow-up rows to tell apart `"), "{out}");
+    assert!(out.contains("from the failing row `f::row_"), "{out}");
+    assert!(out.contains("wrote "), "{out}");
+    let pins = c.pins();
+    let fu = pins
+        .followup(&PinKey::new("tests/codec.rs", "f"))
+        .expect("follow-up rows written")
+        .clone();
+    assert!(pins.pins.is_empty(), "probe pins nothing");
+    // every follow-up row is one the spec allows, and at most one per factor is proposed
+    let distinct: std::collections::BTreeSet<&Vec<u8>> = fu.rows.iter().collect();
+    assert!(!distinct.is_empty() && distinct.len() <= 4, "{:?}", fu.rows);
+    // a file holding only follow-up rows does not make the crate one that pins
+    c.heddle(&["check"]).ok();
+    let shown = c.heddle(&["show", "f"]);
+    shown.ok();
+    assert!(
+        shown.stdout().contains("\nrow_followup_00  "),
+        "{}",
+        shown.stdout()
+    );
+    assert!(
+        shown.stdout().contains("from `cargo heddle probe`"),
+        "{}",
+        shown.stdout()
+    );
+    // before they ran, another probe refuses to stack more rows on them
+    let again = c.heddle(&["probe"]);
+    again.ok();
+    assert!(again.stdout().contains("have not run yet"), "{}", again.stdout());
+
+    // the next run holds them; the report now names the planted pair alone
+    write_aliased_run(&c, "run-2", 1_700_000_100_000, &design, &fu.rows);
+    let report = c.heddle(&["report", "--format", "json"]);
+    report.ok();
+    let v: serde_json::Value = serde_json::from_str(&report.stdout()).unwrap();
+    let s = &v["suites"][0];
+    assert_eq!(s["followups"].as_u64(), Some(fu.rows.len() as u64));
+    let named: Vec<&serde_json::Value> = s["suspects"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|x| x["explains"].as_u64() > Some(0))
+        .collect();
+    assert_eq!(named.len(), 1, "{}", report.stdout());
+    assert_eq!(named[0]["levels"], serde_json::json!({"a": "1", "c": "2"}));
+    assert_eq!(named[0]["always"], true);
+    let done = c.heddle(&["probe"]);
+    done.ok();
+    assert!(
+        done.stdout()
+            .contains("no follow-up rows needed, the report names `a = 1, c = 2`"),
+        "{}",
+        done.stdout()
+    );
+
+    // a changed spec makes them stale: `check` fails, `pin` drops them
+    c.write("tests/codec.rs", &ALIASED.replace("seed = 1", "seed = 2"));
+    let r = c.heddle(&["check"]);
+    r.fails(1);
+    assert!(
+        r.stderr().contains("the follow-up rows of `f` are stale"),
+        "{}",
+        r.stderr()
+    );
+    let r = c.heddle(&["pin"]);
+    r.ok();
+    assert!(
+        r.stdout().contains("dropped its follow-up rows"),
+        "{}",
+        r.stdout()
+    );
+    assert!(c.pins().followups.is_empty());
+    c.heddle(&["check"]).ok();
+
+    // `--clear` removes them
+    c.write("tests/codec.rs", ALIASED);
+    let mut pins = c.pins();
+    pins.set_followup(PinKey::new("tests/codec.rs", "f"), Some(fu));
+    c.write("heddle-pins.toml", &pins.to_toml());
+    let r = c.heddle(&["probe", "--clear", "f"]);
+    r.ok();
+    assert!(
+        r.stdout()
+            .contains("tests/codec.rs f: removed its follow-up rows"),
+        "{}",
+        r.stdout()
+    );
+    assert!(c.pins().followups.is_empty());
 }

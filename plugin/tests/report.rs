@@ -524,3 +524,110 @@ fn html_of_a_strength_one_suite_shows_levels_not_pairs() {
         "{html}"
     );
 }
+
+/// A run of the λ = 1 suite (OA9) in which only the first `budget` rows ran, all passing.
+fn write_budgeted_run(dir: &Path, run: &str, ms: u64, budget: Option<u32>) {
+    let mut s = spec(OA9.iter().map(|r| r.to_vec()).collect(), 1, run);
+    s.budget = budget;
+    let ran = budget.map_or(s.rows.len(), |b| b as usize);
+    let mut lines = vec![Line::Spec(s.clone()).to_json_line()];
+    for r in 0..ran {
+        lines.push(Line::Row(row(&s, r, Outcome::Passed, run)).to_json_line());
+    }
+    write_process(dir, run, ms, &lines);
+}
+
+#[test]
+fn a_budgeted_run_states_its_reach_and_is_never_complete() {
+    let tmp = tempfile::tempdir().unwrap();
+    write_budgeted_run(tmp.path(), "quick", 1_700_000_000_000, Some(3));
+    let v = json(tmp.path(), &[]);
+    let s = &v["suites"][0];
+    assert_eq!((s["rows"].as_u64(), s["not_run"].as_u64()), (Some(9), Some(6)));
+    let b = &s["budget"];
+    assert_eq!((b["rows"].as_u64(), b["of"].as_u64()), (Some(3), Some(9)));
+    // OA9 has index 1, so no pair is in two rows: 3 rows cover 3 · 6 = 18 of the 54
+    // pairs; rows 0000, 0112, 0221 show 1 + 3 + 3 + 3 = 10 of the 12 single levels
+    assert_eq!(
+        b["reach"],
+        serde_json::json!([
+            {"strength": 1, "interactions": 12, "once": 10, "lambda": 10},
+            {"strength": 2, "interactions": 54, "once": 18, "lambda": 18},
+        ])
+    );
+    let o = report(&["--store", tmp.path().to_str().unwrap()]);
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    let table = text(&o.stdout);
+    assert!(
+        table.contains("not a complete run: budget: 3 of 9 rows run, the rest are ignored; they cover strength 2: 33% of 54 interactions covered; strength 1: 83% of 12 interactions covered"),
+        "{table}"
+    );
+    assert!(
+        table.contains("budget clear: no failures in the 3 rows the budget ran; the other 6 did not run"),
+        "{table}"
+    );
+    assert!(!table.contains("all clear"), "{table}");
+    let o = report(&["--store", tmp.path().to_str().unwrap(), "--format", "markdown"]);
+    assert!(
+        text(&o.stdout).contains("`totals`: not a complete run; budget: 3 of 9 rows run"),
+        "{}",
+        text(&o.stdout)
+    );
+
+    // merged with a run of the whole design, the rows all ran: no budget is reported
+    write_budgeted_run(tmp.path(), "nightly", 1_700_000_100_000, None);
+    let v = json(tmp.path(), &["--runs", "2"]);
+    let s = &v["suites"][0];
+    assert!(s["budget"].is_null(), "{s}");
+    assert_eq!(s["not_run"], 0);
+    assert!(v["notes"].as_array().unwrap().is_empty(), "{}", v["notes"]);
+}
+
+#[test]
+fn runs_with_and_without_follow_up_rows_merge() {
+    let tmp = tempfile::tempdir().unwrap();
+    let design: Vec<Vec<u8>> = OA9.iter().map(|r| r.to_vec()).collect();
+    let write = |run: &str, ms: u64, followups: Vec<Vec<u8>>| {
+        let mut s = spec(design.clone(), 1, run);
+        let extra = SpecBuilder::new("totals").followup_rows(followups).build();
+        s.rows.extend(extra.rows);
+        s.row_names.extend(extra.row_names);
+        s.followups = extra.followups;
+        let mut lines = vec![Line::Spec(s.clone()).to_json_line()];
+        for r in 0..s.rows.len() {
+            let o = if planted(&s.rows[r]) {
+                Outcome::Failed
+            } else {
+                Outcome::Passed
+            };
+            lines.push(Line::Row(row(&s, r, o, run)).to_json_line());
+        }
+        write_process(tmp.path(), run, ms, &lines);
+    };
+    write("design", 1_700_000_000_000, Vec::new());
+    write(
+        "round-1",
+        1_700_000_100_000,
+        vec![vec![2, 1, 0, 0], vec![2, 0, 0, 0]],
+    );
+    let v = json(tmp.path(), &["--runs", "2"]);
+    assert!(v["notes"].as_array().unwrap().is_empty(), "{}", v["notes"]);
+    let s = &v["suites"][0];
+    assert_eq!((s["rows"].as_u64(), s["followups"].as_u64()), (Some(11), Some(2)));
+    assert_eq!(s["executions"], 9 + 11);
+    let o = report(&["--store", tmp.path().to_str().unwrap()]);
+    assert!(
+        text(&o.stdout).contains("· 9 rows + 2 follow-up: "),
+        "{}",
+        text(&o.stdout)
+    );
+    // the follow-up row holding the planted pair failed, and reruns by its own name
+    let failing: Vec<&str> = s["failing_rows"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|r| r["test"].as_str().unwrap())
+        .collect();
+    assert!(failing.contains(&"totals::row_followup_00"), "{failing:?}");
+    assert!(!failing.contains(&"totals::row_followup_01"), "{failing:?}");
+}

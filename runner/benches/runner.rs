@@ -57,6 +57,8 @@ static SUITE: Suite = Suite {
     pinned: false,
     should_panic: false,
     should_panic_expected: None,
+    budget: None,
+    followups: 0,
 };
 
 /// A small, real amount of work, like a quick unit test: build and sort a vector.

@@ -54,14 +54,18 @@
 //! one warning and the tests run as they would without heddle.
 //!
 //! # Environment
-//! Empty values count as unset; an invalid value turns recording off with a one-line
-//! warning naming the variable (tests still run and pass or fail as usual).
+//! Empty values count as unset. An invalid value of a recording variable turns recording
+//! off with a one-line warning naming the variable (tests still run and pass or fail as
+//! usual).
 //!
 //! - `HEDDLE_TARGET_DIR`: the directory to put the store (`heddle/`) in, created if
 //!   missing; relative paths are taken from the test's working directory (cargo runs
 //!   tests in the package root). Unset: the nearest ancestor of the test executable
 //!   holding cargo's `CACHEDIR.TAG`, that is the target directory, or the build
 //!   directory when `build.build-dir` is set.
+//! - `HEDDLE_BUDGET`, read when the tests compile (cargo rebuilds them when it
+//!   changes): a row budget for every `#[cover]` function, overriding their `budget(…)`:
+//!   a row count (`12`), a share (`25%`) or `all`; an invalid value is a compile error.
 //! - `HEDDLE_RUN_ID` (set by `cargo heddle test` for a whole invocation), else
 //!   `NEXTEST_RUN_ID` (set by nextest): the run id, ASCII letters, digits, `.`, `_`, `-`.
 //!   Neither: each test process is a run of its own.
@@ -79,7 +83,13 @@ extern crate self as heddle_test;
 /// ```
 /// use heddle_test::cover;
 ///
-/// #[cover(strength = 2, lambda = 2, seed = 11, exclude(codec == "delta" && batch == 1))]
+/// #[cover(
+///     strength = 2,
+///     lambda = 2,
+///     seed = 11,
+///     exclude(codec == "delta" && batch == 1),
+///     require(codec = "delta", batch = 64),
+/// )]
 /// fn roundtrip(
 ///     #[levels(1, 8, 64)] batch: usize,
 ///     #[levels("plain", "rle", "delta")] codec: &str,
@@ -98,6 +108,8 @@ extern crate self as heddle_test;
 /// | `lambda = L` | each combination is covered in at least L rows | 1 |
 /// | `seed = S` | seed of the engine's choices (u64) | a hash of the function's name |
 /// | `exclude(EXPR)` | rows where EXPR holds are never generated; EXPR uses `==`, `!=`, `&&`, `\|\|`, `!` and parentheses over parameter names and level expressions; repeatable | none |
+/// | `require(NAME = LEVEL, …)` | a row the design must contain, by level labels (`require(codec = "delta", batch = 64)`); parameters left out are filled by the engine; required rows come first, in the order written, and count toward coverage; the excludes must allow the row; repeatable | none |
+/// | `budget(N)`, `budget(P%)` | run the first N rows, or the first P percent (rounded up); the rows past it are compiled with `#[ignore]`, so libtest counts them as ignored; `HEDDLE_BUDGET` overrides it | every row |
 ///
 /// - The function stays an ordinary function; a module of the same name holds one
 ///   `#[test]` per row: `roundtrip::row_00`, `roundtrip::row_01`, … A failing row prints
@@ -110,6 +122,12 @@ extern crate self as heddle_test;
 ///   every row.
 /// - Rows come from the pins file `heddle-pins.toml` when `cargo heddle pin` wrote one
 ///   for this function and its spec is unchanged, else from the engine at build time.
+/// - Required rows are part of the spec: changing one makes a pin stale, like changing a
+///   level.
+/// - Follow-up rows that `cargo heddle probe` writes to the pins file, to tell apart the
+///   suspects of a failure, run after the design's rows as `roundtrip::row_followup_00`,
+///   …; a budget never holds them back, and a spec change makes them stale (an error
+///   until `cargo heddle probe --clear` or `cargo heddle pin` drops them).
 /// - Mistakes are compile errors at the offending tokens, all of them at once, with a
 ///   hint; the plain function is still emitted so no follow-on errors appear.
 /// - The generated code reaches this crate by the name your `Cargo.toml` gives it, so a

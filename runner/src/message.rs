@@ -65,10 +65,15 @@ pub(crate) fn row_labels(suite: &Suite, row: usize) -> Vec<&'static str> {
 /// The multi-line report of one row: `headline`, then every parameter with its label,
 /// the seed and the rerun command.
 pub(crate) fn context(suite: &Suite, row: usize, headline: &str) -> String {
+    let design = suite.rows.len().saturating_sub(suite.followups as usize);
+    let which = if row < design {
+        format!("row {row} of {design}")
+    } else {
+        format!("follow-up row {} of {}", row - design, suite.followups)
+    };
     let mut out = format!(
-        "heddle: `{}` row {row} of {} (`{}`) {headline}\n",
+        "heddle: `{}` {which} (`{}`) {headline}\n",
         suite.function,
-        suite.rows.len(),
         test_name(suite, row)
     );
     let width = suite.factors.iter().map(|f| f.name.len()).max().unwrap_or(0);
@@ -120,6 +125,8 @@ mod tests {
         pinned: false,
         should_panic: false,
         should_panic_expected: None,
+        budget: None,
+        followups: 0,
     };
 
     #[test]
@@ -149,6 +156,24 @@ mod tests {
                 rerun_command(&SUITE, 3)
             )
         );
+    }
+
+    #[test]
+    fn follow_up_rows_say_so() {
+        static WITH: Suite = Suite {
+            rows: &[&[0, 0], &[1, 1], &[2, 1]],
+            row_names: &["row_00", "row_01", "row_followup_00"],
+            followups: 1,
+            ..SUITE
+        };
+        let text = context(&WITH, 2, "panicked");
+        assert!(
+            text.starts_with(
+                "heddle: `roundtrip` follow-up row 0 of 1 (`roundtrip::row_followup_00`) panicked\n"
+            ),
+            "{text}"
+        );
+        assert!(context(&WITH, 1, "panicked").starts_with("heddle: `roundtrip` row 1 of 2 ("));
     }
 
     #[test]

@@ -66,6 +66,12 @@ pub struct Suite {
     /// The `expected = "…"` text of its `#[should_panic]`: a panic whose message does not
     /// contain it is a failure, as libtest decides.
     pub should_panic_expected: Option<&'static str>,
+    /// How many rows the row budget lets run when it leaves some out (the rows past it
+    /// are compiled with `#[ignore]`); `None` when every row runs.
+    pub budget: Option<u32>,
+    /// How many of the last rows are follow-up rows (`cargo heddle probe`), not the
+    /// design's.
+    pub followups: u32,
 }
 
 /// The process-wide recorder every row test writes through.
@@ -320,6 +326,8 @@ mod tests {
         pinned: false,
         should_panic: false,
         should_panic_expected: None,
+        budget: None,
+        followups: 0,
     };
 
     fn off() -> Result<Config, SetupError> {

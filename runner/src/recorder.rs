@@ -174,6 +174,8 @@ pub(crate) fn spec_record(suite: &Suite, run_id: &str, time: &str) -> SpecRecord
         fingerprint: suite.fingerprint.to_string(),
         pinned: suite.pinned,
         should_panic: suite.should_panic,
+        budget: suite.budget,
+        followups: suite.followups,
         time: time.to_string(),
     }
 }
@@ -225,6 +227,8 @@ mod tests {
         pinned: true,
         should_panic: false,
         should_panic_expected: None,
+        budget: None,
+        followups: 0,
     };
 
     static WARNINGS: AtomicUsize = AtomicUsize::new(0);

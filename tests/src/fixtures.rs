@@ -303,8 +303,12 @@ pub const SUITES_SILENT: &[&str] = &["skipped", "gone"];
 
 /// The expectation for one function of [`SUITES`].
 pub fn expect(function: &str) -> &'static Expect {
-    SUITES_EXPECT
-        .iter()
+    expect_in(SUITES_EXPECT, function)
+}
+
+/// The expectation for one function in a list of them.
+pub fn expect_in(list: &'static [Expect], function: &str) -> &'static Expect {
+    list.iter()
         .find(|e| e.function == function)
         .unwrap_or_else(|| panic!("no expectation for `{function}`"))
 }
@@ -396,6 +400,78 @@ pub const ASYNC_EXPECT: &[Expect] = &[
     Expect {
         function: "erring",
         fails: |l| l[0] == "1" && l[1] == "false",
+        allowed: always,
+    },
+];
+
+/// The integration-test file of the design-controls crate, `tests/controls.rs`: a
+/// required row, a row budget, and a defect for follow-up rows to name.
+pub const CONTROLS: &str = r#"//! Design controls: rows required by label, a row budget.
+
+use heddle_test::cover;
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Codec {
+    Plain,
+    Rle,
+    Delta,
+}
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Unit {
+    Celsius,
+    Fahrenheit,
+    Kelvin,
+}
+
+/// Two required rows, one partial; fails on `Codec::Delta` with `Unit::Fahrenheit`, the
+/// configuration the first required row names.
+#[cover(
+    seed = 21,
+    exclude(codec == Codec::Rle && flush == true),
+    require(codec = Codec::Delta, unit = Unit::Fahrenheit),
+    require(batch = 1, codec = Codec::Plain, unit = Unit::Kelvin, flush = true),
+)]
+fn required(
+    #[levels(1, 8, 64)] batch: usize,
+    #[levels(Codec::Plain, Codec::Rle, Codec::Delta)] codec: Codec,
+    #[levels(Unit::Celsius, Unit::Fahrenheit, Unit::Kelvin)] unit: Unit,
+    #[levels(true, false)] flush: bool,
+) {
+    let _ = (batch, flush);
+    assert!(
+        !(codec == Codec::Delta && unit == Unit::Fahrenheit),
+        "planted defect: delta with fahrenheit"
+    );
+}
+
+/// The first three rows run; the rest are ignored unless `HEDDLE_BUDGET` says otherwise.
+#[cover(seed = 22, budget(3))]
+fn budgeted(
+    #[levels(1, 2, 3)] a: u8,
+    #[levels(1, 2, 3)] b: u8,
+    #[levels(true, false)] c: bool,
+    #[levels(true, false)] d: bool,
+) {
+    let _ = (a, b, c, d);
+}
+"#;
+
+/// The path of [`CONTROLS`] in its crate, and its test target.
+pub const CONTROLS_FILE: &str = "tests/controls.rs";
+/// The test target of [`CONTROLS`].
+pub const CONTROLS_TARGET: &str = "controls";
+
+/// What each suite of [`CONTROLS`] does.
+pub const CONTROLS_EXPECT: &[Expect] = &[
+    Expect {
+        function: "required",
+        fails: |l| l[1] == "Codec::Delta" && l[2] == "Unit::Fahrenheit",
+        allowed: |l| !(l[1] == "Codec::Rle" && l[3] == "true"),
+    },
+    Expect {
+        function: "budgeted",
+        fails: never,
         allowed: always,
     },
 ];

@@ -20,7 +20,8 @@ pub struct Counted {
 
 /// Checks one suite's records, `fails` telling from a row's labels whether the planted
 /// defect is in it:
-/// - one row record per row of the spec, named `{suite}::row_NN`, with the labels of
+/// - one row record per row of the spec (per row the budget lets run, the harness
+///   reporting the others as ignored), named `{suite}::row_NN`, with the labels of
 ///   that row, the spec's run, crate, target and fingerprint, a time stamp, and a
 ///   message exactly when it did not simply pass;
 /// - the harness ran exactly these tests, with the recorded outcomes, each marked
@@ -49,10 +50,23 @@ pub fn check_suite(
             spec.row_names
         ));
     }
-    let want: BTreeSet<u32> = (0..n as u32).collect();
+    // a row budget runs the first rows; libtest must report the others as ignored
+    let ran = spec.budget.map_or(n, |b| b as usize);
+    let want: BTreeSet<u32> = (0..ran as u32).collect();
     let have: BTreeSet<u32> = by_row.keys().copied().collect();
     if want != have {
-        return Err(format!("`{name}`: rows recorded {have:?}, the spec has {n} rows"));
+        return Err(format!(
+            "`{name}`: rows recorded {have:?}, the spec has {n} rows and lets {ran} run"
+        ));
+    }
+    for i in ran..n {
+        let test = spec.row_test_name(i).unwrap_or_default();
+        let status = tests.get(&test).map(|l| l.status);
+        if status != Some(Status::Ignored) {
+            return Err(format!(
+                "`{test}` is past the budget of {ran} rows, the harness printed {status:?}"
+            ));
+        }
     }
     let mut counted = Counted::default();
     let mut recorded_tests = BTreeSet::new();

@@ -292,6 +292,15 @@ impl Scratch {
         self.run_program(&cargo_program(), args, store, env)
     }
 
+    /// Runs the cargo subcommand `cargo heddle ARGS` from the built binary `bin`
+    /// (`env!("CARGO_BIN_EXE_cargo-heddle")` in the plugin's tests) the way cargo runs it,
+    /// with colours off.
+    pub fn heddle(&self, bin: &str, args: &[&str]) -> Run {
+        let mut full = vec!["heddle"];
+        full.extend_from_slice(args);
+        self.run_program(bin.as_ref(), &full, None, &[("NO_COLOR", "1")])
+    }
+
     /// Runs any program in the crate's directory with the environment the cargo
     /// invocations get (this process's package variables removed, the shared target
     /// directory, `store` as `HEDDLE_TARGET_DIR`): for `cargo-heddle`, which runs cargo

@@ -45,6 +45,10 @@ pub enum KeyKind {
     Seed,
     /// `exclude(EXPR)`.
     Exclude,
+    /// `require(name = level, …)`.
+    Require,
+    /// `budget(N)` or `budget(P%)`.
+    Budget,
     /// Anything else.
     Unknown,
 }
@@ -57,8 +61,15 @@ impl KeyKind {
             kw::LAMBDA => KeyKind::Lambda,
             kw::SEED => KeyKind::Seed,
             kw::EXCLUDE => KeyKind::Exclude,
+            kw::REQUIRE => KeyKind::Require,
+            kw::BUDGET => KeyKind::Budget,
             _ => KeyKind::Unknown,
         }
+    }
+
+    /// Whether the key may be given more than once.
+    pub fn repeatable(self) -> bool {
+        matches!(self, KeyKind::Exclude | KeyKind::Require)
     }
 }
 

@@ -6,11 +6,11 @@
 //! ([`crate::text`]), so `Codec :: Delta` finds the level `Codec::Delta`.
 
 use heddle_generator::{Expr, Factor};
-use syn::ext::IdentExt;
 use syn::{BinOp, UnOp};
 
-use crate::diag::{self, Errors};
+use crate::diag::Errors;
 use crate::keywords as kw;
+use crate::resolve;
 use crate::text::canonical;
 
 const HINT: &str =
@@ -60,52 +60,8 @@ pub fn convert(e: &syn::Expr, factors: &[Factor], errs: &mut Errors) -> Option<E
 }
 
 fn atom(b: &syn::ExprBinary, factors: &[Factor], errs: &mut Errors) -> Option<Expr> {
-    let name = match &*b.left {
-        syn::Expr::Path(p) if p.qself.is_none() && p.attrs.is_empty() => p.path.get_ident(),
-        _ => None,
-    };
-    let Some(name) = name else {
-        errs.at(
-            &b.left,
-            format!(
-                "expected a parameter name on the left of `{}`, found `{}`",
-                canonical(&b.op),
-                canonical(&b.left)
-            ),
-            format!(
-                "write `name {} level` with one of {}",
-                canonical(&b.op),
-                diag::list(factors.iter().map(|f| &f.name))
-            ),
-        );
-        return None;
-    };
-    let name = name.unraw().to_string();
-    let Some(fi) = factors.iter().position(|f| f.name == name) else {
-        errs.at(
-            &b.left,
-            format!("unknown parameter `{name}` in `{}(…)`", kw::EXCLUDE),
-            format!(
-                "the parameters are {}",
-                diag::list(factors.iter().map(|f| &f.name))
-            ),
-        );
-        return None;
-    };
-    let f = &factors[fi];
-    let label = canonical(&b.right);
-    let Some(level) = f.level_index(&label) else {
-        errs.at(
-            &b.right,
-            format!("`{label}` is not a level of `{name}`"),
-            format!(
-                "write it as in `#[{}(…)]`; the levels of `{name}` are {}",
-                kw::LEVELS,
-                diag::list(&f.levels)
-            ),
-        );
-        return None;
-    };
+    let (fi, level) =
+        resolve::name_and_level(&b.left, &canonical(&b.op), &b.right, factors, kw::EXCLUDE, errs)?;
     let is = Expr::is(fi, level);
     Some(if matches!(b.op, BinOp::Ne(_)) {
         is.not()

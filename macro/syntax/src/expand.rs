@@ -24,8 +24,9 @@ use syn::{Attribute, FnArg, Item, ItemFn};
 
 use crate::args::Args;
 use crate::ast::{CoverFn, ParamKind, is_cover_path, is_levels_attr, is_runtime_test};
+use crate::budget::{BUDGET_VAR, Budget};
 use crate::defaults::{Defaults, DefaultsError};
-use crate::diag::{self, Errors};
+use crate::diag::{self, Diagnostic, Errors};
 use crate::keywords as kw;
 use crate::paths;
 use crate::pins::{PinKey, PinsError, PinsFile};
@@ -53,6 +54,9 @@ pub struct Context {
     /// The crate being compiled (`CARGO_CRATE_NAME`: the library or the test, bin,
     /// example or bench target), when known.
     pub crate_name: Option<String>,
+    /// The row budget of `HEDDLE_BUDGET` at compile time (`None`: unset), or why its
+    /// value is refused.
+    pub budget_env: Result<Option<Budget>, Diagnostic>,
 }
 
 /// The path of the runtime crate under its own name.
@@ -73,6 +77,7 @@ impl Context {
             runtime: default_runtime(),
             package: None,
             crate_name: None,
+            budget_env: Ok(None),
         }
     }
 
@@ -151,6 +156,9 @@ fn expand_fn(args: &Args, f: &ItemFn, ctx: &Context) -> Result<TokenStream, syn:
             Defaults::default()
         }
     };
+    if let Err(d) = &ctx.budget_env {
+        errs.push(syn::Error::new(args.span, d.for_compiler()));
+    }
     let checked = match validate(CoverFn::new(args, f, None), &defaults) {
         Ok(c) => c,
         Err(e) => {
@@ -235,6 +243,13 @@ pub fn row_name(i: usize, n: usize) -> String {
     format!("row_{i:0width$}")
 }
 
+/// The name of follow-up row `i` of `n`: after every design row in name order (a
+/// letter sorts after digits), numbered like the design's rows.
+pub fn followup_name(i: usize, n: usize) -> String {
+    let width = n.saturating_sub(1).to_string().len().max(2);
+    format!("row_followup_{i:0width$}")
+}
+
 fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStream {
     let cover = &checked.cover;
     let cs = &checked.spec;
@@ -249,7 +264,9 @@ fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStre
         let labels = &f.levels;
         quote!(#rt::__private::Factor { name: #n, labels: &[#(#labels),*] })
     });
-    let row_lits = rows.rows.iter().map(|r| {
+    // the design's rows, then the follow-up rows (`cargo heddle probe`)
+    let all_rows: Vec<&Vec<u8>> = rows.rows.iter().chain(&rows.followups).collect();
+    let row_lits = all_rows.iter().map(|r| {
         let cells = r.iter().map(|&l| Literal::u8_unsuffixed(l));
         quote!(&[#(#cells),*])
     });
@@ -303,8 +320,36 @@ fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStre
     };
     let row_attrs = &cover.attrs.rows;
     let n = rows.rows.len();
-    let row_names: Vec<String> = (0..n).map(|i| row_name(i, n)).collect();
-    let row_fns = rows.rows.iter().enumerate().map(|(i, row)| {
+    let extra = rows.followups.len();
+    let row_names: Vec<String> = (0..n)
+        .map(|i| row_name(i, n))
+        .chain((0..extra).map(|i| followup_name(i, extra)))
+        .collect();
+    let followups = Literal::u32_unsuffixed(extra as u32);
+    // the rows past the budget are ignored, so libtest counts them as such
+    let env_budget = ctx.budget_env.as_ref().ok().copied().flatten();
+    let budget = Budget::effective(env_budget, cs.budget);
+    let runs = budget.map_or(n, |b| b.rows(n));
+    let budget_field = if runs < n {
+        let runs = Literal::u32_unsuffixed(runs as u32);
+        quote!(::core::option::Option::Some(#runs))
+    } else {
+        quote!(::core::option::Option::None)
+    };
+    let past_budget = match budget {
+        Some(b) if runs < n && !cover.attrs.rows.iter().any(|a| a.path().is_ident(kw::IGNORE)) => {
+            let source = match env_budget {
+                Some(_) => format!("`{BUDGET_VAR}={b}`"),
+                None => format!("`{}({b})`", kw::BUDGET),
+            };
+            let reason = format!(
+                "heddle: past the row budget, {source} runs {runs} of {n} rows; `{BUDGET_VAR}=all` runs every row"
+            );
+            quote!(#[ignore = #reason])
+        }
+        _ => quote!(),
+    };
+    let row_fns = all_rows.iter().enumerate().map(|(i, row)| {
         let fn_name = format_ident!("{}", row_names[i]);
         let index = Literal::usize_unsuffixed(i);
         // every index was checked against the level counts (pin check or the engine's
@@ -342,9 +387,16 @@ fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStre
                 ),
             ),
         };
+        // follow-up rows always run: they were asked for
+        let past = if i >= runs && i < n {
+            past_budget.clone()
+        } else {
+            quote!()
+        };
         quote! {
             #test_attr
             #(#row_attrs)*
+            #past
             #asyncness fn #fn_name() #output {
                 #body
             }
@@ -362,6 +414,9 @@ fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStre
             use super::*;
 
             #tracked
+            // read here so that the compiler records it and cargo rebuilds the rows when
+            // it changes: the expansion read it to decide which rows are past the budget
+            const _: ::core::option::Option<&str> = ::core::option_env!(#BUDGET_VAR);
 
             static __HEDDLE_SUITE: #rt::__private::Suite = #rt::__private::Suite {
                 krate: ::core::env!("CARGO_PKG_NAME"),
@@ -380,6 +435,8 @@ fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStre
                 pinned: #pinned,
                 should_panic: #should_panic,
                 should_panic_expected: #expected,
+                budget: #budget_field,
+                followups: #followups,
             };
 
             #(#row_fns)*

@@ -101,7 +101,7 @@ fn expr(h: &mut Fnv64, e: &Expr) {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use heddle_generator::Factor;
+    use heddle_generator::{Factor, UNSET};
 
     fn spec() -> Spec {
         Spec::new(vec![
@@ -133,6 +133,9 @@ mod tests {
             spec().seed(12),
             spec().exclude(Expr::is(2, 0)),
             spec().require(vec![0, 0, 0]),
+            // a required row with a cell left to the engine is another spec again
+            spec().require(vec![0, UNSET, 0]),
+            spec().require(vec![0, 0, 0]).require(vec![1, UNSET, UNSET]),
         ];
         let mut s = spec();
         s.factors[0].levels[2] = "65".into();
@@ -149,6 +152,12 @@ mod tests {
         for c in &changed {
             assert_ne!(fingerprint(c), base, "{c:?}");
         }
+        let prints: std::collections::BTreeSet<Fingerprint> = changed.iter().map(fingerprint).collect();
+        assert_eq!(
+            prints.len(),
+            changed.len(),
+            "two changed specs share a fingerprint"
+        );
         assert_ne!(
             fingerprint_with_engine(&spec(), 2),
             fingerprint_with_engine(&spec(), 1)

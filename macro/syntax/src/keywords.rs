@@ -18,8 +18,13 @@ pub const LAMBDA: &str = "lambda";
 pub const SEED: &str = "seed";
 /// Key: a constraint ruling rows out, `exclude(EXPR)`; repeatable.
 pub const EXCLUDE: &str = "exclude";
+/// Key: a row the design must contain, by level labels, `require(name = level, …)`;
+/// parameters left out are chosen by the engine; repeatable.
+pub const REQUIRE: &str = "require";
+/// Key: how many rows of the design run by default, `budget(12)` or `budget(25%)`.
+pub const BUDGET: &str = "budget";
 /// Every key `#[cover(...)]` accepts, in the order messages list them.
-pub const KEYS: &[&str] = &[STRENGTH, LAMBDA, SEED, EXCLUDE];
+pub const KEYS: &[&str] = &[STRENGTH, LAMBDA, SEED, EXCLUDE, REQUIRE, BUDGET];
 
 /// libtest's attribute, which `#[cover]` writes itself on every row.
 pub const TEST: &str = "test";

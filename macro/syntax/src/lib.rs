@@ -10,14 +10,16 @@
 //! 2. [`ast`] — the function classified, borrowing from those trees and the `ItemFn`;
 //! 3. [`mod@validate`] — every check, errors accumulated and located, giving a
 //!    [`CoverSpec`]: the engine's [`heddle_generator::Spec`] (labels are the canonical
-//!    text of each level, see [`text`]; excludes converted by [`exclude`]), the seed
+//!    text of each level, see [`text`]; excludes converted by [`exclude`], required rows
+//!    by [`require`], names and levels in both looked up by [`resolve`]), the seed
 //!    ([`hash::default_seed`] unless given) and the [`Fingerprint`];
 //! 4. [`rows`] — the rows, from the [`pins`] file or the engine;
 //! 5. [`mod@expand`] — the generated code.
 //!
 //! Beside the passes: [`keywords`] (every word of the syntax), [`diag`] (compile errors
 //! from diagnostics), [`defaults`] (`[package.metadata.heddle]`), [`paths`] (a test file
-//! named as pins name it, and its cargo target), [`hash`] (the default seed).
+//! named as pins name it, and its cargo target), [`hash`] (the default seed), [`budget`]
+//! (the row budget of the attribute and of `HEDDLE_BUDGET`).
 //!
 //! For the plugin: [`find::analyse_source`] finds and analyses every annotated function
 //! of a file, [`Defaults::load`] reads the crate's defaults, [`PinsFile`] reads and
@@ -27,6 +29,7 @@
 
 pub mod args;
 pub mod ast;
+pub mod budget;
 pub mod defaults;
 pub mod diag;
 pub mod exclude;
@@ -37,6 +40,8 @@ pub mod hash;
 pub mod keywords;
 pub mod paths;
 pub mod pins;
+pub mod require;
+pub mod resolve;
 pub mod rows;
 pub mod text;
 pub mod validate;
@@ -44,6 +49,6 @@ pub mod validate;
 pub use defaults::{Defaults, DefaultsError};
 pub use expand::{Context, expand};
 pub use fingerprint::{Fingerprint, fingerprint};
-pub use pins::{Origin, Pin, PinKey, PinsError, PinsFile};
+pub use pins::{FollowUp, Origin, Pin, PinKey, PinsError, PinsFile};
 pub use rows::{Rows, RowsError, rows_for};
 pub use validate::{Checked, CoverSpec, validate};

@@ -15,10 +15,12 @@ use crate::validate::CoverSpec;
 /// The rows of a function and where they came from.
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub struct Rows {
-    /// Level index per factor, per row.
+    /// Level index per factor, per row: the design.
     pub rows: Vec<Vec<u8>>,
     /// They came from the pins file.
     pub pinned: bool,
+    /// Follow-up rows from the pins file (`cargo heddle probe`), run after the design's.
+    pub followups: Vec<Vec<u8>>,
 }
 
 /// Why no rows could be had.
@@ -46,6 +48,13 @@ pub enum RowsError {
     },
     /// The engine refused the spec.
     Engine(heddle_generator::Error),
+    /// The function's follow-up rows were proposed for another spec.
+    StaleFollowUp {
+        /// The function's key.
+        key: PinKey,
+        /// Their entry's line in the pins file.
+        line: Option<usize>,
+    },
 }
 
 fn line(l: Option<usize>) -> String {
@@ -75,6 +84,21 @@ impl RowsError {
                 format!("run `{}` to rewrite it", crate::pins::PIN_COMMAND),
             ),
             RowsError::Engine(e) => diag::diagnostic(format!("cannot generate rows: {e}"), e.hint()),
+            RowsError::StaleFollowUp { key, line: l } => diag::diagnostic(
+                format!(
+                    "the follow-up rows of `{}` in `{}`{} are stale: the spec changed since they were proposed",
+                    key.function,
+                    crate::pins::PINS_FILE,
+                    line(*l)
+                ),
+                format!(
+                    "run `{} --clear {}` to drop them (or `{}`, which drops them too), then run the tests and `{}` again",
+                    crate::pins::PROBE_COMMAND,
+                    key.function,
+                    crate::pins::PIN_COMMAND,
+                    crate::pins::PROBE_COMMAND
+                ),
+            ),
         }
     }
 }
@@ -88,8 +112,33 @@ impl fmt::Display for RowsError {
 impl std::error::Error for RowsError {}
 
 /// The rows of `spec`: its pin under `key` in `pins` when there is one (an error when
-/// the pin is stale or does not fit), else freshly generated with [`Effort::Fast`].
+/// the pin is stale or does not fit), else freshly generated with [`Effort::Fast`]; and
+/// its follow-up rows, when `pins` holds some for `key` (an error when they are stale or
+/// do not fit).
 pub fn rows_for(spec: &CoverSpec, key: Option<&PinKey>, pins: Option<&PinsFile>) -> Result<Rows, RowsError> {
+    let mut rows = design_rows(spec, key, pins)?;
+    if let Some((key, pins, f)) = key
+        .zip(pins)
+        .and_then(|(key, pins)| Some((key, pins, pins.followup(key)?)))
+    {
+        if f.fingerprint != spec.fingerprint {
+            return Err(RowsError::StaleFollowUp {
+                key: key.clone(),
+                line: pins.followup_line(key),
+            });
+        }
+        f.check(&spec.spec).map_err(|reason| RowsError::Corrupt {
+            key: key.clone(),
+            line: pins.followup_line(key),
+            reason,
+        })?;
+        rows.followups = f.rows.clone();
+    }
+    Ok(rows)
+}
+
+/// The design's rows: the pin's, or the engine's.
+fn design_rows(spec: &CoverSpec, key: Option<&PinKey>, pins: Option<&PinsFile>) -> Result<Rows, RowsError> {
     let found = key
         .zip(pins)
         .and_then(|(key, pins)| Some((key, pins, pins.get(key)?)));
@@ -110,11 +159,13 @@ pub fn rows_for(spec: &CoverSpec, key: Option<&PinKey>, pins: Option<&PinsFile>)
         return Ok(Rows {
             rows: pin.rows.clone(),
             pinned: true,
+            followups: Vec::new(),
         });
     }
     let design = generate(&spec.spec, Effort::Fast).map_err(RowsError::Engine)?;
     Ok(Rows {
         rows: design.rows,
         pinned: false,
+        followups: Vec::new(),
     })
 }

@@ -356,3 +356,179 @@ fn generated_code_reaches_the_runtime_by_the_context_path_and_names_the_target()
     assert!(all.contains("target : \"\""), "{all}");
     assert_eq!(text(&default_runtime()), ":: heddle_test");
 }
+
+/// Whether a row function carries `#[ignore]`, and its reason.
+fn ignored(r: &ItemFn) -> Option<String> {
+    r.attrs.iter().find(|a| a.path().is_ident("ignore")).map(text)
+}
+
+#[test]
+fn rows_past_the_budget_are_ignored_and_the_suite_says_how_many_run() {
+    use heddle_syntax::budget::Budget;
+    let attr = format!("{ATTR}, budget(25%)");
+    let out = run(&attr, ITEM, &ctx_in("tests/codec.rs"));
+    assert!(errors(&out).is_empty(), "{:?}", errors(&out));
+    let m = the_mod(&out).unwrap();
+    let rows = row_fns(m);
+    let runs = Budget::Percent(25).rows(rows.len());
+    assert!(runs < rows.len());
+    for (i, r) in rows.iter().enumerate() {
+        match ignored(r) {
+            None => assert!(i < runs, "row {i} runs"),
+            Some(why) => {
+                assert!(i >= runs, "row {i} is ignored");
+                assert!(
+                    why.contains(&format!("`budget(25%)` runs {runs} of {} rows", rows.len())),
+                    "{why}"
+                );
+            }
+        }
+    }
+    let all = text(m);
+    assert!(
+        all.contains(&format!("budget : :: core :: option :: Option :: Some ({runs})")),
+        "{all}"
+    );
+    // the rows are those of the spec without a budget: a budget is no part of the spec
+    let plain = run(ATTR, ITEM, &ctx_in("tests/codec.rs"));
+    let plain_rows: Vec<String> = row_fns(the_mod(&plain).unwrap())
+        .iter()
+        .map(|r| text(&r.block))
+        .collect();
+    let budget_rows: Vec<String> = rows.iter().map(|r| text(&r.block)).collect();
+    assert_eq!(plain_rows, budget_rows);
+    assert!(text(the_mod(&plain).unwrap()).contains("budget : :: core :: option :: Option :: None"));
+    // every expansion names the variable, so cargo tracks it
+    assert!(all.contains("option_env ! (\"HEDDLE_BUDGET\")"), "{all}");
+}
+
+#[test]
+fn the_env_budget_overrides_the_attribute_and_a_bad_one_is_an_error() {
+    use heddle_syntax::budget::Budget;
+    let attr = format!("{ATTR}, budget(2)");
+    let all = Context {
+        budget_env: Ok(Some(Budget::All)),
+        ..ctx_in("tests/codec.rs")
+    };
+    let out = run(&attr, ITEM, &all);
+    let m = the_mod(&out).unwrap();
+    assert!(row_fns(m).iter().all(|r| ignored(r).is_none()));
+    assert!(text(m).contains("budget : :: core :: option :: Option :: None"));
+
+    let three = Context {
+        budget_env: Ok(Some(Budget::Rows(3))),
+        ..ctx_in("tests/codec.rs")
+    };
+    let out = run(ATTR, ITEM, &three);
+    let rows = row_fns(the_mod(&out).unwrap());
+    let ignored_at: Vec<usize> = (0..rows.len()).filter(|&i| ignored(rows[i]).is_some()).collect();
+    assert_eq!(ignored_at, (3..rows.len()).collect::<Vec<_>>());
+    assert!(ignored(rows[3]).unwrap().contains("`HEDDLE_BUDGET=3` runs 3 of"));
+
+    // a function ignored as a whole keeps its one `#[ignore]`
+    let out = run(
+        "budget(1)",
+        "#[ignore] fn f(#[levels(1, 2)] a: u8) {}",
+        &Context::detached(),
+    );
+    for r in row_fns(the_mod(&out).unwrap()) {
+        assert_eq!(r.attrs.iter().filter(|a| a.path().is_ident("ignore")).count(), 1);
+    }
+
+    let bad = Context {
+        budget_env: heddle_syntax::budget::Budget::from_env(Some("lots".into())),
+        ..ctx_in("tests/codec.rs")
+    };
+    let out = run(ATTR, ITEM, &bad);
+    let errs = errors(&out);
+    assert_eq!(errs.len(), 1, "{errs:?}");
+    assert!(
+        errs[0].starts_with("`HEDDLE_BUDGET` is invalid: `lots` is not a row budget\nhint: "),
+        "{errs:?}"
+    );
+    assert!(the_mod(&out).is_none());
+}
+
+/// A context whose pins file holds follow-up rows for `roundtrip` (and no pin).
+fn followup_ctx(rows: Vec<Vec<u8>>, fingerprint: Option<Fingerprint>) -> Context {
+    let mut ctx = pinned_ctx(vec![vec![0, 0, 0]], None);
+    let Ok(Some(pins)) = &mut ctx.pins else {
+        unreachable!("pinned_ctx has a pins file")
+    };
+    let key = PinKey::new("tests/codec.rs", "roundtrip");
+    let fp = pins.get(&key).unwrap().fingerprint;
+    pins.remove(&key);
+    pins.set_followup(
+        key,
+        Some(heddle_syntax::FollowUp {
+            fingerprint: fingerprint.unwrap_or(fp),
+            rows,
+        }),
+    );
+    ctx
+}
+
+#[test]
+fn followup_rows_run_after_the_design_and_always() {
+    let attr = format!("{ATTR}, budget(2)");
+    let plain = run(&attr, ITEM, &ctx_in("tests/codec.rs"));
+    let design = row_fns(the_mod(&plain).unwrap()).len();
+    let out = run(
+        &attr,
+        ITEM,
+        &followup_ctx(vec![vec![2, 1, 0], vec![2, 1, 0]], None),
+    );
+    assert!(errors(&out).is_empty(), "{:?}", errors(&out));
+    let m = the_mod(&out).unwrap();
+    let rows = row_fns(m);
+    assert_eq!(rows.len(), design + 2);
+    // the design's rows are those without follow-ups, named as before
+    let plain_rows = row_fns(the_mod(&plain).unwrap());
+    for (a, b) in rows.iter().zip(&plain_rows) {
+        assert_eq!((text(&a.sig), text(&a.block)), (text(&b.sig), text(&b.block)));
+    }
+    for (i, r) in rows[design..].iter().enumerate() {
+        assert_eq!(r.sig.ident, format!("row_followup_{i:02}"));
+        assert!(text(&r.block).contains("super :: roundtrip (64 , Codec :: Rle , true)"));
+        // a budget never holds back a follow-up row
+        assert!(ignored(r).is_none());
+    }
+    let all = text(m);
+    assert!(all.contains("followups : 2"), "{all}");
+    assert!(
+        all.contains("\"row_followup_00\" , \"row_followup_01\"]"),
+        "{all}"
+    );
+    // names sort in row order, so libtest lists the follow-up rows last
+    let names: Vec<String> = rows.iter().map(|r| r.sig.ident.to_string()).collect();
+    let mut sorted = names.clone();
+    sorted.sort();
+    assert_eq!(names, sorted);
+}
+
+#[test]
+fn stale_or_unfit_followup_rows_are_errors() {
+    let out = run(
+        ATTR,
+        ITEM,
+        &followup_ctx(vec![vec![0, 0, 0]], Some(Fingerprint(9))),
+    );
+    let errs = errors(&out);
+    assert_eq!(errs.len(), 1, "{errs:?}");
+    assert!(
+        errs[0].starts_with("the follow-up rows of `roundtrip` in `heddle-pins.toml` are stale"),
+        "{errs:?}"
+    );
+    assert!(
+        errs[0].contains("`cargo heddle probe --clear roundtrip`"),
+        "{errs:?}"
+    );
+    assert!(the_mod(&out).is_none());
+    // Delta with batch 1 is excluded
+    let out = run(ATTR, ITEM, &followup_ctx(vec![vec![0, 2, 0]], None));
+    let errs = errors(&out);
+    assert!(
+        errs[0].contains("row 0 of the follow-up rows is ruled out by exclude #1"),
+        "{errs:?}"
+    );
+}

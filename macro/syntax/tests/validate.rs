@@ -292,3 +292,140 @@ fn rows_from_the_engine_cover_every_pair() {
     assert!(heddle_generator::verify(&s.spec, &rows.rows).is_ok());
     assert_eq!(rows.rows.len(), 4);
 }
+
+#[test]
+fn required_rows_by_level_labels() {
+    use heddle_generator::UNSET;
+    let f = "fn f(#[levels(1, 2, 3)] a: u8, #[levels(X::A, X::B)] b: X, #[levels(true, false)] c: bool) {}";
+    let s = check(
+        "require(b = X :: B, a = 3), require(c = false, a = 1, b = X::A)",
+        f,
+    )
+    .unwrap();
+    assert_eq!(s.spec.required, vec![vec![2, 1, UNSET], vec![0, 0, 1]]);
+    assert_eq!(s.required, ["b = X::B, a = 3", "c = false, a = 1, b = X::A"]);
+    // the design starts with them, the open cell filled, and still covers every pair
+    let rows = heddle_syntax::rows_for(&s, None, None).unwrap();
+    assert_eq!(&rows.rows[0][..2], &[2, 1]);
+    assert_eq!(rows.rows[1], vec![0, 0, 1]);
+    assert!(heddle_generator::verify(&s.spec, &rows.rows).is_ok());
+    // a required row is part of the spec: another one is another fingerprint
+    let other = check("require(b = X::B, a = 2)", f).unwrap();
+    assert_ne!(other.fingerprint, s.fingerprint);
+    assert_ne!(check("", f).unwrap().fingerprint, other.fingerprint);
+}
+
+#[test]
+fn required_rows_count_toward_coverage() {
+    // 2^3 at strength 2 needs 4 rows, and both the even-weight rows {000, 011, 101, 110}
+    // and their complements {111, 100, 010, 001} are such arrays (OA(4; 2, 3, 2), the
+    // parity-check construction; Hedayat, Sloane and Stufken 1999, ch. 4, from memory):
+    // a design around a required row that counts toward coverage needs no fifth row
+    let f = "fn f(#[levels(0, 1)] a: u8, #[levels(0, 1)] b: u8, #[levels(0, 1)] c: u8) {}";
+    for req in ["require(a = 1, b = 1, c = 1)", "require(a = 0, b = 1, c = 0)"] {
+        let s = check(req, f).unwrap();
+        let rows = heddle_syntax::rows_for(&s, None, None).unwrap();
+        assert_eq!(rows.rows.len(), 4, "{req}: {:?}", rows.rows);
+        assert_eq!(rows.rows[0], s.spec.required[0]);
+        assert!(heddle_generator::verify(&s.spec, &rows.rows).is_ok());
+    }
+}
+
+#[test]
+fn bad_required_rows() {
+    let f = "fn f(#[levels(1, 2, 3)] a: u8, #[levels(X::A, X::B)] b: X, #[levels(true, false)] c: bool) {}";
+    assert_one_error(
+        check("require(d = 1)", f),
+        "unknown parameter `d` in `require(…)`",
+    );
+    assert_one_error(check("require(a = 4)", f), "`4` is not a level of `a`");
+    assert_one_error(
+        check("require(a = 1, a = 2)", f),
+        "`a` is given twice in one `require(…)`",
+    );
+    assert_one_error(
+        check("require(a == 1)", f),
+        "expected `name = level` in `require(…)`",
+    );
+    assert_one_error(
+        check("require(1 = a)", f),
+        "expected a parameter name on the left of `=`",
+    );
+    assert_one_error(check("require()", f), "`require()` names no parameter");
+    assert_one_error(
+        check("require", f),
+        "`require` takes parameters and their levels in parentheses",
+    );
+    assert_one_error(
+        check("require = 1", f),
+        "`require` takes parameters and their levels in parentheses",
+    );
+    assert_one_error(
+        check("require(a = 1 b = 2)", f),
+        "cannot read `require(a = 1 b = 2)`",
+    );
+    assert_one_error(
+        check("exclude(a == 1 && c == true), require(c = true, a = 1)", f),
+        "`require(c = true, a = 1)` is ruled out by `exclude(a == 1 && c == true)`",
+    );
+    assert_one_error(
+        check(
+            "exclude(a == 2 && c == true), exclude(a == 2 && c == false), require(a = 2)",
+            f,
+        ),
+        "`require(a = 2)` has no allowed row",
+    );
+    // a partial row some fill of which is allowed is fine
+    assert!(check("exclude(a == 2 && c == true), require(a = 2)", f).is_ok());
+    // every mistake of every require at once
+    let errs = check("require(d = 1, a = 9), require(b = X::C)", f).unwrap_err();
+    assert_eq!(errs.len(), 3, "{errs:#?}");
+}
+
+#[test]
+fn budgets_and_their_mistakes() {
+    use heddle_syntax::budget::Budget;
+    let f = "fn f(#[levels(1, 2)] a: u8, #[levels(1, 2)] b: u8) {}";
+    assert_eq!(check("budget(3)", f).unwrap().budget, Some(Budget::Rows(3)));
+    assert_eq!(check("budget(25%)", f).unwrap().budget, Some(Budget::Percent(25)));
+    assert_eq!(check("", f).unwrap().budget, None);
+    // a budget picks rows of the design, it is not part of the spec
+    assert_eq!(
+        check("budget(3)", f).unwrap().fingerprint,
+        check("", f).unwrap().fingerprint
+    );
+    assert_one_error(
+        check("budget = 3", f),
+        "`budget` takes a row count or a share in parentheses",
+    );
+    assert_one_error(
+        check("budget", f),
+        "`budget` takes a row count or a share in parentheses",
+    );
+    assert_one_error(
+        check("budget(0)", f),
+        "`budget(0)`: a budget of `0` rows runs nothing",
+    );
+    assert_one_error(
+        check("budget(0%)", f),
+        "`budget(0%)`: `0%` is not a share between 1% and 100%",
+    );
+    assert_one_error(
+        check("budget(101%)", f),
+        "`budget(101%)`: `101%` is not a share between",
+    );
+    assert_one_error(
+        check("budget(1.5)", f),
+        "`budget(1.5)`: `1.5` is not a whole number",
+    );
+    assert_one_error(
+        check("budget(3u8)", f),
+        "`budget(3u8)`: `3u8` is not a whole number",
+    );
+    assert_one_error(
+        check("budget(all)", f),
+        "`budget(all)` is not a row count or a share",
+    );
+    assert_one_error(check("budget()", f), "`budget()` is not a row count or a share");
+    assert_one_error(check("budget(3), budget(4)", f), "duplicate key `budget`");
+}

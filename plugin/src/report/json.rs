@@ -12,10 +12,12 @@
 //!   "suites": [ {
 //!       "crate", "target", "file", "function", "test",   test = rows module path
 //!       "fingerprint", "strength", "lambda", "seed",         seed: a decimal string
-//!       "rows", "passed", "failed", "not_run", "executions",
+//!       "rows", "followups", "passed", "failed", "not_run", "executions",
 //!       "coverage": { "rows_run", "interactions", "interactions_run",
 //!                     "interactions_at_lambda", "complete" },      t-way interactions of
 //!                                              the runs read; complete: all at lambda
+//!                                              rows counts the follow-up rows (`cargo heddle
+//!                                              probe`), the last `followups` of them
 //!       "interactions": [ { "levels": {parameter: label, …}, "runs", "passes", "failures" } ],
 //!                                              every single level and every 2..t-way one
 //!       "suspects": [ { "levels", "score", "reason", "always", "verdict", "explains",
@@ -26,9 +28,12 @@
 //!                                              passed and failed
 //!       "failing_rows": [ { "row", "test", "levels", "runs", "failures", "message", "rerun" } ],
 //!       "advice": { "confidence", "detectable_rate", "runs_per_interaction", "rounds",
-//!                   "flake_rate", "lambda_needed", "rows_needed" }
+//!                   "flake_rate", "lambda_needed", "rows_needed" },
 //!                                              detectable_rate at runs_per_interaction
 //!                                              (λ × rounds of --repeat, runs merged)
+//!       "budget": { "rows", "of", "reach": [ { "strength", "interactions", "once", "lambda" } ] }
+//!                                              only when a row budget left rows out: the run
+//!                                              is then not complete; reach per strength 1..t
 //!   } ] }
 //! ```
 //! `levels` objects list parameters in declaration order.
@@ -75,6 +80,7 @@ struct Suite<'a> {
     lambda: u32,
     seed: String,
     rows: usize,
+    followups: u32,
     passed: usize,
     failed: usize,
     not_run: usize,
@@ -85,6 +91,23 @@ struct Suite<'a> {
     flaky: Vec<Flaky<'a>>,
     failing_rows: Vec<FailingRow<'a>>,
     advice: Advice,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    budget: Option<Budget>,
+}
+
+#[derive(Serialize)]
+struct Budget {
+    rows: usize,
+    of: usize,
+    reach: Vec<Reach>,
+}
+
+#[derive(Serialize)]
+struct Reach {
+    strength: usize,
+    interactions: u64,
+    once: u64,
+    lambda: u64,
 }
 
 #[derive(Serialize)]
@@ -162,6 +185,7 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
         lambda: spec.lambda,
         seed: spec.seed.to_string(),
         rows: spec.rows.len(),
+        followups: spec.followups,
         passed: s.passed,
         failed: s.failed,
         not_run: s.not_run,
@@ -242,6 +266,20 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
             lambda_needed: s.advice.flake.map(|f| f.1),
             rows_needed: s.advice.flake.and_then(|f| f.2),
         },
+        budget: s.budget.as_ref().map(|b| Budget {
+            rows: b.rows,
+            of: b.of,
+            reach: b
+                .reach
+                .iter()
+                .map(|r| Reach {
+                    strength: r.strength,
+                    interactions: r.interactions,
+                    once: r.once,
+                    lambda: r.lambda,
+                })
+                .collect(),
+        }),
     }
 }
 

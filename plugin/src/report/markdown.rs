@@ -87,6 +87,16 @@ pub fn render(report: &Report<'_>) -> String {
             );
         }
     }
+    for s in report.suites.iter() {
+        if let Some(b) = &s.budget {
+            let _ = writeln!(
+                out,
+                "\n> `{}`: not a complete run; {}",
+                cell(&s.spec.suite),
+                cell(&b.line(s.spec.lambda))
+            );
+        }
+    }
     for n in &report.notes {
         let _ = writeln!(out, "\n> note: {}", cell(n));
     }

@@ -19,6 +19,7 @@ use heddle_store::{Records, Store, StoreError, find_root};
 use heddle_test::record::{RowRecord, SpecRecord};
 
 use crate::analysis::{self, Analysis};
+use crate::budget::BudgetReach;
 use crate::failure::{Diagnostic, Failure, usage};
 use crate::workspace::{self, Selection};
 use ran::Ran;
@@ -229,6 +230,9 @@ pub struct SuiteReport<'a> {
     /// Per run read (in the order of [`Report::runs`]), the count of each row: the
     /// history behind `--runs N`.
     pub by_run: Vec<Vec<Count>>,
+    /// The row budget the run had, when it left rows out (such a run is never
+    /// complete), and the coverage its rows reach.
+    pub budget: Option<BudgetReach>,
 }
 
 impl SuiteReport<'_> {
@@ -455,6 +459,7 @@ fn suite_report<'a>(
         rounds: ran.min_row_runs.max(1),
         flake,
     };
+    let budget = budget_reach(spec, &tallies);
     SuiteReport {
         spec,
         tallies,
@@ -467,7 +472,19 @@ fn suite_report<'a>(
         advice,
         manifest_path: None,
         by_run: per_run::row_counts(run_ids, records, spec.rows.len()),
+        budget,
     }
+}
+
+/// What the rows a budgeted run let through cover, by the one function `show` uses too.
+fn budget_reach(spec: &SpecRecord, tallies: &Tallies) -> Option<BudgetReach> {
+    let design = spec.design_rows();
+    let rows = (spec.budget? as usize).min(design);
+    (rows < design).then(|| BudgetReach {
+        rows,
+        of: design,
+        reach: tallies.reach(rows, design, spec.lambda),
+    })
 }
 
 /// Highest λ the advice prices by generating the design; above it, repeating runs

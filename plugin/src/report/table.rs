@@ -59,13 +59,13 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, report_other_runs: us
     } else {
         st.green("0 failed")
     };
+    let rows = match spec.followups {
+        0 => format!("{} rows", spec.rows.len()),
+        f => format!("{} rows + {f} follow-up", spec.design_rows()),
+    };
     let mut line = format!(
-        "  strength {}, lambda {}, seed {} · {} rows: {} passed, {status}",
-        spec.strength,
-        spec.lambda,
-        spec.seed,
-        spec.rows.len(),
-        s.passed
+        "  strength {}, lambda {}, seed {} · {rows}: {} passed, {status}",
+        spec.strength, spec.lambda, spec.seed, s.passed
     );
     if s.not_run > 0 {
         let _ = write!(line, ", {} not run", s.not_run);
@@ -75,9 +75,34 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, report_other_runs: us
         let _ = write!(line, " ({} executions)", total.runs);
     }
     let _ = writeln!(out, "{line}");
+    if let Some(b) = &s.budget {
+        let _ = writeln!(
+            out,
+            "  {} {}",
+            st.yellow("not a complete run:"),
+            b.line(spec.lambda)
+        );
+    }
 
     let ran = &s.ran;
-    if s.analysis.failures == 0 && ran.complete() {
+    if s.analysis.failures == 0 {
+        // a budgeted run that ran every row its budget allowed: clear as far as it went
+        if let Some(b) = s.budget.as_ref().filter(|b| s.not_run <= b.of - b.rows) {
+            let _ = writeln!(
+                out,
+                "  {} no failures in the {} rows the budget ran; the other {} did not run",
+                st.green("budget clear:"),
+                b.rows,
+                b.of - b.rows
+            );
+            advice(out, s, st);
+            if all {
+                interactions(out, s, true, st);
+            }
+            return;
+        }
+    }
+    if s.analysis.failures == 0 && ran.complete() && s.budget.is_none() {
         let _ = writeln!(
             out,
             "  {} every one of the {} {}-way interactions passed in at least {} row{}, each run at least {} time{}",

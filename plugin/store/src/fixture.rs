@@ -50,6 +50,8 @@ impl SpecBuilder {
                 fingerprint: "00000000000000fp".into(),
                 pinned: false,
                 should_panic: false,
+                budget: None,
+                followups: 0,
                 time: "2026-01-01T00:00:00.000000Z".into(),
             },
         };
@@ -100,6 +102,23 @@ impl SpecBuilder {
         let width = rows.len().saturating_sub(1).to_string().len().max(2);
         self.rec.row_names = (0..rows.len()).map(|i| format!("row_{i:0width$}")).collect();
         self.rec.rows = rows;
+        self
+    }
+
+    /// Follow-up rows after the design's, named `row_followup_00`, … as the expansion
+    /// names them.
+    pub fn followup_rows(mut self, rows: Vec<Vec<u8>>) -> SpecBuilder {
+        let width = rows.len().saturating_sub(1).to_string().len().max(2);
+        let names = (0..rows.len()).map(|i| format!("row_followup_{i:0width$}"));
+        self.rec.row_names.extend(names);
+        self.rec.followups += rows.len() as u32;
+        self.rec.rows.extend(rows);
+        self
+    }
+
+    /// The rows the row budget let run (the first `rows`).
+    pub fn budget(mut self, rows: u32) -> SpecBuilder {
+        self.rec.budget = Some(rows);
         self
     }
 
@@ -179,4 +198,19 @@ pub fn row(spec: &SpecRecord, row: usize, outcome: Outcome) -> RowRecord {
         time: "2026-01-01T00:00:01.000000Z".into(),
         attempt: None,
     }
+}
+
+/// OA(9; 2, 4, 3) from the linear (Rao-Hamming) construction (a, b, a+b, a+2b) mod 3:
+/// the four column vectors (1,0), (0,1), (1,1), (1,2) are pairwise linearly independent
+/// over GF(3), so every pair of columns shows each of the 9 level pairs exactly once
+/// (Hedayat, Sloane & Stufken 1999, "Orthogonal Arrays", Theorem 3.20, numbering from
+/// memory): a design whose tallies and aliases are known in advance.
+pub fn oa9() -> Vec<Vec<u8>> {
+    let mut rows = Vec::new();
+    for a in 0..3u8 {
+        for b in 0..3u8 {
+            rows.push(vec![a, b, (a + b) % 3, (a + 2 * b) % 3]);
+        }
+    }
+    rows
 }

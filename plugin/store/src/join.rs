@@ -50,7 +50,20 @@ pub(crate) fn join(runs: Vec<RunInfo>, partials: Vec<Partial>) -> Records {
         stats.absorb(part.stats);
         for spec in part.specs {
             let known = variants.entry(spec.key()).or_default();
-            if !known.iter().any(|k| k.same_spec(&spec)) {
+            if let Some(same) = known.iter_mut().find(|k| k.same_spec(&spec)) {
+                // runs of one spec under different row budgets: the merge ran what the
+                // widest allowed
+                same.budget = SpecRecord::wider_budget(same.budget, spec.budget);
+                // a later round of follow-up rows continues an earlier one: keep the
+                // longer, so the rows of both place
+                if spec.extends(same) {
+                    same.rows = spec.rows;
+                    same.row_names = spec.row_names;
+                    same.followups = spec.followups;
+                } else if !same.extends(&spec) {
+                    stats.conflicting_specs += 1;
+                }
+            } else {
                 if !known.is_empty() {
                     stats.conflicting_specs += 1;
                 }

@@ -35,7 +35,7 @@
 //! Modules: [`discover`] (stores and their runs on disk), `read` (a run's files, in
 //! parallel), `join` (rows to their suite), [`notes`] (what was skipped, in words),
 //! [`spec`] (a spec line checked, and turned back into the engine's spec), [`tally`]
-//! (counts per interaction), [`words`] (counts in words), [`fixture`] (records made by
+//! (counts per interaction), [`reach`] (what a prefix of the rows covers), [`words`] (counts in words), [`fixture`] (records made by
 //! hand, for tests of readers).
 
 #![warn(missing_docs)]
@@ -45,6 +45,7 @@ pub mod discover;
 pub mod fixture;
 mod join;
 pub mod notes;
+pub mod reach;
 mod read;
 pub mod spec;
 pub mod tally;
@@ -53,5 +54,6 @@ pub mod words;
 pub use discover::{DISCOVER_DEPTH, RunInfo, Store, StoreError, find_root};
 pub use join::{Records, SuiteRecords};
 pub use notes::{LineRef, ReadStats};
+pub use reach::{Reach, reach};
 pub use spec::{SpecError, engine_spec};
 pub use tally::{Count, Interaction, Tallies, Tally, tally};

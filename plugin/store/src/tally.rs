@@ -181,7 +181,7 @@ pub fn tally(
 
 /// [`tally`] over plain rows; the caller guarantees `rows` have `k` levels each and
 /// `1 <= t <= k.min(8)` (as [`spec::check`] checks).
-fn tally_rows(
+pub(crate) fn tally_rows(
     rows: &[Vec<u8>],
     k: usize,
     t: usize,
@@ -243,7 +243,7 @@ fn tally_rows(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::fixture::SpecBuilder;
+    use crate::fixture::{SpecBuilder, oa9};
     use proptest::prelude::*;
 
     fn spec_of(levels: &[usize], t: u32, rows: Vec<Vec<u8>>) -> SpecRecord {
@@ -316,21 +316,6 @@ mod tests {
         for a in 1..=spec.strength as usize {
             assert!(tallies.of_arity(a).iter().all(|t| t.interaction.arity() == a));
         }
-    }
-
-    /// OA(9; 2, 4, 3) from the linear (Rao-Hamming) construction (a, b, a+b, a+2b) mod 3:
-    /// the four column vectors (1,0), (0,1), (1,1), (1,2) are pairwise linearly
-    /// independent over GF(3), so every pair of columns shows each of the 9 level pairs
-    /// exactly once (Hedayat, Sloane & Stufken 1999, "Orthogonal Arrays", Theorem 3.20,
-    /// numbering from memory).
-    fn oa9() -> Vec<Vec<u8>> {
-        let mut rows = Vec::new();
-        for a in 0..3u8 {
-            for b in 0..3u8 {
-                rows.push(vec![a, b, (a + b) % 3, (a + 2 * b) % 3]);
-            }
-        }
-        rows
     }
 
     #[test]

@@ -86,6 +86,8 @@ mod roundtrip {
         pinned: false,
         should_panic: false,
         should_panic_expected: None,
+        budget: None,
+        followups: 0,
     };
 
     #[test]
@@ -170,6 +172,8 @@ mod expected_panic {
         pinned: true,
         should_panic: true,
         should_panic_expected: Some("kaboom"),
+        budget: None,
+        followups: 0,
     };
 
     #[test]
@@ -229,6 +233,8 @@ mod threads {
         pinned: false,
         should_panic: false,
         should_panic_expected: None,
+        budget: None,
+        followups: 0,
     };
 
     pub const THREADS: usize = 16;

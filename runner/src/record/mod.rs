@@ -130,8 +130,21 @@ pub struct SpecRecord {
     pub pinned: bool,
     /// Whether the function carries `#[should_panic]`.
     pub should_panic: bool,
+    /// How many rows the row budget let run (the first ones); absent when every row
+    /// runs. The rows past it were compiled as ignored: a run of this spec is never
+    /// complete.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub budget: Option<u32>,
+    /// How many of the last rows are follow-up rows (proposed by `cargo heddle probe` to
+    /// tell suspects apart), not the design's; absent when none.
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub followups: u32,
     /// When the line was written (UTC, RFC 3339).
     pub time: String,
+}
+
+fn is_zero(n: &u32) -> bool {
+    *n == 0
 }
 
 /// The outcome of one row run.
@@ -240,17 +253,40 @@ impl SpecRecord {
         ))
     }
 
-    /// Whether two spec lines describe the same spec (they differ only in run and time).
+    /// How many rows the design has (the rows before the follow-up rows).
+    pub fn design_rows(&self) -> usize {
+        self.rows.len().saturating_sub(self.followups as usize)
+    }
+
+    /// Whether two spec lines describe the same spec and design: they differ only in
+    /// run, time, the row budget (how much of the design a run was allowed) and the
+    /// follow-up rows after the design (see [`SpecRecord::extends`]).
     pub fn same_spec(&self, other: &SpecRecord) -> bool {
-        SpecRecord {
-            run: String::new(),
-            time: String::new(),
-            ..self.clone()
-        } == SpecRecord {
-            run: String::new(),
-            time: String::new(),
-            ..other.clone()
-        }
+        let design = |s: &SpecRecord| {
+            let n = s.design_rows();
+            SpecRecord {
+                run: String::new(),
+                time: String::new(),
+                budget: None,
+                followups: 0,
+                rows: s.rows[..n].to_vec(),
+                row_names: s.row_names.iter().take(n).cloned().collect(),
+                ..s.clone()
+            }
+        };
+        design(self) == design(other)
+    }
+
+    /// Whether this spec line's rows continue `other`'s: the same rows and names, then
+    /// more follow-up rows (a later round of `cargo heddle probe`).
+    pub fn extends(&self, other: &SpecRecord) -> bool {
+        self.rows.starts_with(&other.rows) && self.row_names.starts_with(&other.row_names)
+    }
+
+    /// The larger of two budgets of one spec, `None` (every row) the largest: what runs
+    /// merged from both were allowed.
+    pub fn wider_budget(a: Option<u32>, b: Option<u32>) -> Option<u32> {
+        a.zip(b).map(|(a, b)| a.max(b))
     }
 }
 
@@ -320,6 +356,8 @@ mod tests {
             fingerprint: "f00d".into(),
             pinned: false,
             should_panic: false,
+            budget: None,
+            followups: 0,
             time: "2025-01-02T03:04:05.000006Z".into(),
         }
     }
@@ -469,6 +507,41 @@ mod tests {
             Some("cargo test -p demo --test codec roundtrip::row_02 -- --exact")
         );
         assert_eq!(spec().row_test_name(3), None);
+    }
+
+    #[test]
+    fn the_budget_is_optional_and_read_back() {
+        let mut s = spec();
+        s.budget = Some(2);
+        let text = Line::Spec(s.clone()).to_json_line();
+        assert!(
+            text.contains(",\"should_panic\":false,\"budget\":2,\"time\":"),
+            "{text}"
+        );
+        assert_eq!(Line::parse(text.trim_end()).unwrap(), Line::Spec(s.clone()));
+        // the line differs, the spec does not: runs with other budgets merge
+        let plain = Line::Spec(spec()).to_json_line();
+        assert_ne!(spec_identity(text.trim_end()), spec_identity(plain.trim_end()));
+        assert!(spec().same_spec(&s));
+        assert_eq!(SpecRecord::wider_budget(Some(2), Some(3)), Some(3));
+        assert_eq!(SpecRecord::wider_budget(Some(2), None), None);
+    }
+
+    #[test]
+    fn followup_rows_extend_a_design() {
+        let mut more = spec();
+        more.rows.push(vec![1, 1]);
+        more.row_names.push("row_followup_00".into());
+        more.followups = 1;
+        assert_eq!((more.design_rows(), spec().design_rows()), (3, 3));
+        let text = Line::Spec(more.clone()).to_json_line();
+        assert!(text.contains(",\"followups\":1,\"time\":"), "{text}");
+        assert_eq!(Line::parse(text.trim_end()).unwrap(), Line::Spec(more.clone()));
+        assert!(more.same_spec(&spec()) && more.extends(&spec()) && !spec().extends(&more));
+        // another design is another spec, follow-up rows or not
+        let mut other = more.clone();
+        other.rows[0] = vec![1, 0];
+        assert!(!other.same_spec(&spec()));
     }
 
     #[test]

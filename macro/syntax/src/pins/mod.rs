@@ -31,6 +31,7 @@
 //!   any other. Format 1 wrote the seed as 16 hex digits; builds and `check` refuse it
 //!   with a message saying so, and `cargo heddle pin` reads it and rewrites the file in
 //!   format 2, keeping every row ([`PinsFile::parse_upgrading`]).
+//!   Follow-up rows (`followup.FILE.FUNCTION`, below) are part of format 2.
 //! - `pins.FILE.FUNCTION`: one entry per annotated function. `FILE` is the test file's
 //!   path relative to the crate root with `/` separators (`..` components when the file
 //!   lies outside the root); `FUNCTION` is the function's name. Two annotated functions
@@ -46,9 +47,26 @@
 //! - `rows` (required): one array per row, the level index (0-based, in `#[levels]`
 //!   order) of each parameter.
 //!
+//! - `followup.FILE.FUNCTION` (format 2): follow-up rows of a function, written by
+//!   `cargo heddle probe` to tell apart the suspects of a failure. `fingerprint`
+//!   (required): the spec they were proposed for; `rows` (required): level indices as in
+//!   `pins`, a row listed as often as it should run. The expansion appends them to the
+//!   function's rows (pinned or generated) as further row tests, `row_followup_00`, …;
+//!   while the fingerprint no longer matches the spec they are stale, which is an error
+//!   like a stale pin.
+//!
+//! ```toml
+//! [followup."tests/codec.rs".roundtrip]
+//! fingerprint = "d0e48fe4e5c1a0e1"
+//! rows = [
+//!     [2, 1, 0],
+//!     [2, 1, 0],
+//! ]
+//! ```
+//!
 //! [`PinsFile::to_toml`] writes exactly this layout: entries sorted by file then
-//! function, one row per line, so the file diffs well and rewriting an unchanged file
-//! changes nothing.
+//! function, pins before follow-up rows, one row per line, so the file diffs well and
+//! rewriting an unchanged file changes nothing.
 //!
 //! # Rebuilds
 //!
@@ -75,6 +93,8 @@ pub const PINS_FORMAT: u32 = 2;
 /// The previous version, whose seeds were 16 hex digits: only
 /// [`PinsFile::parse_upgrading`] reads it.
 pub const PINS_FORMAT_HEX_SEEDS: u32 = 1;
+/// The command that proposes follow-up rows, quoted by messages about them.
+pub const PROBE_COMMAND: &str = "cargo heddle probe";
 /// The command that (re)writes pins, quoted by stale-pin messages.
 pub const PIN_COMMAND: &str = "cargo heddle pin";
 
@@ -113,34 +133,46 @@ impl Pin {
     /// Checks that the rows fit `spec`: one entry per factor, each an existing level, no
     /// row excluded. The fingerprint is not compared here.
     pub fn check(&self, spec: &Spec) -> Result<(), String> {
-        let levels = spec.levels();
-        if self.rows.is_empty() {
-            return Err("the pin has no rows".into());
+        check_rows(&self.rows, spec, "the pin")
+    }
+}
+
+impl FollowUp {
+    /// Checks that the rows fit `spec`, as [`Pin::check`] does.
+    pub fn check(&self, spec: &Spec) -> Result<(), String> {
+        check_rows(&self.rows, spec, "the follow-up rows")
+    }
+}
+
+/// Checks rows of `what` against `spec`: one entry per factor, each an existing level,
+/// none excluded, at least one row.
+fn check_rows(rows: &[Vec<u8>], spec: &Spec, what: &str) -> Result<(), String> {
+    let levels = spec.levels();
+    if rows.is_empty() {
+        return Err(format!("there are no rows in {what}"));
+    }
+    for (i, row) in rows.iter().enumerate() {
+        if row.len() != levels.len() {
+            let plural = |n: usize, one: &str, many: &str| format!("{n} {}", if n == 1 { one } else { many });
+            return Err(format!(
+                "row {i} of {what} has {} but the function has {}",
+                plural(row.len(), "entry", "entries"),
+                plural(levels.len(), "parameter", "parameters")
+            ));
         }
-        for (i, row) in self.rows.iter().enumerate() {
-            if row.len() != levels.len() {
-                let plural =
-                    |n: usize, one: &str, many: &str| format!("{n} {}", if n == 1 { one } else { many });
+        for (c, (&l, &n)) in row.iter().zip(&levels).enumerate() {
+            if usize::from(l) >= n {
                 return Err(format!(
-                    "row {i} of the pin has {} but the function has {}",
-                    plural(row.len(), "entry", "entries"),
-                    plural(levels.len(), "parameter", "parameters")
+                    "row {i} of {what} uses level {l} of `{}`, which has {n} levels",
+                    spec.factors[c].name
                 ));
             }
-            for (c, (&l, &n)) in row.iter().zip(&levels).enumerate() {
-                if usize::from(l) >= n {
-                    return Err(format!(
-                        "row {i} of the pin uses level {l} of `{}`, which has {n} levels",
-                        spec.factors[c].name
-                    ));
-                }
-            }
-            if let Some(e) = spec.excludes.iter().position(|e| e.eval(row)) {
-                return Err(format!("row {i} of the pin is ruled out by exclude #{}", e + 1));
-            }
         }
-        Ok(())
+        if let Some(e) = spec.excludes.iter().position(|e| e.eval(row)) {
+            return Err(format!("row {i} of {what} is ruled out by exclude #{}", e + 1));
+        }
     }
+    Ok(())
 }
 
 /// What a pin's rows were made for, beyond the fingerprint (which only tells "same spec
@@ -170,12 +202,25 @@ impl Origin {
     }
 }
 
+/// Follow-up rows of one function: extra rows proposed to tell suspects apart, run
+/// after the design's rows.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct FollowUp {
+    /// Fingerprint of the spec they were proposed for.
+    pub fingerprint: Fingerprint,
+    /// Level index of each parameter, per row; a row appears as often as it runs.
+    pub rows: Vec<Vec<u8>>,
+}
+
 /// A pins file's contents.
 #[derive(Clone, Debug, Default, PartialEq, Eq)]
 pub struct PinsFile {
     /// Every pin, by key.
     pub pins: BTreeMap<PinKey, Pin>,
+    /// Every function's follow-up rows, by key.
+    pub followups: BTreeMap<PinKey, FollowUp>,
     lines: BTreeMap<PinKey, usize>,
+    followup_lines: BTreeMap<PinKey, usize>,
     origins: BTreeMap<PinKey, Origin>,
 }
 
@@ -270,6 +315,31 @@ impl PinsFile {
         self.lines.remove(key);
         self.origins.remove(key);
         self.pins.remove(key)
+    }
+
+    /// The follow-up rows of a function.
+    pub fn followup(&self, key: &PinKey) -> Option<&FollowUp> {
+        self.followups.get(key)
+    }
+
+    /// The line a function's follow-up entry starts on, for files read from disk.
+    pub fn followup_line(&self, key: &PinKey) -> Option<usize> {
+        self.followup_lines.get(key).copied()
+    }
+
+    /// Sets a function's follow-up rows (none: removes them), returning the old ones.
+    pub fn set_followup(&mut self, key: PinKey, followup: Option<FollowUp>) -> Option<FollowUp> {
+        self.followup_lines.remove(&key);
+        match followup {
+            Some(f) => self.followups.insert(key, f),
+            None => self.followups.remove(&key),
+        }
+    }
+
+    /// Whether a function without a pin here is missing one: the crate pins (some
+    /// function has a pin), as opposed to a file holding only follow-up rows.
+    pub fn pins_functions(&self) -> bool {
+        !self.pins.is_empty()
     }
 }
 
@@ -448,6 +518,46 @@ mod tests {
             PinsFile::parse(&text).unwrap().origin(&key).map(|o| o.seed),
             Some(11)
         );
+    }
+
+    #[test]
+    fn followups_round_trip() {
+        let mut p = sample();
+        assert!(!p.to_toml().contains("[followup."));
+        let key = PinKey::new("tests/codec.rs", "roundtrip");
+        let f = FollowUp {
+            fingerprint: Fingerprint(0xd0e4_8fe4_e5c1_a0e1),
+            rows: vec![vec![2, 1], vec![2, 1], vec![0, 1]],
+        };
+        assert_eq!(p.set_followup(key.clone(), Some(f.clone())), None);
+        // a follow-up for a function without a pin is fine: the build generates its rows
+        let lone = PinKey::new("tests/other.rs", "g");
+        p.set_followup(lone.clone(), Some(f.clone()));
+        let text = p.to_toml();
+        assert!(text.contains("\nformat = 2\n"), "{text}");
+        assert!(
+            text.contains(
+                "[followup.\"tests/codec.rs\".roundtrip]\nfingerprint = \"d0e48fe4e5c1a0e1\"\nrows = [\n    [2, 1],\n    [2, 1],\n    [0, 1],\n]\n"
+            ),
+            "{text}"
+        );
+        let back = PinsFile::parse(&text).unwrap();
+        assert_eq!(back.followup(&key), Some(&f));
+        assert_eq!(back.followup(&lone), Some(&f));
+        assert!(back.followup_line(&key).is_some());
+        assert_eq!(back.to_toml(), text);
+        assert!(back.pins_functions());
+        let mut back = back;
+        assert_eq!(back.set_followup(key.clone(), None), Some(f));
+        assert_eq!(back.followup(&key), None);
+        let only = PinsFile::parse(
+            "format = 2\n[followup.\"t.rs\".f]\nfingerprint = \"0000000000000001\"\nrows = [[0]]\n",
+        )
+        .unwrap();
+        assert!(!only.pins_functions());
+        let e = PinsFile::parse("format = 2\n[followup.\"t.rs\".f]\nfingerprint = \"zz\"\nrows = [[0]]\n")
+            .unwrap_err();
+        assert_eq!(e.line, Some(3), "{e}");
     }
 
     #[test]

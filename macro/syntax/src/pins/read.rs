@@ -7,7 +7,8 @@ use serde::Deserialize;
 use toml::Spanned;
 
 use super::{
-    Origin, PIN_COMMAND, PINS_FILE, PINS_FORMAT, PINS_FORMAT_HEX_SEEDS, Pin, PinKey, PinsError, PinsFile,
+    FollowUp, Origin, PIN_COMMAND, PINS_FILE, PINS_FORMAT, PINS_FORMAT_HEX_SEEDS, Pin, PinKey, PinsError,
+    PinsFile,
 };
 use crate::defaults::{at, line_col};
 use crate::diag;
@@ -25,6 +26,15 @@ struct RawFile {
     format: toml::Value,
     #[serde(default)]
     pins: BTreeMap<String, BTreeMap<String, Spanned<RawPin>>>,
+    #[serde(default)]
+    followup: BTreeMap<String, BTreeMap<String, Spanned<RawFollowUp>>>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawFollowUp {
+    fingerprint: Spanned<String>,
+    rows: Vec<Vec<u8>>,
 }
 
 #[derive(Deserialize)]
@@ -116,15 +126,30 @@ impl PinsFile {
         let raw: RawFile = toml::from_str(text)
             .map_err(|e| located(text, e.span().map(|s| s.start), e.message().to_string()))?;
         let mut out = PinsFile::default();
+        for (file, fns) in raw.followup {
+            for (function, f) in fns {
+                let start = f.span().start;
+                let f = f.into_inner();
+                let fingerprint = fingerprint(text, &f.fingerprint)?;
+                let key = PinKey {
+                    file: file.clone(),
+                    function,
+                };
+                out.followup_lines.insert(key.clone(), line_col(text, start).0);
+                out.followups.insert(
+                    key,
+                    FollowUp {
+                        fingerprint,
+                        rows: f.rows,
+                    },
+                );
+            }
+        }
         for (file, fns) in raw.pins {
             for (function, pin) in fns {
                 let start = pin.span().start;
                 let pin = pin.into_inner();
-                let fingerprint = pin
-                    .fingerprint
-                    .get_ref()
-                    .parse::<Fingerprint>()
-                    .map_err(|e| located(text, Some(pin.fingerprint.span().start), e))?;
+                let fingerprint = fingerprint(text, &pin.fingerprint)?;
                 let key = PinKey {
                     file: file.clone(),
                     function,
@@ -161,6 +186,14 @@ impl PinsFile {
         }
         Ok(out)
     }
+}
+
+/// An entry's fingerprint, or an error at its place.
+fn fingerprint(text: &str, value: &Spanned<String>) -> Result<Fingerprint, PinsError> {
+    value
+        .get_ref()
+        .parse::<Fingerprint>()
+        .map_err(|e| located(text, Some(value.span().start), e))
 }
 
 /// A seed as the file writes it: a decimal string (digits only).

@@ -18,7 +18,7 @@ impl PinsFile {
             kw::COVER
         ));
         // writing to a String cannot fail
-        let _ = writeln!(out, "format = {}", PINS_FORMAT);
+        let _ = writeln!(out, "format = {PINS_FORMAT}");
         for (key, pin) in &self.pins {
             let _ = writeln!(out, "\n[pins.{}.{}]", quoted(&key.file), toml_key(&key.function));
             let _ = writeln!(out, "fingerprint = \"{}\"", pin.fingerprint);
@@ -35,15 +35,30 @@ impl PinsFile {
                 let _ = writeln!(out, "lambda = {}", o.lambda);
                 let _ = writeln!(out, "seed = \"{}\"", o.seed);
             }
-            out.push_str("rows = [\n");
-            for row in &pin.rows {
-                let cells: Vec<String> = row.iter().map(u8::to_string).collect();
-                let _ = writeln!(out, "    [{}],", cells.join(", "));
-            }
-            out.push_str("]\n");
+            rows(&mut out, &pin.rows);
+        }
+        for (key, f) in &self.followups {
+            let _ = writeln!(
+                out,
+                "\n[followup.{}.{}]",
+                quoted(&key.file),
+                toml_key(&key.function)
+            );
+            let _ = writeln!(out, "fingerprint = \"{}\"", f.fingerprint);
+            rows(&mut out, &f.rows);
         }
         out
     }
+}
+
+/// `rows = [ … ]`, one row per line.
+fn rows(out: &mut String, rows: &[Vec<u8>]) {
+    out.push_str("rows = [\n");
+    for row in rows {
+        let cells: Vec<String> = row.iter().map(u8::to_string).collect();
+        let _ = writeln!(out, "    [{}],", cells.join(", "));
+    }
+    out.push_str("]\n");
 }
 
 /// A TOML key: bare when TOML allows it, else a basic string.

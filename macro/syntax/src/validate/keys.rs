@@ -4,10 +4,12 @@
 use std::collections::BTreeSet;
 
 use heddle_generator::{MAX_LAMBDA, MAX_STRENGTH, check_lambda, check_strength};
+use quote::ToTokens;
 use syn::Lit;
 
 use crate::args::ArgValue;
 use crate::ast::{CoverFn, KeyKind};
+use crate::budget::{self, Budget};
 use crate::diag::{self, Errors};
 use crate::keywords as kw;
 use crate::text::canonical;
@@ -17,6 +19,9 @@ pub(super) struct KeyValues<'a> {
     pub(super) lambda: Option<u32>,
     pub(super) seed: Option<u64>,
     pub(super) excludes: Vec<&'a syn::Expr>,
+    /// Each `require(…)`: its key and the tokens inside the parentheses.
+    pub(super) requires: Vec<(&'a syn::Ident, &'a proc_macro2::TokenStream)>,
+    pub(super) budget: Option<Budget>,
 }
 
 fn int_value<'a>(
@@ -76,6 +81,8 @@ pub(super) fn check_keys<'a>(cover: &CoverFn<'a>, errs: &mut Errors) -> KeyValue
         lambda: None,
         seed: None,
         excludes: Vec::new(),
+        requires: Vec::new(),
+        budget: None,
     };
     let mut seen = BTreeSet::new();
     for key in &cover.keys {
@@ -88,15 +95,21 @@ pub(super) fn check_keys<'a>(cover: &CoverFn<'a>, errs: &mut Errors) -> KeyValue
             );
             continue;
         }
-        if key.kind != KeyKind::Exclude && !seen.insert(key.kind as u8) {
+        if !key.kind.repeatable() && !seen.insert(key.kind as u8) {
             errs.at(
                 &key.arg.key,
                 format!("duplicate key `{name}`"),
-                format!("give `{name}` once; only `{}(…)` may repeat", kw::EXCLUDE),
+                format!(
+                    "give `{name}` once; only `{}(…)` and `{}(…)` may repeat",
+                    kw::EXCLUDE,
+                    kw::REQUIRE
+                ),
             );
             continue;
         }
-        if matches!(key.arg.value, ArgValue::Flag) && key.kind != KeyKind::Exclude {
+        if matches!(key.arg.value, ArgValue::Flag)
+            && !matches!(key.kind, KeyKind::Exclude | KeyKind::Require | KeyKind::Budget)
+        {
             errs.at(
                 &key.arg.key,
                 format!("`{name}` needs a value"),
@@ -182,10 +195,72 @@ pub(super) fn check_keys<'a>(cover: &CoverFn<'a>, errs: &mut Errors) -> KeyValue
                     exclude_hint(),
                 ),
             },
+            KeyKind::Require => match &key.arg.value {
+                ArgValue::Call { tokens, .. } => kv.requires.push((&key.arg.key, tokens)),
+                _ => errs.at(
+                    &key.arg.key,
+                    format!(
+                        "`{}` takes parameters and their levels in parentheses",
+                        kw::REQUIRE
+                    ),
+                    crate::require::example(),
+                ),
+            },
+            KeyKind::Budget => kv.budget = budget_value(&key.arg.key, &key.arg.value, errs),
             KeyKind::Unknown => {}
         }
     }
     kv
+}
+
+/// `budget(12)` or `budget(25%)`.
+fn budget_value(key: &syn::Ident, value: &ArgValue, errs: &mut Errors) -> Option<Budget> {
+    let ArgValue::Call { tokens, .. } = value else {
+        errs.at(
+            key,
+            format!("`{}` takes a row count or a share in parentheses", kw::BUDGET),
+            budget::hint(),
+        );
+        return None;
+    };
+    let trees: Vec<proc_macro2::TokenTree> = tokens.clone().into_iter().collect();
+    let (lit, percent) = match trees.as_slice() {
+        [proc_macro2::TokenTree::Literal(l)] => (l, false),
+        [
+            proc_macro2::TokenTree::Literal(l),
+            proc_macro2::TokenTree::Punct(p),
+        ] if p.as_char() == '%' => (l, true),
+        _ => {
+            let shown = canonical(tokens);
+            let at = if trees.is_empty() {
+                key.to_token_stream()
+            } else {
+                tokens.clone()
+            };
+            errs.at(
+                at,
+                format!("`{}({shown})` is not a row count or a share", kw::BUDGET),
+                budget::hint(),
+            );
+            return None;
+        }
+    };
+    let text = format!("{}{}", lit, if percent { "%" } else { "" });
+    let parsed = match syn::parse2::<syn::LitInt>(lit.to_token_stream()) {
+        Ok(int) if int.suffix().is_empty() => Budget::parse(&format!(
+            "{}{}",
+            int.base10_digits(),
+            if percent { "%" } else { "" }
+        )),
+        _ => Err(format!("`{text}` is not a whole number")),
+    };
+    match parsed {
+        Ok(b) => Some(b),
+        Err(why) => {
+            errs.at(tokens, format!("`{}({text})`: {why}", kw::BUDGET), budget::hint());
+            None
+        }
+    }
 }
 
 fn exclude_hint() -> String {

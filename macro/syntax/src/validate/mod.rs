@@ -23,12 +23,14 @@ use heddle_generator::Spec;
 use syn::ext::IdentExt;
 
 use crate::ast::CoverFn;
+use crate::budget::Budget;
 use crate::defaults::Defaults;
 use crate::diag::{self, Errors};
 use crate::exclude;
 use crate::fingerprint::{Fingerprint, fingerprint};
 use crate::hash::default_seed;
 use crate::keywords as kw;
+use crate::require::{self, Blocked};
 use crate::text::canonical;
 
 /// Everything about an annotated function that decides its rows: owned, so the plugin
@@ -41,6 +43,12 @@ pub struct CoverSpec {
     pub spec: Spec,
     /// Each exclude's canonical source text, in order (what the runtime shows).
     pub excludes: Vec<String>,
+    /// Each required row's canonical source text (`codec = Codec::Delta, unit = Unit::F`),
+    /// in the order of `spec.required`.
+    pub required: Vec<String>,
+    /// The attribute's row budget (it does not change the rows, so it is no part of the
+    /// fingerprint).
+    pub budget: Option<Budget>,
     /// The fingerprint of `spec`.
     pub fingerprint: Fingerprint,
     /// Whether `strength` was written in the attribute (else it came from a default).
@@ -128,6 +136,39 @@ pub fn validate<'a>(cover: CoverFn<'a>, defaults: &Defaults) -> Result<Checked<'
             break;
         }
     }
+    allowed.excludes = excludes.clone();
+    let mut required = Vec::new();
+    let mut required_src = Vec::new();
+    for &(key, tokens) in &keys.requires {
+        let Some(row) = require::convert(key, tokens, &factors, &mut errs) else {
+            continue;
+        };
+        let shown = canonical(tokens);
+        match require::blocked(&allowed, &row) {
+            None => {
+                required.push(row);
+                required_src.push(shown);
+            }
+            Some(Blocked::Exclude(i)) => errs.at(
+                require::whole(key, tokens),
+                format!(
+                    "`{}({shown})` is ruled out by `{}({})`",
+                    kw::REQUIRE,
+                    kw::EXCLUDE,
+                    exclude_src[i]
+                ),
+                "drop the require, change one of its levels, or loosen that exclude",
+            ),
+            Some(Blocked::NoCompletion) => errs.at(
+                require::whole(key, tokens),
+                format!(
+                    "`{}({shown})` has no allowed row: the excludes rule out every way to fill in the other parameters",
+                    kw::REQUIRE
+                ),
+                "name the parameters that make it allowed, change a level, or loosen the excludes",
+            ),
+        }
+    }
     if !errs.is_empty() {
         return Err(errs.into_error().unwrap_or_else(|| {
             diag::error_at_span(cover.span, "invalid attribute", "see the other errors")
@@ -135,6 +176,7 @@ pub fn validate<'a>(cover: CoverFn<'a>, defaults: &Defaults) -> Result<Checked<'
     }
     let mut spec = Spec::new(factors).strength(strength).lambda(lambda).seed(seed);
     spec.excludes = excludes;
+    spec.required = required;
     if let Err(e) = spec.validate() {
         // limits only the engine knows in full (interaction count, row bound)
         return Err(diag::error_at_span(
@@ -149,6 +191,8 @@ pub fn validate<'a>(cover: CoverFn<'a>, defaults: &Defaults) -> Result<Checked<'
             function,
             spec,
             excludes: exclude_src,
+            required: required_src,
+            budget: keys.budget,
             fingerprint: fp,
             strength_explicit: keys.strength.is_some(),
         },

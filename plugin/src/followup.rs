@@ -1,0 +1,688 @@
+//! Follow-up rows that tell suspects apart: when the recorded rows cannot single out the
+//! interaction behind a failure (several interactions share exactly the failing rows,
+//! as happens at λ = 1; or a flaky one passed in some of its rows and hides behind one
+//! that happened to fail every time), a few extra rows, run as ordinary rows of the same
+//! test, can.
+//!
+//! The method, in rounds:
+//! 1. **Candidates.** One faulty interaction of at most t factors behind the failures is
+//!    in every failing row, so the candidates are the interactions in all of them (when
+//!    none is, there are several faults: those in all failing rows of the report's top
+//!    suspect). Each is weighed by the likelihood of its own passes and failures at its
+//!    best-fitting failure rate, relative to the best (1 for one that never passed); those
+//!    within a factor of e³ of the best are kept.
+//! 2. **Rows from a failing row.** Every candidate sits in the failing row the follow-ups
+//!    start from; changing the levels of a set D of factors removes exactly the
+//!    candidates that touch D and keeps the others, as in the adaptive characterisation of
+//!    failure-causing interactions by Zhang & Zhang (2011, "Characterizing failure-causing
+//!    parameter interactions by adaptive testing", ISSTA; from memory). The new levels are
+//!    chosen among those already seen in passing interactions with the rest of the row
+//!    (so a failure of the new row is blamed on what it kept), within the excludes.
+//! 3. **One round, many rows.** The sets D of a round are chosen greedily so that no two
+//!    candidates are kept by the same set of rows and each is kept by one (separated from
+//!    a stand-in for "none of them") — for the candidates alone, the property of a
+//!    locating array (Colbourn & McClary 2008, "Locating and detecting arrays for
+//!    interaction faults", J. Comb. Optim. 15; from memory) — each row separating the
+//!    most weight of still-confused pairs. Then the outcomes of one run name a
+//!    deterministic fault.
+//! 4. **Flaky candidates.** A row holding a fault that fails with probability p passes
+//!    with probability 1 − p, so a row runs r times, the fewest for which the candidates
+//!    it holds, by weight, would have passed every run with probability at most 5%.
+//! 5. **Clearing.** When one candidate holds at least [`DECISIVE`] of the weight but the
+//!    report still ranks other suspects whose failing rows all hold it too, each of those
+//!    is run once more without it.
+//!
+//! After the follow-up rows ran, the ordinary analysis ranks the suspects again with
+//! them, and another round is proposed while it is needed. Nothing is proposed when no
+//! row failed.
+
+use std::collections::BTreeSet;
+
+use heddle_generator::{Row, Spec, UNSET};
+use heddle_store::{Interaction, Tallies};
+use heddle_syntax::require::blocked;
+
+use crate::analysis::{Analysis, lambda_for, log_likelihood};
+
+/// How much lower (natural log) a candidate's likelihood may be than the best one's and
+/// still be worth separating: a likelihood ratio of e³ ≈ 20.
+const PLAUSIBLE_GAP: f64 = 3.0;
+
+/// The share of the candidates' weight at which the most likely one is taken as named.
+pub const DECISIVE: f64 = 0.95;
+
+/// Confidence that r runs of a row holding a flaky fault see it fail.
+const REPEAT_CONFIDENCE: f64 = 0.95;
+
+/// Least and most runs of each follow-up row for flaky candidates.
+const REPEAT_RANGE: (u32, u32) = (2, 8);
+
+/// Sets of factors tried exhaustively up to this many factors in play, greedily above.
+const EXHAUSTIVE_FACTORS: usize = 16;
+
+/// Follow-up rows for one suite.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Proposal {
+    /// The failing row (its index among the recorded rows) the follow-ups vary.
+    pub base: usize,
+    /// The new rows, distinct, in order, each with how many times it should run (1 when
+    /// it holds no flaky candidate).
+    pub rows: Vec<(Row, u32)>,
+    /// The candidates the rows tell apart: indices into [`Tallies::entries`], most
+    /// likely first.
+    pub candidates: Vec<usize>,
+    /// Whether the rows tell every pair of candidates apart, and hold each candidate at
+    /// least once (else `max_rows` ran out, or the excludes leave no row that would).
+    pub separates_all: bool,
+}
+
+/// A candidate: its entry, its weight (likelihood relative to the best one) and its
+/// observed failure rate.
+struct Candidate {
+    entry: usize,
+    weight: f64,
+    rate: f64,
+}
+
+/// The candidates behind the failures, most likely first, and the failing rows they
+/// are all in. Empty when nothing failed.
+fn candidates(tallies: &Tallies, analysis: &Analysis) -> (Vec<Candidate>, Vec<u32>) {
+    let failing = |rows: &[u32]| -> Vec<u32> {
+        rows.iter()
+            .copied()
+            .filter(|&r| tallies.rows.get(r as usize).is_some_and(|c| c.failures > 0))
+            .collect()
+    };
+    let every: Vec<u32> = (0..tallies.rows.len() as u32).collect();
+    let in_all = |focus: &[u32]| -> Vec<usize> {
+        (0..tallies.entries.len())
+            .filter(|&i| {
+                let e = &tallies.entries[i];
+                e.count.failures > 0 && focus.iter().all(|r| e.rows.binary_search(r).is_ok())
+            })
+            .collect()
+    };
+    // one fault behind every failure is in every failing row; when no interaction is,
+    // there are several faults: take the failures of the top suspect
+    let mut focus = failing(&every);
+    if focus.is_empty() {
+        return (Vec::new(), focus);
+    }
+    let mut all = in_all(&focus);
+    if all.is_empty() {
+        let Some(top) = analysis.suspects.first() else {
+            return (Vec::new(), focus);
+        };
+        focus = failing(&tallies.entries[top.interaction].rows);
+        all = in_all(&focus);
+    }
+    let ll: Vec<f64> = all
+        .iter()
+        .map(|&i| {
+            let c = &tallies.entries[i].count;
+            log_likelihood(c.failures, c.runs)
+        })
+        .collect();
+    let best = ll.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+    let mut kept: Vec<Candidate> = all
+        .iter()
+        .zip(&ll)
+        .filter(|&(_, &l)| l >= best - PLAUSIBLE_GAP)
+        .map(|(&entry, &l)| {
+            let c = &tallies.entries[entry].count;
+            Candidate {
+                entry,
+                weight: (l - best).exp(),
+                rate: c.failures as f64 / c.runs.max(1) as f64,
+            }
+        })
+        .collect();
+    // most likely first, then in entry order (deterministic)
+    kept.sort_by(|a, b| b.weight.total_cmp(&a.weight).then(a.entry.cmp(&b.entry)));
+    (kept, focus)
+}
+
+/// Proposes at most `max_rows` follow-up rows for a suite whose `rows` (every recorded
+/// row, design and earlier follow-ups, indexed as in `tallies`) were judged by
+/// `analysis`; `spec` gives the factors and excludes. `None` when nothing failed, when
+/// one candidate holds at least [`DECISIVE`] of the weight, or when no row allowed by
+/// the excludes would tell any two apart.
+pub fn propose(
+    spec: &Spec,
+    rows: &[Row],
+    tallies: &Tallies,
+    analysis: &Analysis,
+    max_rows: usize,
+) -> Option<Proposal> {
+    let (cands, focus) = candidates(tallies, analysis);
+    let total: f64 = cands.iter().map(|c| c.weight).sum();
+    if cands.is_empty() || max_rows == 0 {
+        return None;
+    }
+    if cands.len() == 1 || cands[0].weight / total >= DECISIVE {
+        return clearing(spec, rows, tallies, analysis, cands[0].entry, max_rows);
+    }
+    let base = *focus.first()? as usize;
+    let r0 = rows.get(base)?;
+    let k = r0.len();
+    if k > 63 {
+        return None;
+    }
+    // bit f of a mask: the candidate touches factor f
+    let masks: Vec<u64> = cands
+        .iter()
+        .map(|c| {
+            tallies.entries[c.entry]
+                .interaction
+                .factors
+                .iter()
+                .fold(0, |m, &f| m | (1u64 << f))
+        })
+        .collect();
+    // the last element stands for "none of them": every row leaves it out, so
+    // separating a candidate from it means some row holds that candidate
+    let none = cands.len();
+    let mut weights: Vec<f64> = cands.iter().map(|c| c.weight).collect();
+    weights.push(cands[0].weight);
+    let mut masks_all = masks.clone();
+    masks_all.push(u64::MAX);
+    let mut classes: Vec<Vec<usize>> = vec![(0..=none).collect()];
+    let mut out = Vec::new();
+    let mut tried: BTreeSet<u64> = BTreeSet::new();
+    let known = Known::new(tallies, cands.iter().map(|c| c.entry));
+    while out.len() < max_rows && classes.iter().any(|c| c.len() > 1) {
+        let options = change_sets(k, &masks_all, &weights, &classes, &tried);
+        let mut built = None;
+        for d in options {
+            tried.insert(d);
+            let changed: Vec<usize> = (0..k).filter(|&f| d & (1 << f) != 0).collect();
+            if let Some(row) = build_row(spec, r0, &changed, &known) {
+                built = Some((d, row));
+                break;
+            }
+        }
+        let Some((d, row)) = built else { break };
+        classes = classes
+            .into_iter()
+            .flat_map(|c| {
+                let (kept, gone): (Vec<usize>, Vec<usize>) =
+                    c.into_iter().partition(|&h| masks_all[h] & d == 0);
+                [kept, gone]
+            })
+            .filter(|c| !c.is_empty())
+            .collect();
+        let kept: Vec<(f64, f64)> = cands
+            .iter()
+            .zip(&masks)
+            .filter(|(_, m)| *m & d == 0)
+            .map(|(c, _)| (c.weight / total, c.rate))
+            .collect();
+        let repeat = repeats(&kept);
+        out.push((row, repeat));
+    }
+    if out.is_empty() {
+        return None;
+    }
+    Some(Proposal {
+        base,
+        rows: out,
+        candidates: cands.iter().map(|c| c.entry).collect(),
+        separates_all: classes.iter().all(|c| c.len() == 1),
+    })
+}
+
+/// How many times a row should run, given the candidates it holds (their shares of the
+/// weight and their observed failure rates): the fewest runs after which the chance
+/// that the row passed every time although it holds the fault — a flaky candidate that
+/// happened to pass — is at most 1 − [`REPEAT_CONFIDENCE`], within [`REPEAT_RANGE`]; 1
+/// when even one run leaves it that small (the candidates it holds never passed).
+fn repeats(kept: &[(f64, f64)]) -> u32 {
+    let missed = |r: u32| -> f64 {
+        kept.iter()
+            .map(|&(share, rate)| share * (1.0 - rate).powi(r as i32))
+            .sum()
+    };
+    let limit = 1.0 - REPEAT_CONFIDENCE;
+    if missed(1) <= limit {
+        return 1;
+    }
+    (REPEAT_RANGE.0..=REPEAT_RANGE.1)
+        .find(|&r| missed(r) <= limit)
+        .unwrap_or(REPEAT_RANGE.1)
+}
+
+/// Rows that clear the suspects the report ranks beside `named` although every failure
+/// they explain is in a row holding `named` too (they only share its rows): each keeps
+/// such a suspect and changes the levels of `named` that it lacks, starting from a
+/// failing row of both. `None` when there is no such suspect.
+fn clearing(
+    spec: &Spec,
+    rows: &[Row],
+    tallies: &Tallies,
+    analysis: &Analysis,
+    named: usize,
+    max_rows: usize,
+) -> Option<Proposal> {
+    let c = &tallies.entries[named];
+    let mut out: Vec<(Row, u32)> = Vec::new();
+    let mut cleared = Vec::new();
+    for s in analysis
+        .suspects
+        .iter()
+        .filter(|s| s.explains > 0 && s.interaction != named)
+    {
+        if out.len() >= max_rows {
+            break;
+        }
+        let e = &tallies.entries[s.interaction];
+        let failing: Vec<u32> = e
+            .rows
+            .iter()
+            .copied()
+            .filter(|&r| tallies.rows[r as usize].failures > 0)
+            .collect();
+        // a suspect failing without `named` is a fault of its own, and one holding
+        // `named` cannot be run without it
+        let Some(&base) = failing.first() else { continue };
+        if e.interaction.contains(&c.interaction) || failing.iter().any(|r| c.rows.binary_search(r).is_err())
+        {
+            continue;
+        }
+        let changed: Vec<usize> = c
+            .interaction
+            .factors
+            .iter()
+            .copied()
+            .filter(|f| !e.interaction.factors.contains(f))
+            .collect();
+        let known = Known::new(tallies, [named, s.interaction]);
+        let Some(row) = build_row(spec, &rows[base as usize], &changed, &known) else {
+            continue;
+        };
+        let rate = e.count.failures as f64 / e.count.runs.max(1) as f64;
+        let repeat = lambda_for(rate, REPEAT_CONFIDENCE)
+            .unwrap_or(1)
+            .clamp(1, REPEAT_RANGE.1);
+        cleared.push(s.interaction);
+        // two suspects in one failing row may be cleared by the same row
+        match out.iter_mut().find(|(r, _)| *r == row) {
+            Some((_, r)) => *r = (*r).max(repeat),
+            None => out.push((row, repeat)),
+        }
+    }
+    if out.is_empty() {
+        return None;
+    }
+    let base = tallies.entries[cleared[0]]
+        .rows
+        .iter()
+        .copied()
+        .find(|&r| tallies.rows[r as usize].failures > 0)? as usize;
+    let mut candidates = vec![named];
+    candidates.extend(cleared);
+    Some(Proposal {
+        base,
+        rows: out,
+        candidates,
+        separates_all: true,
+    })
+}
+
+/// Sets of factors to change (bit j: the j-th factor in play), best first: each scored
+/// by the weight of candidate pairs it separates within the classes still confused,
+/// fewer changes first on ties. Sets already tried are left out.
+fn change_sets(
+    n: usize,
+    masks: &[u64],
+    weights: &[f64],
+    classes: &[Vec<usize>],
+    tried: &BTreeSet<u64>,
+) -> Vec<u64> {
+    let score = |d: u64| -> f64 {
+        classes
+            .iter()
+            .map(|c| {
+                let (mut kept, mut gone) = (0.0, 0.0);
+                for &h in c {
+                    if masks[h] & d == 0 {
+                        kept += weights[h];
+                    } else {
+                        gone += weights[h];
+                    }
+                }
+                kept * gone
+            })
+            .sum()
+    };
+    let mut scored: Vec<(f64, u32, u64)> = Vec::new();
+    if n <= EXHAUSTIVE_FACTORS {
+        for d in 1u64..(1 << n) {
+            if !tried.contains(&d) {
+                let s = score(d);
+                if s > 0.0 {
+                    scored.push((s, d.count_ones(), d));
+                }
+            }
+        }
+    } else {
+        // greedy: add the factor that helps most while it helps, keeping every step
+        let mut d = 0u64;
+        let mut best = 0.0;
+        loop {
+            let next = (0..n)
+                .filter(|&j| d & (1 << j) == 0)
+                .map(|j| (score(d | (1 << j)), j))
+                .max_by(|a, b| a.0.total_cmp(&b.0).then(b.1.cmp(&a.1)));
+            match next {
+                Some((s, j)) if s > best => {
+                    d |= 1 << j;
+                    best = s;
+                    if !tried.contains(&d) {
+                        scored.push((s, d.count_ones(), d));
+                    }
+                }
+                _ => break,
+            }
+        }
+        for j in 0..n {
+            let d = 1u64 << j;
+            let s = score(d);
+            if s > 0.0 && !tried.contains(&d) {
+                scored.push((s, 1, d));
+            }
+        }
+    }
+    scored.sort_by(|a, b| b.0.total_cmp(&a.0).then(a.1.cmp(&b.1)).then(a.2.cmp(&b.2)));
+    scored.dedup_by_key(|s| s.2);
+    scored.truncate(64);
+    scored.into_iter().map(|s| s.2).collect()
+}
+
+/// What the recorded rows tell about interactions a new row would hold.
+struct Known<'a> {
+    tallies: &'a Tallies,
+    candidates: BTreeSet<usize>,
+}
+
+impl<'a> Known<'a> {
+    fn new(tallies: &'a Tallies, candidates: impl IntoIterator<Item = usize>) -> Known<'a> {
+        Known {
+            tallies,
+            candidates: candidates.into_iter().collect(),
+        }
+    }
+
+    /// +1 for an interaction seen passing (and no candidate), −1 for one never run.
+    fn score(&self, interaction: &Interaction) -> i64 {
+        let group = self.tallies.of_arity(interaction.arity());
+        match group.binary_search_by(|t| t.interaction.cmp(interaction)) {
+            Ok(i) => {
+                let index = self.offset(interaction.arity()) + i;
+                i64::from(group[i].count.passes > 0 && !self.candidates.contains(&index))
+            }
+            Err(_) => -1,
+        }
+    }
+
+    /// Index of the first entry of an arity in [`Tallies::entries`].
+    fn offset(&self, arity: usize) -> usize {
+        (1..arity).map(|a| self.tallies.of_arity(a).len()).sum()
+    }
+}
+
+/// The base row with the levels of `changed` factors replaced: each by a level other
+/// than the base's, preferring levels whose interactions with the rest of the row were
+/// seen passing, the whole row allowed by the excludes. `None` when no such row exists
+/// (within a bounded search).
+fn build_row(spec: &Spec, base: &[u8], changed: &[usize], known: &Known<'_>) -> Option<Row> {
+    let levels = spec.levels();
+    let t = known.tallies.strength;
+    let mut row: Row = base.to_vec();
+    for &c in changed {
+        row[c] = UNSET;
+    }
+    if blocked(spec, &row).is_some() {
+        return None;
+    }
+    let mut budget = 10_000usize;
+    fill(spec, &levels, t, &mut row, changed, base, known, &mut budget).then_some(row)
+}
+
+/// Depth-first: the next changed cell takes its best-scoring level that keeps the row
+/// allowed.
+#[allow(clippy::too_many_arguments)]
+fn fill(
+    spec: &Spec,
+    levels: &[usize],
+    t: usize,
+    row: &mut Row,
+    changed: &[usize],
+    base: &[u8],
+    known: &Known<'_>,
+    budget: &mut usize,
+) -> bool {
+    let Some((&c, rest)) = changed.split_first() else {
+        return true;
+    };
+    let mut options: Vec<(i64, u8)> = (0..levels[c] as u8)
+        .filter(|&l| l != base[c])
+        .map(|l| {
+            row[c] = l;
+            (cell_score(row, c, t, known), l)
+        })
+        .collect();
+    row[c] = UNSET;
+    options.sort_by(|a, b| b.0.cmp(&a.0).then(a.1.cmp(&b.1)));
+    for (_, l) in options {
+        if *budget == 0 {
+            return false;
+        }
+        *budget -= 1;
+        row[c] = l;
+        if blocked(spec, row).is_none() && fill(spec, levels, t, row, rest, base, known, budget) {
+            return true;
+        }
+    }
+    row[c] = UNSET;
+    false
+}
+
+/// How well the level in cell `c` fits what is known: the scores of the interactions
+/// of 2 to t cells through `c` whose other cells are set.
+fn cell_score(row: &[u8], c: usize, t: usize, known: &Known<'_>) -> i64 {
+    let others: Vec<usize> = (0..row.len()).filter(|&o| o != c && row[o] != UNSET).collect();
+    let mut total = 0;
+    for arity in 1..t.min(others.len() + 1) {
+        let mut pick: Vec<usize> = (0..arity).collect();
+        loop {
+            let mut factors: Vec<usize> = pick.iter().map(|&p| others[p]).collect();
+            factors.push(c);
+            factors.sort_unstable();
+            let levels = factors.iter().map(|&f| row[f]).collect();
+            total += known.score(&Interaction { factors, levels });
+            if !heddle_generator::next_subset(&mut pick, others.len()) {
+                break;
+            }
+        }
+    }
+    total
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::analysis::analyse;
+    use heddle_generator::{Effort, Expr, Factor, generate};
+    use heddle_store::fixture::{SpecBuilder, oa9};
+    use heddle_test::record::Outcome;
+
+    fn record(spec: &Spec, rows: &[Row]) -> heddle_test::record::SpecRecord {
+        SpecBuilder::new("f")
+            .numbered(&spec.levels())
+            .strength(spec.strength as u32)
+            .lambda(spec.lambda)
+            .rows(rows.to_vec())
+            .build()
+    }
+
+    fn run(spec: &Spec, rows: &[Row], fails: impl Fn(&[u8]) -> bool) -> (Tallies, Analysis) {
+        let outcomes = rows.iter().enumerate().map(|(i, r)| {
+            (
+                i,
+                if fails(r) {
+                    Outcome::Failed
+                } else {
+                    Outcome::Passed
+                },
+            )
+        });
+        let t = heddle_store::tally(&record(spec, rows), outcomes).unwrap();
+        let a = analyse(&t);
+        (t, a)
+    }
+
+    fn four_by_three() -> Spec {
+        Spec::new((0..4).map(|i| Factor::numbered(format!("f{i}"), 3)).collect())
+    }
+
+    /// Proposes, runs (each row as often as asked) and judges again until nothing is
+    /// proposed or `cap` distinct rows were used; the final analysis and the rows used.
+    fn follow(
+        spec: &Spec,
+        mut rows: Vec<Row>,
+        fails: impl Fn(&[u8]) -> bool,
+        cap: usize,
+    ) -> (Tallies, Analysis, usize) {
+        let mut used = 0;
+        loop {
+            let (t, a) = run(spec, &rows, &fails);
+            let Some(p) = propose(spec, &rows, &t, &a, cap - used) else {
+                return (t, a, used);
+            };
+            for (row, repeat) in &p.rows {
+                assert!(
+                    !spec.excludes.iter().any(|e| e.eval(row)),
+                    "an excluded row {row:?}"
+                );
+                rows.extend(std::iter::repeat_n(row.clone(), *repeat as usize));
+            }
+            used += p.rows.len();
+            if used >= cap {
+                let (t, a) = run(spec, &rows, &fails);
+                return (t, a, used);
+            }
+        }
+    }
+
+    /// The suspects that explain failures.
+    fn named(t: &Tallies, a: &Analysis) -> Vec<Interaction> {
+        a.suspects
+            .iter()
+            .filter(|s| s.explains > 0)
+            .map(|s| t.entries[s.interaction].interaction.clone())
+            .collect()
+    }
+
+    #[test]
+    fn aliased_pairs_of_an_orthogonal_array_are_told_apart() {
+        // OA(9; 2, 4, 3) (see `oa9`): no two rows share a pair, so the six pairs of a
+        // failing row are aliases; every one of the 54 pairs is planted in turn
+        let spec = four_by_three();
+        for row in oa9() {
+            for (x, y) in [(0, 1), (0, 2), (0, 3), (1, 2), (1, 3), (2, 3)] {
+                let fault = Interaction {
+                    factors: vec![x, y],
+                    levels: vec![row[x], row[y]],
+                };
+                let (t, a) = run(&spec, &oa9(), |r| fault.in_row(r));
+                assert!(
+                    named(&t, &a).len() > 1,
+                    "the design alone names {:?}",
+                    named(&t, &a)
+                );
+                let (t, a, used) = follow(&spec, oa9(), |r| fault.in_row(r), 4);
+                assert_eq!(named(&t, &a), vec![fault.clone()], "after {used} rows");
+                assert!(a.suspects[0].always);
+            }
+        }
+    }
+
+    #[test]
+    fn rows_keep_to_the_excludes_and_levels_seen_passing() {
+        // f0 = 0 never goes with f1 = 2: the follow-ups may not use that pair either
+        let spec = four_by_three().exclude(Expr::is(0, 0).and(Expr::is(1, 2)));
+        let rows = generate(&spec, Effort::Fast).unwrap().rows;
+        let fault = Interaction {
+            factors: vec![2, 3],
+            levels: vec![rows[0][2], rows[0][3]],
+        };
+        let (t, a, _) = follow(&spec, rows, |r| fault.in_row(r), 4);
+        assert_eq!(named(&t, &a), vec![fault]);
+    }
+
+    #[test]
+    fn a_flaky_candidate_makes_its_rows_run_again() {
+        // a row holding only candidates that never passed runs once; one holding a
+        // candidate that failed in half its runs, as often as 1 − 0.5^r ≥ 0.95 asks
+        assert_eq!(repeats(&[(0.5, 1.0), (0.5, 1.0)]), 1);
+        assert_eq!(
+            repeats(&[(1.0, 0.5)]),
+            lambda_for(0.5, REPEAT_CONFIDENCE).unwrap()
+        );
+        assert_eq!(repeats(&[(1.0, 0.5)]), 5);
+        // a flaky candidate with little of the weight asks for fewer runs
+        assert!(repeats(&[(0.9, 1.0), (0.1, 0.5)]) < 5);
+        // a rate too low to catch within the range gets the most runs
+        assert_eq!(repeats(&[(1.0, 0.01)]), REPEAT_RANGE.1);
+    }
+
+    #[test]
+    fn a_suspect_that_only_shares_the_culprits_rows_is_cleared() {
+        // λ = 2 (OA9 twice): the fault f0 = 0, f1 = 0 fails in its second copy only; the
+        // pairs of that row are then suspects beside it, and it passed once: the
+        // follow-ups must end with it alone
+        let spec = four_by_three().lambda(2);
+        let rows: Vec<Row> = oa9().into_iter().chain(oa9()).collect();
+        let fault = Interaction {
+            factors: vec![0, 1],
+            levels: vec![0, 0],
+        };
+        // the first copy of the fault's row passed; every later row holding it fails
+        let outcomes = |rows: &[Row]| -> Vec<(usize, Outcome)> {
+            rows.iter()
+                .enumerate()
+                .map(|(i, r)| {
+                    let f = fault.in_row(r) && i >= 9;
+                    (i, if f { Outcome::Failed } else { Outcome::Passed })
+                })
+                .collect()
+        };
+        let t = heddle_store::tally(&record(&spec, &rows), outcomes(&rows)).unwrap();
+        assert!(
+            named(&t, &analyse(&t)).len() > 1,
+            "the design alone names one suspect"
+        );
+        let mut all = rows.clone();
+        for _ in 0..6 {
+            let t = heddle_store::tally(&record(&spec, &all), outcomes(&all)).unwrap();
+            let a = analyse(&t);
+            let Some(p) = propose(&spec, &all, &t, &a, 4) else {
+                break;
+            };
+            for (row, repeat) in p.rows {
+                all.extend(std::iter::repeat_n(row, repeat as usize));
+            }
+        }
+        let t = heddle_store::tally(&record(&spec, &all), outcomes(&all)).unwrap();
+        let a = analyse(&t);
+        assert_eq!(named(&t, &a), vec![fault]);
+    }
+
+    #[test]
+    fn nothing_failed_nothing_proposed() {
+        let spec = Spec::new((0..5).map(|i| Factor::numbered(format!("f{i}"), 3)).collect());
+        let rows = generate(&spec, Effort::Fast).unwrap().rows;
+        let (t, a) = run(&spec, &rows, |_| false);
+        assert_eq!(propose(&spec, &rows, &t, &a, 5), None);
+    }
+}
