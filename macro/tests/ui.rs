@@ -64,6 +64,7 @@ fn ui() {
         "signature",
         "accumulated",
         "pins",
+        "nesting",
     ] {
         t.compile_fail(format!("tests/ui/{topic}/*.rs"));
     }

@@ -27,6 +27,7 @@ use crate::ast::{CoverFn, ParamKind, is_cover_path, is_levels_attr, is_runtime_t
 use crate::defaults::{Defaults, DefaultsError};
 use crate::diag::{self, Errors};
 use crate::keywords as kw;
+use crate::nesting;
 use crate::paths;
 use crate::pins::{PinKey, PinsError, PinsFile};
 use crate::rows::{Rows, rows_for};
@@ -107,6 +108,11 @@ impl Context {
 /// Expands `#[cover(attr)] item`. Never fails: problems become compile errors placed
 /// at their tokens, followed by the plain function so that no follow-on errors appear.
 pub fn expand(attr: TokenStream, item: TokenStream, ctx: &Context) -> TokenStream {
+    // `syn` would recurse into a deep body until the compiler's stack ends; such an item
+    // cannot be read, so it is handed back unchanged after the error
+    if let Err(e) = nesting::check(&item, "the function", FUNCTION_TOO_DEEP, nesting::Scope::Item) {
+        return with_errors(e, item);
+    }
     let parsed: Item = match syn::parse2(item.clone()) {
         Ok(i) => i,
         Err(e) => return with_errors(e, item),
@@ -135,6 +141,9 @@ pub fn expand(attr: TokenStream, item: TokenStream, ctx: &Context) -> TokenStrea
         Err(e) => with_errors(e, plain_fn(&f).into_token_stream()),
     }
 }
+
+/// The hint for a function too deep to read, shared with the plugin's reading of files.
+pub(crate) const FUNCTION_TOO_DEEP: &str = "move the deeply nested code into a helper function";
 
 fn with_errors(e: syn::Error, fallback: TokenStream) -> TokenStream {
     let mut out = e.to_compile_error();

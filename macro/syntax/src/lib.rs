@@ -16,7 +16,7 @@
 //! 5. [`mod@expand`] — the generated code.
 //!
 //! Beside the passes: [`keywords`] (every word of the syntax), [`diag`] (compile errors
-//! from diagnostics), [`defaults`] (`[package.metadata.heddle]`), [`paths`] (a test file
+//! from diagnostics), [`nesting`] (token depth, measured before `syn` recurses into it), [`defaults`] (`[package.metadata.heddle]`), [`paths`] (a test file
 //! named as pins name it, and its cargo target), [`hash`] (the default seed).
 //!
 //! For the plugin: [`find::analyse_source`] finds and analyses every annotated function
@@ -35,6 +35,7 @@ pub mod find;
 pub mod fingerprint;
 pub mod hash;
 pub mod keywords;
+pub mod nesting;
 pub mod paths;
 pub mod pins;
 pub mod rows;

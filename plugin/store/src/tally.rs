@@ -3,7 +3,9 @@
 //! Outcomes are first summed per design row (a row may have run many times: several
 //! runs, retries, shards), then every interaction present in the design collects the
 //! sums of the rows that contain it. So the cost is linear in the records plus
-//! rows × Σ C(k, a) for a ≤ t, independent of how many runs are merged.
+//! rows × Σ C(k, a) for a ≤ t "cells", independent of how many runs are merged; a spec
+//! line whose cells exceed [`MAX_TALLY_CELLS`] is refused before any work, since each
+//! cell can become an entry of its own.
 
 use heddle_generator::next_subset;
 use heddle_test::record::{Outcome, SpecRecord};
@@ -163,6 +165,25 @@ impl Tallies {
     }
 }
 
+/// Most cells (design rows × column sets of arity 1 to t) one suite's tallies may
+/// cost. Each cell is at most one entry of about 150 bytes, so a suite's tallies stay
+/// within a few hundred megabytes and a second or two; a 3^17 suite at strength 4 stays
+/// below it up to 650 rows.
+pub const MAX_TALLY_CELLS: u64 = 1 << 21;
+
+/// Design rows × column sets of arity 1 to `t` among `k` factors: the work of a tally,
+/// computed without doing it (saturating).
+pub fn tally_cells(rows: usize, k: usize, t: usize) -> (u128, u128) {
+    let mut sets: u128 = 0;
+    // C(k, a) from C(k, a - 1), exact at every step
+    let mut choose: u128 = 1;
+    for a in 1..=t.min(k) {
+        choose = choose.saturating_mul((k - a + 1) as u128) / a as u128;
+        sets = sets.saturating_add(choose);
+    }
+    (sets, sets.saturating_mul(rows as u128))
+}
+
 /// Tallies a spec's outcomes: every single level and every interaction up to the spec's
 /// strength, with its runs, passes and failures. Several outcomes for one row (repeated
 /// runs) all count.
@@ -171,6 +192,13 @@ pub fn tally(
     outcomes: impl IntoIterator<Item = (usize, Outcome)>,
 ) -> Result<Tallies, SpecError> {
     spec::check(spec)?;
+    let (sets, cells) = tally_cells(spec.rows.len(), spec.factors.len(), spec.strength as usize);
+    if cells > u128::from(MAX_TALLY_CELLS) {
+        return Err(SpecError::TallyTooLarge {
+            rows: spec.rows.len(),
+            sets,
+        });
+    }
     Ok(tally_rows(
         &spec.rows,
         spec.factors.len(),
@@ -417,6 +445,59 @@ mod tests {
             unrun.interaction.describe(&spec),
             Some(vec![("f0", "1"), ("f1", "0")])
         );
+    }
+
+    #[test]
+    fn cells_are_rows_times_column_sets() {
+        // Σ_{a=1..8} C(24, a) = 24 + 276 + 2024 + 10626 + 42504 + 134596 + 346104 + 735471
+        // (binomial coefficients, Pascal's triangle)
+        assert_eq!(tally_cells(4, 24, 8), (1_271_625, 4 * 1_271_625));
+        // Σ_{a=1..4} C(17, a) = 17 + 136 + 680 + 2380
+        assert_eq!(tally_cells(650, 17, 4), (3213, 650 * 3213));
+        assert_eq!(tally_cells(0, 3, 2), (6, 0));
+        assert_eq!(
+            tally_cells(5, 2, 8),
+            (3, 15),
+            "the strength is capped at the factors"
+        );
+    }
+
+    #[test]
+    fn a_hand_made_spec_too_large_to_count_is_refused_before_any_work() {
+        // 40 one-level factors at strength 8: 1.0e8 column sets, each an entry of its own
+        let spec = spec_of(&[1; 40], 8, vec![vec![0; 40]]);
+        let err = tally(&spec, [(0, Outcome::Passed)]).unwrap_err();
+        assert!(matches!(err, SpecError::TallyTooLarge { rows: 1, .. }), "{err:?}");
+        let text = err.to_string();
+        assert!(text.contains("1 rows over 100146723 column sets"), "{text}");
+        assert!(text.contains("hint: its interactions are not counted"), "{text}");
+        // 24 two-level factors at strength 8 with 4 rows: 5.1 million cells
+        let rows = (0..4u8)
+            .map(|r| (0..24).map(|c| (r >> (c % 2)) & 1).collect())
+            .collect();
+        let spec = spec_of(&[2; 24], 8, rows);
+        assert!(matches!(
+            tally(&spec, []),
+            Err(SpecError::TallyTooLarge {
+                rows: 4,
+                sets: 1_271_625
+            })
+        ));
+    }
+
+    #[test]
+    fn a_spec_at_the_budget_is_counted() {
+        // 3^17 at strength 4: 3213 column sets, so 652 rows stay within 2^21 cells
+        let rows: Vec<Vec<u8>> = (0..652u32)
+            .map(|r| (0..17).map(|c| ((r / 3u32.pow(c % 6)) % 3) as u8).collect())
+            .collect();
+        let spec = spec_of(&[3; 17], 4, rows);
+        let t = tally(&spec, [(0, Outcome::Failed)]).unwrap();
+        assert_eq!(t.rows.len(), 652);
+        let mut more = spec.clone();
+        more.rows.push(vec![0; 17]);
+        more.row_names.push("row_652".into());
+        assert!(matches!(tally(&more, []), Err(SpecError::TallyTooLarge { .. })));
     }
 
     #[test]
