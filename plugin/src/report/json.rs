@@ -16,7 +16,9 @@
 //!                       "runs", "passes", "failures" } ],          best first
 //!       "flaky": [ { "levels", "runs", "passes", "low", "high" } ],  95% Wilson interval
 //!       "failing_rows": [ { "row", "test", "levels", "runs", "failures", "message", "rerun" } ],
-//!       "advice": { "confidence", "detectable_rate", "flake_rate", "lambda_needed", "rows_needed" }
+//!       "advice": { "confidence", "detectable_rate", "flake_rate", "lambda_needed",
+//!                   "rows_needed", "rows_needed_at_least" }
+//!                                              rows_needed: at most (the design repeated)
 //!   } ] }
 //! ```
 //! `levels` objects list parameters in declaration order.
@@ -119,7 +121,8 @@ struct Advice {
     detectable_rate: f64,
     flake_rate: Option<f64>,
     lambda_needed: Option<u32>,
-    rows_needed: Option<usize>,
+    rows_needed: Option<u64>,
+    rows_needed_at_least: Option<u64>,
 }
 
 fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
@@ -204,7 +207,8 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
             detectable_rate: s.advice.detectable,
             flake_rate: s.advice.flake.map(|f| f.0),
             lambda_needed: s.advice.flake.map(|f| f.1),
-            rows_needed: s.advice.flake.and_then(|f| f.2),
+            rows_needed: s.advice.flake.map(|f| f.2.at_most),
+            rows_needed_at_least: s.advice.flake.map(|f| f.2.at_least),
         },
     }
 }

@@ -203,13 +203,12 @@ fn advice(out: &mut String, s: &SuiteReport<'_>, st: Style) {
             );
         } else {
             let repeat = lambda.div_ceil(s.spec.lambda.max(1));
-            let cost = match rows {
-                Some(r) => format!(
-                    "{r} rows for this spec, now {}; or `--repeat {repeat}`",
-                    s.spec.rows.len()
-                ),
-                None => format!("or run it `--repeat {repeat}` times"),
-            };
+            let cost = format!(
+                "{} to {} rows for this spec, now {}; or `--repeat {repeat}`",
+                rows.at_least,
+                rows.at_most,
+                s.spec.rows.len()
+            );
             let _ = writeln!(
                 out,
                 "    the top flaky interaction fails {} of the time: lambda {lambda} sees it with {c} confidence ({cost})",
