@@ -39,11 +39,11 @@ impl EffortArg {
     }
 }
 
-/// Most moves `--budget` accepts: a hundred times the default. The search's time grows
-/// in proportion to its budget — the default took 6 to 13 s on 3^13, 2^20 at t = 3 and
-/// 4^8 at t = 3 in a release build (about 3 to 6 µs a move unoptimised) — so this is
-/// at most about half an hour, where `u64::MAX` ran until killed.
-pub const MAX_BUDGET: u64 = 100 * heddle_generator::Effort::DEFAULT_TIGHT_BUDGET;
+/// Most moves `--budget` accepts: a thousand times the default. The search's time grows
+/// in proportion to its budget — the default took 1.5 to 3.1 s on 3^13, 2^20 at t = 3
+/// and 4^8 at t = 3 in a release build (64 to 132 s unoptimised) — so this is under an
+/// hour on such specs, where `u64::MAX` ran until killed.
+pub const MAX_BUDGET: u64 = 1000 * heddle_generator::Effort::DEFAULT_TIGHT_BUDGET;
 
 /// Shows a spinner with the elapsed time on stderr while `work` runs, when stderr is a
 /// terminal: a tight search can take minutes and would otherwise look hung.
