@@ -2,9 +2,9 @@
 //! suspects, flaky interactions and λ advice, in four formats.
 //!
 //! Its work is bounded whatever the store holds: reading is linear in the records, a
-//! suite's tallies cost at most [`heddle_store::tally::MAX_TALLY_CELLS`] cells (a suite
-//! above it is left out with a note), and the λ advice is priced from the recorded
-//! design ([`Price`]) instead of generating one.
+//! suite's tallies cost at most [`heddle_store::tally::MAX_TALLY_CELLS`] cells
+//! (interactions of more factors than fit are left out with a note), and the λ advice
+//! is priced from the recorded design ([`Price`]) instead of generating one.
 
 mod json;
 mod junit;
@@ -220,7 +220,12 @@ pub fn build<'a>(records: &'a Records, packages: &[String], confidence: f64, all
             continue;
         }
         match tally(&s.spec, s.outcomes()) {
-            Ok(t) => suites.push(suite_report(&s.spec, &s.rows, t, confidence)),
+            Ok(t) => {
+                if let Some(left_out) = t.left_out {
+                    notes.push(left_out.note(&s.spec.suite, t.strength).one_line());
+                }
+                suites.push(suite_report(&s.spec, &s.rows, t, confidence))
+            }
             Err(e) => notes.push(format!("skipped suite `{}`: {e}", s.spec.suite)),
         }
     }

@@ -54,4 +54,4 @@ pub use discover::{DISCOVER_DEPTH, RunInfo, Store, StoreError, find_root};
 pub use join::{Records, SuiteRecords};
 pub use notes::{LineRef, ReadStats};
 pub use spec::{SpecError, engine_spec};
-pub use tally::{Count, Interaction, Tallies, Tally, tally};
+pub use tally::{Count, Interaction, LeftOut, Tallies, Tally, tally};

@@ -44,11 +44,12 @@ pub enum SpecError {
         /// Names.
         names: usize,
     },
-    /// Tallying the spec would cost more than [`crate::tally::MAX_TALLY_CELLS`].
+    /// Tallying even the single levels would cost more than
+    /// [`crate::tally::MAX_TALLY_CELLS`].
     TallyTooLarge {
         /// Design rows.
         rows: usize,
-        /// Column sets of arity 1 to the strength.
+        /// Factors (the column sets of arity 1).
         sets: u128,
     },
     /// An exclude is not a formula over these factors' levels.
@@ -88,8 +89,8 @@ impl std::fmt::Display for SpecError {
                 return write!(
                     f,
                     "counting {rows} rows over {sets} column sets takes {} steps, more than the \
-                     {} a suite may take; hint: its interactions are not counted: lower the \
-                     strength or split the factors into several suites",
+                     {} a suite may take, even for single levels; hint: split the factors \
+                     into several suites",
                     (*rows as u128).saturating_mul(*sets),
                     crate::tally::MAX_TALLY_CELLS
                 );

@@ -3,9 +3,11 @@
 //! Outcomes are first summed per design row (a row may have run many times: several
 //! runs, retries, shards), then every interaction present in the design collects the
 //! sums of the rows that contain it. So the cost is linear in the records plus
-//! rows × Σ C(k, a) for a ≤ t "cells", independent of how many runs are merged; a spec
-//! line whose cells exceed [`MAX_TALLY_CELLS`] is refused before any work, since each
-//! cell can become an entry of its own.
+//! rows × Σ C(k, a) for a ≤ t "cells", independent of how many runs are merged. Each
+//! cell can become an entry of its own, so the cells are held to [`MAX_TALLY_CELLS`]
+//! before any work: interactions of the most factors that fit are counted and the rest
+//! are left out, saying so ([`Tallies::left_out`]); a spec line whose single levels
+//! alone exceed it is refused.
 
 use heddle_generator::next_subset;
 use heddle_test::record::{Outcome, SpecRecord};
@@ -123,8 +125,32 @@ pub struct Tallies {
     pub entries: Vec<Tally>,
     /// Outcomes given for a row index outside the design (left out).
     pub unknown_rows: u64,
+    /// Set when counting every arity up to the spec's strength would have taken more
+    /// than [`MAX_TALLY_CELLS`]: `strength` is then below the spec's.
+    pub left_out: Option<LeftOut>,
     /// `starts[a - 1]..starts[a]` are the entries of arity a.
     starts: Vec<usize>,
+}
+
+/// Interactions a tally left out to stay within [`MAX_TALLY_CELLS`].
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct LeftOut {
+    /// The spec's strength: arities above the tallies' up to this one were not counted.
+    pub strength: usize,
+    /// The cells counting every arity would have taken.
+    pub cells: u128,
+}
+
+impl LeftOut {
+    /// What was left out, for a report's notes.
+    pub fn note(&self, suite: &str, counted: usize) -> heddle_generator::Diagnostic {
+        heddle_generator::Diagnostic::new(format!(
+            "suite `{suite}`: counted interactions of up to {counted} factors, not {}: all of \
+             them take {} steps, more than the {MAX_TALLY_CELLS} a suite may take",
+            self.strength, self.cells
+        ))
+        .hint("lower the strength or split the factors into several suites to count them all")
+    }
 }
 
 impl Tallies {
@@ -192,19 +218,22 @@ pub fn tally(
     outcomes: impl IntoIterator<Item = (usize, Outcome)>,
 ) -> Result<Tallies, SpecError> {
     spec::check(spec)?;
-    let (sets, cells) = tally_cells(spec.rows.len(), spec.factors.len(), spec.strength as usize);
-    if cells > u128::from(MAX_TALLY_CELLS) {
+    let (rows, k, t) = (spec.rows.len(), spec.factors.len(), spec.strength as usize);
+    let fits = |a: usize| tally_cells(rows, k, a).1 <= u128::from(MAX_TALLY_CELLS);
+    let Some(counted) = (1..=t).rev().find(|&a| fits(a)) else {
         return Err(SpecError::TallyTooLarge {
-            rows: spec.rows.len(),
-            sets,
+            rows,
+            sets: tally_cells(rows, k, 1).0,
+        });
+    };
+    let mut tallies = tally_rows(&spec.rows, k, counted, outcomes);
+    if counted < t {
+        tallies.left_out = Some(LeftOut {
+            strength: t,
+            cells: tally_cells(rows, k, t).1,
         });
     }
-    Ok(tally_rows(
-        &spec.rows,
-        spec.factors.len(),
-        spec.strength as usize,
-        outcomes,
-    ))
+    Ok(tallies)
 }
 
 /// [`tally`] over plain rows; the caller guarantees `rows` have `k` levels each and
@@ -264,6 +293,7 @@ fn tally_rows(
         rows: per_row,
         entries,
         unknown_rows,
+        left_out: None,
         starts,
     }
 }
@@ -463,26 +493,56 @@ mod tests {
     }
 
     #[test]
-    fn a_hand_made_spec_too_large_to_count_is_refused_before_any_work() {
-        // 40 one-level factors at strength 8: 1.0e8 column sets, each an entry of its own
+    fn a_hand_made_spec_too_large_to_count_is_counted_as_far_as_the_budget_goes() {
+        // 40 one-level factors at strength 8: 1.0e8 column sets, each an entry of its
+        // own; up to 5 factors, Σ_{a≤5} C(40, a) = 760 098 cells fit, 6 would not
+        // (+ C(40, 6) = 3 838 380)
         let spec = spec_of(&[1; 40], 8, vec![vec![0; 40]]);
-        let err = tally(&spec, [(0, Outcome::Passed)]).unwrap_err();
-        assert!(matches!(err, SpecError::TallyTooLarge { rows: 1, .. }), "{err:?}");
-        let text = err.to_string();
-        assert!(text.contains("1 rows over 100146723 column sets"), "{text}");
-        assert!(text.contains("hint: its interactions are not counted"), "{text}");
-        // 24 two-level factors at strength 8 with 4 rows: 5.1 million cells
+        let t = tally(&spec, [(0, Outcome::Passed)]).unwrap();
+        assert_eq!(t.strength, 5);
+        assert_eq!(t.entries.len(), 760_098);
+        assert_eq!(
+            t.left_out,
+            Some(LeftOut {
+                strength: 8,
+                cells: 100_146_723
+            })
+        );
+        let note = t.left_out.unwrap().note("f", t.strength).one_line();
+        assert_eq!(
+            note,
+            "suite `f`: counted interactions of up to 5 factors, not 8: all of them take \
+             100146723 steps, more than the 2097152 a suite may take; hint: lower the strength \
+             or split the factors into several suites to count them all"
+        );
+        // 24 two-level factors at strength 8 with 4 rows: 5.1 million cells; 4 times
+        // Σ_{a≤6} C(24, a) = 4 · 190 050 = 760 200 fit, with 7 factors 2 144 616 would not
         let rows = (0..4u8)
             .map(|r| (0..24).map(|c| (r >> (c % 2)) & 1).collect())
             .collect();
         let spec = spec_of(&[2; 24], 8, rows);
-        assert!(matches!(
-            tally(&spec, []),
-            Err(SpecError::TallyTooLarge {
-                rows: 4,
-                sets: 1_271_625
-            })
-        ));
+        let t = tally(&spec, []).unwrap();
+        assert_eq!(
+            (t.strength, t.left_out.map(|l| l.cells)),
+            (6, Some(4 * 1_271_625))
+        );
+        // a spec whose single levels alone are too many is refused
+        let spec = spec_of(&[2; 3000], 1, vec![vec![0; 3000]; 700]);
+        let err = tally(&spec, []).unwrap_err();
+        assert!(
+            matches!(
+                err,
+                SpecError::TallyTooLarge {
+                    rows: 700,
+                    sets: 3000
+                }
+            ),
+            "{err:?}"
+        );
+        assert!(
+            err.to_string().contains("700 rows over 3000 column sets"),
+            "{err}"
+        );
     }
 
     #[test]
@@ -493,11 +553,12 @@ mod tests {
             .collect();
         let spec = spec_of(&[3; 17], 4, rows);
         let t = tally(&spec, [(0, Outcome::Failed)]).unwrap();
-        assert_eq!(t.rows.len(), 652);
+        assert_eq!((t.rows.len(), t.strength, t.left_out), (652, 4, None));
         let mut more = spec.clone();
         more.rows.push(vec![0; 17]);
         more.row_names.push("row_652".into());
-        assert!(matches!(tally(&more, []), Err(SpecError::TallyTooLarge { .. })));
+        let t = tally(&more, []).unwrap();
+        assert_eq!((t.strength, t.left_out.map(|l| l.strength)), (3, Some(4)));
     }
 
     #[test]
