@@ -135,11 +135,28 @@ impl Expr {
     /// assert_eq!(err.column, 5);
     /// ```
     pub fn parse_formula(text: &str, levels: &[usize]) -> Result<Expr, ParseError> {
-        Grammar::run(Indices {
+        let e = Grammar::run(Indices {
             src: text,
             pos: 0,
             levels,
-        })
+        })?;
+        // the grammar also reads redundant parentheses: the one text is the rendered one
+        let canonical = e.to_formula();
+        if canonical != text {
+            let at = canonical
+                .bytes()
+                .zip(text.bytes())
+                .take_while(|(a, b)| a == b)
+                .count();
+            return Err(ParseError::new(
+                text,
+                at,
+                1,
+                "the formula is not in its canonical form",
+                format!("write it as `{canonical}`"),
+            ));
+        }
+        Ok(e)
     }
 
     /// Parses the human syntax: atoms `NAME == LABEL` and `NAME != LABEL` combined with
@@ -904,6 +921,10 @@ mod tests {
             ("0=1 ", 4, "unexpected text"),
             ("0=1&&1=0", 5, "expected a factor index"),
             ("a=1", 1, "expected a factor index"),
+            // redundant parentheses: one text per formula
+            ("(0=1)", 1, "not in its canonical form"),
+            ("0=1&(1=0)", 5, "not in its canonical form"),
+            ("(0=1&1=0)|1=1", 1, "not in its canonical form"),
         ] {
             let err = Expr::parse_formula(text, &levels).expect_err(text);
             assert_eq!(err.column, column, "{text}: {err}");

@@ -75,3 +75,21 @@ pub fn codec_example_fingerprint(engine_version: u64) -> u64 {
     num(&mut bytes, 0); // no required rows
     heddle_syntax::hash::fnv1a64(&bytes)
 }
+
+/// Every file of `tests/corpus/<dir>`, as (path, text), sorted by path.
+pub fn corpus(dir: &str) -> Vec<(String, String)> {
+    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("tests/corpus")
+        .join(dir);
+    let mut out: Vec<(String, String)> = std::fs::read_dir(&dir)
+        .unwrap_or_else(|e| panic!("the corpus `{}` is readable: {e}", dir.display()))
+        .map(|entry| {
+            let path = entry.expect("a corpus entry").path();
+            let text = std::fs::read_to_string(&path).expect("corpus files are UTF-8");
+            (path.display().to_string(), text)
+        })
+        .collect();
+    out.sort();
+    assert!(!out.is_empty(), "the corpus `{}` is empty", dir.display());
+    out
+}
