@@ -14,7 +14,7 @@ use proptest::prelude::*;
 use proptest::test_runner::{Config, RngSeed, TestRunner};
 
 /// Generated cases per strategy: a few seconds in all.
-const CASES: u32 = 2000;
+const CASES: u32 = 800;
 
 fn runner() -> TestRunner {
     TestRunner::new(Config {

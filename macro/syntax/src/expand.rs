@@ -34,7 +34,7 @@ use crate::rows::{Rows, rows_for};
 use crate::validate::{Checked, Returns, validate};
 
 /// Everything the expansion depends on besides the tokens.
-#[derive(Clone, Debug)]
+#[derive(Clone)]
 pub struct Context {
     /// The crate root (`CARGO_MANIFEST_DIR`), absolute, when known.
     pub crate_root: Option<PathBuf>,
@@ -54,6 +54,22 @@ pub struct Context {
     /// The crate being compiled (`CARGO_CRATE_NAME`: the library or the test, bin,
     /// example or bench target), when known.
     pub crate_name: Option<String>,
+}
+
+// by hand: syn's `Path` implements `Debug` only with syn's `extra-traits` feature
+impl std::fmt::Debug for Context {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_struct("Context")
+            .field("crate_root", &self.crate_root)
+            .field("file", &self.file)
+            .field("defaults", &self.defaults)
+            .field("pins", &self.pins)
+            .field("has_manifest", &self.has_manifest)
+            .field("runtime", &crate::text::canonical(&self.runtime))
+            .field("package", &self.package)
+            .field("crate_name", &self.crate_name)
+            .finish()
+    }
 }
 
 /// The path of the runtime crate under its own name.

@@ -15,7 +15,7 @@ use proptest::prelude::*;
 use proptest::test_runner::{Config, RngSeed, TestRunner};
 
 /// Generated cases per strategy: a few seconds in all.
-const CASES: u32 = 600;
+const CASES: u32 = 250;
 
 fn runner() -> TestRunner {
     TestRunner::new(Config {

@@ -13,7 +13,7 @@ use proptest::prelude::*;
 use proptest::test_runner::{Config, RngSeed, TestRunner};
 
 /// Generated cases: a few seconds in all.
-const CASES: u32 = 1500;
+const CASES: u32 = 2000;
 
 fn check(text: &str) {
     match PinsFile::parse(text) {

@@ -14,7 +14,7 @@ use proptest::prelude::*;
 use proptest::test_runner::{Config, RngSeed, TestRunner};
 
 /// Generated cases: a few seconds in all.
-const CASES: u32 = 400;
+const CASES: u32 = 300;
 
 /// Reads `bytes` as the one file of a run and does with it what a report does.
 fn read_as_a_run(bytes: &[u8]) {
