@@ -12,18 +12,12 @@ mod common;
 use heddle_syntax::{Context, expand};
 use proc_macro2::TokenStream;
 use proptest::prelude::*;
-use proptest::test_runner::{Config, RngSeed, TestRunner};
 
 /// Generated cases per strategy: a few seconds in all.
 const CASES: u32 = 250;
 
-fn runner() -> TestRunner {
-    TestRunner::new(Config {
-        cases: CASES,
-        rng_seed: RngSeed::Fixed(0x6865_6464_6c65),
-        failure_persistence: None,
-        ..Config::default()
-    })
+fn runner() -> proptest::test_runner::TestRunner {
+    common::fuzz_runner(CASES)
 }
 
 /// Expands `#[cover(attr)] item` when both lex, on the compiler's stack size.

@@ -10,7 +10,6 @@ mod common;
 
 use heddle_syntax::PinsFile;
 use proptest::prelude::*;
-use proptest::test_runner::{Config, RngSeed, TestRunner};
 
 /// Generated cases: a few seconds in all.
 const CASES: u32 = 2000;
@@ -99,12 +98,7 @@ fn edits() -> impl Strategy<Value = Vec<Edit>> {
 #[test]
 fn edited_pins_files_never_panic_and_round_trip() {
     let corpus = common::corpus("pins");
-    let mut runner = TestRunner::new(Config {
-        cases: CASES,
-        rng_seed: RngSeed::Fixed(0x6865_6464_6c65),
-        failure_persistence: None,
-        ..Config::default()
-    });
+    let mut runner = common::fuzz_runner(CASES);
     let strategy = (0..corpus.len(), edits());
     runner
         .run(&strategy, |(which, edits)| {

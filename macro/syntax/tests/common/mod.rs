@@ -93,3 +93,15 @@ pub fn corpus(dir: &str) -> Vec<(String, String)> {
     assert!(!out.is_empty(), "the corpus `{}` is empty", dir.display());
     out
 }
+
+/// The runner of the fuzz targets: `cases` inputs from a fixed seed, so every run tries
+/// the same ones, and nothing written to disk on failure (proptest prints the case).
+pub fn fuzz_runner(cases: u32) -> proptest::test_runner::TestRunner {
+    use proptest::test_runner::{Config, RngSeed, TestRunner};
+    TestRunner::new(Config {
+        cases,
+        rng_seed: RngSeed::Fixed(0x6865_6464_6c65),
+        failure_persistence: None,
+        ..Config::default()
+    })
+}
