@@ -44,27 +44,28 @@ fn can2_binary(k: u64) -> u64 {
 
 fn instances() -> Vec<Instance> {
     let mut out = Vec::new();
-    // best-known sizes from the tables; issue 13 adds the regions where the engine lags
-    let issue2 = "Colbourn covering array tables (2024), as quoted in issue 2";
-    let issue13 = "Colbourn covering array tables (2024 snapshot), as quoted in issue 13";
+    // best-known sizes from C. J. Colbourn's covering array tables (online, 2024), the
+    // second group covering the regions where the engine lags; sizes from memory
+    let tables = "Colbourn covering array tables (2024), from memory";
+    let lagging = "Colbourn covering array tables (2024 snapshot), from memory";
     for (v, k, t, n, table) in [
-        (3usize, 13usize, 2usize, 15u64, issue2),
-        (4, 15, 2, 26, issue2),
-        (5, 20, 2, 40, issue2),
-        (10, 20, 2, 155, issue2),
-        (2, 10, 3, 12, issue2),
-        (3, 6, 3, 33, issue2),
-        (4, 6, 3, 64, issue2),
-        (2, 50, 4, 67, issue13),
-        (2, 30, 5, 134, issue13),
-        (2, 20, 5, 99, issue13),
-        (4, 20, 3, 127, issue13),
-        (3, 12, 3, 45, issue13),
-        (3, 20, 3, 59, issue13),
-        (5, 10, 3, 185, issue13),
-        (10, 50, 2, 202, issue13),
-        (9, 20, 2, 126, issue13),
-        (3, 1000, 2, 32, issue13),
+        (3usize, 13usize, 2usize, 15u64, tables),
+        (4, 15, 2, 26, tables),
+        (5, 20, 2, 40, tables),
+        (10, 20, 2, 155, tables),
+        (2, 10, 3, 12, tables),
+        (3, 6, 3, 33, tables),
+        (4, 6, 3, 64, tables),
+        (2, 50, 4, 67, lagging),
+        (2, 30, 5, 134, lagging),
+        (2, 20, 5, 99, lagging),
+        (4, 20, 3, 127, lagging),
+        (3, 12, 3, 45, lagging),
+        (3, 20, 3, 59, lagging),
+        (5, 10, 3, 185, lagging),
+        (10, 50, 2, 202, lagging),
+        (9, 20, 2, 126, lagging),
+        (3, 1000, 2, 32, lagging),
     ] {
         out.push(Instance {
             group: "best-known",
@@ -191,7 +192,7 @@ fn instances() -> Vec<Instance> {
             "2^1 5^11 t=2 l=2",
             2,
             50,
-            "OA(50; 2, 2^1 5^11), as quoted in issue 13",
+            "OA(50; 2, 2^1 5^11), N. J. A. Sloane's library of orthogonal arrays, from memory",
         ),
     ] {
         out.push(Instance {
@@ -457,7 +458,7 @@ fn main() -> ExitCode {
         if rs.is_empty() {
             continue;
         }
-        // geometric mean and worst ratio (the issue's targets are stated on both)
+        // geometric mean and worst ratio (the size targets are stated on both)
         let stat = |f: fn(&(&str, f64, f64)) -> f64| {
             let xs: Vec<f64> = rs.iter().map(|r| f(r)).filter(|x| !x.is_nan()).collect();
             if xs.is_empty() {
@@ -494,7 +495,7 @@ fn main() -> ExitCode {
                 let (a, b) = fit(&pts);
                 println!(
                     "3^k t=2 growth ({label}): rows ≈ {a:.1} + {b:.2}·ln k over {} points \
-                     (best-known slope about 3.8, issue 13)",
+                     (best-known slope about 3.8 in Colbourn's tables, from memory)",
                     pts.len()
                 );
             }

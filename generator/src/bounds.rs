@@ -3,6 +3,10 @@
 
 use std::collections::BTreeMap;
 
+use crate::constraints::Constraints;
+use crate::interactions::Layout;
+use crate::model::Spec;
+
 /// λ · (product of the t largest level counts): every combination of the t largest
 /// factors needs λ rows of its own, so no design is smaller. Saturates.
 ///
@@ -16,6 +20,41 @@ pub fn lower_bound(levels: &[usize], t: usize, lambda: u32) -> u128 {
     v.iter()
         .take(t)
         .fold(lambda as u128, |acc, &x| acc.saturating_mul(x as u128))
+}
+
+/// The counting bound for what the excludes leave possible: λ times the most t-way
+/// interactions of one t-set that some allowed row contains (each needs λ rows of its
+/// own, and a row shows one interaction per t-set). Without excludes it is
+/// [`lower_bound`]; with them it can be far lower, since an interaction no allowed row
+/// contains needs no row. The spec must be valid ([`Spec::validate`]).
+///
+/// ```
+/// use heddle_generator::{Expr, Factor, Spec, bounds};
+/// let f = vec![Factor::numbered("a", 3), Factor::numbered("b", 3), Factor::numbered("c", 2)];
+/// // a = 2 never happens: the pairs of (a, b) fall from 9 to 6
+/// let spec = Spec::new(f).exclude(Expr::is(0, 2));
+/// assert_eq!(bounds::lower_bound(&spec.levels(), 2, 1), 9);
+/// assert_eq!(bounds::possible_lower_bound(&spec), 6);
+/// ```
+pub fn possible_lower_bound(spec: &Spec) -> u128 {
+    let levels = spec.levels();
+    let t = spec.strength.min(levels.len());
+    if spec.excludes.is_empty() || t == 0 {
+        return lower_bound(&levels, t, spec.lambda);
+    }
+    let layout = Layout::new(&levels, t);
+    let (possible, _) = Constraints::new(&spec.excludes, &levels).possible(&layout);
+    let widest = (0..layout.sets())
+        .map(|rank| {
+            let from = layout.offset(rank);
+            possible[from..from + layout.width(rank)]
+                .iter()
+                .filter(|&&p| p)
+                .count()
+        })
+        .max()
+        .unwrap_or(0);
+    (widest as u128).saturating_mul(u128::from(spec.lambda))
 }
 
 /// Number of t-sets of columns grouped by the product of their level counts.

@@ -47,6 +47,5 @@ pub mod stream {
     /// The local search.
     pub const TIGHTEN: u64 = 2;
     /// Constructions that randomise (level relabelling, column choice).
-    #[allow(dead_code)] // reserved for the constructions
     pub const CONSTRUCT: u64 = 3;
 }

@@ -103,7 +103,8 @@ fn expected_bound_is_the_least_n_by_statrs() {
 
 #[test]
 fn equal_levels_closed_form() {
-    // for v^k: C(k, t) · v^t · Σ_{i<λ} C(N, i) p^i (1 − p)^(N − i) < 1 with p = v^−t (issue 2)
+    // for v^k: C(k, t) · v^t · Σ_{i<λ} C(N, i) p^i (1 − p)^(N − i) < 1 with p = v^−t (the
+    // first-moment bound of Godbole, Skipper & Sunley 1996, written out for index λ)
     for (v, k, t, lambda) in [
         (3u64, 13u64, 2u32, 1u32),
         (2, 11, 2, 5),

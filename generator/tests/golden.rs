@@ -10,15 +10,21 @@
 
 use heddle_generator::{ENGINE_VERSION, Effort, Expr, Factor, Spec, generate};
 
-fn fnv1a(rows: &[Vec<u8>]) -> u64 {
+/// FNV-1a 64 of a byte stream: the one hash both the golden values and the published
+/// test vectors below go through.
+fn fnv1a(bytes: impl IntoIterator<Item = u8>) -> u64 {
     let mut h: u64 = 0xcbf2_9ce4_8422_2325;
-    for row in rows {
-        for &b in row.iter().chain(std::iter::once(&0xff)) {
-            h ^= b as u64;
-            h = h.wrapping_mul(0x0000_0100_0000_01b3);
-        }
+    for b in bytes {
+        h ^= b as u64;
+        h = h.wrapping_mul(0x0000_0100_0000_01b3);
     }
     h
+}
+
+/// The rows as one byte stream, each row's levels followed by 0xff.
+fn row_bytes(rows: &[Vec<u8>]) -> impl Iterator<Item = u8> + '_ {
+    rows.iter()
+        .flat_map(|row| row.iter().copied().chain(std::iter::once(0xff)))
 }
 
 fn factors(levels: &[usize]) -> Vec<Factor> {
@@ -31,23 +37,23 @@ fn factors(levels: &[usize]) -> Vec<Factor> {
 
 fn fingerprint(spec: &Spec, effort: Effort) -> (usize, u64) {
     let d = generate(spec, effort).expect("valid spec");
-    (d.rows.len(), fnv1a(&d.rows))
+    (d.rows.len(), fnv1a(row_bytes(&d.rows)))
 }
 
 #[test]
 fn fnv1a_reference_vectors() {
-    // FNV-1a 64 test vectors for "" and "a" published with the algorithm (Fowler, Noll &
-    // Vo); the values are from memory
-    fn bytes(s: &[u8]) -> u64 {
-        let mut h: u64 = 0xcbf2_9ce4_8422_2325;
-        for &b in s {
-            h ^= b as u64;
-            h = h.wrapping_mul(0x0000_0100_0000_01b3);
-        }
-        h
-    }
-    assert_eq!(bytes(b""), 0xcbf2_9ce4_8422_2325);
-    assert_eq!(bytes(b"a"), 0xaf63_dc4c_8601_ec8c);
+    // FNV-1a 64 test vectors for "", "a" and "foobar" published with the algorithm
+    // (Fowler, Noll & Vo); the values are from memory. They go through the very function
+    // the golden values use
+    assert_eq!(fnv1a(*b""), 0xcbf2_9ce4_8422_2325);
+    assert_eq!(fnv1a(*b"a"), 0xaf63_dc4c_8601_ec8c);
+    assert_eq!(fnv1a(*b"foobar"), 0x8594_4171_f739_67e8);
+    // and the rows reach it as their bytes with a separator after each row
+    let rows = vec![vec![b'f', b'o'], vec![b'o']];
+    assert_eq!(
+        row_bytes(&rows).collect::<Vec<u8>>(),
+        [b'f', b'o', 0xff, b'o', 0xff]
+    );
 }
 
 #[test]

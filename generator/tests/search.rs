@@ -43,8 +43,8 @@ fn hadamard_sizes_for_index_lambda() {
 fn strength_three() {
     // CAN(3, 5, 2) = ⌊2^5 / 3⌋ = 10 (Johnson & Entringer 1989)
     assert_eq!(search(&[2; 5], 3, 1, Effort::Fast), 10);
-    // published best-known sizes (Colbourn covering array tables, 2024, as quoted in
-    // issue 2): CA(12; 3, 10, 2) and CA(33; 3, 6, 3)
+    // published best-known sizes (C. J. Colbourn's covering array tables, 2024, from
+    // memory): CA(12; 3, 10, 2) and CA(33; 3, 6, 3)
     assert!(search(&[2; 10], 3, 1, Effort::Fast) <= 12);
     // (with a pinned row the search stalls at 34 here, so this one runs unpinned and checks
     // the engine as a whole)
@@ -55,7 +55,7 @@ fn strength_three() {
 
 #[test]
 fn ternary_strength_two_best_known() {
-    // CA(15; 2, 13, 3), best known (Colbourn covering array tables, 2024, as quoted in
-    // issue 2)
+    // CA(15; 2, 13, 3), best known (C. J. Colbourn's covering array tables, 2024, from
+    // memory)
     assert!(search(&[3; 13], 2, 1, Effort::Fast) <= 15);
 }

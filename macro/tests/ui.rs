@@ -76,6 +76,7 @@ fn ui() {
         "pins",
         "require",
         "budget",
+        "nesting",
     ] {
         t.compile_fail(format!("tests/ui/{topic}/*.rs"));
     }

@@ -482,8 +482,9 @@ mod tests {
 
     #[test]
     fn an_always_failing_pair_outranks_a_broader_flaky_one() {
-        // (p0 = a, p1 = a) always fails; (p2 = c, p3 = c) fails in one of its two rows,
-        // run three times each; more failures come from the flaky pair
+        // (p0 = a, p1 = a) always fails; over six rounds, (p2 = c, p3 = c) fails in one of
+        // its two rows every other round and in the other in the first four; more
+        // failures come from the flaky pair
         let sp = spec();
         let det = |r: &[u8]| r[0] == 0 && r[1] == 0;
         let flaky_rows: Vec<usize> = (0..18)

@@ -5,11 +5,12 @@ use std::process::ExitCode;
 use std::time::Instant;
 
 use clap::{Args, ValueEnum};
-use heddle_generator::{Design, Expr, Spec, generate};
+use heddle_generator::{Design, Effort, Expr, Spec, bounds, generate};
 use serde::Serialize;
 
-use crate::effort::EffortArg;
+use crate::effort::{EffortArg, with_spinner};
 use crate::failure::{Diagnostic, Failure, found, usage};
+use crate::say;
 use crate::spec_args::{parse_required, parse_specs};
 use heddle_syntax::require::{Blocked, blocked};
 
@@ -66,6 +67,16 @@ pub fn run(args: DesignArgs) -> Result<ExitCode, Failure> {
                     .at(format!("`--exclude` column {}", e.column)),
             )
         })?;
+        // a condition no row meets leaves nothing out: most likely a mistyped exclude
+        if !Spec::new(factors.clone()).exclude(e.clone().not()).any_allowed() {
+            say::err(format!(
+                "warning: {}",
+                Diagnostic::new(format!(
+                    "`--exclude '{src}'` can never hold, so it excludes nothing"
+                ))
+                .hint("check the levels it names: a factor has one level per row")
+            ));
+        }
         excludes.push(e);
     }
     let mut spec = Spec::new(factors)
@@ -96,26 +107,43 @@ pub fn run(args: DesignArgs) -> Result<ExitCode, Failure> {
     }
     let effort = args.effort.with_budget(args.budget)?;
     let started = Instant::now();
-    let design = generate(&spec, effort).map_err(|e| match e {
+    let generated = match effort {
+        Effort::Tight { budget } => {
+            with_spinner(&format!("searching for fewer rows ({budget} moves)"), || {
+                generate(&spec, effort)
+            })
+        }
+        Effort::Fast => generate(&spec, effort),
+    };
+    let design = generated.map_err(|e| match e {
         heddle_generator::Error::Internal(m) => found(m),
         other => usage(Diagnostic::from(&other)),
     })?;
     let elapsed = started.elapsed();
+    // the engine's bound counts every interaction; with excludes some need no row
+    let lower_bound = u64::try_from(bounds::possible_lower_bound(&spec)).unwrap_or(u64::MAX);
     let out = match args.format {
         Format::Csv => csv(&spec, &design),
-        Format::Json => json(&spec, &design, &args, elapsed.as_secs_f64()),
+        Format::Json => json(&spec, &design, &args, lower_bound, elapsed.as_secs_f64()),
     };
     let mut stdout = std::io::stdout().lock();
     // a closed pipe (e.g. `| head`) is not an error worth reporting
     let _ = stdout.write_all(out.as_bytes()).and_then(|_| stdout.flush());
-    eprintln!(
-        "heddle: {} rows ({}), lower bound {}, expected-value bound {}, {:.1} ms",
+    let possible = if spec.excludes.is_empty() {
+        String::new()
+    } else {
+        format!(
+            " for the {} interactions the excludes leave possible",
+            design.stats.interactions - design.stats.impossible
+        )
+    };
+    say::err(format!(
+        "heddle: {} rows ({}), lower bound {lower_bound}{possible}, expected-value bound {}, {:.1} ms",
         design.rows.len(),
         design.stats.method,
-        design.stats.lower_bound,
         design.stats.expected_bound,
         elapsed.as_secs_f64() * 1e3
-    );
+    ));
     Ok(ExitCode::SUCCESS)
 }
 
@@ -188,7 +216,7 @@ struct JsonStatistics<'a> {
     seconds: f64,
 }
 
-fn json(spec: &Spec, design: &Design, args: &DesignArgs, seconds: f64) -> String {
+fn json(spec: &Spec, design: &Design, args: &DesignArgs, lower_bound: u64, seconds: f64) -> String {
     let doc = JsonDesign {
         format: DESIGN_JSON_FORMAT,
         engine_version: design.stats.engine_version,
@@ -238,7 +266,7 @@ fn json(spec: &Spec, design: &Design, args: &DesignArgs, seconds: f64) -> String
         statistics: JsonStatistics {
             rows: design.rows.len(),
             method: &design.stats.method,
-            lower_bound: design.stats.lower_bound,
+            lower_bound,
             expected_bound: design.stats.expected_bound,
             interactions: design.stats.interactions,
             impossible: design.stats.impossible,

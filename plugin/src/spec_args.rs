@@ -36,6 +36,13 @@ pub fn parse_specs(tokens: &[String]) -> Result<Vec<Factor>, Failure> {
                 ));
             }
             let labels: Vec<&str> = labels.split(',').collect();
+            // `a==b` is an exclude typed where a factor belongs, not a level `=b`
+            if let Some(bad) = labels.iter().find(|l| l.contains('=')) {
+                return Err(usage(
+                    Diagnostic::new(format!("malformed SPEC `{tok}`: level `{bad}` contains `=`"))
+                        .hint("write `NAME=L1,L2,…`; a condition on levels goes in `--exclude`"),
+                ));
+            }
             if let Some(bad) = labels
                 .iter()
                 .find(|l| l.is_empty() || l.chars().any(char::is_whitespace))
@@ -104,8 +111,10 @@ pub fn parse_required(text: &str, factors: &[Factor]) -> Result<Row, Failure> {
 }
 
 fn parse_count(tok: &str, s: &str, what: &str) -> Result<usize, Failure> {
+    // digits only: `usize::from_str` would also take a leading `+`
+    let digits = !s.is_empty() && s.bytes().all(|b| b.is_ascii_digit());
     match s.parse::<usize>() {
-        Ok(n) if n >= 1 => Ok(n),
+        Ok(n) if n >= 1 && digits => Ok(n),
         _ => Err(usage(
             Diagnostic::new(format!(
                 "malformed SPEC `{tok}`: `{s}` is not a {what} of at least 1"
@@ -154,7 +163,20 @@ mod tests {
     #[test]
     fn malformed_tokens_are_refused() {
         for bad in [
-            "3", "3^0", "0^3", "x^2", "256^2", "=a,b", "os=", "os=a,,b", "a b=c",
+            "3",
+            "3^0",
+            "0^3",
+            "x^2",
+            "256^2",
+            "=a,b",
+            "os=",
+            "os=a,,b",
+            "a b=c",
+            "+3^2",
+            "3^+2",
+            "a==b",
+            "os=linux,=mac",
+            " 3^2",
         ] {
             let err = parse_specs(&toks(&[bad])).unwrap_err();
             assert_eq!(err.code(), 2, "{bad}");

@@ -121,7 +121,10 @@ fn test_report_pin_check_cycle() {
             serde_json::json!({"currency": "\"JPY\"", "rounding": "Rounding::Half"})
         );
     } else {
-        heddle_e2e::scratch::note("cargo-nextest is not installed: skipping `cargo heddle test --nextest`");
+        heddle_e2e::steps::skip(
+            "`cargo heddle test --nextest`",
+            "`cargo nextest --version` failed: cargo-nextest is not installed",
+        );
     }
 
     // 2. `pin` writes the pins file, `check` passes, the build now uses the pinned rows

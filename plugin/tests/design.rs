@@ -156,6 +156,12 @@ fn bad_input_exits_with_2_and_says_why() {
         ),
         (&["a=x,x"], "lists level `x` twice"),
         (&["2^1", "f1=a,b"], "factor `f1` is declared twice"),
+        (&["+3^2"], "malformed SPEC `+3^2`"),
+        (&["a==b"], "malformed SPEC `a==b`: level `=b` contains `=`"),
+        (
+            &["2^2", "--effort", "tight", "--budget", "18446744073709551615"],
+            "`--budget 18446744073709551615` is more moves than the search takes",
+        ),
     ];
     for (args, want) in cases {
         let o = design(args);
@@ -174,4 +180,71 @@ fn limits_are_refused_with_the_count() {
         err.contains("t-way interactions, more than the limit of 16777216"),
         "{err}"
     );
+}
+
+#[test]
+fn deep_excludes_are_refused_not_a_crash() {
+    let parens = format!("{}f1 == 0{}", "(".repeat(10_000), ")".repeat(10_000));
+    let nots = format!("{}f1 == 0", "!".repeat(20_000));
+    for exclude in [parens, nots] {
+        let o = design(&["3^3", "--exclude", &exclude]);
+        // a stack overflow ends the process by a signal, without an exit code
+        assert_eq!(
+            o.status.code(),
+            Some(2),
+            "{}",
+            &stderr(&o)[..200.min(stderr(&o).len())]
+        );
+        let err = stderr(&o);
+        assert!(
+            err.contains("the formula nests deeper than 1024 levels"),
+            "{err:.300}"
+        );
+        assert!(err.contains("`--exclude` column 1024"), "{err:.300}");
+    }
+}
+
+#[test]
+fn a_label_with_both_kinds_of_quote_can_be_excluded() {
+    let o = design(&["q=plain,it's\"x\"", "2^2", "--exclude", "q == 'it''s\"x\"'"]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let factors = vec![
+        Factor::new("q", ["plain", "it's\"x\""]),
+        Factor::numbered("f2", 2),
+        Factor::numbered("f3", 2),
+    ];
+    let rows = csv_rows(&stdout(&o), &factors);
+    assert!(
+        rows.iter().all(|r| r[0] == 0),
+        "the quoted level is excluded: {rows:?}"
+    );
+}
+
+#[test]
+fn the_lower_bound_counts_only_what_the_excludes_leave_possible() {
+    // f1 = 2 never happens: 6 of the 9 pairs of (f1, f2) remain, so 6 rows suffice and
+    // are needed (each remaining pair once); the plain counting bound would say 9
+    let o = design(&["3^2", "--exclude", "f1 == 2", "--format", "json"]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).expect("valid JSON");
+    assert_eq!(v["statistics"]["rows"], 6);
+    assert_eq!(v["statistics"]["lower_bound"], 6);
+    let err = stderr(&o);
+    assert!(
+        err.contains("lower bound 6 for the 6 interactions the excludes leave possible"),
+        "{err}"
+    );
+}
+
+#[test]
+fn an_exclude_that_can_never_hold_is_warned_about() {
+    let o = design(&["2^3", "--exclude", "f1 == 0 && f1 == 1", "--exclude", "f2 == 0"]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let err = stderr(&o);
+    assert!(
+        err.contains("warning: `--exclude 'f1 == 0 && f1 == 1'` can never hold, so it excludes nothing"),
+        "{err}"
+    );
+    assert!(!err.contains("`--exclude 'f2 == 0'` can never hold"), "{err}");
+    assert_eq!(err.matches("warning:").count(), 1, "{err}");
 }

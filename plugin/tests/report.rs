@@ -200,6 +200,13 @@ fn flaky_rows_across_runs_get_a_wilson_interval() {
     assert!((f["high"].as_f64().unwrap() - 0.84996).abs() < 1e-4, "{f}");
     let sus = &s["suspects"][0];
     assert_eq!(sus["always"], false);
+    // a flake failing half the time needs λ' = 5 for 95% (1 − 0.5^5 ≥ 0.95 > 1 − 0.5^4);
+    // the λ = 2 design repeated ⌈5/2⌉ = 3 times has 54 rows, and each of the 9 pairs of
+    // two factors needs 5 rows of its own: 45
+    let advice = &s["advice"];
+    assert_eq!(advice["lambda_needed"], 5, "{advice}");
+    assert_eq!(advice["rows_needed"], 54, "{advice}");
+    assert_eq!(advice["rows_needed_at_least"], 45, "{advice}");
     // one run id by name
     let one = json(tmp.path(), &["--run", "run-1"]);
     assert_eq!(one["suites"][0]["failed"], 2);
@@ -630,4 +637,59 @@ fn runs_with_and_without_follow_up_rows_merge() {
         .collect();
     assert!(failing.contains(&"totals::row_followup_00"), "{failing:?}");
     assert!(!failing.contains(&"totals::row_followup_01"), "{failing:?}");
+}
+
+/// A suite far too costly to generate again in a report (17 factors of 3 levels at
+/// strength 4; the engine took over a minute on it at a higher λ): the report prices the
+/// advice from the recorded design and finishes at once.
+#[test]
+fn the_advice_on_a_large_suite_is_priced_without_generating() {
+    let tmp = tempfile::tempdir().unwrap();
+    // 250 rows from a fixed linear congruential sequence (Knuth's MMIX constants): any
+    // rows serve, the report does not need a covering array to price one
+    let mut x: u64 = 1;
+    let rows: Vec<Vec<u8>> = (0..250)
+        .map(|_| {
+            (0..17)
+                .map(|_| {
+                    x = x
+                        .wrapping_mul(6364136223846793005)
+                        .wrapping_add(1442695040888963407);
+                    ((x >> 33) % 3) as u8
+                })
+                .collect()
+        })
+        .collect();
+    let mut b = SpecBuilder::new("wide")
+        .krate("shop")
+        .strength(4)
+        .fingerprint("00000000000000bb")
+        .rows(rows);
+    for f in 0..17 {
+        b = b.factor(&format!("k{f}"), &["a", "b", "c"]);
+    }
+    for (run, ms, row0) in [
+        ("run-1", 1_700_000_000_000, Outcome::Failed),
+        ("run-2", 1_700_000_100_000, Outcome::Passed),
+    ] {
+        let mut s = b.clone().run(run).build();
+        s.run = run.into();
+        let mut lines = vec![Line::Spec(s.clone()).to_json_line()];
+        for r in 0..s.rows.len() {
+            let o = if r == 0 { row0 } else { Outcome::Passed };
+            lines.push(Line::Row(row(&s, r, o, run)).to_json_line());
+        }
+        write_process(tmp.path(), run, ms, &lines);
+    }
+    let v = json(tmp.path(), &["--runs", "2"]);
+    let advice = &v["suites"][0]["advice"];
+    // row 0 failed once in two runs: rate 0.5, λ' = 5, the design repeated 5 times
+    assert_eq!(advice["lambda_needed"], 5, "{advice}");
+    assert_eq!(advice["rows_needed"], 5 * 250, "{advice}");
+    // at least 5 rows per interaction of the widest set of 4 factors (at most 81 of them)
+    let at_least = advice["rows_needed_at_least"].as_u64().unwrap();
+    assert!(
+        at_least.is_multiple_of(5) && at_least <= 5 * 81 && at_least > 0,
+        "{advice}"
+    );
 }

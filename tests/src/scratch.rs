@@ -137,6 +137,24 @@ impl Run {
     }
 }
 
+/// Why a temporary crate could not be made.
+#[derive(Debug)]
+pub enum CreateError {
+    /// The directory or its files could not be written: always a failure.
+    Setup(String),
+    /// Its dependencies resolve neither offline nor online: a dependency from the
+    /// registry (tokio) cannot be had here.
+    Unresolved(String),
+}
+
+impl std::fmt::Display for CreateError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            CreateError::Setup(why) | CreateError::Unresolved(why) => f.write_str(why),
+        }
+    }
+}
+
 /// A crate in a temporary directory, removed on drop.
 pub struct Scratch {
     dir: tempfile::TempDir,
@@ -159,13 +177,14 @@ fn toml_string(s: &str) -> String {
 }
 
 impl Scratch {
-    /// Writes the crate and resolves its dependencies. `Err` carries why resolution
-    /// failed both offline and online (for tests that skip without a dependency).
-    pub fn create(def: &CrateDef<'_>) -> Result<Scratch, String> {
+    /// Writes the crate and resolves its dependencies; [`CreateError::Unresolved`] says
+    /// why resolution failed both offline and online (for tests that need a dependency
+    /// from the registry).
+    pub fn create(def: &CrateDef<'_>) -> Result<Scratch, CreateError> {
         let dir = tempfile::Builder::new()
             .prefix(&format!("heddle-e2e-{}-", def.name))
             .tempdir()
-            .map_err(|e| format!("cannot create a temporary directory: {e}"))?;
+            .map_err(|e| CreateError::Setup(format!("cannot create a temporary directory: {e}")))?;
         let runner = workspace_root().join("runner");
         let mut manifest = format!(
             "[package]\nname = \"{}\"\nversion = \"0.0.0\"\nedition = \"2024\"\npublish = false\n\n",
@@ -197,8 +216,8 @@ impl Scratch {
         }
         let lock = workspace_root().join("Cargo.lock");
         std::fs::copy(&lock, krate.root().join("Cargo.lock"))
-            .map_err(|e| format!("cannot copy `{}`: {e}", lock.display()))?;
-        krate.resolve()?;
+            .map_err(|e| CreateError::Setup(format!("cannot copy `{}`: {e}", lock.display())))?;
+        krate.resolve().map_err(CreateError::Unresolved)?;
         Ok(krate)
     }
 

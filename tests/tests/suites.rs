@@ -13,8 +13,8 @@ use heddle_e2e::ensure;
 use heddle_e2e::fixtures::{self, SUITES, SUITES_EXPECT, SUITES_FILE, SUITES_SILENT, SUITES_TARGET, expect};
 use heddle_e2e::output::{self, Status, TestLine};
 use heddle_e2e::records::check_suite;
-use heddle_e2e::scratch::{self, CrateDef, Run, Scratch, note};
-use heddle_e2e::steps::{Steps, read_store, suite};
+use heddle_e2e::scratch::{self, CrateDef, Run, Scratch};
+use heddle_e2e::steps::{Steps, read_store, skip, suite};
 use heddle_generator::{Effort, generate};
 use heddle_store::{Interaction, tally};
 use heddle_store::{Records, Store};
@@ -517,7 +517,7 @@ fn ignored(krate: &Scratch, main: &Main) -> Result<(), String> {
     Ok(())
 }
 
-/// The row filter of the issue: exactly one row runs and is recorded.
+/// The row filter the README shows: exactly one row runs and is recorded.
 fn exact(krate: &Scratch, main: &Main) -> Result<(), String> {
     let store = krate.store_dir("exact");
     let mut args = test_args();
@@ -605,10 +605,13 @@ fn file_lines(path: &Path) -> Result<Vec<Line>, String> {
 fn nextest(krate: &Scratch, main: &Main) -> Result<(), String> {
     let version = krate.cargo(&["nextest", "--version"], None, &[]);
     if !version.succeeded() {
-        note(&format!(
-            "SKIPPED the nextest step: `cargo nextest --version` failed ({})",
-            version.stderr.lines().next().unwrap_or("no output")
-        ));
+        skip(
+            "the nextest step",
+            &format!(
+                "`cargo nextest --version` failed ({})",
+                version.stderr.lines().next().unwrap_or("no output")
+            ),
+        );
         return Ok(());
     }
     let store = krate.store_dir("nextest");

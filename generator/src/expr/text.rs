@@ -135,17 +135,35 @@ impl Expr {
     /// assert_eq!(err.column, 5);
     /// ```
     pub fn parse_formula(text: &str, levels: &[usize]) -> Result<Expr, ParseError> {
-        Grammar::run(Indices {
+        let e = Grammar::run(Indices {
             src: text,
             pos: 0,
             levels,
-        })
+        })?;
+        // the grammar also reads redundant parentheses: the one text is the rendered one
+        let canonical = e.to_formula();
+        if canonical != text {
+            let at = canonical
+                .bytes()
+                .zip(text.bytes())
+                .take_while(|(a, b)| a == b)
+                .count();
+            return Err(ParseError::new(
+                text,
+                at,
+                1,
+                "the formula is not in its canonical form",
+                format!("write it as `{canonical}`"),
+            ));
+        }
+        Ok(e)
     }
 
     /// Parses the human syntax: atoms `NAME == LABEL` and `NAME != LABEL` combined with
     /// `&&`, `||`, `!` and parentheses (`!` binds tightest, then `&&`, then `||`). A label
     /// is a run of characters other than whitespace, parentheses, `&`, `|` and `!`, or a
-    /// quoted string (`'…'` or `"…"`). Nesting deeper than [`MAX_FORMULA_DEPTH`] is an
+    /// quoted string (`'…'` or `"…"`, in which the quote doubled stands for itself).
+    /// Nesting deeper than [`MAX_FORMULA_DEPTH`] is an
     /// error located at the operator that goes too deep.
     pub fn parse(src: &str, factors: &[Factor]) -> Result<Expr, ParseError> {
         Grammar::run(Names { src, pos: 0, factors })
@@ -261,6 +279,8 @@ impl fmt::Display for Quoted<'_> {
         let bare = !s.is_empty() && !s.starts_with(['\'', '"']) && !s.contains(label_end);
         if bare {
             f.write_str(s)
+        } else if s.contains('\'') && s.contains('"') {
+            write!(f, "'{}'", s.replace('\'', "''"))
         } else if s.contains('\'') {
             write!(f, "\"{s}\"")
         } else {
@@ -575,12 +595,25 @@ impl Lexer for Names<'_> {
         let lstart = self.pos;
         let label: String = match self.rest().chars().next() {
             Some(q @ ('\'' | '"')) => {
+                // the quote doubled stands for itself (`'it''s'`, as SQL strings do), so
+                // a label holding both kinds of quote can still be named
                 let body = &self.rest()[1..];
-                let Some(end) = body.find(q) else {
-                    return Err(self.error_here("unterminated quoted level", "close the quote"));
-                };
-                let label = body[..end].to_string();
-                self.pos += end + 2;
+                let mut label = String::new();
+                let mut at = 0;
+                loop {
+                    let Some(end) = body[at..].find(q) else {
+                        return Err(self.error_here("unterminated quoted level", "close the quote"));
+                    };
+                    label.push_str(&body[at..at + end]);
+                    at += end + 1;
+                    if body[at..].starts_with(q) {
+                        label.push(q);
+                        at += 1;
+                    } else {
+                        break;
+                    }
+                }
+                self.pos += 1 + at;
                 label
             }
             _ => {
@@ -772,6 +805,15 @@ mod tests {
         let shown = e.display(&odd).to_string();
         assert_eq!(shown, "a == 'x y' && (a == \"'q\" && a != '(p)')");
         assert_eq!(Expr::parse(&shown, &odd).unwrap(), e);
+        // a label with both kinds of quote: the quote doubled inside its quotes
+        let both = vec![Factor::new("a", ["it's \"x\"", "''", "\""])];
+        for (level, text) in [(0u8, "a == 'it''s \"x\"'"), (1, "a == \"''\""), (2, "a == '\"'")] {
+            let e = Expr::is(0, level);
+            assert_eq!(e.display(&both).to_string(), text);
+            assert_eq!(Expr::parse(text, &both), Ok(e), "{text}");
+        }
+        assert_eq!(Expr::parse("a == \"it's \"\"x\"\"\"", &both), Ok(Expr::is(0, 0)));
+        assert!(Expr::parse("a == 'it''s", &both).is_err());
     }
 
     #[test]
@@ -879,6 +921,10 @@ mod tests {
             ("0=1 ", 4, "unexpected text"),
             ("0=1&&1=0", 5, "expected a factor index"),
             ("a=1", 1, "expected a factor index"),
+            // redundant parentheses: one text per formula
+            ("(0=1)", 1, "not in its canonical form"),
+            ("0=1&(1=0)", 5, "not in its canonical form"),
+            ("(0=1&1=0)|1=1", 1, "not in its canonical form"),
         ] {
             let err = Expr::parse_formula(text, &levels).expect_err(text);
             assert_eq!(err.column, column, "{text}: {err}");

@@ -80,6 +80,12 @@ impl Args {
     /// Parses the arguments an attribute macro receives; `span` locates errors about
     /// the attribute as a whole.
     pub fn parse_tokens(tokens: TokenStream, span: Span) -> syn::Result<Args> {
+        crate::nesting::check(
+            &tokens,
+            &format!("`#[{}(…)]`", crate::keywords::COVER),
+            "write each condition as an `exclude(…)` of its own, without redundant parentheses",
+            crate::nesting::Scope::Expressions,
+        )?;
         let items = Punctuated::<Arg, Token![,]>::parse_terminated
             .parse2(tokens)
             .map_err(|e| {

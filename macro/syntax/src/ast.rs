@@ -255,9 +255,22 @@ fn levels_of(attrs: &[Attribute]) -> Vec<LevelsAttr<'_>> {
         .filter(|a| is_levels_attr(a))
         .map(|attr| LevelsAttr {
             attr,
-            levels: attr.parse_args_with(Punctuated::<Expr, Token![,]>::parse_terminated),
+            levels: level_list(attr),
         })
         .collect()
+}
+
+/// The level expressions of a `#[levels(…)]`, measured before they are parsed.
+fn level_list(attr: &Attribute) -> Result<Punctuated<Expr, Token![,]>, syn::Error> {
+    if let syn::Meta::List(list) = &attr.meta {
+        crate::nesting::check(
+            &list.tokens,
+            &format!("`#[{}(…)]`", kw::LEVELS),
+            "give a deeply nested level a name: a constant or a helper function",
+            crate::nesting::Scope::Expressions,
+        )?;
+    }
+    attr.parse_args_with(Punctuated::<Expr, Token![,]>::parse_terminated)
 }
 
 #[cfg(test)]

@@ -28,13 +28,14 @@ use crate::budget::{BUDGET_VAR, Budget};
 use crate::defaults::{Defaults, DefaultsError};
 use crate::diag::{self, Diagnostic, Errors};
 use crate::keywords as kw;
+use crate::nesting;
 use crate::paths;
 use crate::pins::{PinKey, PinsError, PinsFile};
 use crate::rows::{Rows, rows_for};
 use crate::validate::{Checked, Returns, validate};
 
 /// Everything the expansion depends on besides the tokens.
-#[derive(Clone, Debug)]
+#[derive(Clone)]
 pub struct Context {
     /// The crate root (`CARGO_MANIFEST_DIR`), absolute, when known.
     pub crate_root: Option<PathBuf>,
@@ -57,6 +58,22 @@ pub struct Context {
     /// The row budget of `HEDDLE_BUDGET` at compile time (`None`: unset), or why its
     /// value is refused.
     pub budget_env: Result<Option<Budget>, Diagnostic>,
+}
+
+// by hand: syn's `Path` implements `Debug` only with syn's `extra-traits` feature
+impl std::fmt::Debug for Context {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_struct("Context")
+            .field("crate_root", &self.crate_root)
+            .field("file", &self.file)
+            .field("defaults", &self.defaults)
+            .field("pins", &self.pins)
+            .field("has_manifest", &self.has_manifest)
+            .field("runtime", &crate::text::canonical(&self.runtime))
+            .field("package", &self.package)
+            .field("crate_name", &self.crate_name)
+            .finish()
+    }
 }
 
 /// The path of the runtime crate under its own name.
@@ -112,6 +129,11 @@ impl Context {
 /// Expands `#[cover(attr)] item`. Never fails: problems become compile errors placed
 /// at their tokens, followed by the plain function so that no follow-on errors appear.
 pub fn expand(attr: TokenStream, item: TokenStream, ctx: &Context) -> TokenStream {
+    // `syn` would recurse into a deep body until the compiler's stack ends; such an item
+    // cannot be read, so it is handed back unchanged after the error
+    if let Err(e) = nesting::check(&item, "the function", FUNCTION_TOO_DEEP, nesting::Scope::Item) {
+        return with_errors(e, item);
+    }
     let parsed: Item = match syn::parse2(item.clone()) {
         Ok(i) => i,
         Err(e) => return with_errors(e, item),
@@ -140,6 +162,9 @@ pub fn expand(attr: TokenStream, item: TokenStream, ctx: &Context) -> TokenStrea
         Err(e) => with_errors(e, plain_fn(&f).into_token_stream()),
     }
 }
+
+/// The hint for a function too deep to read, shared with the plugin's reading of files.
+pub(crate) const FUNCTION_TOO_DEEP: &str = "move the deeply nested code into a helper function";
 
 fn with_errors(e: syn::Error, fallback: TokenStream) -> TokenStream {
     let mut out = e.to_compile_error();

@@ -100,6 +100,16 @@ impl Annotated<'_> {
 /// assert_eq!(spec.spec.lambda, 2);
 /// ```
 pub fn analyse_source(src: &str, defaults: &Defaults) -> Result<Vec<Found>, syn::Error> {
+    // lexing does not recurse, parsing does: the depth is checked in between (text that
+    // does not lex is left to `parse_file`, which says why)
+    if let Ok(tokens) = src.strip_prefix('\u{feff}').unwrap_or(src).parse() {
+        crate::nesting::check(
+            &tokens,
+            "the file",
+            crate::expand::FUNCTION_TOO_DEEP,
+            crate::nesting::Scope::Item,
+        )?;
+    }
     let file = syn::parse_file(src)?;
     Ok(annotated(&file).iter().map(|a| a.analyse(defaults)).collect())
 }

@@ -17,9 +17,10 @@
 //! 5. [`mod@expand`] — the generated code.
 //!
 //! Beside the passes: [`keywords`] (every word of the syntax), [`diag`] (compile errors
-//! from diagnostics), [`defaults`] (`[package.metadata.heddle]`), [`paths`] (a test file
-//! named as pins name it, and its cargo target), [`hash`] (the default seed), [`budget`]
-//! (the row budget of the attribute and of `HEDDLE_BUDGET`).
+//! from diagnostics), [`nesting`] (token depth, measured before `syn` recurses into it),
+//! [`defaults`] (`[package.metadata.heddle]`), [`paths`] (a test file named as pins name
+//! it, and its cargo target), [`hash`] (the default seed), [`budget`] (the row budget of
+//! the attribute and of `HEDDLE_BUDGET`).
 //!
 //! For the plugin: [`find::analyse_source`] finds and analyses every annotated function
 //! of a file, [`Defaults::load`] reads the crate's defaults, [`PinsFile`] reads and
@@ -38,6 +39,7 @@ pub mod find;
 pub mod fingerprint;
 pub mod hash;
 pub mod keywords;
+pub mod nesting;
 pub mod paths;
 pub mod pins;
 pub mod require;

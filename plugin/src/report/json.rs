@@ -28,9 +28,10 @@
 //!                                              passed and failed
 //!       "failing_rows": [ { "row", "test", "levels", "runs", "failures", "message", "rerun" } ],
 //!       "advice": { "confidence", "detectable_rate", "runs_per_interaction", "rounds",
-//!                   "flake_rate", "lambda_needed", "rows_needed" },
+//!                   "flake_rate", "lambda_needed", "rows_needed", "rows_needed_at_least" },
 //!                                              detectable_rate at runs_per_interaction
-//!                                              (λ × rounds of --repeat, runs merged)
+//!                                              (λ × rounds of --repeat, runs merged);
+//!                                              rows_needed: at most (the design repeated)
 //!       "budget": { "rows", "of", "reach": [ { "strength", "interactions", "once", "lambda" } ] }
 //!                                              only when a row budget left rows out: the run
 //!                                              is then not complete; reach per strength 1..t
@@ -168,7 +169,8 @@ struct Advice {
     rounds: u64,
     flake_rate: Option<f64>,
     lambda_needed: Option<u32>,
-    rows_needed: Option<usize>,
+    rows_needed: Option<u64>,
+    rows_needed_at_least: Option<u64>,
 }
 
 fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
@@ -264,7 +266,8 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
             rounds: s.advice.rounds,
             flake_rate: s.advice.flake.map(|f| f.0),
             lambda_needed: s.advice.flake.map(|f| f.1),
-            rows_needed: s.advice.flake.and_then(|f| f.2),
+            rows_needed: s.advice.flake.map(|f| f.2.at_most),
+            rows_needed_at_least: s.advice.flake.map(|f| f.2.at_least),
         },
         budget: s.budget.as_ref().map(|b| Budget {
             rows: b.rows,

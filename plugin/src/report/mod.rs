@@ -1,5 +1,10 @@
 //! `cargo heddle report`: from the record store alone to per-interaction pass counts,
 //! suspects, flaky interactions and λ advice, in five formats.
+//!
+//! Its work is bounded whatever the store holds: reading is linear in the records, a
+//! suite's tallies cost at most [`heddle_store::tally::MAX_TALLY_CELLS`] cells
+//! (interactions of more factors than fit are left out with a note), and the λ advice
+//! is priced from the recorded design ([`Price`]) instead of generating one.
 
 mod html;
 mod json;
@@ -200,9 +205,40 @@ pub struct Advice {
     /// executions of any row that ran.
     pub rounds: u64,
     /// The observed failure rate of the top flaky interaction, with the λ needed to
-    /// catch it and the rows that λ costs for this spec (None when it could not be
-    /// generated).
-    pub flake: Option<(f64, u32, Option<usize>)>,
+    /// catch it and what a design at that λ costs for this spec.
+    pub flake: Option<(f64, u32, Price)>,
+}
+
+/// The rows a design of another index λ' costs, bracketed from what the report already
+/// holds; no design is generated, so pricing costs nothing whatever the spec.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Price {
+    /// λ' times the most interactions of one set of t factors that the recorded design
+    /// shows: each needs λ' rows of its own, and impossible ones (ruled out by excludes)
+    /// are not among them (the counting bound, common practice).
+    pub at_least: u64,
+    /// The recorded design repeated ⌈λ'/λ⌉ times: the copies together cover every
+    /// interaction λ' times or more (juxtaposed arrays add their indices, common practice).
+    pub at_most: u64,
+}
+
+impl Price {
+    /// The price of index `lambda` for a suite whose design is `spec.rows`.
+    pub fn of(spec: &SpecRecord, tallies: &Tallies, lambda: u32) -> Price {
+        let copies = u64::from(lambda.div_ceil(spec.lambda.max(1)));
+        let at_most = copies.saturating_mul(spec.rows.len() as u64);
+        let widest = tallies
+            .interactions()
+            .chunk_by(|a, b| a.interaction.factors == b.interaction.factors)
+            .map(<[_]>::len)
+            .max()
+            .unwrap_or(0) as u64;
+        Price {
+            // a hand-made design may not have the index it claims: never above the copies
+            at_least: widest.saturating_mul(u64::from(lambda)).min(at_most),
+            at_most,
+        }
+    }
 }
 
 /// One suite's report.
@@ -384,7 +420,12 @@ pub fn build<'a>(records: &'a Records, packages: &[String], confidence: f64, all
             continue;
         }
         match tally(&s.spec, s.outcomes()) {
-            Ok(t) => suites.push(suite_report(&s.spec, &s.rows, t, confidence, &run_ids)),
+            Ok(t) => {
+                if let Some(left_out) = t.left_out {
+                    notes.push(left_out.note(&s.spec.suite, t.strength).one_line());
+                }
+                suites.push(suite_report(&s.spec, &s.rows, t, confidence, &run_ids))
+            }
             Err(e) => notes.push(format!("skipped suite `{}`: {e}", s.spec.suite)),
         }
     }
@@ -440,12 +481,7 @@ fn suite_report<'a>(
     let flake = analysis.flaky.first().map(|f| {
         let rate = 1.0 - f.passes as f64 / f.runs.max(1) as f64;
         let lambda = analysis::lambda_for(rate, confidence).unwrap_or(spec.lambda);
-        let rows = if lambda <= MAX_PRICED_LAMBDA {
-            rows_at_lambda(spec, lambda)
-        } else {
-            None
-        };
-        (rate, lambda, rows)
+        (rate, lambda, Price::of(spec, &tallies, lambda))
     });
     let runs = if ran.min_runs == 0 {
         u64::from(spec.lambda.max(1))
@@ -485,19 +521,6 @@ fn budget_reach(spec: &SpecRecord, tallies: &Tallies) -> Option<BudgetReach> {
         of: design,
         reach: tallies.reach(rows, design, spec.lambda),
     })
-}
-
-/// Highest λ the advice prices by generating the design; above it, repeating runs
-/// (`cargo heddle test --repeat`) is the cheaper way to the same confidence.
-pub const MAX_PRICED_LAMBDA: u32 = 16;
-
-/// Rows the engine needs for this spec at another λ (fast effort, as builds use).
-fn rows_at_lambda(spec: &SpecRecord, lambda: u32) -> Option<usize> {
-    let mut s = heddle_store::engine_spec(spec).ok()?;
-    s.lambda = lambda;
-    heddle_generator::generate(&s, heddle_generator::Effort::Fast)
-        .ok()
-        .map(|d| d.rows.len())
 }
 
 /// Renders a report in a format.

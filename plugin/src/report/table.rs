@@ -300,13 +300,15 @@ fn advice(out: &mut String, s: &SuiteReport<'_>, st: Style) {
             } else {
                 String::new()
             };
-            let cost = match rows {
-                Some(r) => format!(
-                    "lambda {needed}: {r} rows for this spec, now {}; or `--repeat {repeat}` at lambda {lambda}{done}",
-                    s.spec.rows.len()
-                ),
-                None => format!("`--repeat {repeat}` at lambda {lambda}{done}"),
+            let price = if rows.at_least == rows.at_most {
+                rows.at_most.to_string()
+            } else {
+                format!("{} to {}", rows.at_least, rows.at_most)
             };
+            let cost = format!(
+                "lambda {needed}: {price} rows for this spec, now {}; or `--repeat {repeat}` at lambda {lambda}{done}",
+                s.spec.rows.len()
+            );
             let _ = writeln!(
                 out,
                 "    the top flaky interaction fails {} of the time: {needed} runs per interaction see it with {c} confidence ({cost})",

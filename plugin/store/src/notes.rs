@@ -35,8 +35,13 @@ pub struct ReadStats {
     pub corrupt_examples: Vec<LineRef>,
     /// Well-formed lines of another format version, counted by version.
     pub other_versions: BTreeMap<u32, usize>,
-    /// Spec lines refused by [`crate::spec::check`].
+    /// Spec lines refused by [`crate::spec::check`] for anything but an exclude.
     pub invalid_specs: usize,
+    /// Spec lines refused because an exclude cannot be read as a formula (damaged, or
+    /// nested deeper than the engine reads).
+    pub unreadable_excludes: usize,
+    /// Why the first of them was refused, for the note.
+    pub unreadable_exclude_example: Option<String>,
     /// Distinct spec contents beyond the first for one key (a writer bug; the first, in
     /// file order, is kept).
     pub conflicting_specs: usize,
@@ -83,6 +88,20 @@ impl ReadStats {
                     plural(*n, "record line", "record lines"),
                 ))
                 .hint("rerun the tests with this heddle, or report with the heddle that wrote them"),
+            );
+        }
+        if self.unreadable_excludes > 0 {
+            let why = self.unreadable_exclude_example.as_deref().unwrap_or("unreadable");
+            out.push(
+                Diagnostic::new(format!(
+                    "skipped {} ({why})",
+                    plural(
+                        self.unreadable_excludes,
+                        "spec line whose exclude cannot be read",
+                        "spec lines whose excludes cannot be read"
+                    )
+                ))
+                .hint("the store is damaged, or was written by a build that is not heddle's"),
             );
         }
         let others = [
@@ -138,6 +157,7 @@ impl ReadStats {
         self.corrupt
             + self.other_versions.values().sum::<usize>()
             + self.invalid_specs
+            + self.unreadable_excludes
             + self.conflicting_specs
             + self.orphan_rows
             + self.mismatched_rows
@@ -162,6 +182,10 @@ impl ReadStats {
             *self.other_versions.entry(v).or_default() += n;
         }
         self.invalid_specs += other.invalid_specs;
+        self.unreadable_excludes += other.unreadable_excludes;
+        if self.unreadable_exclude_example.is_none() {
+            self.unreadable_exclude_example = other.unreadable_exclude_example;
+        }
         self.conflicting_specs += other.conflicting_specs;
         self.orphan_rows += other.orphan_rows;
         self.mismatched_rows += other.mismatched_rows;

@@ -111,8 +111,14 @@ fn read_files(files: &[&Path]) -> Partial {
                         }
                         let spec = serde_json::from_str::<SpecRecord>(text)
                             .map_err(|e| LineError::Corrupt(e.to_string()))?;
-                        if crate::spec::check(&spec).is_err() {
-                            stats.invalid_specs += 1;
+                        if let Err(e) = crate::spec::check(&spec) {
+                            match e {
+                                crate::SpecError::Exclude { why, .. } => {
+                                    stats.unreadable_excludes += 1;
+                                    stats.unreadable_exclude_example.get_or_insert(why);
+                                }
+                                _ => stats.invalid_specs += 1,
+                            }
                         } else {
                             stats.spec_lines += 1;
                             if let Some(id) = identity {
@@ -276,6 +282,40 @@ mod tests {
         assert!(notes.iter().all(|n| !n.ends_with('.')));
         assert!(ReadStats::default().notes().is_empty());
         assert_eq!(rec.suites.len(), 1);
+    }
+
+    #[test]
+    fn a_spec_line_with_an_exclude_nested_too_deep_is_skipped_and_named() {
+        let tmp = tempfile::tempdir().unwrap();
+        let root = tmp.path().join("heddle");
+        let mut deep = spec("r");
+        deep.function = "deep".into();
+        deep.suite = "deep".into();
+        deep.fingerprint = "deep".into();
+        // 3000 negations: the engine reads formulas up to MAX_FORMULA_DEPTH levels
+        deep.excludes = vec![format!("{}0=0", "!".repeat(3000))];
+        let lines = [
+            Line::Spec(deep),
+            Line::Spec(spec("r")),
+            Line::Row(row("r", 0, Outcome::Passed)),
+        ];
+        write_file(&root, "r", "0000000000001-1-0.jsonl", &lines, "");
+        let rec = Store::open(&root).unwrap().read_run("r").unwrap();
+        let s = &rec.stats;
+        assert_eq!((s.unreadable_excludes, s.invalid_specs, s.spec_lines), (1, 0, 1));
+        assert_eq!(s.skipped(), 1);
+        let notes: Vec<String> = s.notes().iter().map(|d| d.one_line()).collect();
+        assert_eq!(
+            notes,
+            [format!(
+                "skipped 1 spec line whose exclude cannot be read (the formula nests deeper than \
+                 {} levels at column {}); hint: the store is damaged, or was written by a build \
+                 that is not heddle's",
+                heddle_generator::MAX_FORMULA_DEPTH,
+                heddle_generator::MAX_FORMULA_DEPTH
+            )]
+        );
+        assert_eq!(rec.suites.len(), 1, "the good suite is still read");
     }
 
     #[test]

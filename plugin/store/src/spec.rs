@@ -44,6 +44,14 @@ pub enum SpecError {
         /// Names.
         names: usize,
     },
+    /// Tallying even the single levels would cost more than
+    /// [`crate::tally::MAX_TALLY_CELLS`].
+    TallyTooLarge {
+        /// Design rows.
+        rows: usize,
+        /// Factors (the column sets of arity 1).
+        sets: u128,
+    },
     /// An exclude is not a formula over these factors' levels.
     Exclude {
         /// The recorded text.
@@ -76,13 +84,32 @@ impl std::fmt::Display for SpecError {
             SpecError::RowNames { rows, names } => {
                 write!(f, "{rows} rows but {names} row names")
             }
-            SpecError::Exclude { text, why } => write!(f, "exclude `{text}`: {why}"),
+            SpecError::Exclude { text, why } => write!(f, "exclude `{}`: {why}", shortened(text)),
+            SpecError::TallyTooLarge { rows, sets } => {
+                return write!(
+                    f,
+                    "counting {rows} rows over {sets} column sets takes {} steps, more than the \
+                     {} a suite may take, even for single levels; hint: split the factors \
+                     into several suites",
+                    (*rows as u128).saturating_mul(*sets),
+                    crate::tally::MAX_TALLY_CELLS
+                );
+            }
         }?;
         write!(f, "; hint: the spec line is damaged")
     }
 }
 
 impl std::error::Error for SpecError {}
+
+/// At most the first 40 characters of a recorded text, for a message.
+fn shortened(text: &str) -> String {
+    const SHOWN: usize = 40;
+    match text.char_indices().nth(SHOWN) {
+        Some((cut, _)) => format!("{}…", &text[..cut]),
+        None => text.to_string(),
+    }
+}
 
 /// Checks a spec line is self-consistent, so tallies can index it without bounds checks
 /// failing: a spec line from a buggy or foreign writer is refused instead.
@@ -135,7 +162,7 @@ fn excludes(spec: &SpecRecord) -> Result<Vec<Expr>, SpecError> {
         .map(|text| {
             Expr::parse_formula(text, &levels).map_err(|e| SpecError::Exclude {
                 text: text.clone(),
-                why: e.to_string(),
+                why: format!("{} at column {}", e.message, e.column),
             })
         })
         .collect()

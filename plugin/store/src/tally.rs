@@ -3,7 +3,11 @@
 //! Outcomes are first summed per design row (a row may have run many times: several
 //! runs, retries, shards), then every interaction present in the design collects the
 //! sums of the rows that contain it. So the cost is linear in the records plus
-//! rows × Σ C(k, a) for a ≤ t, independent of how many runs are merged.
+//! rows × Σ C(k, a) for a ≤ t "cells", independent of how many runs are merged. Each
+//! cell can become an entry of its own, so the cells are held to [`MAX_TALLY_CELLS`]
+//! before any work: interactions of the most factors that fit are counted and the rest
+//! are left out, saying so ([`Tallies::left_out`]); a spec line whose single levels
+//! alone exceed it is refused.
 
 use heddle_generator::next_subset;
 use heddle_test::record::{Outcome, SpecRecord};
@@ -121,8 +125,32 @@ pub struct Tallies {
     pub entries: Vec<Tally>,
     /// Outcomes given for a row index outside the design (left out).
     pub unknown_rows: u64,
+    /// Set when counting every arity up to the spec's strength would have taken more
+    /// than [`MAX_TALLY_CELLS`]: `strength` is then below the spec's.
+    pub left_out: Option<LeftOut>,
     /// `starts[a - 1]..starts[a]` are the entries of arity a.
     starts: Vec<usize>,
+}
+
+/// Interactions a tally left out to stay within [`MAX_TALLY_CELLS`].
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct LeftOut {
+    /// The spec's strength: arities above the tallies' up to this one were not counted.
+    pub strength: usize,
+    /// The cells counting every arity would have taken.
+    pub cells: u128,
+}
+
+impl LeftOut {
+    /// What was left out, for a report's notes.
+    pub fn note(&self, suite: &str, counted: usize) -> heddle_generator::Diagnostic {
+        heddle_generator::Diagnostic::new(format!(
+            "suite `{suite}`: counted interactions of up to {counted} factors, not {}: all of \
+             them take {} steps, more than the {MAX_TALLY_CELLS} a suite may take",
+            self.strength, self.cells
+        ))
+        .hint("lower the strength or split the factors into several suites to count them all")
+    }
 }
 
 impl Tallies {
@@ -163,6 +191,25 @@ impl Tallies {
     }
 }
 
+/// Most cells (design rows × column sets of arity 1 to t) one suite's tallies may
+/// cost. Each cell is at most one entry of about 150 bytes, so a suite's tallies stay
+/// within a few hundred megabytes and a second or two; a 3^17 suite at strength 4 stays
+/// below it up to 650 rows.
+pub const MAX_TALLY_CELLS: u64 = 1 << 21;
+
+/// Design rows × column sets of arity 1 to `t` among `k` factors: the work of a tally,
+/// computed without doing it (saturating).
+pub fn tally_cells(rows: usize, k: usize, t: usize) -> (u128, u128) {
+    let mut sets: u128 = 0;
+    // C(k, a) from C(k, a - 1), exact at every step
+    let mut choose: u128 = 1;
+    for a in 1..=t.min(k) {
+        choose = choose.saturating_mul((k - a + 1) as u128) / a as u128;
+        sets = sets.saturating_add(choose);
+    }
+    (sets, sets.saturating_mul(rows as u128))
+}
+
 /// Tallies a spec's outcomes: every single level and every interaction up to the spec's
 /// strength, with its runs, passes and failures. Several outcomes for one row (repeated
 /// runs) all count.
@@ -171,12 +218,22 @@ pub fn tally(
     outcomes: impl IntoIterator<Item = (usize, Outcome)>,
 ) -> Result<Tallies, SpecError> {
     spec::check(spec)?;
-    Ok(tally_rows(
-        &spec.rows,
-        spec.factors.len(),
-        spec.strength as usize,
-        outcomes,
-    ))
+    let (rows, k, t) = (spec.rows.len(), spec.factors.len(), spec.strength as usize);
+    let fits = |a: usize| tally_cells(rows, k, a).1 <= u128::from(MAX_TALLY_CELLS);
+    let Some(counted) = (1..=t).rev().find(|&a| fits(a)) else {
+        return Err(SpecError::TallyTooLarge {
+            rows,
+            sets: tally_cells(rows, k, 1).0,
+        });
+    };
+    let mut tallies = tally_rows(&spec.rows, k, counted, outcomes);
+    if counted < t {
+        tallies.left_out = Some(LeftOut {
+            strength: t,
+            cells: tally_cells(rows, k, t).1,
+        });
+    }
+    Ok(tallies)
 }
 
 /// [`tally`] over plain rows; the caller guarantees `rows` have `k` levels each and
@@ -236,6 +293,7 @@ pub(crate) fn tally_rows(
         rows: per_row,
         entries,
         unknown_rows,
+        left_out: None,
         starts,
     }
 }
@@ -402,6 +460,90 @@ mod tests {
             unrun.interaction.describe(&spec),
             Some(vec![("f0", "1"), ("f1", "0")])
         );
+    }
+
+    #[test]
+    fn cells_are_rows_times_column_sets() {
+        // Σ_{a=1..8} C(24, a) = 24 + 276 + 2024 + 10626 + 42504 + 134596 + 346104 + 735471
+        // (binomial coefficients, Pascal's triangle)
+        assert_eq!(tally_cells(4, 24, 8), (1_271_625, 4 * 1_271_625));
+        // Σ_{a=1..4} C(17, a) = 17 + 136 + 680 + 2380
+        assert_eq!(tally_cells(650, 17, 4), (3213, 650 * 3213));
+        assert_eq!(tally_cells(0, 3, 2), (6, 0));
+        assert_eq!(
+            tally_cells(5, 2, 8),
+            (3, 15),
+            "the strength is capped at the factors"
+        );
+    }
+
+    #[test]
+    fn a_hand_made_spec_too_large_to_count_is_counted_as_far_as_the_budget_goes() {
+        // 40 one-level factors at strength 8: 1.0e8 column sets, each an entry of its
+        // own; up to 5 factors, Σ_{a≤5} C(40, a) = 760 098 cells fit, 6 would not
+        // (+ C(40, 6) = 3 838 380)
+        let spec = spec_of(&[1; 40], 8, vec![vec![0; 40]]);
+        let t = tally(&spec, [(0, Outcome::Passed)]).unwrap();
+        assert_eq!(t.strength, 5);
+        assert_eq!(t.entries.len(), 760_098);
+        assert_eq!(
+            t.left_out,
+            Some(LeftOut {
+                strength: 8,
+                cells: 100_146_723
+            })
+        );
+        let note = t.left_out.unwrap().note("f", t.strength).one_line();
+        assert_eq!(
+            note,
+            "suite `f`: counted interactions of up to 5 factors, not 8: all of them take \
+             100146723 steps, more than the 2097152 a suite may take; hint: lower the strength \
+             or split the factors into several suites to count them all"
+        );
+        // 24 two-level factors at strength 8 with 4 rows: 5.1 million cells; 4 times
+        // Σ_{a≤6} C(24, a) = 4 · 190 050 = 760 200 fit, with 7 factors 2 144 616 would not
+        let rows = (0..4u8)
+            .map(|r| (0..24).map(|c| (r >> (c % 2)) & 1).collect())
+            .collect();
+        let spec = spec_of(&[2; 24], 8, rows);
+        let t = tally(&spec, []).unwrap();
+        assert_eq!(
+            (t.strength, t.left_out.map(|l| l.cells)),
+            (6, Some(4 * 1_271_625))
+        );
+        // a spec whose single levels alone are too many is refused
+        let spec = spec_of(&[2; 3000], 1, vec![vec![0; 3000]; 700]);
+        let err = tally(&spec, []).unwrap_err();
+        assert!(
+            matches!(
+                err,
+                SpecError::TallyTooLarge {
+                    rows: 700,
+                    sets: 3000
+                }
+            ),
+            "{err:?}"
+        );
+        assert!(
+            err.to_string().contains("700 rows over 3000 column sets"),
+            "{err}"
+        );
+    }
+
+    #[test]
+    fn a_spec_at_the_budget_is_counted() {
+        // 3^17 at strength 4: 3213 column sets, so 652 rows stay within 2^21 cells
+        let rows: Vec<Vec<u8>> = (0..652u32)
+            .map(|r| (0..17).map(|c| ((r / 3u32.pow(c % 6)) % 3) as u8).collect())
+            .collect();
+        let spec = spec_of(&[3; 17], 4, rows);
+        let t = tally(&spec, [(0, Outcome::Failed)]).unwrap();
+        assert_eq!((t.rows.len(), t.strength, t.left_out), (652, 4, None));
+        let mut more = spec.clone();
+        more.rows.push(vec![0; 17]);
+        more.row_names.push("row_652".into());
+        let t = tally(&more, []).unwrap();
+        assert_eq!((t.strength, t.left_out.map(|l| l.strength)), (3, Some(4)));
     }
 
     #[test]

@@ -73,6 +73,12 @@ pub(super) fn check_params(cover: &CoverFn<'_>, errs: &mut Errors) -> Option<Vec
         }
         let list = match &first.levels {
             Ok(l) => l,
+            // an error of heddle's own (it has a hint) stands as it is
+            Err(e) if e.to_string().contains("\nhint: ") => {
+                errs.push(e.clone());
+                ok = false;
+                continue;
+            }
             Err(e) => {
                 errs.at_span(
                     e.span(),

@@ -22,7 +22,7 @@ pub struct Shape<'a> {
 }
 
 /// What the function returns.
-#[derive(Clone, Copy, Debug)]
+#[derive(Clone, Copy)]
 pub enum Returns<'a> {
     /// `()`.
     Unit,
@@ -32,6 +32,20 @@ pub enum Returns<'a> {
         /// The error type, when named.
         error: Option<&'a Type>,
     },
+}
+
+// by hand: syn's syntax trees implement `Debug` only with its `extra-traits` feature,
+// which would double what syn costs to build for one message
+impl std::fmt::Debug for Returns<'_> {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            Returns::Unit => f.write_str("Unit"),
+            Returns::Result { error } => f
+                .debug_struct("Result")
+                .field("error", &error.map(crate::text::canonical))
+                .finish(),
+        }
+    }
 }
 
 pub(super) fn check_signature<'a>(cover: &CoverFn<'a>, errs: &mut Errors) -> Shape<'a> {

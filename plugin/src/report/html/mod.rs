@@ -454,16 +454,18 @@ fn advice(s: &SuiteReport<'_>) -> Markup {
         section {
             h3 { "λ advice" }
             p {
-                "At λ = " (lambda) ", an interaction failing at least " (percent(a.detectable))
+                "At λ = " (lambda)
+                @if a.rounds > 1 { " over " (a.rounds) " rounds (" (a.runs) " runs per interaction)" }
+                ", an interaction failing at least " (percent(a.detectable))
                 " of the time is seen failing with " (percent(a.confidence)) " confidence."
                 @if let Some((rate, needed, rows)) = a.flake {
                     " The top flaky interaction fails " (percent(rate)) " of the time; "
-                    @if needed <= lambda {
-                        "λ = " (lambda) " already catches it."
+                    @if u64::from(needed) <= a.runs {
+                        (needed) " runs per interaction see it, and the runs read have " (a.runs) "."
                     } @else {
-                        "catching it takes λ = " (needed)
-                        @if let Some(r) = rows { " (" (r) " rows for this spec, now " (s.spec.rows.len()) ")" }
-                        ", or " code { "--repeat " (needed.div_ceil(lambda.max(1))) } "."
+                        "catching it takes " (needed) " runs per interaction: λ = " (needed) " ("
+                        @if rows.at_least == rows.at_most { (rows.at_most) } @else { (rows.at_least) " to " (rows.at_most) }
+                        " rows for this spec, now " (s.spec.rows.len()) "), or " code { "--repeat " (u64::from(needed).div_ceil(u64::from(lambda.max(1)))) } " at λ = " (lambda) "."
                     }
                 }
             }
