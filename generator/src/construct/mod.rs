@@ -12,6 +12,7 @@ mod gf;
 mod hadamard;
 mod offers;
 mod orthogonal;
+mod product;
 mod stack;
 #[cfg(test)]
 mod tests;
@@ -19,6 +20,7 @@ mod transform;
 
 use hadamard::Recipe;
 use offers::{Candidate, candidates};
+pub(crate) use product::{constant_rows, product, split};
 use stack::Offer;
 
 use crate::bounds;
