@@ -10,6 +10,7 @@ mod binary;
 mod cyclotomy;
 mod gf;
 mod hadamard;
+mod hash_family;
 mod offers;
 mod orthogonal;
 mod product;

@@ -4,7 +4,7 @@
 
 use super::hadamard::{self, Recipe};
 use super::stack::Offer;
-use super::{MAX_WEIGHT_CLASS_COLUMNS, Source, best_within, binary, cyclotomy, gf, orthogonal};
+use super::{MAX_WEIGHT_CLASS_COLUMNS, Source, best_within, binary, cyclotomy, gf, hash_family, orthogonal};
 use crate::factor::Row;
 
 /// An offered construction: what it is, its index at the wanted strength, its rows, and
@@ -62,6 +62,7 @@ pub(super) fn candidates(levels: &[usize], t: usize, lambda: u32, limit: usize) 
     fields(&mut o);
     recursive(&mut o);
     two_level(&mut o);
+    hash_families(&mut o);
     prune_dominated(o.out)
 }
 
@@ -183,6 +184,41 @@ fn recursive(o: &mut Offers<'_>) {
         // its parts had their redundant rows removed already
         let slack = o.collapses(o.vmax);
         o.offer(Source::Rows(name, rows), 1, n, slack);
+    }
+}
+
+/// Sherwood's covering perfect hash families over the smallest field with the levels
+/// (Sherwood, Martirosyan & Colbourn 2006): n·(q^t − q) + q rows for the fewest family
+/// rows n the search finds, tried only while that is below every other offer — past
+/// Bush's q + 1 columns, where one linear array is not enough.
+fn hash_families(o: &mut Offers<'_>) {
+    let (k, t, vmax) = (o.k, o.t, o.vmax);
+    if t < 3 || o.lambda != 1 || vmax < 3 {
+        return;
+    }
+    let Some(q) = (vmax..=gf::MAX_ORDER).find(|&q| gf::prime_power(q).is_some()) else {
+        return;
+    };
+    if k <= orthogonal::bush_capacity(q, t) {
+        return;
+    }
+    let others = o.out.iter().map(|c| c.offer.rows).min().unwrap_or(usize::MAX);
+    let Some(field) = gf::Field::new(q) else {
+        return;
+    };
+    for n in 2.. {
+        let Some(size) = hash_family::size(q, t, n).filter(|&s| s < others && s <= o.limit) else {
+            return;
+        };
+        if let Some(family) = hash_family::family(&field, t, k, n) {
+            let rows: Vec<Row> = hash_family::rows(&field, t, &family);
+            debug_assert!(rows.len() <= size);
+            let name = format!("hash-family(q={q},t={t},n={n})");
+            let slack = o.collapses(q);
+            let n = rows.len();
+            o.offer(Source::Rows(name, rows), 1, n, slack);
+            return;
+        }
     }
 }
 

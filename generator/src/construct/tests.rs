@@ -535,3 +535,31 @@ fn many_factors_at_strength_two_take_the_product() {
     .unwrap();
     assert!(d.rows.len() <= 2 * factor.rows.len() - 3, "{} rows", d.rows.len());
 }
+
+#[test]
+fn hash_families_of_permutation_vectors() {
+    use super::{gf, hash_family};
+    // Sherwood, Martirosyan & Colbourn 2006 (from memory): a covering perfect hash family
+    // CPHF(n; k, q^t, t) of permutation vectors gives CA(n(q^t − q) + q; t, k, q); e.g.
+    // two rows over GF(4) at t = 3 give 2·(64 − 4) + 4 = 124 rows
+    for (q, t, n, k) in [
+        (3usize, 3usize, 2usize, 9usize),
+        (4, 3, 2, 12),
+        (5, 3, 2, 14),
+        (3, 4, 3, 10),
+    ] {
+        let field = gf::Field::new(q).unwrap();
+        let family = hash_family::family(&field, t, k, n)
+            .unwrap_or_else(|| panic!("no family for q={q} t={t} n={n} k={k}"));
+        let rows = hash_family::rows(&field, t, &family);
+        assert_eq!(Some(rows.len()), hash_family::size(q, t, n), "q={q} t={t} n={n}");
+        if let Err(v) = verify(&spec(&vec![q; k], t, 1), &rows) {
+            panic!("family for q={q} t={t} n={n} k={k} is invalid: {v}");
+        }
+    }
+    assert_eq!(hash_family::size(4, 3, 2), Some(124));
+    // past Bush's q + 1 columns the offer is taken where smaller: 4^14 at t = 3 (Bush
+    // over GF(4) stops at 6 columns; the v-ary doubling of 4^7 needs more rows)
+    let c = checked(&[4; 14], 3, 1);
+    assert!(c.rows.len() <= 124, "{} rows by {}", c.rows.len(), c.method);
+}
