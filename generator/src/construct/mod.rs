@@ -8,6 +8,7 @@
 
 mod binary;
 mod cyclotomy;
+mod difference;
 mod gf;
 mod hadamard;
 mod hash_family;

@@ -4,7 +4,9 @@
 
 use super::hadamard::{self, Recipe};
 use super::stack::Offer;
-use super::{MAX_WEIGHT_CLASS_COLUMNS, Source, best_within, binary, cyclotomy, gf, hash_family, orthogonal};
+use super::{
+    MAX_WEIGHT_CLASS_COLUMNS, Source, best_within, binary, cyclotomy, difference, gf, hash_family, orthogonal,
+};
 use crate::factor::Row;
 
 /// An offered construction: what it is, its index at the wanted strength, its rows, and
@@ -60,6 +62,7 @@ pub(super) fn candidates(levels: &[usize], t: usize, lambda: u32, limit: usize) 
     };
     general(&mut o);
     fields(&mut o);
+    difference_matrices(&mut o);
     recursive(&mut o);
     two_level(&mut o);
     hash_families(&mut o);
@@ -176,6 +179,58 @@ fn fields(o: &mut Offers<'_>) {
             o.offer(Source::RaoHamming { q, m }, index, n, slack);
         }
     }
+}
+
+/// Masuyama's index-2 arrays OA(2q²; 2, 2^1 q^(2q+1)) from a difference matrix
+/// D(2q, 2q; q) (see `difference`), over the smallest odd field with the levels: a factor of
+/// at most two levels, where the spec has one and needs every column, takes the array's
+/// two-level column.
+fn difference_matrices(o: &mut Offers<'_>) {
+    let (k, levels) = (o.k, o.levels);
+    if o.t != 2 || o.lambda < 2 || k < 3 {
+        return;
+    }
+    let small = (0..k).filter(|&f| levels[f] <= 2).min_by_key(|&f| levels[f]);
+    let vmax = (0..k)
+        .filter(|&f| Some(f) != small)
+        .map(|f| levels[f])
+        .max()
+        .unwrap_or(2);
+    let odd = |q: &usize| q % 2 == 1 && gf::prime_power(*q).is_some();
+    let Some(q) = (vmax.max(3)..=gf::MAX_ORDER).find(odd) else {
+        return;
+    };
+    let two_level = small.filter(|_| k == 2 * q + 2);
+    if k > 2 * q + 1 + usize::from(two_level.is_some()) {
+        return;
+    }
+    let Some(field) = gf::Field::new(q) else {
+        return;
+    };
+    let Some(d) = difference::matrix(&field) else {
+        return;
+    };
+    let array = difference::array(&field, &d);
+    // the array's column for each factor: the two-level one, or the next q-level one
+    let mut next = 1;
+    let columns: Vec<usize> = (0..k)
+        .map(|f| {
+            if Some(f) == two_level {
+                0
+            } else {
+                next += 1;
+                next - 1
+            }
+        })
+        .collect();
+    let rows: Vec<Row> = array
+        .iter()
+        .map(|r| columns.iter().map(|&c| r[c]).collect())
+        .collect();
+    let n = rows.len();
+    let slack = (0..k).any(|f| levels[f] < if Some(f) == two_level { 2 } else { q });
+    let name = format!("masuyama(q={q})");
+    o.offer(Source::Rows(name, rows), 2, n, slack);
 }
 
 /// Arrays built from smaller arrays of the same spec family: strength 3 on twice the

@@ -563,3 +563,29 @@ fn hash_families_of_permutation_vectors() {
     let c = checked(&[4; 14], 3, 1);
     assert!(c.rows.len() <= 124, "{} rows by {}", c.rows.len(), c.method);
 }
+
+#[test]
+fn index_two_arrays_from_difference_matrices() {
+    use super::{difference, gf};
+    // Masuyama 1957 (from memory): OA(18; 2, 2^1 3^7) of index 2, the classical 18-run
+    // array, and OA(50; 2, 2^1 5^11) (N. J. A. Sloane's library of orthogonal arrays, from
+    // memory): 2q² rows, the counting bound λ·q² at λ = 2; the family goes on for every
+    // odd prime power (q = 7, 9 checked too)
+    for q in [3usize, 5, 7, 9] {
+        let field = gf::Field::new(q).unwrap();
+        let d = difference::matrix(&field).unwrap_or_else(|| panic!("no D(2q, 2q; q) for q = {q}"));
+        let rows = difference::array(&field, &d);
+        assert_eq!(rows.len(), 2 * q * q);
+        let levels: Vec<usize> = [2].into_iter().chain(std::iter::repeat_n(q, 2 * q + 1)).collect();
+        if let Err(v) = verify(&spec(&levels, 2, 2), &rows) {
+            panic!("q = {q}: {v}");
+        }
+        // through the offers, in the spec's column order and with a factor collapsed
+        let mut mixed = levels.clone();
+        mixed.rotate_left(3);
+        mixed[1] = q - 1;
+        let c = checked(&mixed, 2, 2);
+        assert_eq!(c.rows.len(), 2 * q * q, "{}", c.method);
+        assert!(c.optimal);
+    }
+}
