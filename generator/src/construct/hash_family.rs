@@ -18,6 +18,8 @@
 //! exactly when it is off their affine span, so each t-set through the cell costs one span
 //! (q^(t−2) points) rather than a test per candidate point.
 
+use std::collections::BTreeSet;
+
 use super::gf::Field;
 use super::orthogonal;
 use crate::factor::Row;
@@ -32,57 +34,102 @@ pub(super) const MAX_SETS: usize = 1 << 17;
 /// with budgets eight times larger), and a failed search costs about 0.15 s.
 const MAX_STEPS: u64 = 1 << 22;
 
-/// Rows of the covering array of n family rows, constant rows kept once.
-pub(super) fn size(q: usize, t: usize, n: usize) -> Option<usize> {
-    let block = q.checked_pow(t as u32)?;
-    n.checked_mul(block - q)?.checked_add(q)
+/// Which vectors a family's cells hold.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub(super) enum Kind {
+    /// Sherwood's (1, x): every block holds the q constant rows, kept once.
+    Affine,
+    /// Any nonzero vector, up to a scalar (the points of PG(t − 1, q)): more columns fit,
+    /// but blocks share only the zero row (Colbourn, Lanus & Sarkar 2018's general
+    /// families).
+    Projective,
 }
 
-/// The points of AG(t − 1, q), with the arithmetic the search needs.
+impl Kind {
+    fn name(self) -> &'static str {
+        match self {
+            Kind::Affine => "affine",
+            Kind::Projective => "projective",
+        }
+    }
+}
+
+/// Rows of the covering array of n family rows, the rows every block shares kept once.
+pub(super) fn size(kind: Kind, q: usize, t: usize, n: usize) -> Option<usize> {
+    let block = q.checked_pow(t as u32)?;
+    let shared = match kind {
+        Kind::Affine => q,
+        Kind::Projective => 1,
+    };
+    n.checked_mul(block - shared)?.checked_add(shared)
+}
+
+/// The vectors of GF(q)^t a cell may hold, with the arithmetic the search needs.
 struct Geometry<'a> {
     field: &'a Field,
-    /// Coordinates of each point (base-q digits of its number).
-    coords: Vec<Vec<u8>>,
+    /// The candidate vectors.
+    vectors: Vec<Vec<u8>>,
+    /// For every vector of GF(q)^t by number (base-q digits, first coordinate most
+    /// significant), the candidate it stands for (itself, or its normalised multiple), or
+    /// `NONE`.
+    candidate: Vec<u32>,
 }
 
+const NONE: u32 = u32::MAX;
+
 impl<'a> Geometry<'a> {
-    fn new(field: &'a Field, dim: usize) -> Self {
+    fn new(field: &'a Field, t: usize, kind: Kind) -> Self {
         let q = field.order();
-        let coords = (0..q.pow(dim as u32))
+        let all: Vec<Vec<u8>> = (0..q.pow(t as u32))
             .map(|mut p| {
-                (0..dim)
+                let mut v: Vec<u8> = (0..t)
                     .map(|_| {
                         let d = (p % q) as u8;
                         p /= q;
                         d
                     })
-                    .collect()
+                    .collect();
+                v.reverse();
+                v
             })
             .collect();
-        Geometry { field, coords }
+        let mut vectors = Vec::new();
+        let mut candidate = vec![NONE; all.len()];
+        let number = |v: &[u8]| v.iter().fold(0usize, |acc, &d| acc * q + d as usize);
+        for (i, v) in all.iter().enumerate() {
+            let first = v.iter().copied().find(|&x| x != 0);
+            let keep = match kind {
+                Kind::Affine => v[0] == 1,
+                Kind::Projective => first == Some(1),
+            };
+            if keep {
+                candidate[i] = vectors.len() as u32;
+                vectors.push(v.clone());
+            }
+        }
+        if kind == Kind::Projective {
+            // every nonzero vector stands for its normalised multiple
+            for (i, v) in all.iter().enumerate() {
+                if let Some(f) = v.iter().copied().find(|&x| x != 0) {
+                    let inv = field.pow(f, q - 2);
+                    let norm: Vec<u8> = v.iter().map(|&x| field.mul(x, inv)).collect();
+                    candidate[i] = candidate[number(&norm)];
+                }
+            }
+        }
+        Geometry {
+            field,
+            vectors,
+            candidate,
+        }
     }
 
-    fn point(&self, coords: &[u8]) -> usize {
-        let q = self.field.order();
-        coords.iter().rev().fold(0, |acc, &d| acc * q + d as usize)
-    }
-
-    /// The differences p_i − p_0 in row-echelon form, or `None` when they are dependent.
+    /// The vectors in row-echelon form, or `None` when they are dependent.
     fn basis(&self, pts: &[usize]) -> Option<Vec<Vec<u8>>> {
         let f = self.field;
         let q = f.order();
-        let base = &self.coords[pts[0]];
-        let mut rows: Vec<Vec<u8>> = pts[1..]
-            .iter()
-            .map(|&p| {
-                self.coords[p]
-                    .iter()
-                    .zip(base)
-                    .map(|(&a, &b)| f.sub(a, b))
-                    .collect()
-            })
-            .collect();
-        let dim = base.len();
+        let mut rows: Vec<Vec<u8>> = pts.iter().map(|&p| self.vectors[p].clone()).collect();
+        let dim = rows.first().map_or(0, Vec::len);
         let mut col = 0;
         for i in 0..rows.len() {
             // a pivot for row i in the first column at or after `col` where one exists
@@ -116,33 +163,75 @@ impl<'a> Geometry<'a> {
         self.basis(pts).is_some()
     }
 
-    /// The affine span of independent points, as point numbers; `None` when dependent.
-    fn span(&self, pts: &[usize]) -> Option<Vec<usize>> {
-        let basis = self.basis(pts)?;
+    /// The candidates in the linear span of independent vectors (each once, marked in
+    /// `seen` with `stamp`); `None` when they are dependent. Sherwood's candidates in the
+    /// span are its affine combinations (coefficients summing to 1), so only those are
+    /// listed for them.
+    fn span(&self, kind: Kind, pts: &[usize], seen: &mut [u32], stamp: u32) -> Option<Vec<usize>> {
+        self.basis(pts)?;
         let f = self.field;
         let q = f.order();
-        let mut out = vec![self.coords[pts[0]].clone()];
-        for b in &basis {
-            let mut next = Vec::with_capacity(out.len() * q);
-            for p in &out {
+        let dim = self.vectors[pts[0]].len();
+        // combinations of all but the first vector, with the sum of their coefficients
+        let mut combos: Vec<(Vec<u8>, u8)> = vec![(vec![0; dim], 0)];
+        for &p in &pts[1..] {
+            let b = &self.vectors[p];
+            let mut next = Vec::with_capacity(combos.len() * q);
+            for (v, sum) in &combos {
                 for a in 0..q as u8 {
-                    next.push(p.iter().zip(b).map(|(&x, &y)| f.add(x, f.mul(a, y))).collect());
+                    let w = v.iter().zip(b).map(|(&x, &y)| f.add(x, f.mul(a, y))).collect();
+                    next.push((w, f.add(*sum, a)));
                 }
             }
-            out = next;
+            combos = next;
         }
-        Some(out.iter().map(|c| self.point(c)).collect())
+        let first = &self.vectors[pts[0]];
+        let mut out = Vec::new();
+        for (v, sum) in combos {
+            let coefficients: Vec<u8> = match kind {
+                Kind::Affine => vec![f.sub(1, sum)],
+                Kind::Projective => (0..q as u8).collect(),
+            };
+            for a in coefficients {
+                let w: Vec<u8> = v
+                    .iter()
+                    .zip(first)
+                    .map(|(&x, &y)| f.add(x, f.mul(a, y)))
+                    .collect();
+                let c = self.candidate[w.iter().fold(0usize, |acc, &d| acc * q + d as usize)];
+                if c != NONE && seen[c as usize] != stamp {
+                    seen[c as usize] = stamp;
+                    out.push(c as usize);
+                }
+            }
+        }
+        Some(out)
     }
 }
 
-/// An n × k family of points of AG(t − 1, q) in which every t columns are affinely
-/// independent in some row, if the bounded search finds one.
-pub(super) fn family(field: &Field, t: usize, k: usize, n: usize) -> Option<Vec<Vec<usize>>> {
+/// An n × k family of vectors of this kind (numbered as the geometry numbers them) in
+/// which every t columns are linearly independent in some row, if the bounded search
+/// finds one.
+pub(super) fn family(field: &Field, kind: Kind, t: usize, k: usize, n: usize) -> Option<Vec<Vec<usize>>> {
+    family_within(field, kind, t, k, n, MAX_STEPS)
+}
+
+/// [`family`] within `max_steps` steps.
+fn family_within(
+    field: &Field,
+    kind: Kind,
+    t: usize,
+    k: usize,
+    n: usize,
+    max_steps: u64,
+) -> Option<Vec<Vec<usize>>> {
     if t < 2 || k < t || n == 0 {
         return None;
     }
-    let geo = Geometry::new(field, t - 1);
-    let points = geo.coords.len();
+    let geo = Geometry::new(field, t, kind);
+    let points = geo.vectors.len();
+    let mut seen = vec![0u32; points];
+    let mut stamp = 0u32;
     let sets = subsets(k, t, MAX_SETS)?;
     let nsets = sets.len() / t;
     let mut through: Vec<Vec<u32>> = vec![Vec::new(); k];
@@ -155,6 +244,14 @@ pub(super) fn family(field: &Field, t: usize, k: usize, n: usize) -> Option<Vec<
     let mut cells: Vec<Vec<usize>> = (0..n)
         .map(|_| (0..k).map(|_| rng.index(points)).collect())
         .collect();
+    // with room for every column, the first row holds distinct vectors and stays: the
+    // search then only has to place the t-sets that row leaves dependent (for k = all
+    // points, a permutation of the points taking each dependent t-set to an independent
+    // one), a far smaller space
+    let anchored = k <= points && n >= 2;
+    if anchored {
+        cells[0] = (0..k).collect();
+    }
     let pts_of = |cells: &[usize], s: usize| -> Vec<usize> {
         sets[s * t..(s + 1) * t]
             .iter()
@@ -174,15 +271,23 @@ pub(super) fn family(field: &Field, t: usize, k: usize, n: usize) -> Option<Vec<
     for (i, &s) in open.iter().enumerate() {
         at[s] = i;
     }
-    let per_visit = (t * t + points / field.order()) as u64;
+    let per_visit = (t * t
+        + match kind {
+            Kind::Affine => field.order().pow(t as u32 - 2),
+            Kind::Projective => field.order().pow(t as u32 - 1),
+        }) as u64;
     let mut steps = 0u64;
     let mut delta = vec![0i64; points];
     while !open.is_empty() {
         let s = open[rng.index(open.len())];
-        let r = rng.index(n);
+        let r = if anchored {
+            1 + rng.index(n - 1)
+        } else {
+            rng.index(n)
+        };
         let c = sets[s * t + rng.index(t)] as usize;
         steps += through[c].len() as u64 * per_visit;
-        if steps > MAX_STEPS {
+        if steps > max_steps {
             return None;
         }
         // change in uncovered t-sets for each point the cell could take
@@ -199,7 +304,8 @@ pub(super) fn family(field: &Field, t: usize, k: usize, n: usize) -> Option<Vec<
             let if_dependent = i64::from(rest == 0) - was_open;
             // off the span every point leaves the t-set covered here (a change of
             // −was_open for all points alike, left out); on it, none does
-            if let Some(span) = geo.span(&others) {
+            stamp += 1;
+            if let Some(span) = geo.span(kind, &others, &mut seen, stamp) {
                 for p in span {
                     delta[p] += if_dependent + was_open;
                 }
@@ -252,22 +358,93 @@ pub(super) fn family(field: &Field, t: usize, k: usize, n: usize) -> Option<Vec<
     Some(cells)
 }
 
-/// The covering array of a family: the linear array of the vectors (1, x) of each row,
-/// the constant rows kept once (they repeat in every block, so a later block's add
-/// nothing at index 1).
-pub(super) fn rows(field: &Field, t: usize, family: &[Vec<usize>]) -> Vec<Row> {
-    let geo = Geometry::new(field, t - 1);
+/// The covering array of a family: the linear array of each row's vectors, a row that
+/// an earlier block holds already left out (it adds nothing at index 1: the constant rows
+/// of Sherwood's vectors, the zero row of any).
+pub(super) fn rows(field: &Field, kind: Kind, t: usize, family: &[Vec<usize>]) -> Vec<Row> {
+    let geo = Geometry::new(field, t, kind);
+    let vectors: Vec<Vec<Vec<u8>>> = family
+        .iter()
+        .map(|cells| cells.iter().map(|&p| geo.vectors[p].clone()).collect())
+        .collect();
+    rows_of_vectors(field, &vectors)
+}
+
+fn rows_of_vectors(field: &Field, family: &[Vec<Vec<u8>>]) -> Vec<Row> {
+    let mut seen: BTreeSet<Row> = BTreeSet::new();
     let mut out: Vec<Row> = Vec::new();
-    for (i, cells) in family.iter().enumerate() {
-        let cols: Vec<Vec<u8>> = cells
-            .iter()
-            .map(|&p| [&[1u8][..], &geo.coords[p]].concat())
-            .collect();
-        let block = orthogonal::linear(field, &cols);
-        let constant = |r: &Row| r.iter().all(|&x| x == r[0]);
-        out.extend(block.into_iter().filter(|r| i == 0 || !constant(r)));
+    for cols in family {
+        let block = orthogonal::linear(field, cols);
+        let fresh: Vec<Row> = block.into_iter().filter(|r| !seen.contains(r)).collect();
+        seen.extend(fresh.iter().cloned());
+        out.extend(fresh);
     }
     out
+}
+
+/// CA(2q³ − 1; 3, q² + q + 1, q) (Raaphorst, Moura & Stevens 2014, from linear feedback
+/// shift register sequences, from memory): the family of two rows P_i and P_−i, where
+/// P_i = A^i·e runs over the points of PG(2, q) along a Singer cycle A (the companion
+/// matrix of a cubic whose root has projective order q² + q + 1). The lines are the
+/// translates D + j of a planar difference set D in those indices, and −D is an oval
+/// (Jungnickel & Vedder 1984, from memory), so three columns collinear in the first row
+/// are not in the second: every triple is independent in one of them. Its first
+/// `columns` columns; `None` for t ≠ 3 or past the plane's points.
+pub(super) fn singer_pair(field: &Field, columns: usize) -> Option<Vec<Row>> {
+    let q = field.order();
+    let points = q * q + q + 1;
+    if columns > points {
+        return None;
+    }
+    let orbit = singer_orbit(field)?;
+    let first: Vec<Vec<u8>> = orbit[..columns].to_vec();
+    let second: Vec<Vec<u8>> = (0..columns)
+        .map(|i| orbit[(points - i) % points].clone())
+        .collect();
+    Some(rows_of_vectors(field, &[first, second]))
+}
+
+/// The points of PG(2, q) in the order of a Singer cycle, from the first cubic
+/// x³ = a·x² + b·x + c (in the order of (a, b, c)) whose orbit of (0, 0, 1) meets every
+/// point.
+fn singer_orbit(field: &Field) -> Option<Vec<Vec<u8>>> {
+    let q = field.order();
+    let points = q * q + q + 1;
+    let normal = |v: &[u8]| -> Vec<u8> {
+        let f = v.iter().copied().find(|&x| x != 0).unwrap_or(1);
+        let inv = field.pow(f, q - 2);
+        v.iter().map(|&x| field.mul(x, inv)).collect()
+    };
+    for a in 0..q as u8 {
+        for b in 0..q as u8 {
+            for c in 1..q as u8 {
+                // the shift register: (s_i, s_i+1, s_i+2) ↦ (s_i+1, s_i+2, c·s_i + b·s_i+1 + a·s_i+2)
+                let start = vec![0u8, 0, 1];
+                let mut v = start.clone();
+                let mut orbit = Vec::with_capacity(points);
+                loop {
+                    orbit.push(normal(&v));
+                    let next = field.add(
+                        field.mul(c, v[0]),
+                        field.add(field.mul(b, v[1]), field.mul(a, v[2])),
+                    );
+                    v = vec![v[1], v[2], next];
+                    if normal(&v) == start || orbit.len() > points {
+                        break;
+                    }
+                }
+                if orbit.len() == points {
+                    return Some(orbit);
+                }
+            }
+        }
+    }
+    None
+}
+
+/// The method name of a family's array.
+pub(super) fn name(kind: Kind, q: usize, t: usize, n: usize) -> String {
+    format!("hash-family(q={q},t={t},n={n},{})", kind.name())
 }
 
 /// The t-subsets of k columns in lexicographic order, flattened, or `None` past `most`.

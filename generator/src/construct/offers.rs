@@ -249,10 +249,11 @@ fn recursive(o: &mut Offers<'_>) {
     }
 }
 
-/// Sherwood's covering perfect hash families over the smallest field with the levels
-/// (Sherwood, Martirosyan & Colbourn 2006): n·(q^t − q) + q rows for the fewest family
-/// rows n the search finds, tried only while that is below every other offer — past
-/// Bush's q + 1 columns, where one linear array is not enough.
+/// Covering perfect hash families over the smallest field with the levels (Sherwood,
+/// Martirosyan & Colbourn 2006; Colbourn, Lanus & Sarkar 2018): n·(q^t − q) + q rows with
+/// Sherwood's vectors, n·(q^t − 1) + 1 with any, for the fewest family rows n the search
+/// finds, tried only while that is below every other offer — past Bush's q + 1 columns,
+/// where one linear array is not enough.
 fn hash_families(o: &mut Offers<'_>) {
     let (k, t, vmax) = (o.k, o.t, o.vmax);
     if t < 3 || o.lambda != 1 || vmax < 3 {
@@ -268,18 +269,30 @@ fn hash_families(o: &mut Offers<'_>) {
     let Some(field) = gf::Field::new(q) else {
         return;
     };
+    let mut others = others;
+    if t == 3
+        && let Some(rows) = hash_family::singer_pair(&field, k)
+    {
+        let n = rows.len();
+        let slack = o.collapses(q);
+        o.offer(Source::Rows(format!("singer-pair(q={q})"), rows), 1, n, slack);
+        others = others.min(n);
+    }
+    // Sherwood's vectors first at each n (fewer rows), then any vectors (more columns)
     for n in 2.. {
-        let Some(size) = hash_family::size(q, t, n).filter(|&s| s < others && s <= o.limit) else {
-            return;
-        };
-        if let Some(family) = hash_family::family(&field, t, k, n) {
-            let rows: Vec<Row> = hash_family::rows(&field, t, &family);
-            debug_assert!(rows.len() <= size);
-            let name = format!("hash-family(q={q},t={t},n={n})");
-            let slack = o.collapses(q);
-            let n = rows.len();
-            o.offer(Source::Rows(name, rows), 1, n, slack);
-            return;
+        for kind in [hash_family::Kind::Affine, hash_family::Kind::Projective] {
+            let Some(size) = hash_family::size(kind, q, t, n).filter(|&s| s < others && s <= o.limit) else {
+                return;
+            };
+            if let Some(family) = hash_family::family(&field, kind, t, k, n) {
+                let rows: Vec<Row> = hash_family::rows(&field, kind, t, &family);
+                debug_assert!(rows.len() <= size);
+                let slack = o.collapses(q);
+                let name = hash_family::name(kind, q, t, n);
+                let n = rows.len();
+                o.offer(Source::Rows(name, rows), 1, n, slack);
+                return;
+            }
         }
     }
 }

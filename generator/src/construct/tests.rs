@@ -539,25 +539,45 @@ fn many_factors_at_strength_two_take_the_product() {
 #[test]
 fn hash_families_of_permutation_vectors() {
     use super::{gf, hash_family};
+    use hash_family::Kind::{Affine, Projective};
     // Sherwood, Martirosyan & Colbourn 2006 (from memory): a covering perfect hash family
-    // CPHF(n; k, q^t, t) of permutation vectors gives CA(n(q^t − q) + q; t, k, q); e.g.
-    // two rows over GF(4) at t = 3 give 2·(64 − 4) + 4 = 124 rows
-    for (q, t, n, k) in [
-        (3usize, 3usize, 2usize, 9usize),
-        (4, 3, 2, 12),
-        (5, 3, 2, 14),
-        (3, 4, 3, 10),
+    // CPHF(n; k, q^t, t) of permutation vectors (1, x) gives CA(n(q^t − q) + q; t, k, q),
+    // e.g. two rows over GF(4) at t = 3: 2·(64 − 4) + 4 = 124 rows; with any vectors
+    // (Colbourn, Lanus & Sarkar 2018, from memory) CA(n(q^t − 1) + 1; t, k, q)
+    for (kind, q, t, n, k) in [
+        (Affine, 3usize, 3usize, 2usize, 9usize),
+        (Affine, 4, 3, 2, 12),
+        (Affine, 5, 3, 2, 14),
+        (Affine, 3, 4, 3, 10),
+        (Projective, 4, 3, 2, 16),
+        (Projective, 3, 3, 2, 11),
     ] {
         let field = gf::Field::new(q).unwrap();
-        let family = hash_family::family(&field, t, k, n)
-            .unwrap_or_else(|| panic!("no family for q={q} t={t} n={n} k={k}"));
-        let rows = hash_family::rows(&field, t, &family);
-        assert_eq!(Some(rows.len()), hash_family::size(q, t, n), "q={q} t={t} n={n}");
+        let family = hash_family::family(&field, kind, t, k, n)
+            .unwrap_or_else(|| panic!("no {kind:?} family for q={q} t={t} n={n} k={k}"));
+        let rows = hash_family::rows(&field, kind, t, &family);
+        assert_eq!(
+            Some(rows.len()),
+            hash_family::size(kind, q, t, n),
+            "{kind:?} q={q} t={t} n={n}"
+        );
         if let Err(v) = verify(&spec(&vec![q; k], t, 1), &rows) {
-            panic!("family for q={q} t={t} n={n} k={k} is invalid: {v}");
+            panic!("{kind:?} family for q={q} t={t} n={n} k={k} is invalid: {v}");
         }
     }
-    assert_eq!(hash_family::size(4, 3, 2), Some(124));
+    // Raaphorst, Moura & Stevens 2014 (from memory): CA(2q³ − 1; 3, q² + q + 1, q), e.g.
+    // CA(127; 3, 21, 4), at or below the tables' 127 rows for 4^20
+    for q in [3usize, 4, 5, 7, 8] {
+        let field = gf::Field::new(q).unwrap();
+        let k = q * q + q + 1;
+        let rows = hash_family::singer_pair(&field, k).unwrap();
+        assert_eq!(rows.len(), 2 * q * q * q - 1, "q = {q}");
+        if let Err(v) = verify(&spec(&vec![q; k], 3, 1), &rows) {
+            panic!("singer pair for q = {q} is invalid: {v}");
+        }
+    }
+    assert_eq!(hash_family::size(Affine, 4, 3, 2), Some(124));
+    assert_eq!(hash_family::size(Projective, 4, 3, 2), Some(127));
     // past Bush's q + 1 columns the offer is taken where smaller: 4^14 at t = 3 (Bush
     // over GF(4) stops at 6 columns; the v-ary doubling of 4^7 needs more rows)
     let c = checked(&[4; 14], 3, 1);
