@@ -269,14 +269,15 @@ fn hash_families(o: &mut Offers<'_>) {
     let Some(field) = gf::Field::new(q) else {
         return;
     };
-    let mut others = others;
     if t == 3
         && let Some(rows) = hash_family::singer_pair(&field, k)
     {
+        // a family the search might find saves at most q − 1 rows on this one: not worth
+        // a search that may fail at a cost of seconds in an unoptimised build
         let n = rows.len();
         let slack = o.collapses(q);
         o.offer(Source::Rows(format!("singer-pair(q={q})"), rows), 1, n, slack);
-        others = others.min(n);
+        return;
     }
     // Sherwood's vectors first at each n (fewer rows), then any vectors (more columns)
     for n in 2.. {
