@@ -25,8 +25,10 @@
 //!   `complete`: [`complete`], rows with unset cells filled in; `work`: the fast mode's
 //!   bound on work;
 //! - `construct`: algebraic constructions (orthogonal arrays incl. ovoids, Hadamard,
-//!   binary families, cyclotomy, recursions), fitted to a spec by dropping columns,
-//!   collapsing levels and stacking;
+//!   difference matrices, binary families, cyclotomy, Singer pairs and covering perfect
+//!   hash families, recursions), fitted to a spec by dropping columns, collapsing levels
+//!   and stacking, and the strength-2 product the engine builds from its own designs for
+//!   many factors;
 //! - `greedy`, `tighten`, `anneal`, `order`: the one-row-at-a-time greedy, the two local
 //!   searches that remove rows (tabu with per-row tables; annealing without, for large
 //!   designs), and the finishing passes;
