@@ -31,7 +31,7 @@ use crate::factor::Row;
 /// 2b + f), for odd q.
 pub(super) fn matrix(field: &Field) -> Option<Vec<Vec<u8>>> {
     let q = field.order();
-    if q < 3 || q % 2 == 0 {
+    if q < 3 || q.is_multiple_of(2) {
         return None;
     }
     let squares = field.squares();

@@ -196,7 +196,7 @@ fn difference_matrices(o: &mut Offers<'_>) {
         .map(|f| levels[f])
         .max()
         .unwrap_or(2);
-    let odd = |q: &usize| q % 2 == 1 && gf::prime_power(*q).is_some();
+    let odd = |q: &usize| !q.is_multiple_of(2) && gf::prime_power(*q).is_some();
     let Some(q) = (vmax.max(3)..=gf::MAX_ORDER).find(odd) else {
         return;
     };
