@@ -147,7 +147,8 @@ fn generate_within(spec: &Spec, effort: Effort, fast_work: u64) -> Result<Design
             "order by gain: skipped, {cells} row × t-set cells after the fast bound bit"
         ));
     } else {
-        order::order_by_gain(&layout, &possible, spec.lambda, &mut rows, required.len());
+        let need = Demand::new(&possible, spec.lambda).need;
+        order::order_by_gain(&layout, &need, &mut rows, required.len());
     }
     let checked = verify(spec, &rows)
         .map_err(|v| Error::Internal(format!("{method} produced an invalid design: {v}")))?;
@@ -315,10 +316,10 @@ impl Context<'_> {
             let vmax = levels.iter().copied().max().unwrap_or(1);
             // the tabu search caches every row's interaction on every t-set; past its
             // table limit, annealing keeps one counter per interaction instead
+            let need = Demand::new(self.possible, lambda).need;
             let problem = tighten::Problem {
                 inc: &inc,
-                possible: self.possible,
-                lambda,
+                need: &need,
                 rows: &rows,
                 fixed: self.required.len(),
                 floor: lower as usize,
@@ -415,7 +416,8 @@ impl Context<'_> {
         if !work.cut {
             // (two passes over every row and t-set: left out when the fast bound bit,
             // where greedy rows are seldom redundant — each met some demand when made)
-            order::drop_redundant(layout, self.possible, lambda, &mut rows, self.required.len());
+            let need = Demand::new(self.possible, lambda).need;
+            order::drop_redundant(layout, &need, &mut rows, self.required.len());
         }
         run.note(format!(
             "greedy (λ = {lambda}): {} rows{}",
@@ -453,7 +455,8 @@ impl Context<'_> {
             rows.extend(construct::relabelled(base, levels, &free, copy));
         }
         let before = rows.len();
-        order::drop_redundant(self.layout, self.possible, lambda, &mut rows, fixed);
+        let need = Demand::new(self.possible, lambda).need;
+        order::drop_redundant(self.layout, &need, &mut rows, fixed);
         let dropped = before - rows.len();
         let mut name = format!("{lambda}×({base_method})");
         if dropped > 0 {
