@@ -109,8 +109,11 @@ pub fn generate(spec: &Spec, effort: Effort) -> Result<Design, Error> {
 
 /// [`generate`] with `fast_work` steps for each index's budgeted methods in
 /// [`Effort::Fast`].
-fn generate_within(spec: &Spec, effort: Effort, fast_work: u64) -> Result<Design, Error> {
+pub(crate) fn generate_within(spec: &Spec, effort: Effort, fast_work: u64) -> Result<Design, Error> {
     spec.validate()?;
+    if !spec.focus.is_empty() {
+        return crate::focused::generate(spec, effort, fast_work);
+    }
     let levels = spec.levels();
     let t = spec.strength;
     if crate::interactions::count(&levels, t) > MAX_INTERACTIONS as u128 {
@@ -163,7 +166,7 @@ fn generate_within(spec: &Spec, effort: Effort, fast_work: u64) -> Result<Design
         expected_bound: bounds::expected_bound(&levels, t, spec.lambda),
         interactions: layout.total() as u64,
         impossible,
-        coverage_curve: curve(&checked, spec.lambda),
+        coverage_curve: curve(&checked),
         aliased: if spec.lambda >= 2 {
             order::aliased(&layout, &possible, &rows)
         } else {
@@ -201,7 +204,7 @@ fn closed_form(spec: &Spec) -> Result<Design, Error> {
         expected_bound: bounds::expected_bound(&levels, t, spec.lambda),
         interactions: interactions.min(u64::MAX as u128) as u64,
         impossible: 0,
-        coverage_curve: curve(&checked, spec.lambda),
+        coverage_curve: curve(&checked),
         aliased: None,
         work: 0,
         pin_advised: tsets.saturating_mul(c.rows.len() as u128) * 2 > PIN_WORK as u128,
@@ -212,8 +215,8 @@ fn closed_form(spec: &Spec) -> Result<Design, Error> {
 
 /// The fraction of the demand (λ per possible interaction) met after each row, from
 /// what the checker counted.
-fn curve(checked: &Coverage, lambda: u32) -> Vec<f64> {
-    let total = (checked.interactions - checked.impossible) as f64 * lambda as f64;
+pub(crate) fn curve(checked: &Coverage) -> Vec<f64> {
+    let total = checked.demand as f64;
     let mut sum = 0u64;
     checked
         .met

@@ -30,22 +30,22 @@ pub struct Incidence {
 impl Incidence {
     /// Builds the table for a layout (memory: about `t·(2+4+4)` bytes per t-set).
     pub fn new(layout: &Layout) -> Self {
+        Self::with_extra(layout, &[])
+    }
+
+    /// Builds the table for every t-set of a layout (in rank order) followed by `extra`
+    /// sorted column sets of any sizes (the focus sets of a variable-strength spec).
+    pub fn with_extra(layout: &Layout, extra: &[Vec<usize>]) -> Self {
         let t = layout.t;
         let sets = layout.sets();
-        let mut b = Builder::new(&layout.levels, sets, sets * t);
+        let cells = sets * t + extra.iter().map(Vec::len).sum::<usize>();
+        let mut b = Builder::new(&layout.levels, sets + extra.len(), cells);
         let mut cur: Vec<usize> = (0..t).collect();
         for _ in 0..sets {
             b.push(&cur);
             next_colex(&mut cur);
         }
-        b.finish()
-    }
-
-    /// Builds the table for an explicit list of sorted column sets, of any sizes.
-    pub fn from_sets(levels: &[usize], sets: &[Vec<usize>]) -> Self {
-        let cells = sets.iter().map(Vec::len).sum();
-        let mut b = Builder::new(levels, sets.len(), cells);
-        for set in sets {
+        for set in extra {
             b.push(set);
         }
         b.finish()
@@ -73,6 +73,11 @@ impl Incidence {
     /// Number of level combinations of the set with this rank.
     pub fn width(&self, rank: usize) -> usize {
         (self.offsets[rank + 1] - self.offsets[rank]) as usize
+    }
+
+    /// Number of columns.
+    pub fn columns(&self) -> usize {
+        self.levels.len()
     }
 
     /// Level count of column `c`.

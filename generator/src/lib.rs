@@ -51,6 +51,8 @@ mod engine;
 mod error;
 mod expr;
 mod factor;
+mod focus;
+mod focused;
 mod greedy;
 mod incidence;
 mod interactions;
@@ -68,11 +70,12 @@ pub use engine::{Design, FAST_BUDGET, Stats, generate};
 pub use error::Error;
 pub use expr::{Expr, FORMULA_VERSION, ParseError};
 pub use factor::{Factor, Row, UNSET};
+pub use focus::Focus;
 /// The engine's subset stepper, for readers that walk t-sets in the engine's order.
 pub use interactions::next_lex as next_subset;
 pub use limits::{
-    MAX_FACTORS, MAX_FORMULA_DEPTH, MAX_INTERACTIONS, MAX_LAMBDA, MAX_LEVELS, MAX_ROWS, MAX_STRENGTH,
-    check_lambda, check_strength,
+    MAX_FACTORS, MAX_FOCUS_SETS, MAX_FORMULA_DEPTH, MAX_INTERACTIONS, MAX_LAMBDA, MAX_LEVELS, MAX_ROWS,
+    MAX_STRENGTH, check_lambda, check_strength,
 };
 pub use model::{Effort, Spec};
 pub use verify::{Coverage, Violation, verify};

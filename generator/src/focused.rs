@@ -1,0 +1,205 @@
+//! Generation for a spec with focus sets (variable strength, Cohen, Colbourn, Collofello,
+//! Gibbons and Mugridge 2003): the design for the base strength alone is made first,
+//! exactly as for a spec without focus sets (constructions, greedy, local search), so the
+//! rows every t-set needs are as good as they get; then rows are added one at a time for
+//! the focus demand still open; then a local search over the whole demand — every base
+//! t-set at λ and every focus column set at its own index, numbered together in one
+//! [`Incidence`] — removes rows, as it does for uniform specs.
+
+use crate::bounds;
+use crate::constraints::Constraints;
+use crate::demand::Demand;
+use crate::engine::{Design, FAST_BUDGET, Stats, curve, generate_within};
+use crate::error::Error;
+use crate::factor::{Row, UNSET};
+use crate::incidence::Incidence;
+use crate::interactions::Layout;
+use crate::model::{Effort, Spec};
+use crate::rng::{Rng, stream};
+use crate::work::{PIN_WORK, Work};
+use crate::{anneal, order, tighten, verify};
+
+/// Generates a design for a spec with focus sets (validated by the caller).
+pub(crate) fn generate(spec: &Spec, effort: Effort, fast_work: u64) -> Result<Design, Error> {
+    let base_spec = Spec {
+        focus: Vec::new(),
+        ..spec.clone()
+    };
+    let base = generate_within(&base_spec, effort, fast_work)?;
+    let levels = spec.levels();
+    let layout = Layout::new(&levels, spec.strength);
+    let focus_sets = crate::focus::column_sets(&spec.focus);
+    let extra: Vec<Vec<usize>> = focus_sets.iter().map(|(s, _)| s.clone()).collect();
+    let inc = Incidence::with_extra(&layout, &extra);
+    let mut cons = Constraints::new(&spec.excludes, &levels);
+    let (possible, impossible) = cons.possible_in(&inc);
+    let base_sets = layout.sets();
+    // λ per set: the spec's on the base t-sets, each focus column set's own after them;
+    // MAX_LAMBDA fits the 16-bit counters
+    let mut need = vec![0u16; inc.total()];
+    for rank in 0..inc.sets() {
+        let lambda = if rank < base_sets {
+            spec.lambda
+        } else {
+            focus_sets[rank - base_sets].1
+        };
+        let from = inc.offset(rank);
+        for i in from..from + inc.width(rank) {
+            need[i] = if possible[i] { lambda as u16 } else { 0 };
+        }
+    }
+    let fixed = spec.required.len();
+    let mut methods = base.stats.methods.clone();
+    let mut work = Work::new(match effort {
+        Effort::Fast => fast_work,
+        Effort::Tight { .. } => u64::MAX,
+    });
+    let mut rows = base.rows.clone();
+    let mut demand = Demand::from_need(need.clone());
+    for row in &rows {
+        demand.cover(&inc, row);
+    }
+    let mut rng = Rng::new(spec.seed, stream::FOCUS);
+    let added = extend(&inc, base_sets, &mut demand, &mut cons, &mut rng, &mut work);
+    methods.push(format!("focus rows: {} added to {}", added.len(), rows.len()));
+    rows.extend(added);
+    let mut method = format!("{}+focus", base.stats.method);
+    let lower = bounds::lower_bound(&levels, spec.strength, spec.lambda)
+        .max(crate::focus::lower_bound(&spec.focus, &levels));
+    let budget = match effort {
+        Effort::Fast => FAST_BUDGET,
+        Effort::Tight { budget } => budget,
+    };
+    let setup = (rows.len() as u64).saturating_mul(inc.sets() as u64);
+    if budget > 0 && (rows.len() as u128) > lower && !work.unbounded() && setup > work.left() {
+        work.cut = true;
+        methods.push(format!(
+            "search: skipped, setting it up costs about {setup} steps against a fast bound of {}",
+            work.left()
+        ));
+    } else if budget > 0 && (rows.len() as u128) > lower {
+        work.spend(setup);
+        let vmax = levels.iter().copied().max().unwrap_or(1);
+        let problem = tighten::Problem {
+            inc: &inc,
+            need: &need,
+            rows: &rows,
+            fixed,
+            floor: lower as usize,
+        };
+        let (name, out) = if tighten::fits(rows.len(), inc.sets()) {
+            let params = tighten::Params::new(budget, inc.t(), vmax);
+            ("tabu", tighten::tighten(&problem, &mut cons, &mut rng, params))
+        } else {
+            let params = anneal::Params::new(budget);
+            ("anneal", anneal::anneal(&problem, &mut cons, &mut rng, params))
+        };
+        work.spend(out.moves.saturating_mul(tighten::MOVE_SETS));
+        methods.push(format!(
+            "{name} (focus and base): {} rows in {} moves",
+            out.rows.len(),
+            out.moves
+        ));
+        if out.rows.len() < rows.len() {
+            rows = out.rows;
+            method.push('+');
+            method.push_str(name);
+        }
+    }
+    order::drop_redundant(&inc, &need, &mut rows, fixed);
+    order::order_by_gain(&inc, &need, &mut rows, fixed);
+    let checked = verify::verify(spec, &rows)
+        .map_err(|v| Error::Internal(format!("{method} produced an invalid design: {v}")))?;
+    let passes = (rows.len() as u64)
+        .saturating_mul(inc.sets() as u64)
+        .saturating_mul(4);
+    let spent = base.stats.work.saturating_add(work.spent());
+    let stats = Stats {
+        method,
+        methods,
+        lower_bound: lower.min(u64::MAX as u128) as u64,
+        expected_bound: base.stats.expected_bound,
+        interactions: inc.total() as u64,
+        impossible,
+        coverage_curve: curve(&checked),
+        aliased: None,
+        work: spent,
+        pin_advised: base.stats.pin_advised || work.cut || spent.saturating_add(passes) > PIN_WORK,
+        engine_version: crate::ENGINE_VERSION,
+    };
+    Ok(Design { rows, stats })
+}
+
+/// Rows for the demand still open, one at a time: each starts from the first interaction
+/// still short (the sets after the `base_sets` base t-sets are the focus sets, the only
+/// ones with demand left once the base design is in), fixes its cells, and fills every
+/// other column of a focus set, in random order, with the allowed level that completes
+/// the most short focus interactions with the columns already set — the one-row-at-a-time
+/// greedy of Cohen, Dalal, Fredman and Patton (1997), one candidate per row. Columns in no
+/// focus set take a random allowed level. Every row meets at least the interaction it
+/// started from, so the loop ends.
+fn extend(
+    inc: &Incidence,
+    base_sets: usize,
+    demand: &mut Demand,
+    cons: &mut Constraints,
+    rng: &mut Rng,
+    work: &mut Work,
+) -> Vec<Row> {
+    let k = inc.columns();
+    let mut rows = Vec::new();
+    let mut cursor = 0usize;
+    let (mut cols, mut lv) = (Vec::new(), Vec::new());
+    let mut order: Vec<usize> = (0..k).collect();
+    while demand.remaining > 0 {
+        while demand.need[cursor] == 0 {
+            cursor += 1;
+        }
+        inc.decode_into(cursor, &mut cols, &mut lv);
+        let mut row = vec![UNSET; k];
+        for (&c, &l) in cols.iter().zip(&lv) {
+            row[c] = l;
+        }
+        rng.shuffle(&mut order);
+        for &c in &order {
+            if row[c] != UNSET {
+                continue;
+            }
+            let through = inc.through(c);
+            // sets are numbered base first, so the focus sets through c come last
+            let first = through.partition_point(|&r| (r as usize) < base_sets);
+            let v = inc.level_count(c);
+            let mut best: Option<(u64, u8)> = None;
+            for l in 0..v as u8 {
+                row[c] = l;
+                if cons.involves(c) && !cons.extendable(&row) {
+                    continue;
+                }
+                let score = if first == through.len() {
+                    // in no focus set: any allowed level, at random
+                    u64::from(rng.next_u32())
+                } else {
+                    let mut gain = 0u64;
+                    for &rank in &through[first..] {
+                        let rank = rank as usize;
+                        let set = inc.cols(rank);
+                        if set.iter().any(|&x| x as usize != c && row[x as usize] == UNSET) {
+                            continue;
+                        }
+                        gain += u64::from(demand.need[inc.index(rank, &row)] > 0);
+                    }
+                    work.spend((through.len() - first) as u64);
+                    gain
+                };
+                if best.is_none_or(|(b, _)| score > b) {
+                    best = Some((score, l));
+                }
+            }
+            // the row was completable before this column, so some level keeps it so
+            row[c] = best.map_or(0, |(_, l)| l);
+        }
+        demand.cover(inc, &row);
+        rows.push(row);
+    }
+    rows
+}
