@@ -55,8 +55,9 @@ impl Focus {
     }
 
     /// Checks the focus set at position `at` against a spec of `names` factors at base
-    /// strength `base`.
-    pub(crate) fn validate(&self, at: usize, names: &[&str], base: usize) -> Result<(), Error> {
+    /// strength `base` ([`crate::Spec::validate`] checks every focus set so; a reader of
+    /// recorded specs asks the same question here).
+    pub fn validate(&self, at: usize, names: &[&str], base: usize) -> Result<(), Error> {
         let mut seen = vec![false; names.len()];
         for &f in &self.factors {
             let Some(slot) = seen.get_mut(f) else {
@@ -100,10 +101,18 @@ pub(crate) fn check_count(count: usize) -> Result<(), Error> {
     Ok(())
 }
 
-/// The column sets the focus sets ask for beyond the base t-sets, sorted, each with its
+/// The column sets focus sets ask for beyond the base t-sets, sorted, each with its
 /// index: every `strength`-subset of each focus set, listed once (with the largest index
-/// asked of it) in lexicographic order.
-pub(crate) fn column_sets(focus: &[Focus]) -> Vec<(Vec<usize>, u32)> {
+/// asked of it) in lexicographic order. The engine and every reader that counts focus
+/// interactions (the store's tallies) list them through this one function; the caller
+/// has validated the focus sets (so the listing is bounded by the interaction limit).
+///
+/// ```
+/// use heddle_generator::{Focus, focus_sets};
+/// let sets = focus_sets(&[Focus::new(vec![3, 0, 1], 2), Focus::new(vec![0, 1], 2).lambda(2)]);
+/// assert_eq!(sets, [(vec![0, 1], 2), (vec![0, 3], 1), (vec![1, 3], 1)]);
+/// ```
+pub fn column_sets(focus: &[Focus]) -> Vec<(Vec<usize>, u32)> {
     let mut sets: BTreeMap<Vec<usize>, u32> = BTreeMap::new();
     for f in focus {
         for_each_subset(&f.sorted(), f.strength, |s| {

@@ -70,7 +70,7 @@ pub use engine::{Design, FAST_BUDGET, Stats, generate};
 pub use error::Error;
 pub use expr::{Expr, FORMULA_VERSION, ParseError};
 pub use factor::{Factor, Row, UNSET};
-pub use focus::Focus;
+pub use focus::{Focus, column_sets as focus_sets};
 /// The engine's subset stepper, for readers that walk t-sets in the engine's order.
 pub use interactions::next_lex as next_subset;
 pub use limits::{

@@ -52,6 +52,7 @@ impl SpecBuilder {
                 should_panic: false,
                 budget: None,
                 followups: 0,
+                focus: Vec::new(),
                 time: "2026-01-01T00:00:00.000000Z".into(),
             },
         };
