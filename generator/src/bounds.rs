@@ -40,7 +40,8 @@ pub fn possible_lower_bound(spec: &Spec) -> u128 {
     let levels = spec.levels();
     let t = spec.strength.min(levels.len());
     if spec.excludes.is_empty() || t == 0 {
-        return lower_bound(&levels, t, spec.lambda);
+        // each focus set's own counting bound holds too when every combination is possible
+        return lower_bound(&levels, t, spec.lambda).max(crate::focus::lower_bound(&spec.focus, &levels));
     }
     let layout = Layout::new(&levels, t);
     let (possible, _) = Constraints::new(&spec.excludes, &levels).possible(&layout);

@@ -228,6 +228,10 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
             for r in &f.spec.required {
                 let _ = writeln!(out, "{}({r})", kw::REQUIRE);
             }
+            for x in &spec.focus {
+                let shown = heddle_syntax::focus::text(x, &spec.factors, spec.strength, spec.lambda);
+                let _ = writeln!(out, "{shown}");
+            }
             out.push('\n');
             let mut table: Vec<Vec<String>> = Vec::with_capacity(n + 1);
             let mut head = vec!["row".to_string()];

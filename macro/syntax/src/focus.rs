@@ -99,6 +99,19 @@ pub(crate) fn convert(
                 index = lambda_value(value, errs).map(|(l, _)| l);
                 std::mem::replace(&mut seen_lambda, true)
             }
+            _ if factors.iter().any(|f| f.name == word) => {
+                errs.at(
+                    &item.key,
+                    format!(
+                        "`{}(…)` names parameters without levels, found a value after `{word}`",
+                        kw::FOCUS
+                    ),
+                    format!(
+                        "write `{word}` alone: a focus set covers every combination of its parameters' levels"
+                    ),
+                );
+                false
+            }
             _ => {
                 errs.at(
                     &item.key,
