@@ -654,6 +654,65 @@ mod tests {
     }
 
     #[test]
+    fn focus_sets_are_tallied_at_their_own_strength() {
+        // 3^4 at strength 2 with focus sets {0, 1, 2} at 3 (λ = 2) and {1, 2, 3} at 3: the
+        // full factorial 3^4 shows each triple of levels in exactly 3 rows (the fourth
+        // factor free), so every focus interaction appears with 3 rows; the pairs of all
+        // factors keep their arity-2 entries (variable strength, Cohen, Colbourn,
+        // Collofello, Gibbons and Mugridge 2003)
+        let rows: Vec<Vec<u8>> = (0..81u8)
+            .map(|x| vec![x / 27, x / 9 % 3, x / 3 % 3, x % 3])
+            .collect();
+        let spec = SpecBuilder::new("f")
+            .numbered(&[3, 3, 3, 3])
+            .strength(2)
+            .focus(&[2, 0, 1], 3, 2)
+            .focus(&[1, 2, 3], 3, 1)
+            .rows(rows.clone())
+            .build();
+        let outcomes: Vec<(usize, Outcome)> = (0..81)
+            .map(|r| (r, if r == 5 { Outcome::Failed } else { Outcome::Passed }))
+            .collect();
+        let tallies = tally(&spec, outcomes).unwrap();
+        assert_eq!(tallies.interactions().len(), 6 * 9);
+        assert_eq!(tallies.focus.len(), 2 * 27);
+        // sorted by factors then levels, so `get` finds every one by binary search
+        assert!(
+            tallies
+                .focus
+                .windows(2)
+                .all(|w| w[0].tally.interaction < w[1].tally.interaction)
+        );
+        for f in &tallies.focus {
+            let it = &f.tally.interaction;
+            let brute: Vec<u32> = (0..81u32).filter(|&r| it.in_row(&rows[r as usize])).collect();
+            assert_eq!(f.tally.rows, brute, "{it:?}");
+            assert_eq!(f.tally.count.failures, u64::from(brute.contains(&5)), "{it:?}");
+            let want = if it.factors == [0, 1, 2] { 2 } else { 1 };
+            assert_eq!(f.lambda, want, "{it:?}");
+            assert_eq!(tallies.get(it), Some(&f.tally));
+        }
+        // a spec line with a focus set the engine refuses is refused as damaged
+        let bad = SpecBuilder::new("f")
+            .numbered(&[3, 3, 3])
+            .strength(2)
+            .focus(&[0, 1], 3, 1)
+            .rows(vec![vec![0, 0, 0]])
+            .build();
+        let err = tally(&bad, []).unwrap_err().to_string();
+        assert!(
+            err.contains("focus set #1 has strength 3 over only 2 factors"),
+            "{err}"
+        );
+        let spec = crate::engine_spec(&spec).unwrap();
+        assert_eq!(spec.focus.len(), 2);
+        assert_eq!(
+            (spec.focus[0].factors.clone(), spec.focus[0].lambda),
+            (vec![2, 0, 1], 2)
+        );
+    }
+
+    #[test]
     fn subsets_enumerate_in_lexicographic_order() {
         let mut cols = vec![0, 1];
         let mut seen = vec![cols.clone()];

@@ -507,6 +507,29 @@ mod tests {
     }
 
     #[test]
+    fn focus_sets_are_written_only_when_present_and_read_back() {
+        // a line without `focus` (as written before focus sets existed) reads as none
+        let plain = Line::Spec(spec()).to_json_line();
+        assert!(!plain.contains("focus"), "{plain}");
+        let Line::Spec(read) = Line::parse(plain.trim_end()).unwrap() else {
+            panic!("a spec line")
+        };
+        assert!(read.focus.is_empty());
+        let mut s = spec();
+        s.focus = vec![FocusSpec {
+            factors: vec![1, 0],
+            strength: 2,
+            lambda: 3,
+        }];
+        let text = Line::Spec(s.clone()).to_json_line();
+        assert!(
+            text.contains(r#","focus":[{"factors":[1,0],"strength":2,"lambda":3}],"#),
+            "{text}"
+        );
+        assert_eq!(Line::parse(text.trim_end()).unwrap(), Line::Spec(s));
+    }
+
+    #[test]
     fn unknown_fields_are_ignored() {
         let text = Line::Row(row()).to_json_line();
         let extended = text
