@@ -177,9 +177,13 @@ fn limits_are_refused_with_the_count() {
     assert_eq!(o.status.code(), Some(2));
     let err = stderr(&o);
     assert!(
-        err.contains("t-way interactions, more than the limit of 16777216"),
+        err.contains(&format!(
+            "t-way interactions, more than the limit of {}",
+            heddle_generator::MAX_INTERACTIONS
+        )),
         "{err}"
     );
+    assert!(err.contains("hint: lower the strength"), "{err}");
 }
 
 #[test]
