@@ -262,8 +262,7 @@ fn closed_form_specs_pass_the_interaction_limit() {
 fn the_widest_binary_spec_gets_kleitman_spencer() {
     // 2^4096 at t = 2 (the most factors a spec may have): the least N with
     // C(N − 1, ⌈N/2⌉) ≥ 4096 (Kleitman & Spencer 1973; Katona 1973) is 16, as
-    // C(15, 8) = 6435 and C(14, 8) = 3003. (Issue 13 quotes 14 rows, the size for
-    // k ≤ 1716.)
+    // C(15, 8) = 6435 and C(14, 8) = 3003 (14 rows serve only up to k = C(13, 7) = 1716).
     let d = generate(&Spec::new(numbered(&[2; 4096])), Effort::Fast).expect("valid");
     assert_eq!(d.rows.len(), 16);
     assert_eq!(d.stats.interactions, 33_546_240);

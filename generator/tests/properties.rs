@@ -193,8 +193,9 @@ proptest! {
     #![proptest_config(config(48))]
 
     /// λ copies of the λ = 1 design cover everything λ times, so the engine, which
-    /// offers that stack beside its direct design, never returns more rows (issue 13:
-    /// 2^10 t=4 λ=2 once gave 51 rows, above 2 × 24).
+    /// offers that stack beside its direct design, never returns more rows (juxtaposed
+    /// arrays add their indices, common practice; 2^10 t=4 λ=2 once gave 51 rows, above
+    /// 2 × 24).
     #[test]
     fn index_lambda_never_exceeds_lambda_copies(
         levels in prop::collection::vec(1usize..=4, 2..=6),

@@ -511,7 +511,7 @@ mod random_specs {
 #[test]
 fn cyclotomy_reaches_the_tables_for_binary_strength_four() {
     // CA(67; 4, 50, 2) is the best known size for 2^50 at t = 4 (Colbourn covering array
-    // tables, 2024 snapshot, as quoted in issue 13); the quadratic-residue circulant mod
+    // tables, 2024 snapshot, value from memory); the quadratic-residue circulant mod
     // 67 (Colbourn 2010, "Covering arrays from cyclotomy") reaches it, the checker confirms
     let c = checked(&[2; 50], 4, 1);
     assert!(c.rows.len() <= 67, "{} rows by {}", c.rows.len(), c.method);
