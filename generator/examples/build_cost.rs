@@ -22,7 +22,7 @@ fn main() {
         .collect();
     let mixed17: Vec<usize> = [4, 3, 3, 2, 2, 2, 5, 3, 4, 3, 2, 2, 3, 4, 2, 3, 2].to_vec();
     let specs = vec![
-        // the three of issue 13
+        // three specs that once cost a debug build minutes
         spec("3^20 t=4", &[3; 20], 4, 1),
         spec("4^30 t=4", &[4; 30], 4, 1),
         spec("17 mixed factors t=4 l=3", &mixed17, 4, 3),

@@ -269,8 +269,7 @@ impl fmt::Display for Error {
             Error::NothingAllowed => write!(f, "the excludes rule out every row"),
             Error::TooLarge { interactions, limit } => write!(
                 f,
-                "the spec has {interactions} t-way interactions, more than the limit of {limit}; \
-                 lower the strength or the number of levels"
+                "the spec has {interactions} t-way interactions, more than the limit of {limit}"
             ),
             Error::TooManyRows { lower_bound, limit } => write!(
                 f,

@@ -17,7 +17,7 @@ use crate::interactions::Layout;
 use crate::model::{Effort, Spec};
 use crate::rng::{Rng, stream};
 use crate::work::{PIN_WORK, Work};
-use crate::{anneal, order, tighten, verify};
+use crate::{order, tighten, verify};
 
 /// Generates a design for a spec with focus sets (validated by the caller).
 pub(crate) fn generate(spec: &Spec, effort: Effort, fast_work: u64) -> Result<Design, Error> {
@@ -87,13 +87,7 @@ pub(crate) fn generate(spec: &Spec, effort: Effort, fast_work: u64) -> Result<De
             fixed,
             floor: lower as usize,
         };
-        let (name, out) = if tighten::fits(rows.len(), inc.sets()) {
-            let params = tighten::Params::new(budget, inc.t(), vmax);
-            ("tabu", tighten::tighten(&problem, &mut cons, &mut rng, params))
-        } else {
-            let params = anneal::Params::new(budget);
-            ("anneal", anneal::anneal(&problem, &mut cons, &mut rng, params))
-        };
+        let (name, out) = tighten::search(&problem, &mut cons, &mut rng, budget, vmax);
         work.spend(out.moves.saturating_mul(tighten::MOVE_SETS));
         methods.push(format!(
             "{name} (focus and base): {} rows in {} moves",

@@ -357,6 +357,25 @@ pub fn fits(rows: usize, sets: usize) -> bool {
     rows <= SEARCH_MAX_ROWS && rows.saturating_mul(sets) <= MAX_SHOWN
 }
 
+/// The local search that fits the problem, with its name: this tabu search while its
+/// per-row tables fit ([`fits`]), annealing (`crate::anneal`, whose memory does not grow
+/// with rows × sets) past them; `vmax` (most levels of a factor) tunes the tabu search.
+pub(crate) fn search(
+    problem: &Problem<'_>,
+    cons: &mut Constraints,
+    rng: &mut Rng,
+    budget: u64,
+    vmax: usize,
+) -> (&'static str, Outcome) {
+    if fits(problem.rows.len(), problem.inc.sets()) {
+        let params = Params::new(budget, problem.inc.t(), vmax);
+        ("tabu", tighten(problem, cons, rng, params))
+    } else {
+        let params = crate::anneal::Params::new(budget);
+        ("anneal", crate::anneal::anneal(problem, cons, rng, params))
+    }
+}
+
 /// Searches for a smaller design than the problem's rows, never going below its floor,
 /// never touching its fixed rows. Deterministic for a given `rng` state and budget.
 pub(crate) fn tighten(

@@ -235,6 +235,7 @@ fn limits_are_refused_with_the_count() {
         )),
         "{err}"
     );
+    assert!(err.contains("hint: lower the strength"), "{err}");
 }
 
 #[test]

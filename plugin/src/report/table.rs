@@ -167,16 +167,14 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, report_other_runs: us
         );
         let _ = writeln!(out, "       {kind} · score {:.2} · {}", sus.score, sus.reason);
     }
-    if s.analysis.suspects.len() > SHOWN_SUSPECTS {
-        let _ = writeln!(
-            out,
-            "       {}",
-            st.dim(&format!(
-                "and {} more (all in `--format json`)",
-                s.analysis.suspects.len() - SHOWN_SUSPECTS
-            ))
-        );
-    }
+    more(
+        out,
+        st,
+        "       ",
+        s.analysis.suspects.len(),
+        SHOWN_SUSPECTS,
+        "all in `--format json`",
+    );
     if !s.analysis.flaky.is_empty() {
         let _ = writeln!(
             out,
@@ -247,16 +245,14 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, report_other_runs: us
         }
         let _ = writeln!(out, "      rerun: {}", s.rerun(r.row));
     }
-    if failing.len() > SHOWN_ROWS {
-        let _ = writeln!(
-            out,
-            "    {}",
-            st.dim(&format!(
-                "and {} more (all in `--format json`)",
-                failing.len() - SHOWN_ROWS
-            ))
-        );
-    }
+    more(
+        out,
+        st,
+        "    ",
+        failing.len(),
+        SHOWN_ROWS,
+        "all in `--format json`",
+    );
     interactions(out, s, all, st);
 }
 
@@ -372,14 +368,16 @@ fn interactions(out: &mut String, s: &SuiteReport<'_>, all: bool, st: Style) {
             levels_text(&described(s.spec, &e.interaction))
         );
     }
-    if list.len() > shown {
+    more(out, st, "    ", list.len(), shown, "`--all` lists every one");
+}
+
+/// The line under a list cut at `shown` of `total` entries, saying where the rest are.
+fn more(out: &mut String, st: Style, indent: &str, total: usize, shown: usize, rest: &str) {
+    if total > shown {
         let _ = writeln!(
             out,
-            "    {}",
-            st.dim(&format!(
-                "and {} more (`--all` lists every one)",
-                list.len() - shown
-            ))
+            "{indent}{}",
+            st.dim(&format!("and {} more ({rest})", total - shown))
         );
     }
 }

@@ -88,7 +88,7 @@ mod roundtrip {
         should_panic_expected: None,
         budget: None,
         followups: 0,
-        focus: Vec::new(),
+        focus: &[],
     };
 
     #[test]
@@ -175,7 +175,7 @@ mod expected_panic {
         should_panic_expected: Some("kaboom"),
         budget: None,
         followups: 0,
-        focus: Vec::new(),
+        focus: &[],
     };
 
     #[test]
@@ -237,7 +237,7 @@ mod threads {
         should_panic_expected: None,
         budget: None,
         followups: 0,
-        focus: Vec::new(),
+        focus: &[],
     };
 
     pub const THREADS: usize = 16;
