@@ -18,7 +18,9 @@ fn rows(spec: &Spec, effort: Effort) -> String {
 }
 
 fn main() {
-    let cases: Vec<(&str, Vec<usize>, usize, Vec<usize>, usize)> = vec![
+    // name, level counts, base strength, focus factors, focus strength
+    type Case = (&'static str, Vec<usize>, usize, Vec<usize>, usize);
+    let cases: Vec<Case> = vec![
         ("3^10 t=2, focus triple at t=3", vec![3; 10], 2, vec![0, 1, 2], 3),
         (
             "3^10 t=2, focus of 5 at t=3",

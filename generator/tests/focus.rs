@@ -174,7 +174,9 @@ fn a_focus_triple_is_covered_at_strength_three() {
 #[test]
 fn bad_focus_sets_are_refused_by_name() {
     let base = Spec::numbered(&[2, 2, 2, 2]);
-    let cases: Vec<(Focus, fn(&Error) -> bool)> = vec![
+    // each bad focus set and the refusal it must get
+    type Expect = fn(&Error) -> bool;
+    let cases: Vec<(Focus, Expect)> = vec![
         (Focus::new(vec![0, 9], 2), |e| {
             matches!(e, Error::FocusUnknownFactor { factor: 9, .. })
         }),
