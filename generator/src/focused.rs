@@ -7,6 +7,7 @@
 //! [`Incidence`] — removes rows, as it does for uniform specs.
 
 use crate::bounds;
+use crate::complete::complete_valid;
 use crate::constraints::Constraints;
 use crate::demand::Demand;
 use crate::engine::{Design, FAST_BUDGET, Stats, curve, generate_within};
@@ -21,33 +22,25 @@ use crate::{order, tighten, verify};
 
 /// Generates a design for a spec with focus sets (validated by the caller).
 pub(crate) fn generate(spec: &Spec, effort: Effort, fast_work: u64) -> Result<Design, Error> {
-    let base_spec = Spec {
+    let mut base_spec = Spec {
         focus: Vec::new(),
         ..spec.clone()
     };
+    // required rows with unset cells are completed against the whole demand, so that
+    // their open cells serve the focus sets too; the base design then takes them as they
+    // are
+    if spec.required.iter().any(|r| r.contains(&UNSET)) {
+        base_spec.required = complete_valid(spec, &spec.required, true).rows;
+    }
     let base = generate_within(&base_spec, effort, fast_work)?;
     let levels = spec.levels();
-    let layout = Layout::new(&levels, spec.strength);
-    let focus_sets = crate::focus::column_sets(&spec.focus);
-    let extra: Vec<Vec<usize>> = focus_sets.iter().map(|(s, _)| s.clone()).collect();
-    let inc = Incidence::with_extra(&layout, &extra);
     let mut cons = Constraints::new(&spec.excludes, &levels);
-    let (possible, impossible) = cons.possible_in(&inc);
-    let base_sets = layout.sets();
-    // λ per set: the spec's on the base t-sets, each focus column set's own after them;
-    // MAX_LAMBDA fits the 16-bit counters
-    let mut need = vec![0u16; inc.total()];
-    for rank in 0..inc.sets() {
-        let lambda = if rank < base_sets {
-            spec.lambda
-        } else {
-            focus_sets[rank - base_sets].1
-        };
-        let from = inc.offset(rank);
-        for i in from..from + inc.width(rank) {
-            need[i] = if possible[i] { lambda as u16 } else { 0 };
-        }
-    }
+    let Mixed {
+        inc,
+        need,
+        base_sets,
+        impossible,
+    } = Mixed::new(spec, &mut cons);
     let fixed = spec.required.len();
     let mut methods = base.stats.methods.clone();
     let mut work = Work::new(match effort {
@@ -60,7 +53,14 @@ pub(crate) fn generate(spec: &Spec, effort: Effort, fast_work: u64) -> Result<De
         demand.cover(&inc, row);
     }
     let mut rng = Rng::new(spec.seed, stream::FOCUS);
-    let added = extend(&inc, base_sets, &mut demand, &mut cons, &mut rng, &mut work);
+    let mixed = Mixed {
+        inc,
+        need,
+        base_sets,
+        impossible,
+    };
+    let added = extend(&mixed, &mut demand, &mut cons, &mut rng, &mut work);
+    let Mixed { inc, need, .. } = mixed;
     methods.push(format!("focus rows: {} added to {}", added.len(), rows.len()));
     rows.extend(added);
     let mut method = format!("{}+focus", base.stats.method);
@@ -124,6 +124,66 @@ pub(crate) fn generate(spec: &Spec, effort: Effort, fast_work: u64) -> Result<De
     Ok(Design { rows, stats })
 }
 
+/// A focus spec's whole demand numbered together: every base t-set (in rank order), then
+/// every focus column set ([`crate::focus::column_sets`]), with the rows needed per
+/// interaction (λ of its set, 0 where no allowed row shows it).
+pub(crate) struct Mixed {
+    pub(crate) inc: Incidence,
+    pub(crate) need: Vec<u16>,
+    /// How many of the sets are base t-sets (they come first).
+    pub(crate) base_sets: usize,
+    /// Interactions no allowed row shows.
+    pub(crate) impossible: u64,
+}
+
+impl Mixed {
+    pub(crate) fn new(spec: &Spec, cons: &mut Constraints) -> Mixed {
+        let layout = Layout::new(&spec.levels(), spec.strength);
+        let focus_sets = crate::focus::column_sets(&spec.focus);
+        let extra: Vec<Vec<usize>> = focus_sets.iter().map(|(s, _)| s.clone()).collect();
+        let inc = Incidence::with_extra(&layout, &extra);
+        let (possible, impossible) = cons.possible_in(&inc);
+        let base_sets = layout.sets();
+        // MAX_LAMBDA fits the 16-bit counters
+        let mut need = vec![0u16; inc.total()];
+        for rank in 0..inc.sets() {
+            let lambda = if rank < base_sets {
+                spec.lambda
+            } else {
+                focus_sets[rank - base_sets].1
+            };
+            let from = inc.offset(rank);
+            for i in from..from + inc.width(rank) {
+                need[i] = if possible[i] { lambda as u16 } else { 0 };
+            }
+        }
+        Mixed {
+            inc,
+            need,
+            base_sets,
+            impossible,
+        }
+    }
+
+    /// How many interactions with demand left in `need` the row shows on the sets through
+    /// column `c` (whose cell is set) from rank `from` on, counting only sets whose other
+    /// columns are set too.
+    pub(crate) fn gain_at(&self, row: &[u8], c: usize, need: &[u16], from: usize) -> u64 {
+        let through = self.inc.through(c);
+        // the sets through a column are listed in rank order
+        let first = through.partition_point(|&r| (r as usize) < from);
+        let mut gain = 0u64;
+        for &rank in &through[first..] {
+            let rank = rank as usize;
+            if self.inc.cols(rank).iter().any(|&x| row[x as usize] == UNSET) {
+                continue;
+            }
+            gain += u64::from(need[self.inc.index(rank, row)] > 0);
+        }
+        gain
+    }
+}
+
 /// Rows for the demand still open, one at a time: each starts from the first interaction
 /// still short (the sets after the `base_sets` base t-sets are the focus sets, the only
 /// ones with demand left once the base design is in), fixes its cells, and fills every
@@ -133,13 +193,13 @@ pub(crate) fn generate(spec: &Spec, effort: Effort, fast_work: u64) -> Result<De
 /// focus set take a random allowed level. Every row meets at least the interaction it
 /// started from, so the loop ends.
 fn extend(
-    inc: &Incidence,
-    base_sets: usize,
+    mixed: &Mixed,
     demand: &mut Demand,
     cons: &mut Constraints,
     rng: &mut Rng,
     work: &mut Work,
 ) -> Vec<Row> {
+    let inc = &mixed.inc;
     let k = inc.columns();
     let mut rows = Vec::new();
     let mut cursor = 0usize;
@@ -161,7 +221,7 @@ fn extend(
             }
             let through = inc.through(c);
             // sets are numbered base first, so the focus sets through c come last
-            let first = through.partition_point(|&r| (r as usize) < base_sets);
+            let first = through.partition_point(|&r| (r as usize) < mixed.base_sets);
             let v = inc.level_count(c);
             let mut best: Option<(u64, u8)> = None;
             for l in 0..v as u8 {
@@ -173,17 +233,8 @@ fn extend(
                     // in no focus set: any allowed level, at random
                     u64::from(rng.next_u32())
                 } else {
-                    let mut gain = 0u64;
-                    for &rank in &through[first..] {
-                        let rank = rank as usize;
-                        let set = inc.cols(rank);
-                        if set.iter().any(|&x| x as usize != c && row[x as usize] == UNSET) {
-                            continue;
-                        }
-                        gain += u64::from(demand.need[inc.index(rank, &row)] > 0);
-                    }
                     work.spend((through.len() - first) as u64);
-                    gain
+                    mixed.gain_at(&row, c, &demand.need, mixed.base_sets)
                 };
                 if best.is_none_or(|(b, _)| score > b) {
                     best = Some((score, l));

@@ -7,7 +7,7 @@
 //! is the variable-strength covering array of Cohen, Colbourn, Collofello, Gibbons and
 //! Mugridge (2003, "Variable strength interaction testing of components"), with index λ.
 
-use heddle_generator::{Effort, Error, Expr, Focus, Spec, generate, verify};
+use heddle_generator::{Effort, Error, Expr, Focus, Spec, UNSET, complete, generate, verify};
 
 mod common;
 
@@ -95,6 +95,12 @@ fn random_spec(m: &mut Mix) -> Spec {
     if m.below(4) == 0 {
         spec = spec.require(vec![1; k]);
     }
+    if m.below(4) == 0 {
+        // a required row with cells left to the engine
+        let mut row = vec![UNSET; k];
+        row[k - 1] = 0;
+        spec = spec.require(row);
+    }
     spec
 }
 
@@ -119,8 +125,9 @@ fn random_focus_specs_cover_every_set_at_its_strength() {
         );
         let bound = heddle_generator::bounds::lower_bound(&spec.levels(), spec.strength, spec.lambda);
         assert!(d.rows.len() as u128 >= bound, "case {case}");
+        let fills = |r: &Vec<u8>, d: &Vec<u8>| r.iter().zip(d).all(|(&a, &b)| a == UNSET || a == b);
         assert!(
-            spec.required.iter().zip(&d.rows).all(|(r, d)| r == d),
+            spec.required.iter().zip(&d.rows).all(|(r, d)| fills(r, d)),
             "case {case}"
         );
         // the same spec gives the same rows
@@ -142,12 +149,29 @@ fn the_checker_agrees_with_brute_force_on_random_rows() {
             .filter(|r| !spec.excludes.iter().any(|e| e.eval(r)))
             .collect();
         let n = spec.required.len() + m.below(allowed.len() * 2 + 1);
-        let mut rows = spec.required.clone();
+        // the required rows first, an open cell filled as some allowed row has it
+        let fits = |r: &Vec<u8>, a: &Vec<u8>| r.iter().zip(a).all(|(&x, &y)| x == UNSET || x == y);
+        let mut rows: Vec<Vec<u8>> = spec
+            .required
+            .iter()
+            .map(|r| {
+                allowed
+                    .iter()
+                    .find(|a| fits(r, a))
+                    .expect("validated as completable")
+                    .clone()
+            })
+            .collect();
         while rows.len() < n {
             rows.push(allowed[m.below(allowed.len())].clone());
         }
         let brute = brute_force_ok(&spec, &rows).is_ok();
-        assert_eq!(verify(&spec, &rows).is_ok(), brute, "{spec:?} {rows:?}");
+        assert_eq!(
+            verify(&spec, &rows).is_ok(),
+            brute,
+            "{spec:?}, {} rows",
+            rows.len()
+        );
         if brute { valid += 1 } else { invalid += 1 }
     }
     assert!(valid > 10 && invalid > 10, "valid {valid}, invalid {invalid}");
@@ -169,6 +193,23 @@ fn a_focus_triple_is_covered_at_strength_three() {
     // and the plain t = 2 design does not cover them all (9 rows, Bose 1938)
     let plain = generate(&Spec::numbered(&[3; 6]), Effort::Fast).unwrap();
     assert!(brute_force_ok(&spec, &plain.rows).is_err());
+}
+
+#[test]
+fn completing_rows_counts_the_focus_demand() {
+    // the 27 combinations of the first three of 3^4, the fourth left open: at strength 2
+    // most of them are redundant (9 rows cover every pair of 3^4, Bose 1938), but with
+    // the first three as a focus set at 3 each is the only row of its triple
+    let partial: Vec<Vec<u8>> = (0..27u8).map(|x| vec![x / 9, x / 3 % 3, x % 3, UNSET]).collect();
+    let plain = Spec::numbered(&[3; 4]);
+    let c = complete(&plain, &partial).unwrap();
+    assert!(!c.redundant.is_empty());
+    let focused = plain.clone().focus(Focus::new(vec![0, 1, 2], 3));
+    let c = complete(&focused, &partial).unwrap();
+    assert!(c.redundant.is_empty() && c.excluded.is_empty(), "{c:?}");
+    assert_eq!(c.rows.len(), 27);
+    // the open column is filled for the pairs: the rows are a design of the whole spec
+    brute_force_ok(&focused, &c.rows).unwrap();
 }
 
 #[test]
