@@ -43,8 +43,9 @@ pub(crate) fn generate(spec: &Spec, effort: Effort, fast_work: u64) -> Result<De
     } = Mixed::new(spec, &mut cons);
     let fixed = spec.required.len();
     let mut methods = base.stats.methods.clone();
+    // in the fast mode the focus rows and the search share one bound with the base design
     let mut work = Work::new(match effort {
-        Effort::Fast => fast_work,
+        Effort::Fast => fast_work.saturating_sub(base.stats.work),
         Effort::Tight { .. } => u64::MAX,
     });
     let mut rows = base.rows.clone();
