@@ -355,17 +355,13 @@ impl Context<'_> {
                 fixed: self.required.len(),
                 floor: lower as usize,
             };
-            let (name, out) = tighten::search(&problem, cons, &mut rng, budget, vmax);
-            work.spend(out.moves.saturating_mul(tighten::MOVE_SETS));
-            run.note(format!(
-                "{name} (λ = {lambda}): {} rows in {} moves",
-                out.rows.len(),
-                out.moves
-            ));
-            if out.rows.len() < rows.len() {
-                rows = out.rows;
-                method.push('+');
-                method.push_str(name);
+            let label = format!("(λ = {lambda})");
+            let search = (budget, vmax);
+            let (fewer, line) =
+                tighten::shrink(&problem, cons, &mut rng, search, &mut work, &mut method, &label);
+            run.note(line);
+            if let Some(fewer) = fewer {
+                rows = fewer;
             }
         }
         run.absorb(&work);

@@ -88,17 +88,20 @@ pub(crate) fn generate(spec: &Spec, effort: Effort, fast_work: u64) -> Result<De
             fixed,
             floor: lower as usize,
         };
-        let (name, out) = tighten::search(&problem, &mut cons, &mut rng, budget, vmax);
-        work.spend(out.moves.saturating_mul(tighten::MOVE_SETS));
-        methods.push(format!(
-            "{name} (focus and base): {} rows in {} moves",
-            out.rows.len(),
-            out.moves
-        ));
-        if out.rows.len() < rows.len() {
-            rows = out.rows;
-            method.push('+');
-            method.push_str(name);
+        let search = (budget, vmax);
+        let label = "(focus and base)";
+        let (fewer, line) = tighten::shrink(
+            &problem,
+            &mut cons,
+            &mut rng,
+            search,
+            &mut work,
+            &mut method,
+            label,
+        );
+        methods.push(line);
+        if let Some(fewer) = fewer {
+            rows = fewer;
         }
     }
     order::drop_redundant(&inc, &need, &mut rows, fixed);

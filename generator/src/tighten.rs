@@ -376,6 +376,30 @@ pub(crate) fn search(
     }
 }
 
+/// [`search`], its moves charged to `work` (a move pays for [`MOVE_SETS`] sets), and its
+/// rows taken when fewer than the problem's: returned, with `method` gaining `+tabu` or
+/// `+anneal`. The other value is the line for a design's list of methods, `{label}`
+/// after the search's name.
+pub(crate) fn shrink(
+    problem: &Problem<'_>,
+    cons: &mut Constraints,
+    rng: &mut Rng,
+    (budget, vmax): (u64, usize),
+    work: &mut crate::work::Work,
+    method: &mut String,
+    label: &str,
+) -> (Option<Vec<Row>>, String) {
+    let (name, out) = search(problem, cons, rng, budget, vmax);
+    work.spend(out.moves.saturating_mul(MOVE_SETS));
+    let line = format!("{name} {label}: {} rows in {} moves", out.rows.len(), out.moves);
+    if out.rows.len() < problem.rows.len() {
+        method.push('+');
+        method.push_str(name);
+        return (Some(out.rows), line);
+    }
+    (None, line)
+}
+
 /// Searches for a smaller design than the problem's rows, never going below its floor,
 /// never touching its fixed rows. Deterministic for a given `rng` state and budget.
 pub(crate) fn tighten(
