@@ -179,59 +179,59 @@ pub(super) fn check_keys<'a>(cover: &CoverFn<'a>, errs: &mut Errors) -> KeyValue
 /// The value of `strength = N` (in the attribute or inside `focus(…)`), range-checked by
 /// the engine, the words the attribute's.
 pub(crate) fn strength_value<'a>(value: &'a ArgValue, errs: &mut Errors) -> Option<(usize, &'a syn::Expr)> {
-    let (v, expr) = int_value(value, kw::STRENGTH, "2", errs)?;
-    match check_strength(v) {
-        Ok(t) => Some((t, expr)),
-        Err(_) if v == 0 => {
-            errs.at(
-                expr,
-                format!("`{} = 0` is not allowed", kw::STRENGTH),
-                format!(
-                    "strength is at least 1: `{} = 1` covers every level, `{} = 2` every pair",
-                    kw::STRENGTH,
-                    kw::STRENGTH
-                ),
-            );
-            None
-        }
-        Err(_) => {
-            errs.at(
-                expr,
-                format!(
-                    "`{} = {v}` is above the supported maximum of {MAX_STRENGTH}",
-                    kw::STRENGTH
-                ),
-                format!("use `{} = {MAX_STRENGTH}` or less", kw::STRENGTH),
-            );
-            None
-        }
-    }
+    let zero = format!(
+        "strength is at least 1: `{} = 1` covers every level, `{} = 2` every pair",
+        kw::STRENGTH,
+        kw::STRENGTH
+    );
+    ranged(
+        value,
+        kw::STRENGTH,
+        check_strength,
+        MAX_STRENGTH as u64,
+        &zero,
+        errs,
+    )
 }
 
 /// The value of `lambda = N` (in the attribute or inside `focus(…)`).
 pub(crate) fn lambda_value<'a>(value: &'a ArgValue, errs: &mut Errors) -> Option<(u32, &'a syn::Expr)> {
-    let (v, expr) = int_value(value, kw::LAMBDA, "2", errs)?;
-    match check_lambda(v) {
-        Ok(l) => Some((l, expr)),
+    let zero = format!(
+        "lambda is at least 1: how many rows must cover each combination; write `{} = 1`",
+        kw::LAMBDA
+    );
+    ranged(
+        value,
+        kw::LAMBDA,
+        check_lambda,
+        u64::from(MAX_LAMBDA),
+        &zero,
+        errs,
+    )
+}
+
+/// An integer `key = N` checked by the engine's `check` (1 ..= `max`): 0 and values
+/// above the maximum get the attribute's own words, `zero` the hint for 0.
+fn ranged<'a, T>(
+    value: &'a ArgValue,
+    key: &str,
+    check: fn(u64) -> Result<T, heddle_generator::Error>,
+    max: u64,
+    zero: &str,
+    errs: &mut Errors,
+) -> Option<(T, &'a syn::Expr)> {
+    let (v, expr) = int_value(value, key, "2", errs)?;
+    match check(v) {
+        Ok(t) => Some((t, expr)),
         Err(_) if v == 0 => {
-            errs.at(
-                expr,
-                format!("`{} = 0` is not allowed", kw::LAMBDA),
-                format!(
-                    "lambda is at least 1: how many rows must cover each combination; write `{} = 1`",
-                    kw::LAMBDA
-                ),
-            );
+            errs.at(expr, format!("`{key} = 0` is not allowed"), zero);
             None
         }
         Err(_) => {
             errs.at(
                 expr,
-                format!(
-                    "`{} = {v}` is above the supported maximum of {MAX_LAMBDA}",
-                    kw::LAMBDA
-                ),
-                format!("use `{} = {MAX_LAMBDA}` or less", kw::LAMBDA),
+                format!("`{key} = {v}` is above the supported maximum of {max}"),
+                format!("use `{key} = {max}` or less"),
             );
             None
         }
