@@ -1,11 +1,15 @@
 //! A focus set (variable strength) end to end through the built `cargo-heddle` binary on
 //! a real temporary crate (heddle's end-to-end harness): `show` prints the focus set, the
 //! rows that ran show every triple of the focused parameters, and the report tallies each
-//! of those triples at strength 3 besides the pairs of all parameters.
+//! of those triples at strength 3 besides the pairs of all parameters; then the rows are
+//! pinned, a second focus set makes the pin stale, and pinning again keeps the old rows.
 
 use std::collections::BTreeSet;
 
+mod common;
+
 use heddle_e2e::scratch::{CrateDef, Scratch};
+use heddle_generator::{Factor, Focus, Spec, verify};
 
 /// Five knobs of three levels at strength 2, with every triple of codec, unit and
 /// workers asked for: 27 combinations that the 9 to 15 rows of a pairwise design cannot
@@ -110,4 +114,43 @@ fn a_focus_set_runs_every_triple_and_the_report_tallies_them() {
         "{}",
         report.stdout
     );
+
+    // pinned rows: a second focus set makes them stale, pinning again keeps them all
+    // (each is still needed by some pair or triple) and adds what the new set lacks
+    let pin = krate.heddle(bin, &["pin"]);
+    assert_eq!(pin.code, Some(0), "{}", pin.stderr);
+    assert_eq!(krate.heddle(bin, &["check"]).code, Some(0));
+    let second = "focus(codec, unit, workers), focus(unit, batch, checksum)";
+    krate.write(
+        "tests/hub.rs",
+        &SUITE.replace("focus(codec, unit, workers)", second),
+    );
+    let stale = krate.heddle(bin, &["check"]);
+    assert_eq!(stale.code, Some(1), "{}", stale.stderr);
+    assert!(
+        stale.stderr.contains("the pin of `frame` is stale"),
+        "{}",
+        stale.stderr
+    );
+    let again = krate.heddle(bin, &["pin"]);
+    assert_eq!(again.code, Some(0), "{}", again.stderr);
+    assert!(
+        again.stdout.contains(&format!("kept {rows}, added")),
+        "{}",
+        again.stdout
+    );
+    let csv = krate.heddle(bin, &["show", "frame", "--format", "csv"]);
+    assert_eq!(csv.code, Some(0), "{}", csv.stderr);
+    let factors = vec![
+        Factor::new("codec", ["Codec::Plain", "Codec::Rle", "Codec::Delta"]),
+        Factor::new("unit", ["Unit::Celsius", "Unit::Fahrenheit", "Unit::Kelvin"]),
+        Factor::new("workers", ["1", "2", "4"]),
+        Factor::new("batch", ["1", "8", "64"]),
+        Factor::new("checksum", ["false", "true"]),
+    ];
+    let pinned = common::csv_rows(&csv.stdout, &factors);
+    let spec = Spec::new(factors)
+        .focus(Focus::new(vec![0, 1, 2], 3))
+        .focus(Focus::new(vec![1, 3, 4], 3));
+    verify(&spec, &pinned).expect("the new pin covers both focus sets (independent checker)");
 }
