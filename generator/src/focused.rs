@@ -65,8 +65,7 @@ pub(crate) fn generate(spec: &Spec, effort: Effort, fast_work: u64) -> Result<De
     methods.push(format!("focus rows: {} added to {}", added.len(), rows.len()));
     rows.extend(added);
     let mut method = format!("{}+focus", base.stats.method);
-    let lower = bounds::lower_bound(&levels, spec.strength, spec.lambda)
-        .max(crate::focus::lower_bound(&spec.focus, &levels));
+    let lower = bounds::spec_lower_bound(spec);
     let budget = match effort {
         Effort::Fast => FAST_BUDGET,
         Effort::Tight { budget } => budget,

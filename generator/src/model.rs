@@ -244,8 +244,7 @@ impl Spec {
                 limit: MAX_INTERACTIONS,
             });
         }
-        let lower = crate::bounds::lower_bound(&levels, self.strength, self.lambda)
-            .max(crate::focus::lower_bound(&self.focus, &levels));
+        let lower = crate::bounds::spec_lower_bound(self);
         if lower > MAX_ROWS as u128 {
             return Err(Error::TooManyRows {
                 lower_bound: lower,

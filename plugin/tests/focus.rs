@@ -58,6 +58,13 @@ fn a_focus_set_runs_every_triple_and_the_report_tallies_them() {
         "{}",
         show.stdout
     );
+    // the focus set's own counting bound, 3·3·3, is the larger one
+    assert!(show.stdout.contains("lower bound 27,"), "{}", show.stdout);
+    assert!(
+        show.stdout.contains("focus sets at their own strength"),
+        "{}",
+        show.stdout
+    );
 
     let run = krate.heddle(bin, &["test", "--quiet", "--format", "json"]);
     assert_eq!(run.code, Some(0), "{}\n{}", run.stdout, run.stderr);
