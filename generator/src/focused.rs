@@ -251,3 +251,52 @@ fn extend(
     }
     rows
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::focus::Focus;
+    use crate::verify::verify;
+
+    #[test]
+    fn both_local_searches_shrink_a_padded_focus_design_and_keep_it_valid() {
+        // the full factorial 3^4 (81 rows) covers every triple three times; both searches
+        // must bring it down to a valid design of the whole demand — every pair, and every
+        // triple of the first three factors (variable strength, Cohen, Colbourn,
+        // Collofello, Gibbons and Mugridge 2003) — never below the 27 rows those triples
+        // alone need (the counting bound)
+        let spec = Spec::numbered(&[3; 4]).focus(Focus::new(vec![0, 1, 2], 3));
+        let mut cons = Constraints::new(&[], &spec.levels());
+        let mixed = Mixed::new(&spec, &mut cons);
+        let rows: Vec<Row> = (0..81u8)
+            .map(|x| vec![x / 27, x / 9 % 3, x / 3 % 3, x % 3])
+            .collect();
+        let problem = tighten::Problem {
+            inc: &mixed.inc,
+            need: &mixed.need,
+            rows: &rows,
+            fixed: 0,
+            floor: 27,
+        };
+        let tabu = tighten::tighten(
+            &problem,
+            &mut cons,
+            &mut Rng::new(1, 2),
+            tighten::Params::new(200_000, 3, 3),
+        );
+        let annealed = crate::anneal::anneal(
+            &problem,
+            &mut cons,
+            &mut Rng::new(1, 2),
+            crate::anneal::Params::new(200_000),
+        );
+        for (name, out) in [("tabu", tabu), ("anneal", annealed)] {
+            assert!(
+                out.rows.len() < 81 && out.rows.len() >= 27,
+                "{name}: {}",
+                out.rows.len()
+            );
+            verify(&spec, &out.rows).unwrap_or_else(|v| panic!("{name}: {v}"));
+        }
+    }
+}
