@@ -715,17 +715,23 @@ fn focus_spec(run: &str) -> SpecRecord {
         .build()
 }
 
+/// A store in which run `run` of the focus suite ran its first `rows` rows, all passing.
+fn focus_run(run: &str, rows: usize) -> tempfile::TempDir {
+    let tmp = tempfile::tempdir().unwrap();
+    let s = focus_spec(run);
+    let mut lines = vec![Line::Spec(s.clone()).to_json_line()];
+    for r in 0..rows {
+        lines.push(Line::Row(row(&s, r, Outcome::Passed, run)).to_json_line());
+    }
+    write_process(tmp.path(), run, 1_700_000_000_000, &lines);
+    tmp
+}
+
 #[test]
 fn focus_interactions_count_toward_all_clear() {
     // variable strength (Cohen, Colbourn, Collofello, Gibbons and Mugridge 2003): "all
     // clear" needs every focus triple as well as every pair
-    let tmp = tempfile::tempdir().unwrap();
-    let s = focus_spec("run-all");
-    let mut lines = vec![Line::Spec(s.clone()).to_json_line()];
-    for r in 0..27 {
-        lines.push(Line::Row(row(&s, r, Outcome::Passed, "run-all")).to_json_line());
-    }
-    write_process(tmp.path(), "run-all", 1_700_000_000_000, &lines);
+    let tmp = focus_run("run-all", 27);
     let v = json(tmp.path(), &[]);
     let suite = &v["suites"][0];
     assert_eq!(suite["coverage"]["focus_interactions"], 27, "{suite}");
@@ -741,13 +747,7 @@ fn focus_interactions_count_toward_all_clear() {
 
     // a run of only the rows whose first factor is 0 or 1 (the first 18): the 9 triples
     // with f0 = 2 did not run, so it is not all clear
-    let tmp = tempfile::tempdir().unwrap();
-    let s = focus_spec("run-part");
-    let mut lines = vec![Line::Spec(s.clone()).to_json_line()];
-    for r in 0..18 {
-        lines.push(Line::Row(row(&s, r, Outcome::Passed, "run-part")).to_json_line());
-    }
-    write_process(tmp.path(), "run-part", 1_700_000_000_000, &lines);
+    let tmp = focus_run("run-part", 18);
     let v = json(tmp.path(), &[]);
     let suite = &v["suites"][0];
     assert_eq!(suite["coverage"]["focus_at_lambda"], 18, "{suite}");
