@@ -258,11 +258,13 @@ fn the_first_command_exits_zero_names_both_defects_and_writes_a_page() {
             .lines()
             .nth(1)
             .unwrap()
-            .contains("fails sometimes"),
+            .contains("flaky"),
         "{stdout}"
     );
     assert!(
-        stdout.contains("flaky: passed and failed\n    workers = 4, flush = Flush::OnClose: passed"),
+        stdout.contains(
+            "flaky: a row of it both passed and failed\n    workers = 4, flush = Flush::OnClose: passed"
+        ),
         "{stdout}"
     );
     let page = root().join(

@@ -156,8 +156,8 @@ fn instances() -> Vec<Instance> {
         }
     }
     // ovoids of PG(3, q): OA(q^4; 3, q^2 + 1, q) of index q, the counting bound at λ = q
-    // (issue 13 quotes OA(q^3; 3, q^2 + 1, q), but an index-1 array of strength 3 has at
-    // most q + 2 columns by Bush's bound, Bush 1952; the ovoid's index is q)
+    // (an index-1 array of strength 3 has at most q + 2 columns by Bush's bound, Bush
+    // 1952, so the ovoid's q^2 + 1 columns need index q)
     for q in [3usize, 4, 5, 7] {
         out.push(Instance {
             group: "exact",

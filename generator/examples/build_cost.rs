@@ -6,7 +6,7 @@
 
 use std::time::Instant;
 
-use heddle_generator::{Effort, Spec, generate};
+use heddle_generator::{Effort, Focus, Spec, generate};
 
 fn spec(name: &str, levels: &[usize], t: usize, lambda: u32) -> (String, Spec) {
     (
@@ -22,7 +22,7 @@ fn main() {
         .collect();
     let mixed17: Vec<usize> = [4, 3, 3, 2, 2, 2, 5, 3, 4, 3, 2, 2, 3, 4, 2, 3, 2].to_vec();
     let specs = vec![
-        // the three of issue 13
+        // three specs that once cost a debug build minutes
         spec("3^20 t=4", &[3; 20], 4, 1),
         spec("4^30 t=4", &[4; 30], 4, 1),
         spec("17 mixed factors t=4 l=3", &mixed17, 4, 3),
@@ -46,6 +46,15 @@ fn main() {
             &[4, 3, 3, 2, 2, 2, 5, 3],
             2,
             2,
+        ),
+        // focus sets (variable strength): the base design, then the focus rows and search
+        (
+            "4 3 3 2 2 2 5 3 t=2, focus of 3 at 3 (macro-sized)".to_string(),
+            Spec::numbered(&[4, 3, 3, 2, 2, 2, 5, 3]).focus(Focus::new(vec![0, 1, 6], 3)),
+        ),
+        (
+            "3^30 t=2, focus of 6 at 4".to_string(),
+            Spec::numbered(&[3; 30]).focus(Focus::new((0..6).collect(), 4)),
         ),
     ];
     let mut worst = (0.0f64, String::new());

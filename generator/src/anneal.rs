@@ -52,8 +52,8 @@ impl Params {
 
 struct Anneal<'a> {
     inc: &'a Incidence,
-    possible: &'a [bool],
-    lambda: u16,
+    /// Rows needed per interaction (λ of its set, 0 where impossible).
+    need: &'a [u16],
     k: usize,
     n: usize,
     fixed: usize,
@@ -66,23 +66,22 @@ struct Anneal<'a> {
 }
 
 impl<'a> Anneal<'a> {
-    fn new(inc: &'a Incidence, possible: &'a [bool], lambda: u32, rows: &[Row], fixed: usize) -> Self {
+    fn new(inc: &'a Incidence, need: &'a [u16], rows: &[Row], fixed: usize) -> Self {
         let k = rows.first().map_or(0, Vec::len);
         let mut a = Anneal {
             inc,
-            possible,
-            lambda: lambda.min(u16::MAX as u32) as u16,
+            need,
             k,
             n: 0,
             fixed,
             cells: Vec::with_capacity(rows.len() * k),
-            count: vec![0; possible.len()],
-            short: Shortfall::new(possible.len()),
+            count: vec![0; need.len()],
+            short: Shortfall::new(need.len()),
             cost: 0,
         };
-        for (i, &p) in possible.iter().enumerate() {
-            if p {
-                a.cost += a.lambda as u64;
+        for (i, &n) in need.iter().enumerate() {
+            if n > 0 {
+                a.cost += n as u64;
                 a.short.add(i);
             }
         }
@@ -108,9 +107,10 @@ impl<'a> Anneal<'a> {
     fn add(&mut self, i: usize) {
         let c = self.count[i];
         self.count[i] = c.saturating_add(1);
-        if c < self.lambda && self.possible[i] {
+        let need = self.need[i];
+        if c < need {
             self.cost -= 1;
-            if c + 1 == self.lambda {
+            if c + 1 == need {
                 self.short.remove(i);
             }
         }
@@ -120,9 +120,10 @@ impl<'a> Anneal<'a> {
     fn remove_one(&mut self, i: usize) {
         let c = self.count[i];
         self.count[i] = c - 1;
-        if c <= self.lambda && self.possible[i] {
+        let need = self.need[i];
+        if c <= need && need > 0 {
             self.cost += 1;
-            if c == self.lambda {
+            if c == need {
                 self.short.add(i);
             }
         }
@@ -150,7 +151,7 @@ impl<'a> Anneal<'a> {
         (0..self.inc.sets())
             .filter(|&rank| {
                 let i = self.inc.index(rank, row);
-                self.possible[i] && self.count[i] <= self.lambda
+                self.need[i] > 0 && self.count[i] <= self.need[i]
             })
             .count() as u64
     }
@@ -191,22 +192,21 @@ pub(crate) fn anneal(
 ) -> Outcome {
     let floor = problem.floor();
     // counters are 16 bits wide (λ ≤ MAX_LAMBDA keeps this from happening)
-    if problem.rows.len() <= floor || problem.lambda >= u16::MAX as u32 {
+    if problem.rows.len() <= floor || problem.need.contains(&u16::MAX) {
         return problem.unchanged();
     }
     let Problem {
         inc,
-        possible,
-        lambda,
+        need,
         rows,
         fixed,
         ..
     } = *problem;
-    let mut s = Anneal::new(inc, possible, lambda, rows, fixed);
+    let mut s = Anneal::new(inc, need, rows, fixed);
     let mut best = rows.to_vec();
     s.remove_cheapest(rng, params.removal_sample);
     let k = s.k;
-    let per_column = inc.through(0).len() as u64;
+    let per_column = inc.widest_through() as u64;
     let charge = per_column.div_ceil(MOVE_SETS).max(1);
     let mut moves = 0u64;
     let mut since = 0u64;
@@ -301,12 +301,11 @@ mod tests {
         let rows: Vec<Row> = (0..81u8)
             .map(|x| vec![x / 27, x / 9 % 3, x / 3 % 3, x % 3])
             .collect();
-        let possible = vec![true; lay.total()];
+        let need = vec![1u16; lay.total()];
         let mut cons = Constraints::new(&[], &levels);
         let problem = Problem {
             inc: &inc,
-            possible: &possible,
-            lambda: 1,
+            need: &need,
             rows: &rows,
             fixed: 0,
             floor: 9,
@@ -329,6 +328,7 @@ mod tests {
         let excludes = [Expr::is(0, 1).and(Expr::is(1, 1))];
         let mut cons = Constraints::new(&excludes, &levels);
         let (possible, _) = cons.possible(&lay);
+        let need: Vec<u16> = possible.iter().map(|&p| u16::from(p)).collect();
         // every allowed row once: valid, with slack
         let rows: Vec<Row> = (0..32u8)
             .map(|x| (0..5).map(|c| x >> c & 1).collect::<Row>())
@@ -339,8 +339,7 @@ mod tests {
         let out = anneal(
             &Problem {
                 inc: &inc,
-                possible: &possible,
-                lambda: 1,
+                need: &need,
                 rows: &rows,
                 fixed: 1,
                 floor: 4,

@@ -40,7 +40,7 @@ pub fn possible_lower_bound(spec: &Spec) -> u128 {
     let levels = spec.levels();
     let t = spec.strength.min(levels.len());
     if spec.excludes.is_empty() || t == 0 {
-        return lower_bound(&levels, t, spec.lambda);
+        return spec_lower_bound(spec);
     }
     let layout = Layout::new(&levels, t);
     let (possible, _) = Constraints::new(&spec.excludes, &levels).possible(&layout);
@@ -55,6 +55,21 @@ pub fn possible_lower_bound(spec: &Spec) -> u128 {
         .max()
         .unwrap_or(0);
     (widest as u128).saturating_mul(u128::from(spec.lambda))
+}
+
+/// The counting bound of a whole spec, excludes aside: [`lower_bound`] at its strength,
+/// or a focus set's own (λ times the product of its `strength` largest level counts)
+/// where larger.
+///
+/// ```
+/// use heddle_generator::{Focus, Spec, bounds};
+/// let spec = Spec::numbered(&[3; 6]).focus(Focus::new(vec![0, 1, 2], 3).lambda(2));
+/// assert_eq!(bounds::spec_lower_bound(&spec), 54);
+/// ```
+pub fn spec_lower_bound(spec: &Spec) -> u128 {
+    let levels = spec.levels();
+    let t = spec.strength.min(levels.len());
+    lower_bound(&levels, t, spec.lambda).max(crate::focus::lower_bound(&spec.focus, &levels))
 }
 
 /// Number of t-sets of columns grouped by the product of their level counts.

@@ -15,7 +15,8 @@ use crate::constraints::Constraints;
 use crate::demand::Demand;
 use crate::error::Error;
 use crate::factor::{Row, UNSET};
-use crate::interactions::{Layout, for_each_subset};
+use crate::focused::Mixed;
+use crate::interactions::{Layout, Numbering, for_each_subset};
 use crate::model::Spec;
 
 /// Completed rows, and what became of the others.
@@ -75,12 +76,46 @@ pub fn complete(spec: &Spec, partial: &[Row]) -> Result<Completion, Error> {
 
 /// [`complete`] on a validated spec and rows; with `keep_redundant`, rows that add no
 /// coverage are kept (required rows stay required).
+/// With focus sets, the demand is the whole one: every base t-set at λ and every focus
+/// column set at its own index, so rows a focus set needs are neither filled against it
+/// nor dropped as redundant.
 pub(crate) fn complete_valid(spec: &Spec, partial: &[Row], keep_redundant: bool) -> Completion {
     let levels = spec.levels();
-    let layout = Layout::new(&levels, spec.strength);
     let mut cons = Constraints::new(&spec.excludes, &levels);
-    let (possible, _) = cons.possible(&layout);
-    let mut demand = Demand::new(&possible, spec.lambda);
+    if spec.focus.is_empty() {
+        let layout = Layout::new(&levels, spec.strength);
+        let (possible, _) = cons.possible(&layout);
+        let demand = Demand::new(&possible, spec.lambda);
+        let gain =
+            |row: &[u8], c: usize, others: &[usize], need: &[u16]| column_gain(&layout, row, c, others, need);
+        fill(&layout, demand, &mut cons, &levels, partial, keep_redundant, gain)
+    } else {
+        let mixed = Mixed::new(spec, &mut cons);
+        let demand = Demand::from_need(mixed.need.clone());
+        let gain = |row: &[u8], c: usize, _: &[usize], need: &[u16]| mixed.gain_at(row, c, need, 0) as usize;
+        fill(
+            &mixed.inc,
+            demand,
+            &mut cons,
+            &levels,
+            partial,
+            keep_redundant,
+            gain,
+        )
+    }
+}
+
+/// The completion loop of [`complete_valid`] over a numbering, its demand and the gain of
+/// a level in a column (`gain(row, column, other set columns, need)`).
+fn fill(
+    numbering: &impl Numbering,
+    mut demand: Demand,
+    cons: &mut Constraints,
+    levels: &[usize],
+    partial: &[Row],
+    keep_redundant: bool,
+    gain: impl Fn(&[u8], usize, &[usize], &[u16]) -> usize,
+) -> Completion {
     let mut out = Completion::default();
     let mut others = Vec::with_capacity(levels.len());
     'rows: for (i, p) in partial.iter().enumerate() {
@@ -101,7 +136,7 @@ pub(crate) fn complete_valid(spec: &Spec, partial: &[Row], keep_redundant: bool)
                 if !cons.extendable(&row) {
                     continue;
                 }
-                let g = column_gain(&layout, &row, c, &others, &demand.need);
+                let g = gain(&row, c, &others, &demand.need);
                 if best.is_none_or(|(bg, _)| g > bg) {
                     best = Some((g, l));
                 }
@@ -115,11 +150,11 @@ pub(crate) fn complete_valid(spec: &Spec, partial: &[Row], keep_redundant: bool)
                 }
             }
         }
-        if !keep_redundant && demand.gain(&layout, &row) == 0 {
+        if !keep_redundant && demand.gain(numbering, &row) == 0 {
             out.redundant.push(i);
             continue;
         }
-        demand.cover(&layout, &row);
+        demand.cover(numbering, &row);
         out.rows.push(row);
     }
     out

@@ -9,6 +9,7 @@ use std::collections::HashMap;
 
 use crate::expr::Expr;
 use crate::factor::UNSET;
+use crate::incidence::Incidence;
 use crate::interactions::Layout;
 
 struct Component {
@@ -181,38 +182,68 @@ impl Constraints {
             return (mask, 0);
         }
         let t = layout.t;
-        let k = layout.columns();
         let mut impossible = 0u64;
         let mut cols: Vec<usize> = (0..t).collect();
-        let mut partial = vec![UNSET; k];
+        let mut partial = vec![UNSET; layout.columns()];
         for rank in 0..layout.sets() {
-            if cols.iter().any(|&c| self.involves(c)) {
-                let off = layout.offset(rank);
-                let mut lv = vec![0u8; t];
-                for slot in mask.iter_mut().skip(off).take(layout.width(rank)) {
-                    for (i, &c) in cols.iter().enumerate() {
-                        partial[c] = if self.involves(c) { lv[i] } else { UNSET };
-                    }
-                    if !self.extendable(&partial) {
-                        *slot = false;
-                        impossible += 1;
-                    }
-                    // advance mixed radix, first column fastest
-                    for (i, &c) in cols.iter().enumerate() {
-                        lv[i] += 1;
-                        if (lv[i] as usize) < layout.levels[c] {
-                            break;
-                        }
-                        lv[i] = 0;
-                    }
-                }
-                for &c in &cols {
-                    partial[c] = UNSET;
-                }
-            }
+            let off = layout.offset(rank);
+            let slots = &mut mask[off..off + layout.width(rank)];
+            impossible += self.mark(&cols, &layout.levels, slots, &mut partial);
             crate::interactions::next_colex(&mut cols);
         }
         (mask, impossible)
+    }
+
+    /// [`Constraints::possible`] for every set of an incidence table (sets of any sizes).
+    pub fn possible_in(&mut self, inc: &Incidence) -> (Vec<bool>, u64) {
+        let mut mask = vec![true; inc.total()];
+        if self.excludes.is_empty() {
+            return (mask, 0);
+        }
+        let levels = self.levels.clone();
+        let mut impossible = 0u64;
+        let mut partial = vec![UNSET; levels.len()];
+        let mut cols = Vec::new();
+        for rank in 0..inc.sets() {
+            cols.clear();
+            cols.extend(inc.cols(rank).iter().map(|&c| c as usize));
+            let off = inc.offset(rank);
+            let slots = &mut mask[off..off + inc.width(rank)];
+            impossible += self.mark(&cols, &levels, slots, &mut partial);
+        }
+        (mask, impossible)
+    }
+
+    /// Clears the slot of every combination of levels on `cols` (mixed radix, first column
+    /// fastest) that no allowed row contains; returns how many. `partial` is all unset
+    /// before and after.
+    fn mark(&mut self, cols: &[usize], levels: &[usize], slots: &mut [bool], partial: &mut [u8]) -> u64 {
+        if !cols.iter().any(|&c| self.involves(c)) {
+            return 0;
+        }
+        let mut impossible = 0;
+        let mut lv = vec![0u8; cols.len()];
+        for slot in slots.iter_mut() {
+            for (i, &c) in cols.iter().enumerate() {
+                partial[c] = if self.involves(c) { lv[i] } else { UNSET };
+            }
+            if !self.extendable(partial) {
+                *slot = false;
+                impossible += 1;
+            }
+            // advance mixed radix, first column fastest
+            for (i, &c) in cols.iter().enumerate() {
+                lv[i] += 1;
+                if (lv[i] as usize) < levels[c] {
+                    break;
+                }
+                lv[i] = 0;
+            }
+        }
+        for &c in cols {
+            partial[c] = UNSET;
+        }
+        impossible
     }
 }
 

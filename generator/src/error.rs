@@ -114,6 +114,45 @@ pub enum Error {
         /// Position among the required rows.
         row: usize,
     },
+    /// A focus set names a factor index the spec does not have.
+    FocusUnknownFactor {
+        /// Position of the focus set.
+        focus: usize,
+        /// Factor index used.
+        factor: usize,
+    },
+    /// A focus set names a factor twice.
+    FocusRepeatedFactor {
+        /// Position of the focus set.
+        focus: usize,
+        /// The factor.
+        factor: String,
+    },
+    /// A focus set's strength is not above the spec's.
+    FocusStrengthNotAbove {
+        /// Position of the focus set.
+        focus: usize,
+        /// Its strength.
+        strength: usize,
+        /// The spec's strength.
+        base: usize,
+    },
+    /// A focus set's strength is above its number of factors.
+    FocusStrengthAboveSize {
+        /// Position of the focus set.
+        focus: usize,
+        /// Its strength.
+        strength: usize,
+        /// Its number of factors.
+        size: usize,
+    },
+    /// More focus sets than the engine accepts.
+    TooManyFocusSets {
+        /// Focus sets given.
+        count: usize,
+        /// The limit.
+        limit: usize,
+    },
     /// The constraints exclude every row.
     NothingAllowed,
     /// Too many interactions to track in bounded memory.
@@ -198,11 +237,39 @@ impl fmt::Display for Error {
                 "required row #{} cannot be completed: the excludes rule out every level of its unset cells",
                 row + 1
             ),
+            Error::FocusUnknownFactor { focus, factor } => write!(
+                f,
+                "focus set #{} names factor #{factor}, which does not exist",
+                focus + 1
+            ),
+            Error::FocusRepeatedFactor { focus, factor } => {
+                write!(f, "focus set #{} names `{factor}` twice", focus + 1)
+            }
+            Error::FocusStrengthNotAbove {
+                focus,
+                strength,
+                base,
+            } => write!(
+                f,
+                "focus set #{} has strength {strength}, not above the strength {base} of all factors",
+                focus + 1
+            ),
+            Error::FocusStrengthAboveSize {
+                focus,
+                strength,
+                size,
+            } => write!(
+                f,
+                "focus set #{} has strength {strength} over only {size} factors",
+                focus + 1
+            ),
+            Error::TooManyFocusSets { count, limit } => {
+                write!(f, "{count} focus sets given, at most {limit} are supported")
+            }
             Error::NothingAllowed => write!(f, "the excludes rule out every row"),
             Error::TooLarge { interactions, limit } => write!(
                 f,
-                "the spec has {interactions} t-way interactions, more than the limit of {limit}; \
-                 lower the strength or the number of levels"
+                "the spec has {interactions} t-way interactions, more than the limit of {limit}"
             ),
             Error::TooManyRows { lower_bound, limit } => write!(
                 f,
@@ -239,6 +306,13 @@ impl Error {
             Error::RequiredRowLevel { .. } => "use only declared levels in required rows",
             Error::RequiredRowExcluded { .. } => "drop the row or loosen the exclude",
             Error::RequiredRowNotCompletable { .. } => "set the unset cells yourself or loosen the excludes",
+            Error::FocusUnknownFactor { .. } => "name only declared factors in a focus set",
+            Error::FocusRepeatedFactor { .. } => "name each factor once in a focus set",
+            Error::FocusStrengthNotAbove { .. } => {
+                "give the focus set a strength above the base strength, or drop it"
+            }
+            Error::FocusStrengthAboveSize { .. } => "name more factors or lower the focus strength",
+            Error::TooManyFocusSets { .. } => "merge focus sets that share factors",
             Error::NothingAllowed => "loosen the excludes so that at least one combination stays allowed",
             Error::TooLarge { .. } => "lower the strength or the number of levels",
             Error::TooManyRows { .. } => "lower lambda, the strength or the number of levels",

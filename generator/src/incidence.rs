@@ -1,17 +1,25 @@
 //! The t-sets through every column, laid out flat, so a local search that changes one cell
 //! can visit exactly the interactions that change (and nothing else) without recomputing
 //! ranks: that is what makes its cost updates incremental.
+//!
+//! The sets need not all have one size: a spec with focus sets (variable strength, see
+//! `crate::focus`) lists every base t-set and then every focus set, each numbered by its
+//! position ("rank") in that list.
 
-use crate::interactions::{Layout, next_colex};
+use crate::interactions::{Layout, Numbering, next_colex};
 
-/// For every t-set (by rank): its columns and their mixed-radix weights; for every column:
-/// the ranks of the t-sets through it.
+/// For every column set (by rank): its columns and their mixed-radix weights; for every
+/// column: the ranks of the sets through it.
 #[derive(Clone, Debug)]
 pub struct Incidence {
+    /// Size of the largest set.
     t: usize,
     levels: Vec<usize>,
     cols: Vec<u16>,
     weights: Vec<u32>,
+    /// Where each set's columns start in `cols` and `weights`; one extra entry at the end.
+    starts: Vec<u32>,
+    /// First interaction index of each set; one extra entry holds the total.
     offsets: Vec<u32>,
     through_start: Vec<u32>,
     through: Vec<u32>,
@@ -22,55 +30,54 @@ pub struct Incidence {
 impl Incidence {
     /// Builds the table for a layout (memory: about `t·(2+4+4)` bytes per t-set).
     pub fn new(layout: &Layout) -> Self {
-        let t = layout.t;
-        let k = layout.columns();
-        let sets = layout.sets();
-        let mut cols = Vec::with_capacity(sets * t);
-        let mut weights = Vec::with_capacity(sets * t);
-        let mut offsets = Vec::with_capacity(sets);
-        let mut per_col = vec![0u32; k + 1];
-        let mut cur: Vec<usize> = (0..t).collect();
-        for rank in 0..sets {
-            offsets.push(layout.offset(rank) as u32);
-            let mut w = 1u32;
-            for &c in &cur {
-                // k ≤ MAX_FACTORS = 4096 fits u16; weights are below the interaction count
-                cols.push(c as u16);
-                weights.push(w);
-                w *= layout.levels[c] as u32;
-                per_col[c + 1] += 1;
-            }
-            next_colex(&mut cur);
-        }
-        for c in 0..k {
-            per_col[c + 1] += per_col[c];
-        }
-        let mut fill = per_col.clone();
-        let mut through = vec![0u32; sets * t];
-        let mut through_weight = vec![0u32; sets * t];
-        for rank in 0..sets {
-            for j in rank * t..rank * t + t {
-                let c = cols[j] as usize;
-                through[fill[c] as usize] = rank as u32;
-                through_weight[fill[c] as usize] = weights[j];
-                fill[c] += 1;
-            }
-        }
-        Incidence {
-            t,
-            levels: layout.levels.clone(),
-            cols,
-            weights,
-            offsets,
-            through_start: per_col,
-            through,
-            through_weight,
-        }
+        Self::with_extra(layout, &[])
     }
 
-    /// Strength.
+    /// Builds the table for every t-set of a layout (in rank order) followed by `extra`
+    /// sorted column sets of any sizes (the focus sets of a variable-strength spec).
+    pub fn with_extra(layout: &Layout, extra: &[Vec<usize>]) -> Self {
+        let t = layout.t;
+        let sets = layout.sets();
+        let cells = sets * t + extra.iter().map(Vec::len).sum::<usize>();
+        let mut b = Builder::new(&layout.levels, sets + extra.len(), cells);
+        let mut cur: Vec<usize> = (0..t).collect();
+        for _ in 0..sets {
+            b.push(&cur);
+            next_colex(&mut cur);
+        }
+        for set in extra {
+            b.push(set);
+        }
+        b.finish()
+    }
+
+    /// Size of the largest set (the strength, when all have one size).
     pub fn t(&self) -> usize {
         self.t
+    }
+
+    /// Most sets through any one column.
+    pub fn widest_through(&self) -> usize {
+        self.through_start
+            .windows(2)
+            .map(|w| (w[1] - w[0]) as usize)
+            .max()
+            .unwrap_or(0)
+    }
+
+    /// Number of interactions.
+    pub fn total(&self) -> usize {
+        *self.offsets.last().unwrap_or(&0) as usize
+    }
+
+    /// Number of level combinations of the set with this rank.
+    pub fn width(&self, rank: usize) -> usize {
+        (self.offsets[rank + 1] - self.offsets[rank]) as usize
+    }
+
+    /// Number of columns.
+    pub fn columns(&self) -> usize {
+        self.levels.len()
     }
 
     /// Level count of column `c`.
@@ -78,19 +85,24 @@ impl Incidence {
         self.levels[c]
     }
 
-    /// Number of t-sets.
+    /// Number of sets.
     pub fn sets(&self) -> usize {
-        self.offsets.len()
+        self.offsets.len() - 1
     }
 
-    /// Columns of the t-set with this rank, ascending.
+    /// Where the set with this rank lies in `cols` and `weights`.
+    fn span(&self, rank: usize) -> std::ops::Range<usize> {
+        self.starts[rank] as usize..self.starts[rank + 1] as usize
+    }
+
+    /// Columns of the set with this rank, ascending.
     pub fn cols(&self, rank: usize) -> &[u16] {
-        &self.cols[rank * self.t..rank * self.t + self.t]
+        &self.cols[self.span(rank)]
     }
 
-    /// Mixed-radix weight of each column of the t-set with this rank.
+    /// Mixed-radix weight of each column of the set with this rank.
     pub fn weights(&self, rank: usize) -> &[u32] {
-        &self.weights[rank * self.t..rank * self.t + self.t]
+        &self.weights[self.span(rank)]
     }
 
     /// First interaction index of the t-set with this rank.
@@ -110,15 +122,14 @@ impl Incidence {
 
     /// Index of the interaction a full row shows on the t-set with this rank.
     pub fn index(&self, rank: usize, row: &[u8]) -> usize {
-        let base = rank * self.t;
         let mut idx = self.offsets[rank] as usize;
-        for j in 0..self.t {
-            idx += row[self.cols[base + j] as usize] as usize * self.weights[base + j] as usize;
+        for j in self.span(rank) {
+            idx += row[self.cols[j] as usize] as usize * self.weights[j] as usize;
         }
         idx
     }
 
-    /// Rank of the t-set holding interaction `index`.
+    /// Rank of the set holding interaction `index`.
     pub fn rank_of(&self, index: usize) -> usize {
         self.offsets.partition_point(|&o| o as usize <= index) - 1
     }
@@ -135,6 +146,106 @@ impl Incidence {
             cols.push(c);
             levels.push((rest % lv[c]) as u8);
             rest /= lv[c];
+        }
+    }
+}
+
+impl Numbering for Incidence {
+    fn total(&self) -> usize {
+        Incidence::total(self)
+    }
+
+    fn sets(&self) -> usize {
+        Incidence::sets(self)
+    }
+
+    fn for_each_in_row(&self, row: &[u8], mut f: impl FnMut(usize)) {
+        for rank in 0..Incidence::sets(self) {
+            f(self.index(rank, row));
+        }
+    }
+}
+
+/// Gathers the sets one by one, then lays out the per-column tables.
+struct Builder<'a> {
+    levels: &'a [usize],
+    t: usize,
+    cols: Vec<u16>,
+    weights: Vec<u32>,
+    starts: Vec<u32>,
+    offsets: Vec<u32>,
+    per_col: Vec<u32>,
+}
+
+impl<'a> Builder<'a> {
+    fn new(levels: &'a [usize], sets: usize, cells: usize) -> Self {
+        let mut starts = Vec::with_capacity(sets + 1);
+        starts.push(0);
+        let mut offsets = Vec::with_capacity(sets + 1);
+        offsets.push(0);
+        Builder {
+            levels,
+            t: 0,
+            cols: Vec::with_capacity(cells),
+            weights: Vec::with_capacity(cells),
+            starts,
+            offsets,
+            per_col: vec![0u32; levels.len() + 1],
+        }
+    }
+
+    /// Adds a sorted set of columns (its interactions follow the previous set's).
+    fn push(&mut self, set: &[usize]) {
+        let mut w = 1u32;
+        for &c in set {
+            // k ≤ MAX_FACTORS = 4096 fits u16; weights are below the interaction count
+            self.cols.push(c as u16);
+            self.weights.push(w);
+            w *= self.levels[c] as u32;
+            self.per_col[c + 1] += 1;
+        }
+        self.t = self.t.max(set.len());
+        // the spec's interaction count was checked to fit u32
+        self.starts.push(self.cols.len() as u32);
+        let last = *self.offsets.last().unwrap_or(&0);
+        self.offsets.push(last + w);
+    }
+
+    fn finish(self) -> Incidence {
+        let Builder {
+            levels,
+            t,
+            cols,
+            weights,
+            starts,
+            offsets,
+            mut per_col,
+        } = self;
+        let k = levels.len();
+        for c in 0..k {
+            per_col[c + 1] += per_col[c];
+        }
+        let mut fill = per_col.clone();
+        let mut through = vec![0u32; cols.len()];
+        let mut through_weight = vec![0u32; cols.len()];
+        for rank in 0..starts.len() - 1 {
+            for j in starts[rank] as usize..starts[rank + 1] as usize {
+                let c = cols[j] as usize;
+                through[fill[c] as usize] = rank as u32;
+                through_weight[fill[c] as usize] = weights[j];
+                fill[c] += 1;
+            }
+        }
+        Incidence {
+            t,
+            levels: levels.to_vec(),
+            cols,
+            weights,
+            starts,
+            offsets,
+            through_start: per_col,
+            through,
+            through_weight,
         }
     }
 }

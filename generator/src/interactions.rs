@@ -19,6 +19,33 @@ pub fn count(levels: &[usize], t: usize) -> u128 {
     e[t]
 }
 
+/// What the finishing passes and the demand counters need of a numbering of interactions:
+/// the uniform one of [`Layout`] (every t-set) or the explicit list of an
+/// [`crate::incidence::Incidence`] (base t-sets and focus sets of other sizes).
+pub trait Numbering {
+    /// Number of interactions.
+    fn total(&self) -> usize;
+    /// Number of column sets.
+    fn sets(&self) -> usize;
+    /// Calls `f` with the index of every interaction a full row covers, one per set, in
+    /// set order.
+    fn for_each_in_row(&self, row: &[u8], f: impl FnMut(usize));
+}
+
+impl Numbering for Layout {
+    fn total(&self) -> usize {
+        Layout::total(self)
+    }
+
+    fn sets(&self) -> usize {
+        Layout::sets(self)
+    }
+
+    fn for_each_in_row(&self, row: &[u8], f: impl FnMut(usize)) {
+        Layout::for_each_in_row(self, row, f)
+    }
+}
+
 /// Dense numbering of the t-way interactions of one set of level counts.
 #[derive(Clone, Debug)]
 pub struct Layout {

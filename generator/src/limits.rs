@@ -11,6 +11,8 @@ pub const MAX_LEVELS: usize = 255;
 pub const MAX_FACTORS: usize = 4096;
 /// Highest strength accepted.
 pub const MAX_STRENGTH: usize = 8;
+/// Most focus sets in one spec (each is checked and counted separately).
+pub const MAX_FOCUS_SETS: usize = 64;
 /// Highest index accepted; per-interaction counters are 16 bits wide.
 pub const MAX_LAMBDA: u32 = 1000;
 /// Most t-way interactions the engine tracks; each costs some bytes of counters (about

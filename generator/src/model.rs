@@ -7,6 +7,7 @@ use crate::construct::Construction;
 use crate::error::Error;
 use crate::expr::Expr;
 use crate::factor::{Factor, Row, UNSET};
+use crate::focus::Focus;
 use crate::limits::{
     MAX_FACTORS, MAX_FORMULA_DEPTH, MAX_INTERACTIONS, MAX_LEVELS, MAX_ROWS, check_lambda, check_strength,
 };
@@ -42,6 +43,10 @@ pub struct Spec {
     /// [`crate::complete`] does, the cell at the level that covers most of what the rows
     /// before it left short of λ, among the levels the excludes allow.
     pub required: Vec<Row>,
+    /// Subsets of factors covered at a higher strength than [`Spec::strength`] (variable
+    /// strength): the design covers every t-set at λ and, in addition, every s-set of each
+    /// focus set at its own strength s and index.
+    pub focus: Vec<Focus>,
 }
 
 impl Spec {
@@ -54,6 +59,7 @@ impl Spec {
             seed: 0,
             excludes: Vec::new(),
             required: Vec::new(),
+            focus: Vec::new(),
         }
     }
 
@@ -104,6 +110,12 @@ impl Spec {
     /// [`crate::complete`]) before it counts the row.
     pub fn require(mut self, row: Row) -> Self {
         self.required.push(row);
+        self
+    }
+
+    /// Adds a focus set, covered at its own higher strength.
+    pub fn focus(mut self, focus: Focus) -> Self {
+        self.focus.push(focus);
         self
     }
 
@@ -219,14 +231,20 @@ impl Spec {
                     level,
                 })?;
         }
-        let interactions = crate::interactions::count(&levels, self.strength);
+        crate::focus::check_count(self.focus.len())?;
+        let names: Vec<&str> = self.factors.iter().map(|f| f.name.as_str()).collect();
+        for (i, f) in self.focus.iter().enumerate() {
+            f.validate(i, &names, self.strength)?;
+        }
+        let interactions = crate::interactions::count(&levels, self.strength)
+            .saturating_add(crate::focus::count(&self.focus, &levels));
         if interactions > MAX_INTERACTIONS as u128 && self.closed_form().is_none() {
             return Err(Error::TooLarge {
                 interactions,
                 limit: MAX_INTERACTIONS,
             });
         }
-        let lower = crate::bounds::lower_bound(&levels, self.strength, self.lambda);
+        let lower = crate::bounds::spec_lower_bound(self);
         if lower > MAX_ROWS as u128 {
             return Err(Error::TooManyRows {
                 lower_bound: lower,
@@ -241,7 +259,7 @@ impl Spec {
     /// (e.g. Bose's OA(16384; 2, 129, 128) for 128^80 at t = 2). Such a spec needs no
     /// counter per interaction, so the cap does not refuse it; no search runs on it.
     pub(crate) fn closed_form(&self) -> Option<Construction> {
-        if !self.excludes.is_empty() || !self.required.is_empty() {
+        if !self.excludes.is_empty() || !self.required.is_empty() || !self.focus.is_empty() {
             return None;
         }
         let levels = self.levels();

@@ -6,17 +6,11 @@
 use std::cmp::Reverse;
 use std::collections::BinaryHeap;
 
-use crate::interactions::Layout;
+use crate::interactions::{Layout, Numbering};
 
-/// Removes rows (never the first `fixed`) whose every interaction is covered more than λ
-/// times by the others; later rows are tried first.
-pub fn drop_redundant(
-    layout: &Layout,
-    possible: &[bool],
-    lambda: u32,
-    rows: &mut Vec<Vec<u8>>,
-    fixed: usize,
-) {
+/// Removes rows (never the first `fixed`) whose every interaction is covered more than
+/// its demand `need` (λ, or 0 where impossible) by the others; later rows are tried first.
+pub fn drop_redundant(layout: &impl Numbering, need: &[u16], rows: &mut Vec<Vec<u8>>, fixed: usize) {
     let mut count = vec![0u32; layout.total()];
     for row in rows.iter() {
         layout.for_each_in_row(row, |i| count[i] += 1);
@@ -24,7 +18,8 @@ pub fn drop_redundant(
     let mut keep = vec![true; rows.len()];
     for r in (fixed..rows.len()).rev() {
         let mut needed = false;
-        layout.for_each_in_row(&rows[r], |i| needed |= possible[i] && count[i] <= lambda);
+        // the row itself is among the count: an impossible interaction (need 0) never holds it
+        layout.for_each_in_row(&rows[r], |i| needed |= count[i] <= u32::from(need[i]));
         if !needed {
             keep[r] = false;
             layout.for_each_in_row(&rows[r], |i| count[i] -= 1);
@@ -44,15 +39,13 @@ pub fn drop_redundant(
 /// its fresh gain is within 1/16 of the best stale gain, which bounds the re-evaluations;
 /// past [`SHOWN_LIMIT`] the rows keep their order (the greedy's, which already took the
 /// best of its candidate rows at every step), as re-evaluating gains would cost minutes.
-pub fn order_by_gain(layout: &Layout, possible: &[bool], lambda: u32, rows: &mut [Vec<u8>], fixed: usize) {
+/// `need` is the demand per interaction (λ, or 0 where impossible).
+pub fn order_by_gain(layout: &impl Numbering, need: &[u16], rows: &mut [Vec<u8>], fixed: usize) {
     let cells = (rows.len() as u64).saturating_mul(layout.sets() as u64);
     if cells > SHOWN_LIMIT {
         return;
     }
-    let mut need: Vec<u16> = possible
-        .iter()
-        .map(|&p| if p { lambda as u16 } else { 0 })
-        .collect();
+    let mut need = need.to_vec();
     for row in &rows[..fixed] {
         layout.for_each_in_row(row, |i| need[i] = need[i].saturating_sub(1));
     }

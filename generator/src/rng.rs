@@ -48,4 +48,6 @@ pub mod stream {
     pub const TIGHTEN: u64 = 2;
     /// Constructions that randomise (level relabelling, column choice).
     pub const CONSTRUCT: u64 = 3;
+    /// The rows added for focus sets, and the search over the whole demand after them.
+    pub const FOCUS: u64 = 4;
 }

@@ -115,13 +115,12 @@ pub(crate) fn rows_of(cells: &[u8], k: usize) -> Vec<Row> {
     cells.chunks(k.max(1)).map(<[u8]>::to_vec).collect()
 }
 
-/// What a local search starts from: a valid design (every possible interaction covered λ
-/// times, every row allowed) whose first `fixed` rows never change, and the fewest rows
-/// worth trying for.
+/// What a local search starts from: a valid design (every interaction covered as often as
+/// `need` asks — λ of its set, 0 where impossible — and every row allowed) whose first
+/// `fixed` rows never change, and the fewest rows worth trying for.
 pub(crate) struct Problem<'a> {
     pub(crate) inc: &'a Incidence,
-    pub(crate) possible: &'a [bool],
-    pub(crate) lambda: u32,
+    pub(crate) need: &'a [u16],
     pub(crate) rows: &'a [Row],
     pub(crate) fixed: usize,
     pub(crate) floor: usize,
@@ -174,13 +173,10 @@ struct Search<'a> {
 }
 
 impl<'a> Search<'a> {
-    fn new(inc: &'a Incidence, possible: &[bool], lambda: u32, rows: &[Row], fixed: usize) -> Self {
+    fn new(inc: &'a Incidence, need: &[u16], rows: &[Row], fixed: usize) -> Self {
         let k = rows.first().map_or(0, Vec::len);
         let sets = inc.sets();
-        let mut slack: Vec<i16> = possible
-            .iter()
-            .map(|&p| if p { -(lambda as i16) } else { 0 })
-            .collect();
+        let mut slack: Vec<i16> = need.iter().map(|&n| -(n as i16)).collect();
         let mut cells = Vec::with_capacity(rows.len() * k);
         let mut shown = Vec::with_capacity(rows.len() * sets);
         for row in rows {
@@ -361,6 +357,49 @@ pub fn fits(rows: usize, sets: usize) -> bool {
     rows <= SEARCH_MAX_ROWS && rows.saturating_mul(sets) <= MAX_SHOWN
 }
 
+/// The local search that fits the problem, with its name: this tabu search while its
+/// per-row tables fit ([`fits`]), annealing (`crate::anneal`, whose memory does not grow
+/// with rows × sets) past them; `vmax` (most levels of a factor) tunes the tabu search.
+pub(crate) fn search(
+    problem: &Problem<'_>,
+    cons: &mut Constraints,
+    rng: &mut Rng,
+    budget: u64,
+    vmax: usize,
+) -> (&'static str, Outcome) {
+    if fits(problem.rows.len(), problem.inc.sets()) {
+        let params = Params::new(budget, problem.inc.t(), vmax);
+        ("tabu", tighten(problem, cons, rng, params))
+    } else {
+        let params = crate::anneal::Params::new(budget);
+        ("anneal", crate::anneal::anneal(problem, cons, rng, params))
+    }
+}
+
+/// [`search`], its moves charged to `work` (a move pays for [`MOVE_SETS`] sets), and its
+/// rows taken when fewer than the problem's: returned, with `method` gaining `+tabu` or
+/// `+anneal`. The other value is the line for a design's list of methods, `{label}`
+/// after the search's name.
+pub(crate) fn shrink(
+    problem: &Problem<'_>,
+    cons: &mut Constraints,
+    rng: &mut Rng,
+    (budget, vmax): (u64, usize),
+    work: &mut crate::work::Work,
+    method: &mut String,
+    label: &str,
+) -> (Option<Vec<Row>>, String) {
+    let (name, out) = search(problem, cons, rng, budget, vmax);
+    work.spend(out.moves.saturating_mul(MOVE_SETS));
+    let line = format!("{name} {label}: {} rows in {} moves", out.rows.len(), out.moves);
+    if out.rows.len() < problem.rows.len() {
+        method.push('+');
+        method.push_str(name);
+        return (Some(out.rows), line);
+    }
+    (None, line)
+}
+
 /// Searches for a smaller design than the problem's rows, never going below its floor,
 /// never touching its fixed rows. Deterministic for a given `rng` state and budget.
 pub(crate) fn tighten(
@@ -375,13 +414,12 @@ pub(crate) fn tighten(
     }
     let Problem {
         inc,
-        possible,
-        lambda,
+        need,
         rows,
         fixed,
         ..
     } = *problem;
-    let mut s = Search::new(inc, possible, lambda, rows, fixed);
+    let mut s = Search::new(inc, need, rows, fixed);
     let mut best = rows.to_vec();
     s.remove_cheapest(rng);
     let accept = acceptance(params.accept);
@@ -396,7 +434,7 @@ pub(crate) fn tighten(
     let k = s.k;
     // a move on a column in more than 64 t-sets counts as proportionally more moves, so a
     // budget bounds the time whatever the spec
-    let per_column = inc.through(0).len() as u64;
+    let per_column = inc.widest_through() as u64;
     let charge = per_column.div_ceil(MOVE_SETS).max(1);
     while moves < params.budget && moves - last_success < params.patience {
         if s.cost == 0 {

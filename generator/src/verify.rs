@@ -3,6 +3,7 @@
 //! search for whether an uncovered interaction is possible at all. Every design passes
 //! through it before it is returned, and pinned rows are verified with it too.
 
+use std::collections::BTreeMap;
 use std::fmt;
 
 use crate::expr::Expr;
@@ -12,7 +13,8 @@ use crate::model::Spec;
 /// What the checker found on a valid design.
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub struct Coverage {
-    /// Number of t-way interactions of the spec.
+    /// Number of interactions of the spec: t-way over all factors, and those of each
+    /// focus set at its own strength.
     pub interactions: u64,
     /// How many of them no allowed row contains.
     pub impossible: u64,
@@ -22,6 +24,9 @@ pub struct Coverage {
     /// show: the demand it meets given the rows before it (their running sum over λ times
     /// the possible interactions is the design's coverage curve).
     pub met: Vec<u64>,
+    /// The whole demand: Σ over possible interactions of the index asked of them (λ, or a
+    /// focus set's own); `met` sums to it.
+    pub demand: u64,
 }
 
 /// Why a list of rows is not a valid design for a spec.
@@ -99,7 +104,9 @@ impl fmt::Display for Violation {
 }
 
 /// Checks that `rows` is a covering array of strength `spec.strength` and index
-/// `spec.lambda` for every interaction some allowed row contains, that no row is
+/// `spec.lambda` for every interaction some allowed row contains — and, for each focus
+/// set, of its own strength and index over its factors (a variable-strength covering
+/// array, Cohen, Colbourn, Collofello, Gibbons and Mugridge 2003) — that no row is
 /// excluded, and that the rows begin with the spec's required rows (an [`UNSET`] cell of a
 /// required row matches any level).
 ///
@@ -155,14 +162,16 @@ pub fn verify(spec: &Spec, rows: &[Vec<u8>]) -> Result<Coverage, Violation> {
         impossible: 0,
         min_count: u64::MAX,
         met: vec![0; rows.len()],
+        demand: 0,
     };
     let mut failure = None;
     let lambda = spec.lambda as u64;
-    let mut check = |cols: &[usize], counts: &[u64], out: &mut Coverage| {
+    let mut check = |cols: &[usize], counts: &[u64], lambda: u64, out: &mut Coverage| {
         if failure.is_some() {
             return;
         }
         out.interactions += counts.len() as u64;
+        out.demand += counts.len() as u64 * lambda;
         for (idx, &n) in counts.iter().enumerate() {
             if n >= lambda {
                 out.min_count = out.min_count.min(n);
@@ -184,17 +193,27 @@ pub fn verify(spec: &Spec, rows: &[Vec<u8>]) -> Result<Coverage, Violation> {
                         })
                         .collect(),
                     count: n,
-                    lambda: spec.lambda,
+                    // at most MAX_LAMBDA
+                    lambda: lambda as u32,
                 });
                 return;
             }
             out.impossible += 1;
+            out.demand -= lambda;
         }
     };
+    let mut base = |cols: &[usize], counts: &[u64], out: &mut Coverage| check(cols, counts, lambda, out);
     if Bits::pays(rows.len(), &levels, t) {
-        Bits::new(rows, &levels, t, lambda).each(0, 0, 1, &mut out, &mut check);
+        Bits::new(rows, &levels, t, lambda).each(0, 0, 1, &mut out, &mut base);
     } else {
-        Walk::new(rows, &levels, t, lambda).each(0, 0, 1, &mut out, &mut check);
+        Walk::new(rows, &levels, t, lambda).each(0, 0, 1, &mut out, &mut base);
+    }
+    for (set, lambda) in focus_sets(spec) {
+        // the rows cut down to the set's columns, walked at the set's size: one leaf
+        let sub_levels: Vec<usize> = set.iter().map(|&c| levels[c]).collect();
+        let sub_rows: Vec<Vec<u8>> = rows.iter().map(|r| set.iter().map(|&c| r[c]).collect()).collect();
+        let mut leaf = |_: &[usize], counts: &[u64], out: &mut Coverage| check(&set, counts, lambda, out);
+        Walk::new(&sub_rows, &sub_levels, set.len(), lambda).each(0, 0, 1, &mut out, &mut leaf);
     }
     match failure {
         Some(v) => Err(v),
@@ -205,6 +224,34 @@ pub fn verify(spec: &Spec, rows: &[Vec<u8>]) -> Result<Coverage, Violation> {
             Ok(out)
         }
     }
+}
+
+/// Every column set the focus sets ask for, once, with the largest index asked of it: the
+/// checker's own enumeration of each focus set's `strength`-subsets.
+fn focus_sets(spec: &Spec) -> BTreeMap<Vec<usize>, u64> {
+    fn subsets(items: &[usize], size: usize, pick: &mut Vec<usize>, out: &mut Vec<Vec<usize>>) {
+        if pick.len() == size {
+            out.push(pick.clone());
+            return;
+        }
+        for (i, &c) in items.iter().enumerate() {
+            pick.push(c);
+            subsets(&items[i + 1..], size, pick, out);
+            pick.pop();
+        }
+    }
+    let mut sets = BTreeMap::new();
+    for f in &spec.focus {
+        let mut items = f.factors.clone();
+        items.sort_unstable();
+        let mut out = Vec::new();
+        subsets(&items, f.strength, &mut Vec::new(), &mut out);
+        for set in out {
+            let l = sets.entry(set).or_insert(0);
+            *l = u64::from(f.lambda).max(*l);
+        }
+    }
+    sets
 }
 
 /// What a counting strategy calls for every t-set: its columns, the count of each level
@@ -429,6 +476,7 @@ mod tests {
             impossible: 0,
             min_count: 0,
             met: vec![0; rows.len()],
+            demand: 0,
         };
         let mut seen = Vec::new();
         let mut leaf =

@@ -8,7 +8,7 @@
 //! change updates them (and, once rows are released, bumps ENGINE_VERSION). Every spec
 //! here has an exclude or a required row, so only the search side produces its rows.
 
-use heddle_generator::{ENGINE_VERSION, Effort, Expr, Factor, Spec, generate};
+use heddle_generator::{ENGINE_VERSION, Effort, Expr, Factor, Focus, Spec, UNSET, generate};
 
 /// FNV-1a 64 of a byte stream: the one hash both the golden values and the published
 /// test vectors below go through.
@@ -114,4 +114,46 @@ const GOLDEN: [(usize, u64); 5] = [
     (13, 0x7efc_c7a8_2c6e_7685),
     (16, 0xaaf3_f8a8_d6f4_cdbb),
     (15, 0xd3e3_d1f4_98e2_8e1b),
+];
+
+#[test]
+fn golden_focus_rows() {
+    // specs with focus sets (variable strength) take their own path (the base design,
+    // rows for the focus demand, a search over both): pinned the same way, so that a
+    // change of that path shows up too; golden values from this engine version
+    let mixed = factors(&[4, 3, 3, 2, 2, 2, 5, 3]);
+    let cases: Vec<(Spec, Effort, (usize, u64))> = vec![
+        (
+            Spec::new(factors(&[3; 8])).focus(Focus::new(vec![0, 3, 5], 3)),
+            Effort::Fast,
+            GOLDEN_FOCUS[0],
+        ),
+        (
+            Spec::new(mixed.clone())
+                .seed(5)
+                .exclude(Expr::parse("f1 == 0 && f7 == 4", &mixed).expect("valid"))
+                .require(vec![1, 2, UNSET, UNSET, UNSET, UNSET, UNSET, 0])
+                .focus(Focus::new(vec![6, 0, 1], 3).lambda(2)),
+            Effort::Fast,
+            GOLDEN_FOCUS[1],
+        ),
+        (
+            Spec::new(factors(&[3; 12]))
+                .seed(9)
+                .focus(Focus::new(vec![0, 1, 2, 3, 4], 3)),
+            Effort::Tight { budget: 100_000 },
+            GOLDEN_FOCUS[2],
+        ),
+    ];
+    let got: Vec<(usize, u64)> = cases.iter().map(|(s, e, _)| fingerprint(s, *e)).collect();
+    let want: Vec<(usize, u64)> = cases.iter().map(|c| c.2).collect();
+    assert_eq!(got, want, "rows changed: {got:#x?}");
+}
+
+/// (rows, FNV-1a of the rows) of the focus specs — golden values from this engine
+/// version, see the module doc.
+const GOLDEN_FOCUS: [(usize, u64); 3] = [
+    (27, 0xf966_571c_942d_b868),
+    (114, 0xdc89_66a6_54a2_b957),
+    (33, 0xcedb_8571_cc37_db8c),
 ];

@@ -76,6 +76,7 @@ fn ui() {
         "pins",
         "require",
         "budget",
+        "focus",
         "nesting",
     ] {
         t.compile_fail(format!("tests/ui/{topic}/*.rs"));

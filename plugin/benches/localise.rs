@@ -15,9 +15,10 @@
 //!    suspect explaining failures — a deterministic pair at λ = 1 (target ≥ 98%) and a
 //!    pair failing with probability 0.5 at λ = 2 (target ≥ 90%) — the rows and runs used,
 //!    and how often rows are proposed when no fault is planted (must be never).
-//! 4. Aliasing: where an orthogonal array of index λ exists the engine returns it, which
-//!    aliases interactions; figures: rows, and how often a planted pair is ranked first
-//!    (alone) with it and with λ relabelled copies of the λ = 1 design instead.
+//! 4. Aliasing: where an orthogonal array of index λ exists it is the fewest rows, but a
+//!    linear one aliases interactions; figures: rows and aliased interactions of the
+//!    engine's design at λ, and how often a planted pair is ranked first (alone) with it
+//!    and with λ relabelled copies of the λ = 1 design instead.
 //! 5. The report (tallies, analysis, table and JSON rendering) over 100 000 row records
 //!    of 50 suites (target ≤ 2 s), store reading excluded (the runner's bench times it).
 //!
@@ -175,16 +176,17 @@ fn judge_deterministic(
     }
 }
 
-/// What aliasing costs: where an orthogonal array of index λ exists the engine returns it
-/// (λ·v^t rows, the fewest possible) although it aliases interactions (`Stats::aliased`:
-/// pairs of levels whose rows coincide with another pair's, so that a failure cannot be
-/// pinned on one of them). The alternative measured beside it: λ copies of the engine's
+/// What aliasing costs: where an orthogonal array of index λ exists it has the fewest
+/// rows (λ·v^t), but a linear one aliases interactions (`Stats::aliased`: pairs of levels
+/// whose rows coincide with another pair's, so that a failure cannot be pinned on one of
+/// them); the engine's design at λ is measured (the optimum, or a less aliased design
+/// the engine preferred). The alternative measured beside it: λ copies of the engine's
 /// λ = 1 design, each copy's levels permuted per column at random (what the engine's own
 /// stacking does, here with the bench's randomness). Figures: rows, how often a planted
 /// deterministic pair is ranked first, and ranked first with no other suspect explaining
 /// a failure.
 fn aliasing(trials: usize) {
-    println!("aliasing: the index-λ orthogonal array against λ relabelled copies of the λ = 1 design:");
+    println!("aliasing: the engine's design at λ against λ relabelled copies of the λ = 1 design:");
     // (levels, column counts, λ): Rao–Hamming OA(27; 2, 13, 3) of index 3, Sylvester's
     // Hadamard arrays of orders 8 and 16 (index 2 and 4), Rao–Hamming OA(64; 2, 21, 4)
     for (v, ks, lambda) in [
@@ -234,7 +236,7 @@ fn aliasing(trials: usize) {
         let pct = |n: usize| 100.0 * n as f64 / trials as f64;
         let avg = |n: usize| n as f64 / trials as f64;
         println!(
-            "  {v}^{}..{} lambda {lambda}: array {:.1} rows (aliased {:.0} on average), first {:.1}%, alone {:.1}%; \
+            "  {v}^{}..{} lambda {lambda}: engine {:.1} rows (aliased {:.0} on average), first {:.1}%, alone {:.1}%; \
              copies {:.1} rows, first {:.1}%, alone {:.1}%",
             ks.start(),
             ks.end(),

@@ -189,7 +189,7 @@ pub fn describe_change(pin: &Pin, origin: Option<&Origin>, spec: &Spec) -> Vec<S
     }
     if out.is_empty() {
         // the fingerprint covers nothing else
-        out.push("the excludes, the required rows or the engine version changed".to_string());
+        out.push("the excludes, the required rows, the focus sets or the engine version changed".to_string());
     }
     out
 }
@@ -340,7 +340,7 @@ mod tests {
         let new = base().exclude(Expr::is(0, 0));
         assert_eq!(
             describe_change(&pin, Some(&origin), &new),
-            ["the excludes, the required rows or the engine version changed"]
+            ["the excludes, the required rows, the focus sets or the engine version changed"]
         );
         assert!(describe_change(&pin, None, &new).is_empty());
     }

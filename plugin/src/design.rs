@@ -11,7 +11,7 @@ use serde::Serialize;
 use crate::effort::{EffortArg, with_spinner};
 use crate::failure::{Diagnostic, Failure, found, usage};
 use crate::say;
-use crate::spec_args::{parse_required, parse_specs};
+use crate::spec_args::{parse_focus, parse_required, parse_specs};
 use heddle_syntax::require::{Blocked, blocked};
 
 /// Arguments of `design`.
@@ -38,6 +38,10 @@ pub struct DesignArgs {
     /// coverage).
     #[arg(long, value_name = "NAME=LEVEL,…")]
     require: Vec<String>,
+    /// Factors covered at a higher strength than the rest, e.g. 'codec,unit,workers'
+    /// (at the strength + 1) or 'codec,unit,workers,strength=3,lambda=2' (repeatable).
+    #[arg(long, value_name = "NAME,…[,strength=S][,lambda=L]")]
+    focus: Vec<String>,
     /// `fast` (constructions and greedy) or `tight` (adds local search).
     #[arg(long, value_enum, default_value_t = EffortArg::Fast)]
     effort: EffortArg,
@@ -104,6 +108,10 @@ pub fn run(args: DesignArgs) -> Result<ExitCode, Failure> {
                 ));
             }
         }
+    }
+    for text in &args.focus {
+        let f = parse_focus(text, &spec.factors, spec.strength, spec.lambda)?;
+        spec.focus.push(f);
     }
     let effort = args.effort.with_budget(args.budget)?;
     let started = Instant::now();
@@ -202,6 +210,16 @@ struct JsonParameters<'a> {
     effort: &'static str,
     excludes: Vec<String>,
     required: Vec<Vec<Option<&'a str>>>,
+    /// Focus sets as factor names, strength and λ; absent when none.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    focus: Vec<JsonFocus<'a>>,
+}
+
+#[derive(Serialize)]
+struct JsonFocus<'a> {
+    factors: Vec<&'a str>,
+    strength: usize,
+    lambda: u32,
 }
 
 #[derive(Serialize)]
@@ -250,6 +268,15 @@ fn json(spec: &Spec, design: &Design, args: &DesignArgs, lower_bound: u64, secon
                         .zip(&spec.factors)
                         .map(|(&l, f)| f.levels.get(usize::from(l)).map(String::as_str))
                         .collect()
+                })
+                .collect(),
+            focus: spec
+                .focus
+                .iter()
+                .map(|f| JsonFocus {
+                    factors: f.factors.iter().map(|&c| spec.factors[c].name.as_str()).collect(),
+                    strength: f.strength,
+                    lambda: f.lambda,
                 })
                 .collect(),
         },

@@ -175,7 +175,7 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
         .map_err(|e| found(e.diagnostic().at(place.clone())))?;
     let spec = &f.spec.spec;
     let levels = spec.levels();
-    let lower = bounds::lower_bound(&levels, spec.strength, spec.lambda);
+    let lower = bounds::spec_lower_bound(spec);
     let expected = bounds::expected_bound(&levels, spec.strength, spec.lambda);
     let coverage = verify(spec, &rows.rows);
     let source = if rows.pinned {
@@ -193,8 +193,16 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
     let bounds_line = format!("{n} rows; lower bound {lower}, expected-value bound {expected}{caveat}");
     let coverage_line = match &coverage {
         Ok(c) => format!(
-            "coverage: {} interactions, {} impossible, each possible one covered at least {} times (lambda {})",
-            c.interactions, c.impossible, c.min_count, spec.lambda
+            "coverage: {} interactions, {} impossible, each possible one covered at least {} times (lambda {}){}",
+            c.interactions,
+            c.impossible,
+            c.min_count,
+            spec.lambda,
+            if spec.focus.is_empty() {
+                ""
+            } else {
+                "; focus sets at their own strength and lambda"
+            }
         ),
         Err(v) => format!("coverage: the rows do not cover the spec: {v}"),
     };
@@ -227,6 +235,10 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
             }
             for r in &f.spec.required {
                 let _ = writeln!(out, "{}({r})", kw::REQUIRE);
+            }
+            for x in &spec.focus {
+                let shown = heddle_syntax::focus::text(x, &spec.factors, spec.strength, spec.lambda);
+                let _ = writeln!(out, "{shown}");
             }
             out.push('\n');
             let mut table: Vec<Vec<String>> = Vec::with_capacity(n + 1);

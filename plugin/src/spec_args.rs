@@ -1,7 +1,8 @@
 //! SPEC tokens of `cargo heddle design`: `V^N` (N factors of V levels, named by position
 //! `f1`, `f2`, … and labelled `0` … `V-1`) and `NAME=L1,L2,…` (one named factor).
 
-use heddle_generator::{Factor, MAX_LEVELS, Row};
+use heddle_generator::{Factor, Focus, MAX_LEVELS, Row, check_lambda, check_strength};
+use heddle_syntax::keywords as kw;
 use heddle_syntax::require::row_of;
 
 use crate::failure::{Diagnostic, Failure, usage};
@@ -108,6 +109,85 @@ pub fn parse_required(text: &str, factors: &[Factor]) -> Result<Row, Failure> {
             "give each factor once per row; another row is another `--require`".into(),
         )
     })
+}
+
+/// A focus set written as the attribute's inside, `NAME,NAME,…[,strength=S][,lambda=L]`
+/// (`--focus`): factors covered at strength S (one above `base` unless given) and index L
+/// (`lambda` unless given). The engine checks the strength against the set.
+pub fn parse_focus(text: &str, factors: &[Factor], base: usize, lambda: u32) -> Result<Focus, Failure> {
+    let focus = read_focus(text, factors, base, lambda)?;
+    let names: Vec<&str> = factors.iter().map(|f| f.name.as_str()).collect();
+    focus
+        .validate(0, &names, base)
+        .map_err(|e| usage(Diagnostic::from(&e).at(format!("`--focus {text}`"))))?;
+    Ok(focus)
+}
+
+fn read_focus(text: &str, factors: &[Factor], base: usize, lambda: u32) -> Result<Focus, Failure> {
+    let names = || heddle_syntax::diag::list(factors.iter().map(|f| &f.name));
+    let bad =
+        |what: String, hint: String| usage(Diagnostic::new(format!("`--focus {text}`: {what}")).hint(hint));
+    let example = || {
+        "write e.g. `--focus 'codec,unit,workers'` or `--focus 'codec,unit,workers,strength=3'`".to_string()
+    };
+    let mut cols = Vec::new();
+    let (mut strength, mut index) = (None, None);
+    for part in text.split(',').map(str::trim) {
+        match part.split_once('=').map(|(k, v)| (k.trim(), v.trim())) {
+            Some((key, value)) if key == kw::STRENGTH || key == kw::LAMBDA => {
+                let n = value
+                    .parse::<u64>()
+                    .ok()
+                    .filter(|_| value.bytes().all(|b| b.is_ascii_digit()))
+                    .ok_or_else(|| bad(format!("`{value}` is not a whole number"), example()))?;
+                let slot = if key == kw::STRENGTH {
+                    &mut strength
+                } else {
+                    &mut index
+                };
+                if slot.replace(n).is_some() {
+                    return Err(bad(format!("`{key}` is given twice"), example()));
+                }
+            }
+            Some((key, _)) => {
+                return Err(bad(
+                    format!("unknown key `{key}`"),
+                    format!(
+                        "after the factor names, `{}=S` and `{}=L` may follow",
+                        kw::STRENGTH,
+                        kw::LAMBDA
+                    ),
+                ));
+            }
+            None if part.is_empty() => return Err(bad("an empty factor name".into(), example())),
+            None => {
+                let Some(c) = factors.iter().position(|f| f.name == part) else {
+                    return Err(bad(
+                        format!("unknown factor `{part}`"),
+                        format!("the factors are {}", names()),
+                    ));
+                };
+                if cols.contains(&c) {
+                    return Err(bad(
+                        format!("`{part}` is named twice"),
+                        "name each factor once".into(),
+                    ));
+                }
+                cols.push(c);
+            }
+        }
+    }
+    // the engine's range checks, in its words
+    let fail = |e: heddle_generator::Error| usage(Diagnostic::from(&e).at(format!("`--focus {text}`")));
+    let strength = match strength {
+        Some(s) => check_strength(s).map_err(fail)?,
+        None => base + 1,
+    };
+    let lambda = match index {
+        Some(l) => check_lambda(l).map_err(fail)?,
+        None => lambda,
+    };
+    Ok(Focus::new(cols, strength).lambda(lambda))
 }
 
 fn parse_count(tok: &str, s: &str, what: &str) -> Result<usize, Failure> {

@@ -128,23 +128,19 @@ fn follow_up_rows_and_a_budget_from_the_command_line() {
     // 4. a budget from the command line: rows past it are ignored, the run is partial
     let run = heddle(&krate, &["test", "--budget", "3", "--format", "json"]);
     assert!(run.stdout.contains("\"budget\""), "{}", run.stdout);
-    let v: serde_json::Value = {
-        let start = run
-            .stdout
-            .find("{\n")
-            .expect("the JSON report follows the test output");
-        serde_json::from_str(&run.stdout[start..]).unwrap_or_else(|e| panic!("{e}: {}", run.stdout))
-    };
+    let v: serde_json::Value =
+        { serde_json::from_str(&run.stdout).unwrap_or_else(|e| panic!("{e}: {}", run.stdout)) };
     let suite = &v["suites"][0];
     assert_eq!(suite["budget"]["rows"], 3);
     assert_eq!(suite["budget"]["of"], 9);
     assert_eq!(suite["not_run"].as_u64(), Some(6));
     assert!(run.stderr.contains(", row budget 3"), "{}", run.stderr);
+    // the test run's own output is on stderr (stdout is the report's alone)
     assert!(
-        run.stdout
+        run.stderr
             .contains("ignored, heddle: past the row budget, `HEDDLE_BUDGET=3` runs 3 of 9 rows"),
         "{}",
-        run.stdout
+        run.stderr
     );
-    assert!(run.stdout.contains("6 ignored"), "{}", run.stdout);
+    assert!(run.stderr.contains("6 ignored"), "{}", run.stderr);
 }

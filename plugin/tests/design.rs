@@ -102,6 +102,33 @@ fn required_rows_come_first_and_count_toward_coverage() {
 }
 
 #[test]
+fn a_focus_set_is_covered_at_its_own_strength() {
+    // 3^6 at strength 2 with every triple of f1, f2, f3: those three need all 27
+    // combinations (the counting bound of a strength-3 array on three ternary factors,
+    // e.g. Colbourn 2004, "Combinatorial aspects of covering arrays"); the checker counts
+    // the focus set at strength 3 (variable strength, Cohen, Colbourn, Collofello,
+    // Gibbons and Mugridge 2003)
+    let o = design(&["3^6", "--focus", "f1, f2, f3", "--format", "json"]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).expect("valid JSON");
+    assert_eq!(
+        v["parameters"]["focus"],
+        serde_json::json!([{ "factors": ["f1", "f2", "f3"], "strength": 3, "lambda": 1 }])
+    );
+    assert_eq!(v["statistics"]["lower_bound"], 27);
+    let o = design(&["3^6", "--focus", "f3,f1,f2,lambda=2"]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let factors: Vec<Factor> = (1..=6).map(|i| Factor::numbered(format!("f{i}"), 3)).collect();
+    let rows = csv_rows(&stdout(&o), &factors);
+    let spec = Spec::new(factors).focus(heddle_generator::Focus::new(vec![2, 0, 1], 3).lambda(2));
+    verify(&spec, &rows).expect("every triple of f1, f2, f3 twice, every pair once");
+    assert!(stderr(&o).contains("lower bound 54"), "{}", stderr(&o));
+    // the plain design at strength 2 is far smaller and misses triples
+    let plain = csv_rows(&stdout(&design(&["3^6"])), &spec.factors);
+    assert!(plain.len() < 27 && verify(&spec, &plain).is_err());
+}
+
+#[test]
 fn same_seed_gives_same_rows() {
     let a = design(&["3^6", "--seed", "5"]);
     let b = design(&["3^6", "--seed", "5"]);
@@ -154,6 +181,31 @@ fn bad_input_exits_with_2_and_says_why() {
             ],
             "`--require f1=1` has no allowed row",
         ),
+        (
+            &["3^4", "--focus", "f1,f9"],
+            "`--focus f1,f9`: unknown factor `f9`",
+        ),
+        (
+            &["3^4", "--focus", "f1,f2,f1"],
+            "`--focus f1,f2,f1`: `f1` is named twice",
+        ),
+        (
+            &["3^4", "--focus", "f1,f2"],
+            "`--focus f1,f2`: focus set #1 has strength 3 over only 2 factors",
+        ),
+        (
+            &["3^4", "--focus", "f1,f2,f3,strength=2"],
+            "not above the strength 2 of all factors",
+        ),
+        (&["3^4", "--focus", "f1,f2,f3,depth=3"], "unknown key `depth`"),
+        (
+            &["3^4", "--focus", "f1,f2,f3,lambda=x"],
+            "`x` is not a whole number",
+        ),
+        (
+            &["3^4", "--focus", "f1,f2,f3,strength=99"],
+            "strength 99 is above",
+        ),
         (&["a=x,x"], "lists level `x` twice"),
         (&["2^1", "f1=a,b"], "factor `f1` is declared twice"),
         (&["+3^2"], "malformed SPEC `+3^2`"),
@@ -177,9 +229,13 @@ fn limits_are_refused_with_the_count() {
     assert_eq!(o.status.code(), Some(2));
     let err = stderr(&o);
     assert!(
-        err.contains("t-way interactions, more than the limit of 16777216"),
+        err.contains(&format!(
+            "t-way interactions, more than the limit of {}",
+            heddle_generator::MAX_INTERACTIONS
+        )),
         "{err}"
     );
+    assert!(err.contains("hint: lower the strength"), "{err}");
 }
 
 #[test]

@@ -693,3 +693,76 @@ fn the_advice_on_a_large_suite_is_priced_without_generating() {
         "{advice}"
     );
 }
+
+/// 3^4 with the first three factors as a focus set at strength 3: all 27 triples of the
+/// first three, the fourth their sum mod 3 (so every pair with it shows too: for a fixed
+/// level of one factor the sum takes every value as another varies).
+fn focus_spec(run: &str) -> SpecRecord {
+    let rows: Vec<Vec<u8>> = (0..27u8)
+        .map(|x| {
+            let (a, b, c) = (x / 9, x / 3 % 3, x % 3);
+            vec![a, b, c, (a + b + c) % 3]
+        })
+        .collect();
+    SpecBuilder::new("frames")
+        .krate("hub")
+        .test_target("hub")
+        .run(run)
+        .strength(2)
+        .numbered(&[3, 3, 3, 3])
+        .focus(&[0, 1, 2], 3, 1)
+        .rows(rows)
+        .build()
+}
+
+/// A store in which run `run` of the focus suite ran its first `rows` rows, all passing.
+fn focus_run(run: &str, rows: usize) -> tempfile::TempDir {
+    let tmp = tempfile::tempdir().unwrap();
+    let s = focus_spec(run);
+    let mut lines = vec![Line::Spec(s.clone()).to_json_line()];
+    for r in 0..rows {
+        lines.push(Line::Row(row(&s, r, Outcome::Passed, run)).to_json_line());
+    }
+    write_process(tmp.path(), run, 1_700_000_000_000, &lines);
+    tmp
+}
+
+#[test]
+fn focus_interactions_count_toward_all_clear() {
+    // variable strength (Cohen, Colbourn, Collofello, Gibbons and Mugridge 2003): "all
+    // clear" needs every focus triple as well as every pair
+    let tmp = focus_run("run-all", 27);
+    let v = json(tmp.path(), &[]);
+    let suite = &v["suites"][0];
+    assert_eq!(suite["coverage"]["focus_interactions"], 27, "{suite}");
+    assert_eq!(suite["coverage"]["focus_at_lambda"], 27, "{suite}");
+    assert_eq!(suite["coverage"]["complete"], true);
+    assert_eq!(suite["focus"].as_array().unwrap().len(), 27);
+    let table = text(&report(&["--store", tmp.path().to_str().unwrap()]).stdout);
+    assert!(
+        table.contains("focus (f0, f1, f2): strength 3, lambda 1"),
+        "{table}"
+    );
+    assert!(table.contains("all clear:"), "{table}");
+
+    // a run of only the rows whose first factor is 0 or 1 (the first 18): the 9 triples
+    // with f0 = 2 did not run, so it is not all clear
+    let tmp = focus_run("run-part", 18);
+    let v = json(tmp.path(), &[]);
+    let suite = &v["suites"][0];
+    assert_eq!(suite["coverage"]["focus_at_lambda"], 18, "{suite}");
+    assert_eq!(suite["coverage"]["complete"], false);
+    let ran: Vec<u64> = suite["focus"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|f| f["runs"].as_u64().unwrap())
+        .collect();
+    assert_eq!(ran.iter().filter(|&&r| r == 0).count(), 9, "{ran:?}");
+    let table = text(&report(&["--store", tmp.path().to_str().unwrap()]).stdout);
+    assert!(
+        table.contains("18 of the 27 focus interactions ran in at least their lambda rows"),
+        "{table}"
+    );
+    assert!(table.contains("partial run, not all clear"), "{table}");
+}

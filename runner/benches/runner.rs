@@ -59,6 +59,7 @@ static SUITE: Suite = Suite {
     should_panic_expected: None,
     budget: None,
     followups: 0,
+    focus: &[],
 };
 
 /// A small, real amount of work, like a quick unit test: build and sort a vector.

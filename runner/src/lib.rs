@@ -109,6 +109,7 @@ extern crate self as heddle_test;
 /// | `seed = S` | seed of the engine's choices (u64) | a hash of the function's name |
 /// | `exclude(EXPR)` | rows where EXPR holds are never generated; EXPR uses `==`, `!=`, `&&`, `\|\|`, `!` and parentheses over parameter names and level expressions; repeatable | none |
 /// | `require(NAME = LEVEL, …)` | a row the design must contain, by level labels (`require(codec = "delta", batch = 64)`); parameters left out are filled by the engine; required rows come first, in the order written, and count toward coverage; the excludes must allow the row; repeatable | none |
+/// | `focus(NAME, …)` | every combination of the named parameters at a higher strength: one above `strength`, or `focus(NAME, …, strength = S, lambda = L)` (every S of the names; λ defaults to `lambda`); a variable-strength covering array (Cohen, Colbourn, Collofello, Gibbons and Mugridge 2003); repeatable | none |
 /// | `budget(N)`, `budget(P%)` | run the first N rows, or the first P percent (rounded up); the rows past it are compiled with `#[ignore]`, so libtest counts them as ignored; `HEDDLE_BUDGET` overrides it | every row |
 ///
 /// - The function stays an ordinary function; a module of the same name holds one

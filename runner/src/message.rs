@@ -127,6 +127,7 @@ mod tests {
         should_panic_expected: None,
         budget: None,
         followups: 0,
+        focus: &[],
     };
 
     #[test]
@@ -164,6 +165,7 @@ mod tests {
             rows: &[&[0, 0], &[1, 1], &[2, 1]],
             row_names: &["row_00", "row_01", "row_followup_00"],
             followups: 1,
+            focus: &[],
             ..SUITE
         };
         let text = context(&WITH, 2, "panicked");

@@ -29,6 +29,17 @@ pub struct Factor {
     pub labels: &'static [&'static str],
 }
 
+/// A focus set of the annotated function: factors covered at a higher strength.
+#[derive(Debug)]
+pub struct FocusSet {
+    /// Factor indices, as the attribute names them.
+    pub factors: &'static [u32],
+    /// Strength over these factors.
+    pub strength: u32,
+    /// Index over these factors.
+    pub lambda: u32,
+}
+
 /// Everything the runtime knows about one annotated function, emitted as a `static`.
 #[derive(Debug)]
 pub struct Suite {
@@ -72,6 +83,8 @@ pub struct Suite {
     /// How many of the last rows are follow-up rows (`cargo heddle probe`), not the
     /// design's.
     pub followups: u32,
+    /// Focus sets (empty when there are none).
+    pub focus: &'static [FocusSet],
 }
 
 /// The process-wide recorder every row test writes through.
@@ -328,6 +341,7 @@ mod tests {
         should_panic_expected: None,
         budget: None,
         followups: 0,
+        focus: &[],
     };
 
     fn off() -> Result<Config, SetupError> {

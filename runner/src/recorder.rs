@@ -10,7 +10,7 @@
 use crate::__private::Suite;
 use crate::message;
 use crate::record::layout;
-use crate::record::{FactorSpec, Line, Outcome, RowRecord, SpecRecord};
+use crate::record::{FactorSpec, FocusSpec, Line, Outcome, RowRecord, SpecRecord};
 use crate::setup::{Config, SetupError};
 use crate::time;
 use std::collections::BTreeSet;
@@ -176,6 +176,15 @@ pub(crate) fn spec_record(suite: &Suite, run_id: &str, time: &str) -> SpecRecord
         should_panic: suite.should_panic,
         budget: suite.budget,
         followups: suite.followups,
+        focus: suite
+            .focus
+            .iter()
+            .map(|f| FocusSpec {
+                factors: f.factors.to_vec(),
+                strength: f.strength,
+                lambda: f.lambda,
+            })
+            .collect(),
         time: time.to_string(),
     }
 }
@@ -229,6 +238,7 @@ mod tests {
         should_panic_expected: None,
         budget: None,
         followups: 0,
+        focus: &[],
     };
 
     static WARNINGS: AtomicUsize = AtomicUsize::new(0);

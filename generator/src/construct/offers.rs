@@ -149,16 +149,16 @@ fn fields(o: &mut Offers<'_>) {
     // rows holding a pair of levels form a coset that the pairs of collinear columns share
     // (measured on 3^13: every pair shares all its rows with another), so those
     // interactions cannot be told apart by the λ rows a user asks for to tell them apart.
-    // The engine takes the optimum and says so: `Stats::aliased` counts such interactions;
-    // a stack of two or more relabelled copies (λ a multiple of twice an index on offer)
+    // It is offered as the optimum it is; the engine decides per spec whether a design
+    // that aliases fewer interactions is worth its extra rows (`ALIAS_FREE_SHARE` in
+    // engine.rs) and says what is left: `Stats::aliased` counts such interactions; a
+    // stack of two or more relabelled copies (λ a multiple of twice an index on offer)
     // shares only a copy's rows (see `relabelled`).
-    // What the choice costs, measured by the localisation benchmark (plugin/benches/
+    // What aliasing costs, measured by the localisation benchmark (plugin/benches/
     // localise.rs, 200 trials each, a planted deterministic pair): 3^5…13 at λ = 3, the
     // array's 27 rows rank the pair first in 42% of trials (alone 22%), λ relabelled
     // copies of the λ = 1 design (40 rows) in 94% (alone 91%); 4^6…20 at λ = 4, 64 rows
-    // 33% against 104 rows 100%. The per-spec choice stays the fewest rows — λ is also
-    // asked for plain repetition — and `Stats::aliased` says what it costs; follow-up
-    // rows (`cargo heddle probe`) tell aliased pairs apart after a failure.
+    // 33% against 104 rows 100%.
     let fields = || (vmax..=gf::MAX_ORDER).filter(|&q| gf::prime_power(q).is_some());
     let mut tries: Vec<(usize, u32)> = Vec::new();
     if let Some(q0) = fields().next() {

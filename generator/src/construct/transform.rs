@@ -82,9 +82,10 @@ pub fn drop_redundant(rows: &mut Vec<Row>, levels: &[usize], t: usize, lambda: u
         return 0;
     }
     let layout = Layout::new(levels, t);
-    let possible = vec![true; layout.total()];
+    // MAX_LAMBDA fits the 16-bit counters
+    let need = vec![lambda as u16; layout.total()];
     let before = rows.len();
-    order::drop_redundant(&layout, &possible, lambda, rows, 0);
+    order::drop_redundant(&layout, &need, rows, 0);
     before - rows.len()
 }
 

@@ -47,6 +47,8 @@ pub enum KeyKind {
     Exclude,
     /// `require(name = level, …)`.
     Require,
+    /// `focus(name, …, strength = N, lambda = N)`.
+    Focus,
     /// `budget(N)` or `budget(P%)`.
     Budget,
     /// Anything else.
@@ -62,6 +64,7 @@ impl KeyKind {
             kw::SEED => KeyKind::Seed,
             kw::EXCLUDE => KeyKind::Exclude,
             kw::REQUIRE => KeyKind::Require,
+            kw::FOCUS => KeyKind::Focus,
             kw::BUDGET => KeyKind::Budget,
             _ => KeyKind::Unknown,
         }
@@ -69,7 +72,7 @@ impl KeyKind {
 
     /// Whether the key may be given more than once.
     pub fn repeatable(self) -> bool {
-        matches!(self, KeyKind::Exclude | KeyKind::Require)
+        matches!(self, KeyKind::Exclude | KeyKind::Require | KeyKind::Focus)
     }
 }
 

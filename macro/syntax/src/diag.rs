@@ -64,6 +64,11 @@ impl Errors {
         self.push(error_at_span(span, msg, hint));
     }
 
+    /// How many errors so far.
+    pub fn len(&self) -> usize {
+        self.0.as_ref().map_or(0, |e| e.into_iter().count())
+    }
+
     /// Whether nothing went wrong so far.
     pub fn is_empty(&self) -> bool {
         self.0.is_none()

@@ -304,6 +304,16 @@ fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStre
     // formulas over level indices: what the records store and the report reads back
     // without a Rust parser
     let excludes: Vec<String> = spec.excludes.iter().map(|e| e.to_formula()).collect();
+    let focus = spec.focus.iter().map(|f| {
+        let factors = f.factors.iter().map(|&c| Literal::u32_unsuffixed(c as u32));
+        let strength = Literal::u32_unsuffixed(f.strength as u32);
+        let lambda = Literal::u32_unsuffixed(f.lambda);
+        quote!(#rt::__private::FocusSet {
+            factors: &[#(#factors),*],
+            strength: #strength,
+            lambda: #lambda,
+        })
+    });
     let fingerprint = cs.fingerprint.to_string();
     let pinned = rows.pinned;
     let should_panic = checked.shape.should_panic;
@@ -483,6 +493,7 @@ fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStre
                 should_panic_expected: #expected,
                 budget: #budget_field,
                 followups: #followups,
+                focus: &[#(#focus),*],
             };
 
             #(#row_fns)*

@@ -5,9 +5,11 @@
 //! everything that determines the rows: the factor names and level labels in order, the
 //! strength, λ, the seed, the excludes (as formulas over level indices, so rewording an
 //! exclude without changing its meaning keeps the pin), required rows, and
-//! [`heddle_generator::ENGINE_VERSION`]. The encoding starts with a tag naming its own
-//! version; changing it changes every fingerprint, which is what a change of meaning must
-//! do.
+//! [`heddle_generator::ENGINE_VERSION`], then the focus sets (factor indices sorted,
+//! strength, λ) when there are any — appended only then, so that a spec without focus
+//! sets keeps the fingerprint it had before they existed. The encoding starts with a tag
+//! naming its own version; changing it changes every fingerprint, which is what a change
+//! of meaning must do.
 
 use std::fmt;
 use std::str::FromStr;
@@ -73,6 +75,18 @@ pub fn fingerprint_with_engine(spec: &Spec, engine_version: u32) -> Fingerprint 
     for row in &spec.required {
         h.u64(row.len() as u64).bytes(row);
     }
+    if !spec.focus.is_empty() {
+        h.str("focus").u64(spec.focus.len() as u64);
+        for f in &spec.focus {
+            // sorted: the order the factors are named in does not change the rows
+            let factors = f.sorted();
+            h.u64(factors.len() as u64);
+            for &c in &factors {
+                h.u64(c as u64);
+            }
+            h.u64(f.strength as u64).u64(u64::from(f.lambda));
+        }
+    }
     Fingerprint(h.finish())
 }
 
@@ -101,7 +115,7 @@ fn expr(h: &mut Fnv64, e: &Expr) {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use heddle_generator::{Factor, UNSET};
+    use heddle_generator::{Factor, Focus, UNSET};
 
     fn spec() -> Spec {
         Spec::new(vec![
@@ -136,6 +150,12 @@ mod tests {
             // a required row with a cell left to the engine is another spec again
             spec().require(vec![0, UNSET, 0]),
             spec().require(vec![0, 0, 0]).require(vec![1, UNSET, UNSET]),
+            spec().focus(Focus::new(vec![0, 1, 2], 3)),
+            spec().focus(Focus::new(vec![0, 1, 2], 3).lambda(2)),
+            spec().focus(Focus::new(vec![0, 1], 2)),
+            spec()
+                .focus(Focus::new(vec![0, 1, 2], 3))
+                .focus(Focus::new(vec![0, 1, 2], 3)),
         ];
         let mut s = spec();
         s.factors[0].levels[2] = "65".into();
@@ -163,6 +183,11 @@ mod tests {
             fingerprint_with_engine(&spec(), 1)
         );
         assert_eq!(fingerprint(&spec()), base);
+        // naming a focus set's factors in another order is the same spec
+        assert_eq!(
+            fingerprint(&spec().focus(Focus::new(vec![2, 0, 1], 3))),
+            fingerprint(&spec().focus(Focus::new(vec![0, 1, 2], 3)))
+        );
     }
 
     #[test]

@@ -21,10 +21,16 @@ pub const EXCLUDE: &str = "exclude";
 /// Key: a row the design must contain, by level labels, `require(name = level, …)`;
 /// parameters left out are chosen by the engine; repeatable.
 pub const REQUIRE: &str = "require";
+/// Key: factors covered at a higher strength than the rest, `focus(codec, unit, workers)`,
+/// at the base strength + 1 unless `strength = N` is given inside (`lambda = N` too);
+/// repeatable.
+pub const FOCUS: &str = "focus";
 /// Key: how many rows of the design run by default, `budget(12)` or `budget(25%)`.
 pub const BUDGET: &str = "budget";
 /// Every key `#[cover(...)]` accepts, in the order messages list them.
-pub const KEYS: &[&str] = &[STRENGTH, LAMBDA, SEED, EXCLUDE, REQUIRE, BUDGET];
+pub const KEYS: &[&str] = &[STRENGTH, LAMBDA, SEED, EXCLUDE, REQUIRE, FOCUS, BUDGET];
+/// The keys a `focus(…)` accepts besides parameter names.
+pub const FOCUS_KEYS: &[&str] = &[STRENGTH, LAMBDA];
 
 /// libtest's attribute, which `#[cover]` writes itself on every row.
 pub const TEST: &str = "test";

@@ -11,7 +11,8 @@
 //! 3. [`mod@validate`] — every check, errors accumulated and located, giving a
 //!    [`CoverSpec`]: the engine's [`heddle_generator::Spec`] (labels are the canonical
 //!    text of each level, see [`text`]; excludes converted by [`exclude`], required rows
-//!    by [`require`], names and levels in both looked up by [`resolve`]), the seed
+//!    by [`require`], focus sets by [`mod@focus`], names and levels looked up by [`resolve`]),
+//!    the seed
 //!    ([`hash::default_seed`] unless given) and the [`Fingerprint`];
 //! 4. [`rows`] — the rows, from the [`pins`] file or the engine;
 //! 5. [`mod@expand`] — the generated code.
@@ -37,6 +38,7 @@ pub mod exclude;
 pub mod expand;
 pub mod find;
 pub mod fingerprint;
+pub mod focus;
 pub mod hash;
 pub mod keywords;
 pub mod nesting;

@@ -11,6 +11,30 @@ use crate::diag::{self, Errors};
 use crate::keywords as kw;
 use crate::text::canonical;
 
+/// The index of the factor `name` (written at `at`) names inside `key(…)`; an unknown
+/// name is added to `errs`. `exclude`, `require` and `focus` share it.
+pub fn factor(
+    name: &syn::Ident,
+    at: impl quote::ToTokens,
+    factors: &[Factor],
+    key: &str,
+    errs: &mut Errors,
+) -> Option<usize> {
+    let name = name.unraw().to_string();
+    let found = factors.iter().position(|f| f.name == name);
+    if found.is_none() {
+        errs.at(
+            at,
+            format!("unknown parameter `{name}` in `{key}(…)`"),
+            format!(
+                "the parameters are {}",
+                diag::list(factors.iter().map(|f| &f.name))
+            ),
+        );
+    }
+    found
+}
+
 /// The factor index `left` names and the level index of `right` among its levels, for
 /// `left op right` inside `key(…)`; every problem is added to `errs`.
 pub fn name_and_level(
@@ -39,19 +63,9 @@ pub fn name_and_level(
         );
         return None;
     };
-    let name = name.unraw().to_string();
-    let Some(fi) = factors.iter().position(|f| f.name == name) else {
-        errs.at(
-            left,
-            format!("unknown parameter `{name}` in `{key}(…)`"),
-            format!(
-                "the parameters are {}",
-                diag::list(factors.iter().map(|f| &f.name))
-            ),
-        );
-        return None;
-    };
+    let fi = factor(name, left, factors, key, errs)?;
     let f = &factors[fi];
+    let name = &f.name;
     let label = canonical(right);
     let Some(level) = f.level_index(&label) else {
         errs.at(

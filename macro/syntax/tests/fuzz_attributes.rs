@@ -43,6 +43,7 @@ fn tokens() -> impl Strategy<Value = String> {
         Just("lambda"),
         Just("seed"),
         Just("exclude"),
+        Just("focus"),
         Just("a"),
         Just("b"),
         Just("Codec"),

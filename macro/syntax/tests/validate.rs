@@ -431,3 +431,66 @@ fn budgets_and_their_mistakes() {
     assert_one_error(check("budget()", f), "`budget()` is not a row count or a share");
     assert_one_error(check("budget(3), budget(4)", f), "duplicate key `budget`");
 }
+
+#[test]
+fn focus_sets_by_name() {
+    use heddle_generator::Focus;
+    let f = "fn f(#[levels(1, 2, 3)] a: u8, #[levels(X::A, X::B)] b: X, #[levels(true, false)] c: bool, #[levels(1, 2)] d: u8) {}";
+    let s = check("focus(c, a, b), focus(a, b, c, d, strength = 3, lambda = 2)", f).unwrap();
+    assert_eq!(
+        s.spec.focus,
+        vec![
+            Focus::new(vec![2, 0, 1], 3),
+            Focus::new(vec![0, 1, 2, 3], 3).lambda(2)
+        ]
+    );
+    // λ defaults to the function's, the strength to one above it
+    let s = check("strength = 1, lambda = 2, focus(a, b)", f).unwrap();
+    assert_eq!(s.spec.focus, vec![Focus::new(vec![0, 1], 2).lambda(2)]);
+    // `show` writes each one back as the attribute would, defaults left out
+    let texts: Vec<String> = check("focus(c, a, b), focus(a, b, c, d, strength = 3, lambda = 2)", f)
+        .unwrap()
+        .spec
+        .focus
+        .iter()
+        .map(|x| heddle_syntax::focus::text(x, &s.spec.factors, 2, 1))
+        .collect();
+    assert_eq!(texts, ["focus(c, a, b)", "focus(a, b, c, d, lambda = 2)"]);
+    // the rows cover every triple of the focus set besides every pair of all
+    let s = check("focus(c, a, b)", f).unwrap();
+    let rows = heddle_syntax::rows_for(&s, None, None).unwrap();
+    assert!(rows.rows.len() >= 12, "3·2·2 triples need 12 rows");
+    heddle_generator::verify(&s.spec, &rows.rows).unwrap();
+    // a focus set is part of the spec; the order of its names is not
+    assert_ne!(check("", f).unwrap().fingerprint, s.fingerprint);
+    assert_eq!(check("focus(a, b, c)", f).unwrap().fingerprint, s.fingerprint);
+}
+
+#[test]
+fn bad_focus_sets() {
+    let f = "fn f(#[levels(1, 2, 3)] a: u8, #[levels(X::A, X::B)] b: X, #[levels(true, false)] c: bool) {}";
+    assert_one_error(check("focus(a, z)", f), "unknown parameter `z` in `focus(…)`");
+    assert_one_error(check("focus(a, b, a)", f), "`a` is named twice in one `focus(…)`");
+    assert_one_error(check("focus()", f), "`focus()` names no parameter");
+    assert_one_error(check("focus", f), "`focus` takes parameter names in parentheses");
+    assert_one_error(
+        check("focus(a, b)", f),
+        "`focus(a, b)` names 2 parameters, fewer than its strength 3",
+    );
+    assert_one_error(
+        check("focus(a, b, c, strength = 2)", f),
+        "`strength = 2` in `focus(…)` is not above the strength 2",
+    );
+    assert_one_error(
+        check("focus(a, b, c, strength = 4)", f),
+        "`strength = 4` in `focus(…)` is above its 3 parameters",
+    );
+    assert_one_error(
+        check("focus(a, b, c, weight = 4)", f),
+        "unknown key `weight` in `focus(…)`",
+    );
+    assert_one_error(
+        check("focus(a, b, c, lambda = 0)", f),
+        "`lambda = 0` is not allowed",
+    );
+}

@@ -32,6 +32,11 @@
 //!                                              detectable_rate at runs_per_interaction
 //!                                              (λ × rounds of --repeat, runs merged);
 //!                                              rows_needed: at most (the design repeated)
+//!       "focus": [ { "levels", "lambda", "rows", "runs", "passes", "failures" } ],
+//!                                              only with focus sets: each focus interaction
+//!                                              at its own strength; rows = design rows
+//!                                              showing it (coverage gains "focus_interactions"
+//!                                              and "focus_at_lambda", counted in "complete")
 //!       "budget": { "rows", "of", "reach": [ { "strength", "interactions", "once", "lambda" } ] }
 //!                                              only when a row budget left rows out: the run
 //!                                              is then not complete; reach per strength 1..t
@@ -92,8 +97,20 @@ struct Suite<'a> {
     flaky: Vec<Flaky<'a>>,
     failing_rows: Vec<FailingRow<'a>>,
     advice: Advice,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    focus: Vec<FocusInteraction<'a>>,
     #[serde(skip_serializing_if = "Option::is_none")]
     budget: Option<Budget>,
+}
+
+#[derive(Serialize)]
+struct FocusInteraction<'a> {
+    levels: Levels<'a>,
+    lambda: u32,
+    rows: usize,
+    runs: u64,
+    passes: u64,
+    failures: u64,
 }
 
 #[derive(Serialize)]
@@ -117,7 +134,15 @@ struct Coverage {
     interactions: usize,
     interactions_run: usize,
     interactions_at_lambda: usize,
+    #[serde(skip_serializing_if = "is_zero")]
+    focus_interactions: usize,
+    #[serde(skip_serializing_if = "is_zero")]
+    focus_at_lambda: usize,
     complete: bool,
+}
+
+fn is_zero(n: &usize) -> bool {
+    *n == 0
 }
 
 #[derive(Serialize)]
@@ -197,8 +222,23 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
             interactions: s.ran.interactions,
             interactions_run: s.ran.interactions_run,
             interactions_at_lambda: s.ran.interactions_at_lambda,
+            focus_interactions: s.ran.focus_interactions,
+            focus_at_lambda: s.ran.focus_at_lambda,
             complete: s.ran.complete(),
         },
+        focus: s
+            .tallies
+            .focus
+            .iter()
+            .map(|f| FocusInteraction {
+                levels: Levels(described(spec, &f.tally.interaction)),
+                lambda: f.lambda,
+                rows: f.tally.rows.len(),
+                runs: f.tally.count.runs,
+                passes: f.tally.count.passes,
+                failures: f.tally.count.failures,
+            })
+            .collect(),
         interactions: entries
             .iter()
             .map(|e| Interaction {

@@ -61,6 +61,13 @@ pub fn render(report: &Report<'_>) -> String {
             s.ran.interactions_at_lambda,
             s.spec.lambda
         );
+        if s.ran.focus_interactions > 0 {
+            let _ = writeln!(
+                out,
+                "> focus sets: {} of {} focus interactions met their lambda",
+                s.ran.focus_at_lambda, s.ran.focus_interactions
+            );
+        }
     }
     for s in report.suites.iter().filter(|s| !s.analysis.suspects.is_empty()) {
         let _ = writeln!(out, "\n### `{}`\n", cell(&s.spec.suite));

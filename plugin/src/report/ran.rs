@@ -1,6 +1,7 @@
 //! What a suite's selected runs actually covered: rows that ran, and t-way interactions
-//! that ran at all and in at least λ distinct rows. A verdict of "all clear" needs every
-//! t-way interaction at λ; a partial run (one nextest partition, a single row rerun with
+//! that ran at all and in at least λ distinct rows — and, with focus sets, their
+//! interactions at their own strength and index. A verdict of "all clear" needs every
+//! t-way interaction at λ and every focus interaction at its index; a partial run (one nextest partition, a single row rerun with
 //! `--exact`, a filter) says what did not run instead.
 
 use heddle_store::Tallies;
@@ -23,6 +24,10 @@ pub struct Ran {
     /// The fewest executions of any row that ran: the rounds every row went through
     /// (`--repeat`, runs merged), 0 when none ran.
     pub min_row_runs: u64,
+    /// Interactions of the focus sets (each at its own strength) the design contains.
+    pub focus_interactions: usize,
+    /// Those in at least their focus set's λ distinct rows that ran.
+    pub focus_at_lambda: usize,
 }
 
 impl Ran {
@@ -56,12 +61,22 @@ impl Ran {
                 ran.interactions_at_lambda += 1;
             }
         }
+        ran.focus_interactions = tallies.focus.len();
+        ran.focus_at_lambda = tallies
+            .focus
+            .iter()
+            .filter(|f| {
+                let rows = f.tally.rows.iter();
+                rows.filter(|&&r| tallies.rows[r as usize].runs > 0).count() >= f.lambda.max(1) as usize
+            })
+            .count();
         ran
     }
 
-    /// Every t-way interaction ran in at least λ rows.
+    /// Every t-way interaction ran in at least λ rows, and every focus interaction in at
+    /// least its focus set's λ.
     pub fn complete(&self) -> bool {
-        self.interactions_at_lambda == self.interactions
+        self.interactions_at_lambda == self.interactions && self.focus_at_lambda == self.focus_interactions
     }
 
     /// Rows with no record.

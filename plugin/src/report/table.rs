@@ -70,11 +70,33 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, report_other_runs: us
     if s.not_run > 0 {
         let _ = write!(line, ", {} not run", s.not_run);
     }
+    let ran = &s.ran;
     let total = s.tallies.total();
     if total.runs > spec.rows.len() as u64 {
         let _ = write!(line, " ({} executions)", total.runs);
     }
     let _ = writeln!(out, "{line}");
+    for f in &spec.focus {
+        let names: Vec<&str> = f
+            .factors
+            .iter()
+            .filter_map(|&c| spec.factors.get(c as usize).map(|x| x.name.as_str()))
+            .collect();
+        let _ = writeln!(
+            out,
+            "  focus ({}): strength {}, lambda {}",
+            names.join(", "),
+            f.strength,
+            f.lambda
+        );
+    }
+    if ran.focus_interactions > 0 {
+        let _ = writeln!(
+            out,
+            "  {} of the {} focus interactions ran in at least their lambda rows",
+            ran.focus_at_lambda, ran.focus_interactions
+        );
+    }
     if let Some(b) = &s.budget {
         let _ = writeln!(
             out,
@@ -84,7 +106,6 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, report_other_runs: us
         );
     }
 
-    let ran = &s.ran;
     if s.analysis.failures == 0 {
         // a budgeted run that ran every row its budget allowed: clear as far as it went
         if let Some(b) = s.budget.as_ref().filter(|b| s.not_run <= b.of - b.rows) {
@@ -146,16 +167,14 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, report_other_runs: us
         );
         let _ = writeln!(out, "       {kind} · score {:.2} · {}", sus.score, sus.reason);
     }
-    if s.analysis.suspects.len() > SHOWN_SUSPECTS {
-        let _ = writeln!(
-            out,
-            "       {}",
-            st.dim(&format!(
-                "and {} more (all in `--format json`)",
-                s.analysis.suspects.len() - SHOWN_SUSPECTS
-            ))
-        );
-    }
+    more(
+        out,
+        st,
+        "       ",
+        s.analysis.suspects.len(),
+        SHOWN_SUSPECTS,
+        "all in `--format json`",
+    );
     if !s.analysis.flaky.is_empty() {
         let _ = writeln!(
             out,
@@ -226,16 +245,14 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, report_other_runs: us
         }
         let _ = writeln!(out, "      rerun: {}", s.rerun(r.row));
     }
-    if failing.len() > SHOWN_ROWS {
-        let _ = writeln!(
-            out,
-            "    {}",
-            st.dim(&format!(
-                "and {} more (all in `--format json`)",
-                failing.len() - SHOWN_ROWS
-            ))
-        );
-    }
+    more(
+        out,
+        st,
+        "    ",
+        failing.len(),
+        SHOWN_ROWS,
+        "all in `--format json`",
+    );
     interactions(out, s, all, st);
 }
 
@@ -351,14 +368,16 @@ fn interactions(out: &mut String, s: &SuiteReport<'_>, all: bool, st: Style) {
             levels_text(&described(s.spec, &e.interaction))
         );
     }
-    if list.len() > shown {
+    more(out, st, "    ", list.len(), shown, "`--all` lists every one");
+}
+
+/// The line under a list cut at `shown` of `total` entries, saying where the rest are.
+fn more(out: &mut String, st: Style, indent: &str, total: usize, shown: usize, rest: &str) {
+    if total > shown {
         let _ = writeln!(
             out,
-            "    {}",
-            st.dim(&format!(
-                "and {} more (`--all` lists every one)",
-                list.len() - shown
-            ))
+            "{indent}{}",
+            st.dim(&format!("and {} more ({rest})", total - shown))
         );
     }
 }

@@ -18,7 +18,7 @@
 //! assert_eq!(r.labels, ["8", "false"]);
 //! ```
 
-use heddle_test::record::{FactorSpec, Outcome, RowRecord, SpecRecord};
+use heddle_test::record::{FactorSpec, FocusSpec, Outcome, RowRecord, SpecRecord};
 
 /// Builds a [`SpecRecord`] field by field.
 #[derive(Clone, Debug)]
@@ -52,6 +52,7 @@ impl SpecBuilder {
                 should_panic: false,
                 budget: None,
                 followups: 0,
+                focus: Vec::new(),
                 time: "2026-01-01T00:00:00.000000Z".into(),
             },
         };
@@ -119,6 +120,16 @@ impl SpecBuilder {
     /// The rows the row budget let run (the first `rows`).
     pub fn budget(mut self, rows: u32) -> SpecBuilder {
         self.rec.budget = Some(rows);
+        self
+    }
+
+    /// Adds a focus set: these factor indices at their own strength and index.
+    pub fn focus(mut self, factors: &[u32], strength: u32, lambda: u32) -> SpecBuilder {
+        self.rec.focus.push(FocusSpec {
+            factors: factors.to_vec(),
+            strength,
+            lambda,
+        });
         self
     }
 

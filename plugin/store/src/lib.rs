@@ -56,4 +56,4 @@ pub use join::{Records, SuiteRecords};
 pub use notes::{LineRef, ReadStats};
 pub use reach::{Reach, reach};
 pub use spec::{SpecError, engine_spec};
-pub use tally::{Count, Interaction, LeftOut, Tallies, Tally, tally};
+pub use tally::{Count, FocusTally, Interaction, LeftOut, Tallies, Tally, tally};

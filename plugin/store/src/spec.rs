@@ -1,7 +1,7 @@
 //! A recorded spec checked for consistency, and turned back into the engine's spec: the
 //! one place that does either, for tallies, coverage checks and the report alike.
 
-use heddle_generator::{Expr, Factor, MAX_LEVELS, MAX_STRENGTH, Spec};
+use heddle_generator::{Expr, Factor, Focus, MAX_LEVELS, MAX_STRENGTH, Spec};
 use heddle_test::record::SpecRecord;
 
 /// Why a spec line cannot be used.
@@ -52,6 +52,11 @@ pub enum SpecError {
         /// Factors (the column sets of arity 1).
         sets: u128,
     },
+    /// A focus set does not fit the spec (the engine's check, in its words).
+    Focus {
+        /// What the engine says.
+        why: String,
+    },
     /// An exclude is not a formula over these factors' levels.
     Exclude {
         /// The recorded text.
@@ -84,6 +89,7 @@ impl std::fmt::Display for SpecError {
             SpecError::RowNames { rows, names } => {
                 write!(f, "{rows} rows but {names} row names")
             }
+            SpecError::Focus { why } => write!(f, "{why}"),
             SpecError::Exclude { text, why } => write!(f, "exclude `{}`: {why}", shortened(text)),
             SpecError::TallyTooLarge { rows, sets } => {
                 return write!(
@@ -151,7 +157,27 @@ pub fn check(spec: &SpecRecord) -> Result<(), SpecError> {
             names: spec.row_names.len(),
         });
     }
+    focus(spec)?;
     excludes(spec).map(drop)
+}
+
+/// The recorded focus sets as the engine's, checked by the engine's own focus check.
+pub(crate) fn focus(spec: &SpecRecord) -> Result<Vec<Focus>, SpecError> {
+    let names: Vec<&str> = spec.factors.iter().map(|f| f.name.as_str()).collect();
+    spec.focus
+        .iter()
+        .enumerate()
+        .map(|(i, f)| {
+            let out = Focus::new(
+                f.factors.iter().map(|&c| c as usize).collect(),
+                f.strength as usize,
+            )
+            .lambda(f.lambda);
+            out.validate(i, &names, spec.strength as usize)
+                .map_err(|e| SpecError::Focus { why: e.to_string() })?;
+            Ok(out)
+        })
+        .collect()
 }
 
 /// The recorded excludes, read as the engine's formulas.
@@ -168,8 +194,8 @@ fn excludes(spec: &SpecRecord) -> Result<Vec<Expr>, SpecError> {
         .collect()
 }
 
-/// The engine's spec a spec line describes (factors with their labels, strength, λ, seed
-/// and excludes; the recorded rows are not required rows of it).
+/// The engine's spec a spec line describes (factors with their labels, strength, λ, seed,
+/// excludes and focus sets; the recorded rows are not required rows of it).
 pub fn engine_spec(spec: &SpecRecord) -> Result<Spec, SpecError> {
     check(spec)?;
     let factors: Vec<Factor> = spec
@@ -182,5 +208,6 @@ pub fn engine_spec(spec: &SpecRecord) -> Result<Spec, SpecError> {
         .lambda(spec.lambda)
         .seed(spec.seed);
     out.excludes = excludes(spec)?;
+    out.focus = focus(spec)?;
     Ok(out)
 }

@@ -126,10 +126,26 @@ pub struct Tallies {
     /// Outcomes given for a row index outside the design (left out).
     pub unknown_rows: u64,
     /// Set when counting every arity up to the spec's strength would have taken more
-    /// than [`MAX_TALLY_CELLS`]: `strength` is then below the spec's.
+    /// than [`MAX_TALLY_CELLS`]: `strength` is then below the spec's (and no focus set
+    /// is counted).
     pub left_out: Option<LeftOut>,
+    /// The interactions of the spec's focus sets, each column set at its own strength
+    /// (variable strength), that some design row contains: by factor indices, then level
+    /// indices; a column set of several focus sets once, at the largest index asked.
+    /// Empty without focus sets or when they did not fit [`MAX_TALLY_CELLS`] (then
+    /// `left_out` says so).
+    pub focus: Vec<FocusTally>,
     /// `starts[a - 1]..starts[a]` are the entries of arity a.
     starts: Vec<usize>,
+}
+
+/// One focus interaction's tally and the index its column set asks for.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct FocusTally {
+    /// The tally.
+    pub tally: Tally,
+    /// λ of its focus set.
+    pub lambda: u32,
 }
 
 /// Interactions a tally left out to stay within [`MAX_TALLY_CELLS`].
@@ -172,8 +188,16 @@ impl Tallies {
         self.of_arity(self.strength)
     }
 
-    /// The tally of one interaction, if the design contains it.
+    /// The tally of one interaction, if the design contains it (a focus interaction
+    /// above the strength among [`Tallies::focus`]).
     pub fn get(&self, interaction: &Interaction) -> Option<&Tally> {
+        if interaction.arity() > self.strength {
+            return self
+                .focus
+                .binary_search_by(|f| f.tally.interaction.cmp(interaction))
+                .ok()
+                .map(|i| &self.focus[i].tally);
+        }
         let group = self.of_arity(interaction.arity());
         group
             .binary_search_by(|t| t.interaction.cmp(interaction))
@@ -227,11 +251,27 @@ pub fn tally(
         });
     };
     let mut tallies = tally_rows(&spec.rows, k, counted, outcomes);
-    if counted < t {
-        tallies.left_out = Some(LeftOut {
-            strength: t,
-            cells: tally_cells(rows, k, t).1,
-        });
+    let focus = spec::focus(spec)?;
+    let sets = heddle_generator::focus_sets(&focus);
+    let focus_cells = (sets.len() as u128).saturating_mul(rows as u128);
+    let base_cells = tally_cells(rows, k, t).1;
+    if counted < t || base_cells.saturating_add(focus_cells) > u128::from(MAX_TALLY_CELLS) {
+        if !sets.is_empty() || counted < t {
+            let top = focus.iter().map(|f| f.strength).max().unwrap_or(t).max(t);
+            tallies.left_out = Some(LeftOut {
+                strength: top,
+                cells: base_cells.saturating_add(focus_cells),
+            });
+        }
+    } else {
+        let mut keys = Vec::with_capacity(rows);
+        for (cols, lambda) in sets {
+            let mut entries = Vec::new();
+            tally_set(&spec.rows, &cols, &tallies.rows, &mut keys, &mut entries);
+            tallies
+                .focus
+                .extend(entries.into_iter().map(|tally| FocusTally { tally, lambda }));
+        }
     }
     Ok(tallies)
 }
@@ -258,30 +298,7 @@ pub(crate) fn tally_rows(
     for arity in 1..=t {
         let mut cols: Vec<usize> = (0..arity).collect();
         loop {
-            keys.clear();
-            keys.extend(rows.iter().enumerate().map(|(i, row)| {
-                // one byte per factor, first factor most significant, so key order is
-                // the lexicographic order of the levels
-                let key = cols.iter().fold(0u64, |acc, &c| (acc << 8) | u64::from(row[c]));
-                (key, i as u32)
-            }));
-            keys.sort_unstable();
-            for group in keys.chunk_by(|a, b| a.0 == b.0) {
-                let key = group[0].0;
-                let levels = (0..arity).map(|j| (key >> (8 * (arity - 1 - j))) as u8).collect();
-                let mut count = Count::default();
-                for &(_, r) in group {
-                    count.merge(&per_row[r as usize]);
-                }
-                entries.push(Tally {
-                    interaction: Interaction {
-                        factors: cols.clone(),
-                        levels,
-                    },
-                    rows: group.iter().map(|&(_, r)| r).collect(),
-                    count,
-                });
-            }
+            tally_set(rows, &cols, &per_row, &mut keys, &mut entries);
             if !next_subset(&mut cols, k) {
                 break;
             }
@@ -294,7 +311,44 @@ pub(crate) fn tally_rows(
         entries,
         unknown_rows,
         left_out: None,
+        focus: Vec::new(),
         starts,
+    }
+}
+
+/// Appends the tally of every combination of levels the rows show on the column set
+/// `cols` (at most 8 columns), in level order; `keys` is scratch.
+fn tally_set(
+    rows: &[Vec<u8>],
+    cols: &[usize],
+    per_row: &[Count],
+    keys: &mut Vec<(u64, u32)>,
+    entries: &mut Vec<Tally>,
+) {
+    let arity = cols.len();
+    keys.clear();
+    keys.extend(rows.iter().enumerate().map(|(i, row)| {
+        // one byte per factor, first factor most significant, so key order is the
+        // lexicographic order of the levels
+        let key = cols.iter().fold(0u64, |acc, &c| (acc << 8) | u64::from(row[c]));
+        (key, i as u32)
+    }));
+    keys.sort_unstable();
+    for group in keys.chunk_by(|a, b| a.0 == b.0) {
+        let key = group[0].0;
+        let levels = (0..arity).map(|j| (key >> (8 * (arity - 1 - j))) as u8).collect();
+        let mut count = Count::default();
+        for &(_, r) in group {
+            count.merge(&per_row[r as usize]);
+        }
+        entries.push(Tally {
+            interaction: Interaction {
+                factors: cols.to_vec(),
+                levels,
+            },
+            rows: group.iter().map(|&(_, r)| r).collect(),
+            count,
+        });
     }
 }
 
@@ -597,6 +651,65 @@ mod tests {
         fn matches_brute_force_on_small_suites((spec, outcomes) in arb_case()) {
             check_against_brute_force(&spec, &outcomes);
         }
+    }
+
+    #[test]
+    fn focus_sets_are_tallied_at_their_own_strength() {
+        // 3^4 at strength 2 with focus sets {0, 1, 2} at 3 (λ = 2) and {1, 2, 3} at 3: the
+        // full factorial 3^4 shows each triple of levels in exactly 3 rows (the fourth
+        // factor free), so every focus interaction appears with 3 rows; the pairs of all
+        // factors keep their arity-2 entries (variable strength, Cohen, Colbourn,
+        // Collofello, Gibbons and Mugridge 2003)
+        let rows: Vec<Vec<u8>> = (0..81u8)
+            .map(|x| vec![x / 27, x / 9 % 3, x / 3 % 3, x % 3])
+            .collect();
+        let spec = SpecBuilder::new("f")
+            .numbered(&[3, 3, 3, 3])
+            .strength(2)
+            .focus(&[2, 0, 1], 3, 2)
+            .focus(&[1, 2, 3], 3, 1)
+            .rows(rows.clone())
+            .build();
+        let outcomes: Vec<(usize, Outcome)> = (0..81)
+            .map(|r| (r, if r == 5 { Outcome::Failed } else { Outcome::Passed }))
+            .collect();
+        let tallies = tally(&spec, outcomes).unwrap();
+        assert_eq!(tallies.interactions().len(), 6 * 9);
+        assert_eq!(tallies.focus.len(), 2 * 27);
+        // sorted by factors then levels, so `get` finds every one by binary search
+        assert!(
+            tallies
+                .focus
+                .windows(2)
+                .all(|w| w[0].tally.interaction < w[1].tally.interaction)
+        );
+        for f in &tallies.focus {
+            let it = &f.tally.interaction;
+            let brute: Vec<u32> = (0..81u32).filter(|&r| it.in_row(&rows[r as usize])).collect();
+            assert_eq!(f.tally.rows, brute, "{it:?}");
+            assert_eq!(f.tally.count.failures, u64::from(brute.contains(&5)), "{it:?}");
+            let want = if it.factors == [0, 1, 2] { 2 } else { 1 };
+            assert_eq!(f.lambda, want, "{it:?}");
+            assert_eq!(tallies.get(it), Some(&f.tally));
+        }
+        // a spec line with a focus set the engine refuses is refused as damaged
+        let bad = SpecBuilder::new("f")
+            .numbered(&[3, 3, 3])
+            .strength(2)
+            .focus(&[0, 1], 3, 1)
+            .rows(vec![vec![0, 0, 0]])
+            .build();
+        let err = tally(&bad, []).unwrap_err().to_string();
+        assert!(
+            err.contains("focus set #1 has strength 3 over only 2 factors"),
+            "{err}"
+        );
+        let spec = crate::engine_spec(&spec).unwrap();
+        assert_eq!(spec.focus.len(), 2);
+        assert_eq!(
+            (spec.focus[0].factors.clone(), spec.focus[0].lambda),
+            (vec![2, 0, 1], 2)
+        );
     }
 
     #[test]

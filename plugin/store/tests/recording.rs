@@ -88,6 +88,7 @@ mod roundtrip {
         should_panic_expected: None,
         budget: None,
         followups: 0,
+        focus: &[],
     };
 
     #[test]
@@ -174,6 +175,7 @@ mod expected_panic {
         should_panic_expected: Some("kaboom"),
         budget: None,
         followups: 0,
+        focus: &[],
     };
 
     #[test]
@@ -235,6 +237,7 @@ mod threads {
         should_panic_expected: None,
         budget: None,
         followups: 0,
+        focus: &[],
     };
 
     pub const THREADS: usize = 16;

@@ -28,7 +28,9 @@
 //! of a field does. Lines of another version are recognised ([`LineError::OtherVersion`])
 //! so a report can say that old records were skipped instead of calling them corrupt.
 //! History: version 1 held excludes as Rust source text and the seed as a number, and
-//! left row names to be recomputed.
+//! left row names to be recomputed. Version 2 gained the optional `focus` field (focus
+//! sets as factor indices, strength and λ: `"focus":[{"factors":[0,2,3],"strength":3,
+//! "lambda":1}]`), absent when there are none, so earlier version 2 lines read unchanged.
 //!
 //! Modules: [`layout`] (where the store lives, file and run id names); `line` (a line's
 //! text both ways, and the cheap classification large stores are read with); `names`
@@ -86,6 +88,17 @@ pub struct FactorSpec {
     pub labels: Vec<String>,
 }
 
+/// A focus set: factors covered at a higher strength than the spec's (variable strength).
+#[derive(Clone, Debug, PartialEq, Eq, Serialize, Deserialize)]
+pub struct FocusSpec {
+    /// Factor indices, in the order the attribute names them.
+    pub factors: Vec<u32>,
+    /// Strength over these factors.
+    pub strength: u32,
+    /// Index over these factors.
+    pub lambda: u32,
+}
+
 /// The spec of one annotated function as a test process saw it.
 #[derive(Clone, Debug, PartialEq, Eq, Serialize, Deserialize)]
 pub struct SpecRecord {
@@ -139,6 +152,10 @@ pub struct SpecRecord {
     /// tell suspects apart), not the design's; absent when none.
     #[serde(default, skip_serializing_if = "is_zero")]
     pub followups: u32,
+    /// Focus sets, covered at their own strength and index; absent when none (and in
+    /// lines written before they existed, which read as none).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub focus: Vec<FocusSpec>,
     /// When the line was written (UTC, RFC 3339).
     pub time: String,
 }
@@ -269,6 +286,7 @@ impl SpecRecord {
                 time: String::new(),
                 budget: None,
                 followups: 0,
+                focus: Vec::new(),
                 rows: s.rows[..n].to_vec(),
                 row_names: s.row_names.iter().take(n).cloned().collect(),
                 ..s.clone()
@@ -358,6 +376,7 @@ mod tests {
             should_panic: false,
             budget: None,
             followups: 0,
+            focus: Vec::new(),
             time: "2025-01-02T03:04:05.000006Z".into(),
         }
     }
@@ -485,6 +504,29 @@ mod tests {
         let text = Line::Row(r.clone()).to_json_line();
         assert!(text.contains(",\"attempt\":2}"), "{text}");
         assert_eq!(Line::parse(text.trim_end()).unwrap(), Line::Row(r));
+    }
+
+    #[test]
+    fn focus_sets_are_written_only_when_present_and_read_back() {
+        // a line without `focus` (as written before focus sets existed) reads as none
+        let plain = Line::Spec(spec()).to_json_line();
+        assert!(!plain.contains("focus"), "{plain}");
+        let Line::Spec(read) = Line::parse(plain.trim_end()).unwrap() else {
+            panic!("a spec line")
+        };
+        assert!(read.focus.is_empty());
+        let mut s = spec();
+        s.focus = vec![FocusSpec {
+            factors: vec![1, 0],
+            strength: 2,
+            lambda: 3,
+        }];
+        let text = Line::Spec(s.clone()).to_json_line();
+        assert!(
+            text.contains(r#","focus":[{"factors":[1,0],"strength":2,"lambda":3}],"#),
+            "{text}"
+        );
+        assert_eq!(Line::parse(text.trim_end()).unwrap(), Line::Spec(s));
     }
 
     #[test]

@@ -21,6 +21,8 @@ pub(super) struct KeyValues<'a> {
     pub(super) excludes: Vec<&'a syn::Expr>,
     /// Each `require(…)`: its key and the tokens inside the parentheses.
     pub(super) requires: Vec<(&'a syn::Ident, &'a proc_macro2::TokenStream)>,
+    /// Each `focus(…)`: its key and the tokens inside the parentheses.
+    pub(super) focus: Vec<(&'a syn::Ident, &'a proc_macro2::TokenStream)>,
     pub(super) budget: Option<Budget>,
 }
 
@@ -82,6 +84,7 @@ pub(super) fn check_keys<'a>(cover: &CoverFn<'a>, errs: &mut Errors) -> KeyValue
         seed: None,
         excludes: Vec::new(),
         requires: Vec::new(),
+        focus: Vec::new(),
         budget: None,
     };
     let mut seen = BTreeSet::new();
@@ -100,15 +103,19 @@ pub(super) fn check_keys<'a>(cover: &CoverFn<'a>, errs: &mut Errors) -> KeyValue
                 &key.arg.key,
                 format!("duplicate key `{name}`"),
                 format!(
-                    "give `{name}` once; only `{}(…)` and `{}(…)` may repeat",
+                    "give `{name}` once; only `{}(…)`, `{}(…)` and `{}(…)` may repeat",
                     kw::EXCLUDE,
-                    kw::REQUIRE
+                    kw::REQUIRE,
+                    kw::FOCUS
                 ),
             );
             continue;
         }
         if matches!(key.arg.value, ArgValue::Flag)
-            && !matches!(key.kind, KeyKind::Exclude | KeyKind::Require | KeyKind::Budget)
+            && !matches!(
+                key.kind,
+                KeyKind::Exclude | KeyKind::Require | KeyKind::Focus | KeyKind::Budget
+            )
         {
             errs.at(
                 &key.arg.key,
@@ -121,60 +128,8 @@ pub(super) fn check_keys<'a>(cover: &CoverFn<'a>, errs: &mut Errors) -> KeyValue
             continue;
         }
         match key.kind {
-            KeyKind::Strength => {
-                if let Some((v, expr)) = int_value(&key.arg.value, kw::STRENGTH, "2", errs) {
-                    // the engine decides the range; the words are the attribute's
-                    let checked = check_strength(v);
-                    if let Ok(t) = checked {
-                        kv.strength = Some((t, expr));
-                    } else if v == 0 {
-                        errs.at(
-                            expr,
-                            format!("`{} = 0` is not allowed", kw::STRENGTH),
-                            format!(
-                                "strength is at least 1: `{} = 1` covers every level, `{} = 2` every pair",
-                                kw::STRENGTH,
-                                kw::STRENGTH
-                            ),
-                        );
-                    } else {
-                        errs.at(
-                            expr,
-                            format!(
-                                "`{} = {v}` is above the supported maximum of {MAX_STRENGTH}",
-                                kw::STRENGTH
-                            ),
-                            format!("use `{} = {MAX_STRENGTH}` or less", kw::STRENGTH),
-                        );
-                    }
-                }
-            }
-            KeyKind::Lambda => {
-                if let Some((v, expr)) = int_value(&key.arg.value, kw::LAMBDA, "2", errs) {
-                    let checked = check_lambda(v);
-                    if let Ok(l) = checked {
-                        kv.lambda = Some(l);
-                    } else if v == 0 {
-                        errs.at(
-                            expr,
-                            format!("`{} = 0` is not allowed", kw::LAMBDA),
-                            format!(
-                                "lambda is at least 1: how many rows must cover each combination; write `{} = 1`",
-                                kw::LAMBDA
-                            ),
-                        );
-                    } else {
-                        errs.at(
-                            expr,
-                            format!(
-                                "`{} = {v}` is above the supported maximum of {MAX_LAMBDA}",
-                                kw::LAMBDA
-                            ),
-                            format!("use `{} = {MAX_LAMBDA}` or less", kw::LAMBDA),
-                        );
-                    }
-                }
-            }
+            KeyKind::Strength => kv.strength = strength_value(&key.arg.value, errs),
+            KeyKind::Lambda => kv.lambda = lambda_value(&key.arg.value, errs).map(|(l, _)| l),
             KeyKind::Seed => {
                 if let Some((v, _)) = int_value(&key.arg.value, kw::SEED, "7", errs) {
                     kv.seed = Some(v);
@@ -206,11 +161,81 @@ pub(super) fn check_keys<'a>(cover: &CoverFn<'a>, errs: &mut Errors) -> KeyValue
                     crate::require::example(),
                 ),
             },
+            KeyKind::Focus => match &key.arg.value {
+                ArgValue::Call { tokens, .. } => kv.focus.push((&key.arg.key, tokens)),
+                _ => errs.at(
+                    &key.arg.key,
+                    format!("`{}` takes parameter names in parentheses", kw::FOCUS),
+                    crate::focus::example(),
+                ),
+            },
             KeyKind::Budget => kv.budget = budget_value(&key.arg.key, &key.arg.value, errs),
             KeyKind::Unknown => {}
         }
     }
     kv
+}
+
+/// The value of `strength = N` (in the attribute or inside `focus(…)`), range-checked by
+/// the engine, the words the attribute's.
+pub(crate) fn strength_value<'a>(value: &'a ArgValue, errs: &mut Errors) -> Option<(usize, &'a syn::Expr)> {
+    let zero = format!(
+        "strength is at least 1: `{} = 1` covers every level, `{} = 2` every pair",
+        kw::STRENGTH,
+        kw::STRENGTH
+    );
+    ranged(
+        value,
+        kw::STRENGTH,
+        check_strength,
+        MAX_STRENGTH as u64,
+        &zero,
+        errs,
+    )
+}
+
+/// The value of `lambda = N` (in the attribute or inside `focus(…)`).
+pub(crate) fn lambda_value<'a>(value: &'a ArgValue, errs: &mut Errors) -> Option<(u32, &'a syn::Expr)> {
+    let zero = format!(
+        "lambda is at least 1: how many rows must cover each combination; write `{} = 1`",
+        kw::LAMBDA
+    );
+    ranged(
+        value,
+        kw::LAMBDA,
+        check_lambda,
+        u64::from(MAX_LAMBDA),
+        &zero,
+        errs,
+    )
+}
+
+/// An integer `key = N` checked by the engine's `check` (1 ..= `max`): 0 and values
+/// above the maximum get the attribute's own words, `zero` the hint for 0.
+fn ranged<'a, T>(
+    value: &'a ArgValue,
+    key: &str,
+    check: fn(u64) -> Result<T, heddle_generator::Error>,
+    max: u64,
+    zero: &str,
+    errs: &mut Errors,
+) -> Option<(T, &'a syn::Expr)> {
+    let (v, expr) = int_value(value, key, "2", errs)?;
+    match check(v) {
+        Ok(t) => Some((t, expr)),
+        Err(_) if v == 0 => {
+            errs.at(expr, format!("`{key} = 0` is not allowed"), zero);
+            None
+        }
+        Err(_) => {
+            errs.at(
+                expr,
+                format!("`{key} = {v}` is above the supported maximum of {max}"),
+                format!("use `{key} = {max}` or less"),
+            );
+            None
+        }
+    }
 }
 
 /// `budget(12)` or `budget(25%)`.

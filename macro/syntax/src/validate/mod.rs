@@ -9,7 +9,7 @@
 //! function is called: async, return type, `#[should_panic]`), [`params`] (the
 //! parameters and their levels); this module joins them into a spec.
 
-mod keys;
+pub(crate) mod keys;
 mod params;
 mod signature;
 
@@ -137,6 +137,13 @@ pub fn validate<'a>(cover: CoverFn<'a>, defaults: &Defaults) -> Result<Checked<'
         }
     }
     allowed.excludes = excludes.clone();
+    let focus: Vec<_> = keys
+        .focus
+        .iter()
+        .filter_map(|&(key, tokens)| {
+            crate::focus::convert(key, tokens, &factors, strength, lambda, &mut errs)
+        })
+        .collect();
     let mut required = Vec::new();
     let mut required_src = Vec::new();
     for &(key, tokens) in &keys.requires {
@@ -177,6 +184,7 @@ pub fn validate<'a>(cover: CoverFn<'a>, defaults: &Defaults) -> Result<Checked<'
     let mut spec = Spec::new(factors).strength(strength).lambda(lambda).seed(seed);
     spec.excludes = excludes;
     spec.required = required;
+    spec.focus = focus;
     if let Err(e) = spec.validate() {
         // limits only the engine knows in full (interaction count, row bound)
         return Err(diag::error_at_span(

@@ -137,7 +137,7 @@ fn overview(report: &Report<'_>) -> Markup {
                                 td class="num" { (s.failed) }
                                 td class="num" { (s.not_run) }
                                 td { @match s.analysis.suspects.first() {
-                                    Some(x) => { code { (levels_text(&described(s.spec, &s.tallies.entries[x.interaction].interaction))) } " " (verdict(x.always, x.explains)) }
+                                    Some(x) => { code { (levels_text(&described(s.spec, &s.tallies.entries[x.interaction].interaction))) } " " (verdict(x)) }
                                     None => { "none" }
                                 } }
                             }
@@ -149,12 +149,14 @@ fn overview(report: &Report<'_>) -> Markup {
     }
 }
 
-/// A suspect's verdict in words.
-fn verdict(always: bool, explains: u64) -> &'static str {
-    match (always, explains) {
-        (true, 0) => "fails always (already explained)",
-        (true, _) => "fails always",
-        (false, _) => "fails sometimes",
+/// A suspect's verdict in the analysis' words, and whether a higher-ranked suspect
+/// already explains its failures.
+fn verdict(x: &crate::analysis::Suspect) -> String {
+    let words = x.verdict.words();
+    if x.explains == 0 {
+        format!("{words} (already explained)")
+    } else {
+        words.to_string()
     }
 }
 
@@ -239,7 +241,7 @@ fn suspects(s: &SuiteReport<'_>) -> Markup {
                             tr data-suspect=(n + 1) {
                                 td class="num" { (n + 1) }
                                 th scope="row" { code { (levels_text(&described(s.spec, &e.interaction))) } }
-                                td { (verdict(x.always, x.explains)) }
+                                td { (verdict(x)) }
                                 td class="num" { (e.count.passes) "/" (e.count.runs) }
                                 td class="num" { (format!("{:.2}", x.score)) }
                                 td { (x.reason) }

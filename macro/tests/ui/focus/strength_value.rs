@@ -1,0 +1,8 @@
+#![allow(dead_code, unused_variables)]
+
+use heddle_macros::cover;
+
+#[cover(focus(a, b, c, strength = "3"), focus(a, b, c, lambda(2)))]
+fn f(#[levels(1, 2)] a: u8, #[levels(true, false)] b: bool, #[levels(1, 2)] c: u8) {}
+
+fn main() {}
