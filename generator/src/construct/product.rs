@@ -1,7 +1,7 @@
 //! The product of two strength-two covering arrays: CA(N + M − v; 2, k·l, v) from
 //! CA(N; 2, k, v) and CA(M; 2, l, v) that both hold the v constant rows (Colbourn,
 //! Martirosyan, Mullen, Shasha, Sherwood & Yucas 2006, "Products of mixed covering arrays
-//! of strength two"; the plain N + M form is older, the constant-row saving is theirs).
+//! of strength two", from memory; the proof below is what the code relies on).
 //!
 //! Its size grows with the factors', which grow with ln k, so the product's grows as
 //! 2·(a + b·ln √k) = 2a + b·ln k: the slope of a good small design at any k, for the cost
