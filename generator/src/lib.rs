@@ -28,8 +28,10 @@
 //!   demand, a search over both); `complete`: [`complete`], rows with unset cells filled
 //!   in; `work`: the fast mode's bound on work;
 //! - `construct`: algebraic constructions (orthogonal arrays incl. ovoids, Hadamard,
-//!   binary families, cyclotomy, recursions), fitted to a spec by dropping columns,
-//!   collapsing levels and stacking;
+//!   difference matrices, binary families, cyclotomy, Singer pairs and covering perfect
+//!   hash families, recursions), fitted to a spec by dropping columns, collapsing levels
+//!   and stacking, and the strength-2 product the engine builds from its own designs for
+//!   many factors;
 //! - `greedy`, `tighten`, `anneal`, `order`: the one-row-at-a-time greedy, the two local
 //!   searches that remove rows (tabu with per-row tables; annealing without, for large
 //!   designs), and the finishing passes;
@@ -86,4 +88,4 @@ pub use verify::{Coverage, Violation, verify};
 
 /// Version of the generation algorithms. Any change that can alter the rows produced for
 /// some spec and seed bumps it, so pinned rows can tell they came from another engine.
-pub const ENGINE_VERSION: u32 = 2;
+pub const ENGINE_VERSION: u32 = 3;

@@ -15,7 +15,11 @@
 //!    suspect explaining failures — a deterministic pair at λ = 1 (target ≥ 98%) and a
 //!    pair failing with probability 0.5 at λ = 2 (target ≥ 90%) — the rows and runs used,
 //!    and how often rows are proposed when no fault is planted (must be never).
-//! 4. The report (tallies, analysis, table and JSON rendering) over 100 000 row records
+//! 4. Aliasing: where an orthogonal array of index λ exists it is the fewest rows, but a
+//!    linear one aliases interactions; figures: rows and aliased interactions of the
+//!    engine's design at λ, and how often a planted pair is ranked first (alone) with it
+//!    and with λ relabelled copies of the λ = 1 design instead.
+//! 5. The report (tallies, analysis, table and JSON rendering) over 100 000 row records
 //!    of 50 suites (target ≤ 2 s), store reading excluded (the runner's bench times it).
 //!
 //! `cargo bench -p cargo-heddle --bench localise [-- TRIALS]` (default 400 per case).
@@ -115,34 +119,134 @@ fn deterministic(trials: usize) {
             let mut rng = Mix(1000 * lambda as u64 + trial as u64);
             let (levels, rows, seed) = random_design(&mut rng, lambda);
             let fault = plant(&mut rng, &rows);
-            let outcomes: Vec<(usize, Outcome)> = rows
-                .iter()
-                .enumerate()
-                .map(|(r, row)| {
-                    (
-                        r,
-                        if fault.in_row(row) {
-                            Outcome::Failed
-                        } else {
-                            Outcome::Passed
-                        },
-                    )
-                })
-                .collect();
-            let rec = record(&levels, lambda, seed, rows, "det");
-            let t = tally(&rec, outcomes).expect("valid spec");
-            let a = analyse(&t);
-            let pos = a
-                .suspects
-                .iter()
-                .position(|s| t.entries[s.interaction].interaction == fault);
-            first += (pos == Some(0)) as usize;
-            named += pos.is_some() as usize;
+            let j = judge_deterministic(&levels, lambda, seed, rows, &fault);
+            first += j.first as usize;
+            named += j.named as usize;
         }
         println!(
             "  lambda {lambda}: first in {:.1}% of {trials} trials, named in {:.1}%",
             100.0 * first as f64 / trials as f64,
             100.0 * named as f64 / trials as f64
+        );
+    }
+}
+
+/// How the report judged one run of a design with a planted deterministic fault.
+struct Judged {
+    /// Ranked first among the suspects.
+    first: bool,
+    /// Ranked first, and no other suspect explains a failure.
+    alone: bool,
+    /// Among the suspects at all.
+    named: bool,
+}
+
+fn judge_deterministic(
+    levels: &[usize],
+    lambda: u32,
+    seed: u64,
+    rows: Vec<Vec<u8>>,
+    fault: &Interaction,
+) -> Judged {
+    let outcomes: Vec<(usize, Outcome)> = rows
+        .iter()
+        .enumerate()
+        .map(|(r, row)| {
+            (
+                r,
+                if fault.in_row(row) {
+                    Outcome::Failed
+                } else {
+                    Outcome::Passed
+                },
+            )
+        })
+        .collect();
+    let rec = record(levels, lambda, seed, rows, "det");
+    let t = tally(&rec, outcomes).expect("valid spec");
+    let a = analyse(&t);
+    let pos = a
+        .suspects
+        .iter()
+        .position(|s| t.entries[s.interaction].interaction == *fault);
+    Judged {
+        first: pos == Some(0),
+        alone: pos == Some(0) && a.suspects.iter().filter(|s| s.explains > 0).count() == 1,
+        named: pos.is_some(),
+    }
+}
+
+/// What aliasing costs: where an orthogonal array of index λ exists it has the fewest
+/// rows (λ·v^t), but a linear one aliases interactions (`Stats::aliased`: pairs of levels
+/// whose rows coincide with another pair's, so that a failure cannot be pinned on one of
+/// them); the engine's design at λ is measured (the optimum, or a less aliased design
+/// the engine preferred). The alternative measured beside it: λ copies of the engine's
+/// λ = 1 design, each copy's levels permuted per column at random (what the engine's own
+/// stacking does, here with the bench's randomness). Figures: rows, how often a planted
+/// deterministic pair is ranked first, and ranked first with no other suspect explaining
+/// a failure.
+fn aliasing(trials: usize) {
+    println!("aliasing: the engine's design at λ against λ relabelled copies of the λ = 1 design:");
+    // (levels, column counts, λ): Rao–Hamming OA(27; 2, 13, 3) of index 3, Sylvester's
+    // Hadamard arrays of orders 8 and 16 (index 2 and 4), Rao–Hamming OA(64; 2, 21, 4)
+    for (v, ks, lambda) in [
+        (3usize, 5..=13usize, 3u32),
+        (2, 4..=7, 2),
+        (2, 8..=15, 4),
+        (4, 6..=20, 4),
+    ] {
+        let (mut rows_oa, mut rows_stack, mut aliased) = (0usize, 0usize, 0u64);
+        let (mut first, mut alone) = ([0usize; 2], [0usize; 2]);
+        for trial in 0..trials {
+            let mut rng = Mix(900_000 + trial as u64);
+            let k = *ks.start() + rng.below((ks.end() - ks.start() + 1) as u64) as usize;
+            let levels = vec![v; k];
+            let seed = rng.next();
+            let spec = Spec::numbered(&levels).strength(2).seed(seed);
+            let oa = generate(&spec.clone().lambda(lambda), Effort::Fast).expect("valid spec");
+            aliased += oa.stats.aliased.unwrap_or(0);
+            let base = generate(&spec, Effort::Fast).expect("valid spec").rows;
+            let mut stack = base.clone();
+            for _ in 1..lambda {
+                let perms: Vec<Vec<u8>> = (0..k)
+                    .map(|_| {
+                        let mut p: Vec<u8> = (0..v as u8).collect();
+                        for i in (1..v).rev() {
+                            p.swap(i, rng.below(i as u64 + 1) as usize);
+                        }
+                        p
+                    })
+                    .collect();
+                stack.extend(base.iter().map(|r| {
+                    r.iter()
+                        .zip(&perms)
+                        .map(|(&l, p)| p[l as usize])
+                        .collect::<Vec<u8>>()
+                }));
+            }
+            rows_oa += oa.rows.len();
+            rows_stack += stack.len();
+            let fault = plant(&mut rng, &oa.rows);
+            for (i, rows) in [oa.rows, stack].into_iter().enumerate() {
+                let j = judge_deterministic(&levels, lambda, seed, rows, &fault);
+                first[i] += j.first as usize;
+                alone[i] += j.alone as usize;
+            }
+        }
+        let pct = |n: usize| 100.0 * n as f64 / trials as f64;
+        let avg = |n: usize| n as f64 / trials as f64;
+        println!(
+            "  {v}^{}..{} lambda {lambda}: engine {:.1} rows (aliased {:.0} on average), first {:.1}%, alone {:.1}%; \
+             copies {:.1} rows, first {:.1}%, alone {:.1}%",
+            ks.start(),
+            ks.end(),
+            avg(rows_oa),
+            avg(aliased as usize),
+            pct(first[0]),
+            pct(alone[0]),
+            avg(rows_stack),
+            pct(first[1]),
+            pct(alone[1])
         );
     }
 }
@@ -411,6 +515,7 @@ fn main() {
         .find_map(|a| a.parse().ok())
         .unwrap_or(400);
     deterministic(trials);
+    aliasing(trials);
     flaky(trials);
     localisation_with_follow_ups(trials);
     report_speed();

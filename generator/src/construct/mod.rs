@@ -8,10 +8,13 @@
 
 mod binary;
 mod cyclotomy;
+mod difference;
 mod gf;
 mod hadamard;
+mod hash_family;
 mod offers;
 mod orthogonal;
+mod product;
 mod stack;
 #[cfg(test)]
 mod tests;
@@ -19,6 +22,7 @@ mod transform;
 
 use hadamard::Recipe;
 use offers::{Candidate, candidates};
+pub(crate) use product::{constant_rows, product, split};
 use stack::Offer;
 
 use crate::bounds;

@@ -4,7 +4,9 @@
 
 use super::hadamard::{self, Recipe};
 use super::stack::Offer;
-use super::{MAX_WEIGHT_CLASS_COLUMNS, Source, best_within, binary, cyclotomy, gf, orthogonal};
+use super::{
+    MAX_WEIGHT_CLASS_COLUMNS, Source, best_within, binary, cyclotomy, difference, gf, hash_family, orthogonal,
+};
 use crate::factor::Row;
 
 /// An offered construction: what it is, its index at the wanted strength, its rows, and
@@ -60,8 +62,10 @@ pub(super) fn candidates(levels: &[usize], t: usize, lambda: u32, limit: usize) 
     };
     general(&mut o);
     fields(&mut o);
+    difference_matrices(&mut o);
     recursive(&mut o);
     two_level(&mut o);
+    hash_families(&mut o);
     prune_dominated(o.out)
 }
 
@@ -145,9 +149,16 @@ fn fields(o: &mut Offers<'_>) {
     // rows holding a pair of levels form a coset that the pairs of collinear columns share
     // (measured on 3^13: every pair shares all its rows with another), so those
     // interactions cannot be told apart by the λ rows a user asks for to tell them apart.
-    // The engine takes the optimum and says so: `Stats::aliased` counts such interactions;
-    // a stack of two or more relabelled copies (λ a multiple of twice an index on offer)
+    // It is offered as the optimum it is; the engine decides per spec whether a design
+    // that aliases fewer interactions is worth its extra rows (`ALIAS_FREE_SHARE` in
+    // engine.rs) and says what is left: `Stats::aliased` counts such interactions; a
+    // stack of two or more relabelled copies (λ a multiple of twice an index on offer)
     // shares only a copy's rows (see `relabelled`).
+    // What aliasing costs, measured by the localisation benchmark (plugin/benches/
+    // localise.rs, 200 trials each, a planted deterministic pair): 3^5…13 at λ = 3, the
+    // array's 27 rows rank the pair first in 42% of trials (alone 22%), λ relabelled
+    // copies of the λ = 1 design (40 rows) in 94% (alone 91%); 4^6…20 at λ = 4, 64 rows
+    // 33% against 104 rows 100%.
     let fields = || (vmax..=gf::MAX_ORDER).filter(|&q| gf::prime_power(q).is_some());
     let mut tries: Vec<(usize, u32)> = Vec::new();
     if let Some(q0) = fields().next() {
@@ -170,6 +181,58 @@ fn fields(o: &mut Offers<'_>) {
     }
 }
 
+/// Masuyama's index-2 arrays OA(2q²; 2, 2^1 q^(2q+1)) from a difference matrix
+/// D(2q, 2q; q) (see `difference`), over the smallest odd field with the levels: a factor of
+/// at most two levels, where the spec has one and needs every column, takes the array's
+/// two-level column.
+fn difference_matrices(o: &mut Offers<'_>) {
+    let (k, levels) = (o.k, o.levels);
+    if o.t != 2 || o.lambda < 2 || k < 3 {
+        return;
+    }
+    let small = (0..k).filter(|&f| levels[f] <= 2).min_by_key(|&f| levels[f]);
+    let vmax = (0..k)
+        .filter(|&f| Some(f) != small)
+        .map(|f| levels[f])
+        .max()
+        .unwrap_or(2);
+    let odd = |q: &usize| !q.is_multiple_of(2) && gf::prime_power(*q).is_some();
+    let Some(q) = (vmax.max(3)..=gf::MAX_ORDER).find(odd) else {
+        return;
+    };
+    let two_level = small.filter(|_| k == 2 * q + 2);
+    if k > 2 * q + 1 + usize::from(two_level.is_some()) {
+        return;
+    }
+    let Some(field) = gf::Field::new(q) else {
+        return;
+    };
+    let Some(d) = difference::matrix(&field) else {
+        return;
+    };
+    let array = difference::array(&field, &d);
+    // the array's column for each factor: the two-level one, or the next q-level one
+    let mut next = 1;
+    let columns: Vec<usize> = (0..k)
+        .map(|f| {
+            if Some(f) == two_level {
+                0
+            } else {
+                next += 1;
+                next - 1
+            }
+        })
+        .collect();
+    let rows: Vec<Row> = array
+        .iter()
+        .map(|r| columns.iter().map(|&c| r[c]).collect())
+        .collect();
+    let n = rows.len();
+    let slack = (0..k).any(|f| levels[f] < if Some(f) == two_level { 2 } else { q });
+    let name = format!("masuyama(q={q})");
+    o.offer(Source::Rows(name, rows), 2, n, slack);
+}
+
 /// Arrays built from smaller arrays of the same spec family: strength 3 on twice the
 /// columns (v ≥ 3; the binary case is Roux's, among the two-level constructions).
 fn recursive(o: &mut Offers<'_>) {
@@ -183,6 +246,56 @@ fn recursive(o: &mut Offers<'_>) {
         // its parts had their redundant rows removed already
         let slack = o.collapses(o.vmax);
         o.offer(Source::Rows(name, rows), 1, n, slack);
+    }
+}
+
+/// Covering perfect hash families over the smallest field with the levels (Sherwood,
+/// Martirosyan & Colbourn 2006; Colbourn, Lanus & Sarkar 2018): n·(q^t − q) + q rows with
+/// Sherwood's vectors, n·(q^t − 1) + 1 with any, for the fewest family rows n the search
+/// finds, tried only while that is below every other offer — past Bush's q + 1 columns,
+/// where one linear array is not enough.
+fn hash_families(o: &mut Offers<'_>) {
+    let (k, t, vmax) = (o.k, o.t, o.vmax);
+    if t < 3 || o.lambda != 1 || vmax < 3 {
+        return;
+    }
+    let Some(q) = (vmax..=gf::MAX_ORDER).find(|&q| gf::prime_power(q).is_some()) else {
+        return;
+    };
+    if k <= orthogonal::bush_capacity(q, t) {
+        return;
+    }
+    let others = o.out.iter().map(|c| c.offer.rows).min().unwrap_or(usize::MAX);
+    let Some(field) = gf::Field::new(q) else {
+        return;
+    };
+    let mut others = others;
+    if t == 3
+        && let Some(rows) = hash_family::singer_pair(&field, k)
+    {
+        // Sherwood's two-row family still saves q − 1 rows where the search finds it
+        // (3^10: 51 rows, which the strength-3 doubling of 3^20 builds on)
+        let n = rows.len();
+        let slack = o.collapses(q);
+        o.offer(Source::Rows(format!("singer-pair(q={q})"), rows), 1, n, slack);
+        others = others.min(n);
+    }
+    // Sherwood's vectors first at each n (fewer rows), then any vectors (more columns)
+    for n in 2.. {
+        for kind in [hash_family::Kind::Affine, hash_family::Kind::Projective] {
+            let Some(size) = hash_family::size(kind, q, t, n).filter(|&s| s < others && s <= o.limit) else {
+                return;
+            };
+            if let Some(family) = hash_family::family(&field, kind, t, k, n) {
+                let rows: Vec<Row> = hash_family::rows(&field, kind, t, &family);
+                debug_assert!(rows.len() <= size);
+                let slack = o.collapses(q);
+                let name = hash_family::name(kind, q, t, n);
+                let n = rows.len();
+                o.offer(Source::Rows(name, rows), 1, n, slack);
+                return;
+            }
+        }
     }
 }
 

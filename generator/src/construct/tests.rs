@@ -517,3 +517,123 @@ fn cyclotomy_reaches_the_tables_for_binary_strength_four() {
     assert!(c.rows.len() <= 67, "{} rows by {}", c.rows.len(), c.method);
     assert!(c.method.contains("cyclotomy"), "{}", c.method);
 }
+
+#[test]
+fn product_of_strength_two_arrays_shares_the_constant_rows() {
+    use super::{gf, orthogonal, product};
+    // CAN(2, k·l, v) ≤ N + M − v when CA(N; 2, k, v) and CA(M; 2, l, v) both hold the v
+    // constant rows (Colbourn, Martirosyan, Mullen, Shasha, Sherwood & Yucas 2006, from
+    // memory). OA(q²; 2, q, q) with columns (1, x), x ∈ GF(q), holds them (rows (a, 0)).
+    for q in [3usize, 4, 5] {
+        let field = gf::Field::new(q).unwrap();
+        let cols: Vec<Vec<u8>> = (0..q as u8).map(|x| vec![1, x]).collect();
+        let oa = orthogonal::linear(&field, &cols);
+        let levels = vec![q; q * q];
+        let rows = product::product(&oa, &oa, &levels);
+        assert_eq!(rows.len(), 2 * q * q - q, "q = {q}");
+        if let Err(v) = verify(&spec(&levels, 2, 1), &rows) {
+            panic!("product for q = {q} is invalid: {v}");
+        }
+        // fewer columns and collapsed levels stay covered
+        let mixed: Vec<usize> = (0..q * q - 2).map(|c| 2 + c % (q - 1)).collect();
+        let rows = product::product(&oa, &oa, &mixed);
+        assert!(verify(&spec(&mixed, 2, 1), &rows).is_ok(), "q = {q} collapsed");
+    }
+    // without shared constant rows nothing is left out: N + M
+    let field = gf::Field::new(3).unwrap();
+    let oa = orthogonal::linear(&field, &orthogonal::bush_columns(&field, 2, false)[..4]);
+    assert_eq!(product::product(&oa, &oa, &[3; 16]).len(), 9 + 9 - 1);
+}
+
+#[test]
+fn many_factors_at_strength_two_take_the_product() {
+    // 3^400: two designs on 20 columns with the three constant rows; the engine's
+    // checker validates the result, and its size is the two factors' less 3
+    let d = generate(&spec(&[3; 400], 2, 1), Effort::Fast).unwrap();
+    assert!(d.stats.method.starts_with("product("), "{}", d.stats.method);
+    let factor = generate(
+        &super::constant_rows(3, 20)
+            .into_iter()
+            .fold(spec(&[3; 20], 2, 1), Spec::require),
+        Effort::Fast,
+    )
+    .unwrap();
+    assert!(d.rows.len() <= 2 * factor.rows.len() - 3, "{} rows", d.rows.len());
+}
+
+#[test]
+fn hash_families_of_permutation_vectors() {
+    use super::{gf, hash_family};
+    use hash_family::Kind::{Affine, Projective};
+    // Sherwood, Martirosyan & Colbourn 2006 (from memory): a covering perfect hash family
+    // CPHF(n; k, q^t, t) of permutation vectors (1, x) gives CA(n(q^t − q) + q; t, k, q),
+    // e.g. two rows over GF(4) at t = 3: 2·(64 − 4) + 4 = 124 rows; with any vectors
+    // (Colbourn, Lanus & Sarkar 2018, from memory) CA(n(q^t − 1) + 1; t, k, q)
+    for (kind, q, t, n, k) in [
+        (Affine, 3usize, 3usize, 2usize, 9usize),
+        (Affine, 4, 3, 2, 12),
+        (Affine, 5, 3, 2, 14),
+        (Affine, 3, 4, 3, 10),
+        (Projective, 4, 3, 2, 16),
+        (Projective, 3, 3, 2, 11),
+    ] {
+        let field = gf::Field::new(q).unwrap();
+        let family = hash_family::family(&field, kind, t, k, n)
+            .unwrap_or_else(|| panic!("no {kind:?} family for q={q} t={t} n={n} k={k}"));
+        let rows = hash_family::rows(&field, kind, t, &family);
+        assert_eq!(
+            Some(rows.len()),
+            hash_family::size(kind, q, t, n),
+            "{kind:?} q={q} t={t} n={n}"
+        );
+        if let Err(v) = verify(&spec(&vec![q; k], t, 1), &rows) {
+            panic!("{kind:?} family for q={q} t={t} n={n} k={k} is invalid: {v}");
+        }
+    }
+    // Raaphorst, Moura & Stevens 2014 (from memory): CA(2q³ − 1; 3, q² + q + 1, q), e.g.
+    // CA(127; 3, 21, 4), at or below the tables' 127 rows for 4^20
+    for q in [3usize, 4, 5, 7, 8] {
+        let field = gf::Field::new(q).unwrap();
+        let k = q * q + q + 1;
+        let rows = hash_family::singer_pair(&field, k).unwrap();
+        assert_eq!(rows.len(), 2 * q * q * q - 1, "q = {q}");
+        if let Err(v) = verify(&spec(&vec![q; k], 3, 1), &rows) {
+            panic!("singer pair for q = {q} is invalid: {v}");
+        }
+    }
+    assert_eq!(hash_family::size(Affine, 4, 3, 2), Some(124));
+    assert_eq!(hash_family::size(Projective, 4, 3, 2), Some(127));
+    // past Bush's q + 1 columns the offers are taken where smaller: 4^14 at t = 3 (Bush
+    // over GF(4) stops at 6 columns; the v-ary doubling of 4^7 needs more rows) gets a
+    // searched family's 124 rows, 3^12 at t = 4 one's 3·(81 − 3) + 3 = 237
+    let c = checked(&[4; 14], 3, 1);
+    assert!(c.rows.len() <= 124, "{} rows by {}", c.rows.len(), c.method);
+    let c = checked(&[3; 12], 4, 1);
+    assert!(c.rows.len() <= 237, "{} rows by {}", c.rows.len(), c.method);
+}
+
+#[test]
+fn index_two_arrays_from_difference_matrices() {
+    use super::{difference, gf};
+    // Masuyama 1957 (from memory): OA(18; 2, 2^1 3^7) of index 2, the classical 18-run
+    // array, and OA(50; 2, 2^1 5^11) (N. J. A. Sloane's library of orthogonal arrays, from
+    // memory): 2q² rows, the counting bound λ·q² at λ = 2; the family goes on for every
+    // odd prime power (q = 7, 9 checked too)
+    for q in [3usize, 5, 7, 9] {
+        let field = gf::Field::new(q).unwrap();
+        let d = difference::matrix(&field).unwrap_or_else(|| panic!("no D(2q, 2q; q) for q = {q}"));
+        let rows = difference::array(&field, &d);
+        assert_eq!(rows.len(), 2 * q * q);
+        let levels: Vec<usize> = [2].into_iter().chain(std::iter::repeat_n(q, 2 * q + 1)).collect();
+        if let Err(v) = verify(&spec(&levels, 2, 2), &rows) {
+            panic!("q = {q}: {v}");
+        }
+        // through the offers, in the spec's column order and with a factor collapsed
+        let mut mixed = levels.clone();
+        mixed.rotate_left(3);
+        mixed[1] = q - 1;
+        let c = checked(&mixed, 2, 2);
+        assert_eq!(c.rows.len(), 2 * q * q, "{}", c.method);
+        assert!(c.optimal);
+    }
+}

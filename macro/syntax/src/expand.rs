@@ -19,7 +19,7 @@
 use std::path::{Path, PathBuf};
 
 use proc_macro2::{Literal, Span, TokenStream};
-use quote::{ToTokens, format_ident, quote};
+use quote::{ToTokens, format_ident, quote, quote_spanned};
 use syn::{Attribute, FnArg, Item, ItemFn};
 
 use crate::args::Args;
@@ -438,6 +438,26 @@ fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStre
         }
     });
 
+    // a proc macro has no warnings of its own on stable Rust: the use of a deprecated
+    // item, at the function's name, carries the advice into the build's warnings
+    let advice = if rows.pin_advised {
+        let note = diag::message(
+            format!("the rows of `{function}` are costly to generate on every build ({n} rows)"),
+            format!(
+                "run `{}` once to keep them in the pins file",
+                crate::pins::PIN_COMMAND
+            ),
+        );
+        let at = cover.item.sig.ident.span();
+        quote_spanned! {at=>
+            #[deprecated(note = #note)]
+            const __HEDDLE_PIN_ADVISED: () = ();
+            const _: () = __HEDDLE_PIN_ADVISED;
+        }
+    } else {
+        quote!()
+    };
+
     quote! {
         #plain
 
@@ -449,6 +469,7 @@ fn generate_code(checked: &Checked<'_>, rows: &Rows, ctx: &Context) -> TokenStre
             use super::*;
 
             #tracked
+            #advice
             // read here so that the compiler records it and cargo rebuilds the rows when
             // it changes: the expansion read it to decide which rows are past the budget
             const _: ::core::option::Option<&str> = ::core::option_env!(#BUDGET_VAR);

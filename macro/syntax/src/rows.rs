@@ -21,6 +21,10 @@ pub struct Rows {
     pub pinned: bool,
     /// Follow-up rows from the pins file (`cargo heddle probe`), run after the design's.
     pub followups: Vec<Vec<u8>>,
+    /// The engine made them and advised pinning them (`Stats::pin_advised`: the spec
+    /// costs seconds per build, or the fast mode's work bound cut a method short); the
+    /// expansion then warns at build time. Never set for pinned rows.
+    pub pin_advised: bool,
 }
 
 /// Why no rows could be had.
@@ -160,6 +164,7 @@ fn design_rows(spec: &CoverSpec, key: Option<&PinKey>, pins: Option<&PinsFile>) 
             rows: pin.rows.clone(),
             pinned: true,
             followups: Vec::new(),
+            pin_advised: false,
         });
     }
     let design = generate(&spec.spec, Effort::Fast).map_err(RowsError::Engine)?;
@@ -167,5 +172,6 @@ fn design_rows(spec: &CoverSpec, key: Option<&PinKey>, pins: Option<&PinsFile>) 
         rows: design.rows,
         pinned: false,
         followups: Vec::new(),
+        pin_advised: design.stats.pin_advised,
     })
 }

@@ -531,3 +531,35 @@ fn stale_or_unfit_followup_rows_are_errors() {
         "{errs:?}"
     );
 }
+
+#[test]
+fn a_costly_spec_warns_at_build_time_that_pinning_is_better() {
+    // 40 two-level factors at strength 3: the engine's fast mode reports `pin_advised`
+    // for it (its work passes the pinning threshold); the expansion turns that into the
+    // use of a deprecated item, the one warning a proc macro can raise on stable Rust
+    let params: Vec<String> = (0..40)
+        .map(|i| format!("#[levels(false, true)] p{i}: bool"))
+        .collect();
+    let item = format!("fn wide({}) {{}}", params.join(", "));
+    let design = heddle_generator::generate(
+        &heddle_generator::Spec::numbered(&[2; 40]).strength(3),
+        heddle_generator::Effort::Fast,
+    )
+    .unwrap();
+    assert!(design.stats.pin_advised, "{:?}", design.stats.methods);
+    let out = run("strength = 3", &item, &ctx_in("tests/wide.rs"));
+    assert!(errors(&out).is_empty(), "{:?}", errors(&out));
+    let all = text(the_mod(&out).unwrap());
+    assert!(all.contains("# [deprecated (note ="), "{all}");
+    assert!(all.contains("const _ : () = __HEDDLE_PIN_ADVISED"), "{all}");
+    assert!(
+        all.contains("the rows of `wide` are costly to generate on every build"),
+        "{all}"
+    );
+    assert!(all.contains("hint: run `cargo heddle pin`"), "{all}");
+    // an ordinary spec, and a pinned one, stay silent
+    let small = text(the_mod(&run(ATTR, ITEM, &ctx_in("tests/codec.rs"))).unwrap());
+    assert!(!small.contains("__HEDDLE_PIN_ADVISED"), "{small}");
+    let pinned = run(ATTR, ITEM, &pinned_ctx(vec![vec![2, 0, 1]], None));
+    assert!(!text(the_mod(&pinned).unwrap()).contains("__HEDDLE_PIN_ADVISED"));
+}
