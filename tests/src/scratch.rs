@@ -394,6 +394,9 @@ const INHERITED_NOT: &[&str] = &[
     "CI_PIPELINE_ID",
     "BUILDKITE_BUILD_ID",
     "CIRCLE_WORKFLOW_ID",
+    // a CI service colours a terminal's output whatever `TERM` says (anstream); the
+    // temporary crates' programs see the terminal, or the pipe, a test gives them
+    "CI",
 ];
 
 /// The first `error` line of cargo's stderr, for a one-line reason.
