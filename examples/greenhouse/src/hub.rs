@@ -1,7 +1,7 @@
 //! The hub: batches, frames, a worker pool, duplicate filtering and merging.
 
 use std::collections::HashSet;
-use std::sync::Mutex;
+use std::sync::{Barrier, Mutex};
 
 use crate::codec::{decode, encode};
 use crate::{Config, Flush, HubError, Reading, Summary};
@@ -51,9 +51,11 @@ impl Hub {
             .collect();
         let summary: Mutex<Summary> = Mutex::new(Summary::new());
         let errors: Mutex<Vec<HubError>> = Mutex::new(Vec::new());
+        // the hub closes its workers together, at the end of the stream
+        let closing = Barrier::new(c.workers);
         std::thread::scope(|s| {
             for w in 0..c.workers {
-                let (frames, summary, errors) = (&frames, &summary, &errors);
+                let (frames, summary, errors, closing) = (&frames, &summary, &errors, &closing);
                 s.spawn(move || {
                     let mut local = Summary::new();
                     for (n, frame) in frames.iter().enumerate().skip(w).step_by(c.workers) {
@@ -74,6 +76,7 @@ impl Hub {
                             merge_locked(summary, &mut local);
                         }
                     }
+                    closing.wait();
                     if c.flush == Flush::OnClose {
                         publish_on_close(summary, &mut local);
                     }
@@ -100,7 +103,7 @@ mod log {
     /// all hit the audit log at once.
     const MAX_JITTER_US: u64 = 6_000;
     /// How long one audit write takes (the site's log is synced on every entry).
-    const WRITE_US: u64 = 50;
+    const WRITE_US: u64 = 150;
 
     /// Waits a random time below [`MAX_JITTER_US`] (fresh entropy from the standard
     /// library's hasher keys).
