@@ -483,15 +483,6 @@ mod random_specs {
             check_random(&raw[..t + extra], t, lambda)?;
         }
 
-        /// Strength 4 with fewer levels, so that the checker stays quick in debug builds.
-        #[test]
-        fn every_strength_four_construction_is_valid(
-            extra in 0usize..=5,
-            lambda in 1u32..=2,
-            raw in proptest::collection::vec(1usize..=5, 9),
-        ) {
-            check_random(&raw[..4 + extra], 4, lambda)?;
-        }
 
         /// Binary specs, where the two-level constructions apply.
         #[test]
@@ -504,6 +495,27 @@ mod random_specs {
             prop_assume!(k > t);
             let levels: Vec<usize> = (0..k).map(|i| if ones[i] && i % 5 == 0 { 1 } else { 2 }).collect();
             check_random(&levels, t, lambda)?;
+        }
+    }
+
+    proptest! {
+        // a third of the cases above: the hash families' bounded search costs about
+        // 80 ms a spec at t = 4, and each construction that applies at t = 4 still meets
+        // dozens of specs
+        #![proptest_config(ProptestConfig {
+            cases: 50,
+            failure_persistence: None,
+            ..ProptestConfig::default()
+        })]
+
+        /// Strength 4 with fewer levels, so that the checker stays quick in debug builds.
+        #[test]
+        fn every_strength_four_construction_is_valid(
+            extra in 0usize..=5,
+            lambda in 1u32..=2,
+            raw in proptest::collection::vec(1usize..=5, 9),
+        ) {
+            check_random(&raw[..4 + extra], 4, lambda)?;
         }
     }
 }
