@@ -300,21 +300,23 @@ impl Context<'_> {
         // `ALIAS_FREE_SHARE` more rows; otherwise the optimum stays and
         // `Stats::aliased` says how many interactions it leaves indistinguishable.
         let mut optimum = None;
-        if lambda >= 2
-            && proven
-            && let Some(c) = construction.as_ref()
-        {
-            let aliased = order::aliased(self.layout, self.possible, &c.rows).unwrap_or(0);
-            if aliased > 0 {
-                run.note(format!(
-                    "{}: {aliased} interactions share all their rows with another",
-                    c.method
-                ));
-                optimum = Some((c.method.clone(), c.rows.clone(), aliased));
-                proven = false;
+        let construction = match construction {
+            Some(c) if lambda >= 2 && proven => {
+                let aliased = order::aliased(self.layout, self.possible, &c.rows).unwrap_or(0);
+                if aliased > 0 {
+                    run.note(format!(
+                        "{}: {aliased} interactions share all their rows with another",
+                        c.method
+                    ));
+                    optimum = Some((c.method, c.rows, aliased));
+                    proven = false;
+                    None
+                } else {
+                    Some(c)
+                }
             }
-        }
-        let construction = if optimum.is_some() { None } else { construction };
+            other => other,
+        };
         let (mut method, mut rows) = match construction {
             // at the counting bound, or at a proven minimum (e.g. Kleitman–Spencer),
             // nothing can be smaller: skip the search
