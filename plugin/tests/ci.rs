@@ -161,6 +161,12 @@ fn a_partial_run_is_never_all_clear() {
         one.stdout
     );
     assert!(one.stdout.contains("did not run"), "{}", one.stdout);
+    // the advice's figure is the design's, and says so
+    assert!(
+        one.stdout.contains("(in a complete run), an interaction failing"),
+        "{}",
+        one.stdout
+    );
 
     // the whole suite, then a one-row rerun: the rerun says the store holds more
     let full = heddle(

@@ -296,9 +296,15 @@ fn advice(out: &mut String, s: &SuiteReport<'_>, st: Style) {
     } else {
         String::new()
     };
+    // when some interaction did not run, the figure is the design's, not this run's
+    let whole = if s.ran.min_runs == 0 {
+        " (in a complete run)"
+    } else {
+        ""
+    };
     let _ = writeln!(
         out,
-        "    at lambda {lambda}{over}, an interaction failing at least {} of the time is seen failing with {c} confidence",
+        "    at lambda {lambda}{over}{whole}, an interaction failing at least {} of the time is seen failing with {c} confidence",
         pct(a.detectable)
     );
     if let Some((rate, needed, rows)) = a.flake {

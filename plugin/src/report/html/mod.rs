@@ -458,6 +458,7 @@ fn advice(s: &SuiteReport<'_>) -> Markup {
             p {
                 "At λ = " (lambda)
                 @if a.rounds > 1 { " over " (a.rounds) " rounds (" (a.runs) " runs per interaction)" }
+                @if s.ran.min_runs == 0 { " (in a complete run)" }
                 ", an interaction failing at least " (percent(a.detectable))
                 " of the time is seen failing with " (percent(a.confidence)) " confidence."
                 @if let Some((rate, needed, rows)) = a.flake {
