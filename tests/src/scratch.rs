@@ -155,9 +155,9 @@ impl std::fmt::Display for CreateError {
     }
 }
 
-/// A crate in a temporary directory, removed on drop.
+/// A temporary crate, in a directory of its own named for it (see [`crates_dir`]).
 pub struct Scratch {
-    dir: tempfile::TempDir,
+    dir: PathBuf,
     name: String,
     offline: bool,
 }
@@ -181,10 +181,7 @@ impl Scratch {
     /// why resolution failed both offline and online (for tests that need a dependency
     /// from the registry).
     pub fn create(def: &CrateDef<'_>) -> Result<Scratch, CreateError> {
-        let dir = tempfile::Builder::new()
-            .prefix(&format!("heddle-e2e-{}-", def.name))
-            .tempdir()
-            .map_err(|e| CreateError::Setup(format!("cannot create a temporary directory: {e}")))?;
+        let dir = crates_dir().join(def.name);
         let runner = workspace_root().join("runner");
         let mut manifest = format!(
             "[package]\nname = \"{}\"\nversion = \"0.0.0\"\nedition = \"2024\"\npublish = false\n\n",
@@ -204,19 +201,23 @@ impl Scratch {
             manifest.push_str(line);
             manifest.push('\n');
         }
+        let lock = workspace_root().join("Cargo.lock");
+        let lock_text = std::fs::read_to_string(&lock)
+            .map_err(|e| CreateError::Setup(format!("cannot read `{}`: {e}", lock.display())))?;
+        let mut files: Vec<(&str, &str)> = vec![
+            ("Cargo.toml", &manifest),
+            ("Cargo.lock", &lock_text),
+            ("src/lib.rs", "//! Nothing: the suites are integration tests.\n"),
+        ];
+        files.extend(def.files.iter().copied());
+        lay_out(&dir, &files).map_err(|e| {
+            CreateError::Setup(format!("cannot lay out `{}`: {e}", dir.display()))
+        })?;
         let mut krate = Scratch {
             dir,
             name: def.name.to_string(),
             offline: false,
         };
-        krate.write("Cargo.toml", &manifest);
-        krate.write("src/lib.rs", "//! Nothing: the suites are integration tests.\n");
-        for (path, text) in def.files {
-            krate.write(path, text);
-        }
-        let lock = workspace_root().join("Cargo.lock");
-        std::fs::copy(&lock, krate.root().join("Cargo.lock"))
-            .map_err(|e| CreateError::Setup(format!("cannot copy `{}`: {e}", lock.display())))?;
         krate.resolve().map_err(CreateError::Unresolved)?;
         Ok(krate)
     }
@@ -244,7 +245,7 @@ impl Scratch {
 
     /// The crate root.
     pub fn root(&self) -> &Path {
-        self.dir.path()
+        &self.dir
     }
 
     /// The package name.
@@ -399,6 +400,58 @@ const INHERITED_NOT: &[&str] = &[
     "CI",
 ];
 
+/// Where the temporary crates live: `e2e-crates/NAME` beside the shared target
+/// directory. A crate keeps its directory from one run of the suite to the next, so a
+/// warm run finds its test binaries built and compiles only what changed; every run
+/// starts it from its definition again (see [`lay_out`]).
+pub fn crates_dir() -> PathBuf {
+    let target = shared_target_dir();
+    target
+        .parent()
+        .map_or_else(|| target.join("crates"), |p| p.join("e2e-crates"))
+}
+
+/// Makes `dir` hold exactly `files` (path relative to `dir`, text): a file whose text
+/// is already right is left alone, so its modification time, and with it cargo's
+/// verdict that the crate is built, survives; anything else an earlier run left there
+/// (stores, markers, a pins file, edited sources) is removed or rewritten.
+fn lay_out(dir: &Path, files: &[(&str, &str)]) -> std::io::Result<()> {
+    let wanted: std::collections::BTreeMap<PathBuf, &str> =
+        files.iter().map(|(p, t)| (dir.join(p), *t)).collect();
+    if dir.is_dir() {
+        remove_unwanted(dir, &wanted)?;
+    }
+    for (path, text) in &wanted {
+        if std::fs::read(path).is_ok_and(|old| old == text.as_bytes()) {
+            continue;
+        }
+        if let Some(parent) = path.parent() {
+            std::fs::create_dir_all(parent)?;
+        }
+        std::fs::write(path, text)?;
+    }
+    Ok(())
+}
+
+/// Removes every file under `dir` that is not wanted, and directories left empty.
+fn remove_unwanted(
+    dir: &Path,
+    wanted: &std::collections::BTreeMap<PathBuf, &str>,
+) -> std::io::Result<()> {
+    for entry in std::fs::read_dir(dir)? {
+        let path = entry?.path();
+        if path.is_dir() && !path.is_symlink() {
+            remove_unwanted(&path, wanted)?;
+            if std::fs::read_dir(&path)?.next().is_none() {
+                std::fs::remove_dir(&path)?;
+            }
+        } else if !wanted.contains_key(&path) {
+            std::fs::remove_file(&path)?;
+        }
+    }
+    Ok(())
+}
+
 /// The first `error` line of cargo's stderr, for a one-line reason.
 fn first_error(stderr: &str) -> String {
     stderr
@@ -428,6 +481,32 @@ mod tests {
             "{}",
             dir.display()
         );
+    }
+
+    #[test]
+    fn laying_out_keeps_what_is_right_and_drops_the_rest() {
+        let dir = tempfile::tempdir().expect("a temporary directory");
+        let root = dir.path().join("krate");
+        lay_out(&root, &[("Cargo.toml", "a"), ("src/lib.rs", "b")]).unwrap();
+        // what an earlier run leaves behind: a store, an edit, a new file
+        std::fs::create_dir_all(root.join("stores/one")).unwrap();
+        std::fs::write(root.join("stores/one/x.jsonl"), "{}").unwrap();
+        std::fs::write(root.join("heddle-pins.toml"), "p").unwrap();
+        std::fs::write(root.join("src/lib.rs"), "edited").unwrap();
+        let past = SystemTime::UNIX_EPOCH + Duration::from_secs(1_000_000);
+        std::fs::File::options()
+            .append(true)
+            .open(root.join("Cargo.toml"))
+            .unwrap()
+            .set_modified(past)
+            .unwrap();
+        lay_out(&root, &[("Cargo.toml", "a"), ("src/lib.rs", "b")]).unwrap();
+        assert!(!root.join("stores").exists());
+        assert!(!root.join("heddle-pins.toml").exists());
+        assert_eq!(std::fs::read_to_string(root.join("src/lib.rs")).unwrap(), "b");
+        // an unchanged file keeps its time, so cargo keeps its build
+        let kept = std::fs::metadata(root.join("Cargo.toml")).unwrap().modified().unwrap();
+        assert_eq!(kept, past);
     }
 
     #[test]
