@@ -82,14 +82,36 @@ impl Browser {
 
     /// Loads `page` and returns the DOM and the console messages.
     pub fn load(&self, page: &Path) -> Result<Loaded, Failure> {
-        let out = self.invoke(
-            &[
-                OsString::from("--enable-logging=stderr"),
-                "--v=0".into(),
-                "--dump-dom".into(),
-            ],
-            page,
-        )?;
+        self.capture(page, None)
+    }
+
+    /// Loads `page` as [`Browser::load`] does and, in the same browser run, takes the
+    /// screenshot [`Browser::screenshot`] would: one start of the browser instead of two.
+    pub fn load_and_screenshot(
+        &self,
+        page: &Path,
+        shot: &Path,
+        width: u32,
+        height: u32,
+    ) -> Result<Loaded, Failure> {
+        self.capture(page, Some((shot, width, height)))
+    }
+
+    fn capture(&self, page: &Path, shot: Option<(&Path, u32, u32)>) -> Result<Loaded, Failure> {
+        let mut args = vec![
+            OsString::from("--enable-logging=stderr"),
+            "--v=0".into(),
+            "--dump-dom".into(),
+        ];
+        let shot = shot.map(|(path, width, height)| {
+            let path = std::path::absolute(path).unwrap_or_else(|_| path.to_path_buf());
+            args.extend(screenshot_args(&path, width, height));
+            path
+        });
+        let out = self.invoke(&args, page)?;
+        if let Some(path) = shot {
+            written(&path)?;
+        }
         let console = out
             .stderr
             .lines()
@@ -106,17 +128,8 @@ impl Browser {
     /// PNG at `shot`.
     pub fn screenshot(&self, page: &Path, shot: &Path, width: u32, height: u32) -> Result<(), Failure> {
         let shot = std::path::absolute(shot).unwrap_or_else(|_| shot.to_path_buf());
-        let mut arg = OsString::from("--screenshot=");
-        arg.push(&shot);
-        self.invoke(&[arg, format!("--window-size={width},{height}").into()], page)?;
-        if shot.is_file() {
-            Ok(())
-        } else {
-            Err(found(
-                Diagnostic::new(format!("the browser wrote no screenshot at `{}`", shot.display()))
-                    .hint("check that the directory exists and is writable"),
-            ))
-        }
+        self.invoke(&screenshot_args(&shot, width, height), page)?;
+        written(&shot)
     }
 
     /// Runs the browser on a page with a fresh profile, ending it after [`LIMIT`].
@@ -187,6 +200,25 @@ impl Browser {
 struct Output {
     stdout: String,
     stderr: String,
+}
+
+/// The flags that make a browser run write a PNG of the page at `shot`.
+fn screenshot_args(shot: &Path, width: u32, height: u32) -> [OsString; 2] {
+    let mut arg = OsString::from("--screenshot=");
+    arg.push(shot);
+    [arg, format!("--window-size={width},{height}").into()]
+}
+
+/// Whether the browser wrote the screenshot it was asked for.
+fn written(shot: &Path) -> Result<(), Failure> {
+    if shot.is_file() {
+        Ok(())
+    } else {
+        Err(found(
+            Diagnostic::new(format!("the browser wrote no screenshot at `{}`", shot.display()))
+                .hint("check that the directory exists and is writable"),
+        ))
+    }
 }
 
 fn last_line(s: &str) -> &str {

@@ -77,7 +77,8 @@ fn without_outlines(html: &str) -> String {
 /// actually paint — the page with them shows at least half the stroke area they should
 /// cover more vermillion pixels than the same page without them.
 fn judge(browser: &Browser, page: &Path, dir: &Path) -> Loaded {
-    let loaded = browser.load(page).unwrap();
+    let (with, without) = (dir.join("with.png"), dir.join("without.png"));
+    let loaded = browser.load_and_screenshot(page, &with, 1280, 4000).unwrap();
     assert!(
         loaded.console.is_empty(),
         "console messages: {:#?}",
@@ -108,8 +109,6 @@ fn judge(browser: &Browser, page: &Path, dir: &Path) -> Loaded {
     let html = std::fs::read_to_string(page).unwrap();
     let bare = dir.join("without-outlines.html");
     std::fs::write(&bare, without_outlines(&html)).unwrap();
-    let (with, without) = (dir.join("with.png"), dir.join("without.png"));
-    browser.screenshot(page, &with, 1280, 4000).unwrap();
     browser.screenshot(&bare, &without, 1280, 4000).unwrap();
     let gained = pixels_near(&with, VERMILLION, 8) as f64 - pixels_near(&without, VERMILLION, 8) as f64;
     assert!(

@@ -210,9 +210,8 @@ impl Scratch {
             ("src/lib.rs", "//! Nothing: the suites are integration tests.\n"),
         ];
         files.extend(def.files.iter().copied());
-        lay_out(&dir, &files).map_err(|e| {
-            CreateError::Setup(format!("cannot lay out `{}`: {e}", dir.display()))
-        })?;
+        lay_out(&dir, &files)
+            .map_err(|e| CreateError::Setup(format!("cannot lay out `{}`: {e}", dir.display())))?;
         let mut krate = Scratch {
             dir,
             name: def.name.to_string(),
@@ -434,10 +433,7 @@ fn lay_out(dir: &Path, files: &[(&str, &str)]) -> std::io::Result<()> {
 }
 
 /// Removes every file under `dir` that is not wanted, and directories left empty.
-fn remove_unwanted(
-    dir: &Path,
-    wanted: &std::collections::BTreeMap<PathBuf, &str>,
-) -> std::io::Result<()> {
+fn remove_unwanted(dir: &Path, wanted: &std::collections::BTreeMap<PathBuf, &str>) -> std::io::Result<()> {
     for entry in std::fs::read_dir(dir)? {
         let path = entry?.path();
         if path.is_dir() && !path.is_symlink() {
@@ -505,7 +501,10 @@ mod tests {
         assert!(!root.join("heddle-pins.toml").exists());
         assert_eq!(std::fs::read_to_string(root.join("src/lib.rs")).unwrap(), "b");
         // an unchanged file keeps its time, so cargo keeps its build
-        let kept = std::fs::metadata(root.join("Cargo.toml")).unwrap().modified().unwrap();
+        let kept = std::fs::metadata(root.join("Cargo.toml"))
+            .unwrap()
+            .modified()
+            .unwrap();
         assert_eq!(kept, past);
     }
 
