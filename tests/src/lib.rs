@@ -1,6 +1,6 @@
 //! The harness of heddle's end-to-end tests (the tests themselves are in `tests/`).
 //!
-//! Each test writes a small crate that uses `#[cover]` into a temporary directory,
+//! Each test writes a small crate that uses `#[cover]` into a directory of its own,
 //! depending on this workspace's `heddle` by absolute path, runs `cargo test` (or
 //! `cargo nextest run`) on it and judges the outcome from two sides: what libtest or
 //! nextest printed, and what the runtime recorded in its store, read back through

@@ -7,7 +7,9 @@
 //! the versions already built, without the network; `--offline` is passed once a crate
 //! has resolved offline. Invocations are serialised by a process-wide lock (builds in
 //! one target directory would only queue on cargo's own lock) and each one prints its
-//! wall time on stderr, past libtest's capture.
+//! wall time on stderr, past libtest's capture. Each crate keeps its directory,
+//! `e2e-crates/NAME` beside the shared target directory, from one run to the next, laid
+//! out afresh from its definition, so a warm run finds it built.
 
 use std::cell::Cell;
 use std::ffi::OsString;
@@ -256,9 +258,9 @@ impl Scratch {
     pub fn write(&self, path: &str, text: &str) {
         let path = self.root().join(path);
         if let Some(parent) = path.parent() {
-            std::fs::create_dir_all(parent).expect("the temporary directory is writable");
+            std::fs::create_dir_all(parent).expect("the crate directory is writable");
         }
-        std::fs::write(&path, text).expect("the temporary directory is writable");
+        std::fs::write(&path, text).expect("the crate directory is writable");
     }
 
     /// Reads a file of the crate.
@@ -280,7 +282,7 @@ impl Scratch {
     pub fn store_dir(&self, label: &str) -> PathBuf {
         let dir = self.root().join("stores").join(label);
         assert!(!dir.exists(), "store `{label}` is used twice");
-        std::fs::create_dir_all(&dir).expect("the temporary directory is writable");
+        std::fs::create_dir_all(&dir).expect("the crate directory is writable");
         dir
     }
 
