@@ -8,9 +8,12 @@
 //! 1. **Candidates.** One faulty interaction of at most t factors behind the failures is
 //!    in every failing row, so the candidates are the interactions in all of them (when
 //!    none is, there are several faults: those in all failing rows of the report's top
-//!    suspect). Each is weighed by the likelihood of its own passes and failures at its
-//!    best-fitting failure rate, relative to the best (1 for one that never passed); those
-//!    within a factor of e³ of the best are kept.
+//!    suspect), of the base strength and of each focus set at its own. Each is weighed by
+//!    the marginal likelihood of its own passes and failures under a uniform prior on its
+//!    failure rate (Bayes–Laplace: g failures in n runs weigh B(g + 1, n − g + 1)),
+//!    relative to the best; those within a factor of [`PLAUSIBLE_GAP`] of the best are
+//!    kept. Unlike the best-fitting rate, the prior does not take a candidate that failed
+//!    in its two runs for a certain fault.
 //! 2. **Rows from a failing row.** Every candidate sits in the failing row the follow-ups
 //!    start from; changing the levels of a set D of factors removes exactly the
 //!    candidates that touch D and keeps the others, as in the adaptive characterisation of
@@ -18,19 +21,25 @@
 //!    parameter interactions by adaptive testing", ISSTA; from memory). The new levels are
 //!    chosen among those already seen in passing interactions with the rest of the row
 //!    (so a failure of the new row is blamed on what it kept), within the excludes.
-//! 3. **One round, many rows.** The sets D of a round are chosen greedily so that no two
-//!    candidates are kept by the same set of rows and each is kept by one (separated from
+//! 3. **One round, many rows.** The rows of a round are chosen greedily so that no two
+//!    candidates are held by the same set of rows and each is held by one (separated from
 //!    a stand-in for "none of them") — for the candidates alone, the property of a
 //!    locating array (Colbourn & McClary 2008, "Locating and detecting arrays for
 //!    interaction faults", J. Comb. Optim. 15; from memory) — each row separating the
-//!    most weight of still-confused pairs. Then the outcomes of one run name a
-//!    deterministic fault.
+//!    most weight of still-confused pairs. A row already recorded (of the design or an
+//!    earlier round) that separates as much is run again instead of a new one: a passing
+//!    run of a row holding a flaky candidate is weak evidence, and another run of it
+//!    costs no new configuration.
 //! 4. **Flaky candidates.** A row holding a fault that fails with probability p passes
 //!    with probability 1 − p, so a row runs r times, the fewest for which the candidates
-//!    it holds, by weight, would have passed every run with probability at most 5%.
-//! 5. **Clearing.** When one candidate holds at least [`DECISIVE`] of the weight but the
-//!    report still ranks other suspects whose failing rows all hold it too, each of those
-//!    is run once more without it.
+//!    it holds, by weight, would have passed every run with probability at most 5%, each
+//!    rate estimated by the rule of succession ((g + 1) / (n + 2), Laplace 1814; from
+//!    memory), which never takes two failures in two runs for a rate of 1.
+//! 5. **Named.** One candidate is taken as named when it holds at least [`DECISIVE`] of
+//!    the weight and the recorded rows separate it from every other candidate (some row
+//!    holds it without the other); until then the rounds go on. When the report still
+//!    ranks other suspects whose failing rows all hold it too, each of those is run once
+//!    more without it (clearing).
 //!
 //! After the follow-up rows ran, the ordinary analysis ranks the suspects again with
 //! them, and another round is proposed while it is needed. Nothing is proposed when no
@@ -42,14 +51,17 @@ use heddle_generator::{Row, Spec, UNSET};
 use heddle_store::{Interaction, Tallies};
 use heddle_syntax::require::blocked;
 
-use crate::analysis::{Analysis, lambda_for, log_likelihood};
+use crate::analysis::{Analysis, lambda_for};
 
-/// How much lower (natural log) a candidate's likelihood may be than the best one's and
-/// still be worth separating: a likelihood ratio of e³ ≈ 20.
-const PLAUSIBLE_GAP: f64 = 3.0;
+/// How much lower (natural log) a candidate's marginal likelihood may be than the best
+/// one's and still be worth separating: a ratio of e⁷ ≈ 1100, so that a flaky fault that
+/// passed in several of its rows stays among the candidates beside an interaction that
+/// failed in its few rows.
+const PLAUSIBLE_GAP: f64 = 7.0;
 
-/// The share of the candidates' weight at which the most likely one is taken as named.
-pub const DECISIVE: f64 = 0.95;
+/// The share of the candidates' weight at which the most likely one is taken as named
+/// (once the rows separate it from the others).
+pub const DECISIVE: f64 = 0.99;
 
 /// Confidence that r runs of a row holding a flaky fault see it fail.
 const REPEAT_CONFIDENCE: f64 = 0.95;
@@ -72,7 +84,8 @@ pub struct Proposal {
     /// likely first.
     pub candidates: Vec<usize>,
     /// Whether the rows tell every pair of candidates apart, and hold each candidate at
-    /// least once (else `max_rows` ran out, or the excludes leave no row that would).
+    /// least once (else the new rows `max_rows` allows ran out, or the excludes leave no
+    /// row that would).
     pub separates_all: bool,
 }
 
@@ -120,7 +133,7 @@ fn candidates(tallies: &Tallies, analysis: &Analysis) -> (Vec<Candidate>, Vec<u3
         .iter()
         .map(|&i| {
             let c = &tallies.entries[i].count;
-            log_likelihood(c.failures, c.runs)
+            log_marginal(c.failures, c.runs)
         })
         .collect();
     let best = ll.iter().copied().fold(f64::NEG_INFINITY, f64::max);
@@ -133,7 +146,7 @@ fn candidates(tallies: &Tallies, analysis: &Analysis) -> (Vec<Candidate>, Vec<u3
             Candidate {
                 entry,
                 weight: (l - best).exp(),
-                rate: c.failures as f64 / c.runs.max(1) as f64,
+                rate: succession(c.failures, c.runs),
             }
         })
         .collect();
@@ -142,11 +155,27 @@ fn candidates(tallies: &Tallies, analysis: &Analysis) -> (Vec<Candidate>, Vec<u3
     (kept, focus)
 }
 
-/// Proposes at most `max_rows` follow-up rows for a suite whose `rows` (every recorded
-/// row, design and earlier follow-ups, indexed as in `tallies`) were judged by
-/// `analysis`; `spec` gives the factors and excludes. `None` when nothing failed, when
-/// one candidate holds at least [`DECISIVE`] of the weight, or when no row allowed by
-/// the excludes would tell any two apart.
+/// Natural log of B(g + 1, n − g + 1) = g! (n − g)! / (n + 1)!: the probability of a
+/// given sequence of `g` failures in `n` runs when the failure rate is uniform on [0, 1].
+fn log_marginal(g: u64, n: u64) -> f64 {
+    let ln_factorial = |m: u64| (2..=m).map(|i| (i as f64).ln()).sum::<f64>();
+    let g = g.min(n);
+    ln_factorial(g) + ln_factorial(n - g) - ln_factorial(n + 1)
+}
+
+/// The rule of succession: the expected failure rate after `g` failures in `n` runs
+/// under a uniform prior.
+fn succession(g: u64, n: u64) -> f64 {
+    (g.min(n) as f64 + 1.0) / (n as f64 + 2.0)
+}
+
+/// Proposes follow-up rows, at most `max_rows` of them new (not among the recorded
+/// rows; recorded rows run again are not counted, each is proposed once a round), for a
+/// suite whose `rows` (every recorded row, design and earlier follow-ups, indexed as in
+/// `tallies`) were judged by `analysis`; `spec` gives the factors and excludes. `None`
+/// when nothing failed, when one candidate is named (see the module's step 5) and no
+/// other suspect needs clearing, or when no row allowed by the excludes would tell any
+/// two candidates apart.
 pub fn propose(
     spec: &Spec,
     rows: &[Row],
@@ -156,10 +185,20 @@ pub fn propose(
 ) -> Option<Proposal> {
     let (cands, focus) = candidates(tallies, analysis);
     let total: f64 = cands.iter().map(|c| c.weight).sum();
-    if cands.is_empty() || max_rows == 0 {
+    if cands.is_empty() {
         return None;
     }
-    if cands.len() == 1 || cands[0].weight / total >= DECISIVE {
+    let interaction = |c: &Candidate| &tallies.entries[c.entry].interaction;
+    // some recorded row holds c without d (or d without c, when every row holding c
+    // holds d: d is part of c)
+    let separated = |c: &Candidate, d: &Candidate| {
+        let (c, d) = (interaction(c), interaction(d));
+        let (c, d) = if c.contains(d) { (d, c) } else { (c, d) };
+        rows.iter().any(|r| c.in_row(r) && !d.in_row(r))
+    };
+    if cands.len() == 1
+        || (cands[0].weight / total >= DECISIVE && cands[1..].iter().all(|d| separated(&cands[0], d)))
+    {
         return clearing(spec, rows, tallies, analysis, cands[0].entry, max_rows);
     }
     let base = *focus.first()? as usize;
@@ -171,13 +210,7 @@ pub fn propose(
     // bit f of a mask: the candidate touches factor f
     let masks: Vec<u64> = cands
         .iter()
-        .map(|c| {
-            tallies.entries[c.entry]
-                .interaction
-                .factors
-                .iter()
-                .fold(0, |m, &f| m | (1u64 << f))
-        })
+        .map(|c| interaction(c).factors.iter().fold(0, |m, &f| m | (1u64 << f)))
         .collect();
     // the last element stands for "none of them": every row leaves it out, so
     // separating a candidate from it means some row holds that candidate
@@ -186,35 +219,71 @@ pub fn propose(
     weights.push(cands[0].weight);
     let mut masks_all = masks.clone();
     masks_all.push(u64::MAX);
+    // the recorded rows that hold some candidates and not others, each once, with the
+    // candidates they hold (a row that holds all of them or none separates nothing)
+    let mut recorded: Vec<(&Row, Vec<bool>)> = Vec::new();
+    for row in rows {
+        let held: Vec<bool> = cands
+            .iter()
+            .map(|c| interaction(c).in_row(row))
+            .chain([false])
+            .collect();
+        if held[..none].iter().any(|&h| h)
+            && held[..none].iter().any(|&h| !h)
+            && !recorded.iter().any(|(r, _)| *r == row)
+        {
+            recorded.push((row, held));
+        }
+    }
     let mut classes: Vec<Vec<usize>> = vec![(0..=none).collect()];
-    let mut out = Vec::new();
+    let mut out: Vec<(Row, u32)> = Vec::new();
+    let mut new_rows = 0;
     let mut tried: BTreeSet<u64> = BTreeSet::new();
     let known = Known::new(tallies, cands.iter().map(|c| c.entry));
-    while out.len() < max_rows && classes.iter().any(|c| c.len() > 1) {
-        let options = change_sets(k, &masks_all, &weights, &classes, &tried);
+    while classes.iter().any(|c| c.len() > 1) {
+        // the best recorded row to run again, unless a new row separates more
+        let again = recorded
+            .iter()
+            .filter(|(r, _)| !out.iter().any(|(o, _)| o == *r))
+            .map(|(r, held)| (split_score(&classes, &weights, |h| held[h]), *r, held))
+            .filter(|s| s.0 > 0.0)
+            .max_by(|a, b| a.0.total_cmp(&b.0));
+        let options = if new_rows < max_rows {
+            change_sets(k, &masks_all, &weights, &classes, &tried)
+        } else {
+            Vec::new()
+        };
         let mut built = None;
         for d in options {
+            let gain = split_score(&classes, &weights, |h| masks_all[h] & d == 0);
+            if again.as_ref().is_some_and(|a| a.0 >= gain) {
+                break;
+            }
             tried.insert(d);
             let changed: Vec<usize> = (0..k).filter(|&f| d & (1 << f) != 0).collect();
             if let Some(row) = build_row(spec, r0, &changed, &known) {
-                built = Some((d, row));
+                let held: Vec<bool> = (0..=none).map(|h| masks_all[h] & d == 0).collect();
+                built = Some((row, held));
+                new_rows += 1;
                 break;
             }
         }
-        let Some((d, row)) = built else { break };
+        let Some((row, held)) = built.or_else(|| again.map(|(_, r, held)| (r.clone(), held.clone())))
+        else {
+            break;
+        };
         classes = classes
             .into_iter()
             .flat_map(|c| {
-                let (kept, gone): (Vec<usize>, Vec<usize>) =
-                    c.into_iter().partition(|&h| masks_all[h] & d == 0);
+                let (kept, gone): (Vec<usize>, Vec<usize>) = c.into_iter().partition(|&h| held[h]);
                 [kept, gone]
             })
             .filter(|c| !c.is_empty())
             .collect();
         let kept: Vec<(f64, f64)> = cands
             .iter()
-            .zip(&masks)
-            .filter(|(_, m)| *m & d == 0)
+            .zip(&held)
+            .filter(|(_, h)| **h)
             .map(|(c, _)| (c.weight / total, c.rate))
             .collect();
         let repeat = repeats(&kept);
@@ -229,6 +298,25 @@ pub fn propose(
         candidates: cands.iter().map(|c| c.entry).collect(),
         separates_all: classes.iter().all(|c| c.len() == 1),
     })
+}
+
+/// The weight of candidate pairs within `classes` that a row holding the candidates
+/// `held` says apart (the sum, over classes, of the kept weight times the removed).
+fn split_score(classes: &[Vec<usize>], weights: &[f64], held: impl Fn(usize) -> bool) -> f64 {
+    classes
+        .iter()
+        .map(|c| {
+            let (mut kept, mut gone) = (0.0, 0.0);
+            for &h in c {
+                if held(h) {
+                    kept += weights[h];
+                } else {
+                    gone += weights[h];
+                }
+            }
+            kept * gone
+        })
+        .sum()
 }
 
 /// How many times a row should run, given the candidates it holds (their shares of the
@@ -299,7 +387,7 @@ fn clearing(
         let Some(row) = build_row(spec, &rows[base as usize], &changed, &known) else {
             continue;
         };
-        let rate = e.count.failures as f64 / e.count.runs.max(1) as f64;
+        let rate = succession(e.count.failures, e.count.runs);
         let repeat = lambda_for(rate, REPEAT_CONFIDENCE)
             .unwrap_or(1)
             .clamp(1, REPEAT_RANGE.1);
@@ -338,22 +426,7 @@ fn change_sets(
     classes: &[Vec<usize>],
     tried: &BTreeSet<u64>,
 ) -> Vec<u64> {
-    let score = |d: u64| -> f64 {
-        classes
-            .iter()
-            .map(|c| {
-                let (mut kept, mut gone) = (0.0, 0.0);
-                for &h in c {
-                    if masks[h] & d == 0 {
-                        kept += weights[h];
-                    } else {
-                        gone += weights[h];
-                    }
-                }
-                kept * gone
-            })
-            .sum()
-    };
+    let score = |d: u64| split_score(classes, weights, |h| masks[h] & d == 0);
     let mut scored: Vec<(f64, u32, u64)> = Vec::new();
     if n <= EXHAUSTIVE_FACTORS {
         for d in 1u64..(1 << n) {
@@ -676,6 +749,90 @@ mod tests {
         let t = heddle_store::tally(&record(&spec, &all), outcomes(&all)).unwrap();
         let a = analyse(&t);
         assert_eq!(named(&t, &a), vec![fault]);
+    }
+
+    #[test]
+    fn weights_are_beta_functions_and_rates_follow_the_rule_of_succession() {
+        // B(a, b) = (a − 1)! (b − 1)! / (a + b − 1)! for whole a, b (the Beta function's
+        // relation to the Gamma function; common practice): B(3, 1) = 1/3, B(3, 5) = 1/105
+        assert!((log_marginal(2, 2) - (1.0f64 / 3.0).ln()).abs() < 1e-12);
+        assert!((log_marginal(2, 6) - (1.0f64 / 105.0).ln()).abs() < 1e-12);
+        assert_eq!(log_marginal(0, 0), 0.0);
+        // Laplace's rule: after g of n, (g + 1) / (n + 2); two failures in two runs
+        // are not a certain fault
+        assert_eq!(succession(2, 2), 0.75);
+        assert_eq!(succession(0, 0), 0.5);
+    }
+
+    #[test]
+    fn a_flaky_fault_behind_a_pair_that_failed_in_all_its_rows_is_named() {
+        // five factors of three levels; the fault f0 = 0, f1 = 0 fails in rows 0 and 1
+        // and passes in rows 2–5; the pair f2 = 0, f3 = 0 is only in rows 0 and 1, so it
+        // failed every time and the design alone names it; rows 6–9 show the other
+        // pairs of rows 0 and 1 passing
+        let spec = Spec::new((0..5).map(|i| Factor::numbered(format!("f{i}"), 3)).collect()).lambda(2);
+        let design: Vec<Row> = vec![
+            vec![0, 0, 0, 0, 0],
+            vec![0, 0, 0, 0, 1],
+            vec![0, 0, 1, 1, 2],
+            vec![0, 0, 2, 2, 0],
+            vec![0, 0, 1, 2, 1],
+            vec![0, 0, 2, 1, 2],
+            vec![0, 1, 0, 1, 0],
+            vec![0, 1, 1, 0, 1],
+            vec![1, 0, 0, 1, 2],
+            vec![1, 0, 1, 0, 0],
+        ];
+        let fault = Interaction {
+            factors: vec![0, 1],
+            levels: vec![0, 0],
+        };
+        let alias = Interaction {
+            factors: vec![2, 3],
+            levels: vec![0, 0],
+        };
+        // after the design, the runs of rows holding the fault pass and fail in turn,
+        // passing first: as unlucky as a rate of one half allows
+        let outcomes = |rows: &[Row]| -> Vec<(usize, Outcome)> {
+            let mut seen = 0;
+            rows.iter()
+                .enumerate()
+                .map(|(i, r)| {
+                    let fail = fault.in_row(r)
+                        && if i < 2 {
+                            true
+                        } else if i < design.len() {
+                            false
+                        } else {
+                            seen += 1;
+                            seen % 2 == 0
+                        };
+                    (i, if fail { Outcome::Failed } else { Outcome::Passed })
+                })
+                .collect()
+        };
+        let judge = |rows: &[Row]| {
+            let t = heddle_store::tally(&record(&spec, rows), outcomes(rows)).unwrap();
+            let a = analyse(&t);
+            (t, a)
+        };
+        let (t, a) = judge(&design);
+        assert_eq!(named(&t, &a), vec![alias], "the design alone");
+        let mut all = design.clone();
+        let mut new = 0;
+        for _ in 0..8 {
+            let (t, a) = judge(&all);
+            let Some(p) = propose(&spec, &all, &t, &a, 5 - new) else {
+                break;
+            };
+            for (row, repeat) in p.rows {
+                new += usize::from(!all.contains(&row));
+                all.extend(std::iter::repeat_n(row, repeat as usize));
+            }
+        }
+        let (t, a) = judge(&all);
+        assert_eq!(named(&t, &a), vec![fault], "after {} runs", all.len() - design.len());
+        assert!(new <= 5);
     }
 
     #[test]
