@@ -48,7 +48,7 @@
 use std::collections::BTreeSet;
 
 use heddle_generator::{Row, Spec, UNSET};
-use heddle_store::{Interaction, Tallies};
+use heddle_store::{Interaction, Tallies, Tally};
 use heddle_syntax::require::blocked;
 
 use crate::analysis::{Analysis, lambda_for};
@@ -80,9 +80,9 @@ pub struct Proposal {
     /// The new rows, distinct, in order, each with how many times it should run (1 when
     /// it holds no flaky candidate).
     pub rows: Vec<(Row, u32)>,
-    /// The candidates the rows tell apart: indices into [`Tallies::entries`], most
-    /// likely first.
-    pub candidates: Vec<usize>,
+    /// The candidates the rows tell apart (interactions of the base strength or below,
+    /// and of the focus sets at their own strength), most likely first.
+    pub candidates: Vec<Interaction>,
     /// Whether the rows tell every pair of candidates apart, and hold each candidate at
     /// least once (else the new rows `max_rows` allows ran out, or the excludes leave no
     /// row that would).
@@ -92,14 +92,26 @@ pub struct Proposal {
 /// A candidate: its entry, its weight (likelihood relative to the best one) and its
 /// observed failure rate.
 struct Candidate {
+    /// Its place in the pool ([`pool`]).
     entry: usize,
     weight: f64,
     rate: f64,
 }
 
+/// Every interaction a candidate may be: the tallies' entries (arity 1 to t), then the
+/// focus interactions (each focus set's column sets at its own strength). A candidate
+/// is its place in this list.
+fn pool(tallies: &Tallies) -> Vec<&Tally> {
+    tallies
+        .entries
+        .iter()
+        .chain(tallies.focus.iter().map(|f| &f.tally))
+        .collect()
+}
+
 /// The candidates behind the failures, most likely first, and the failing rows they
 /// are all in. Empty when nothing failed.
-fn candidates(tallies: &Tallies, analysis: &Analysis) -> (Vec<Candidate>, Vec<u32>) {
+fn candidates(tallies: &Tallies, pool: &[&Tally], analysis: &Analysis) -> (Vec<Candidate>, Vec<u32>) {
     let failing = |rows: &[u32]| -> Vec<u32> {
         rows.iter()
             .copied()
@@ -108,9 +120,9 @@ fn candidates(tallies: &Tallies, analysis: &Analysis) -> (Vec<Candidate>, Vec<u3
     };
     let every: Vec<u32> = (0..tallies.rows.len() as u32).collect();
     let in_all = |focus: &[u32]| -> Vec<usize> {
-        (0..tallies.entries.len())
+        (0..pool.len())
             .filter(|&i| {
-                let e = &tallies.entries[i];
+                let e = pool[i];
                 e.count.failures > 0 && focus.iter().all(|r| e.rows.binary_search(r).is_ok())
             })
             .collect()
@@ -132,7 +144,7 @@ fn candidates(tallies: &Tallies, analysis: &Analysis) -> (Vec<Candidate>, Vec<u3
     let ll: Vec<f64> = all
         .iter()
         .map(|&i| {
-            let c = &tallies.entries[i].count;
+            let c = &pool[i].count;
             log_marginal(c.failures, c.runs)
         })
         .collect();
@@ -142,7 +154,7 @@ fn candidates(tallies: &Tallies, analysis: &Analysis) -> (Vec<Candidate>, Vec<u3
         .zip(&ll)
         .filter(|&(_, &l)| l >= best - PLAUSIBLE_GAP)
         .map(|(&entry, &l)| {
-            let c = &tallies.entries[entry].count;
+            let c = &pool[entry].count;
             Candidate {
                 entry,
                 weight: (l - best).exp(),
@@ -183,12 +195,13 @@ pub fn propose(
     analysis: &Analysis,
     max_rows: usize,
 ) -> Option<Proposal> {
-    let (cands, focus) = candidates(tallies, analysis);
+    let pool = pool(tallies);
+    let (cands, focus) = candidates(tallies, &pool, analysis);
     let total: f64 = cands.iter().map(|c| c.weight).sum();
     if cands.is_empty() {
         return None;
     }
-    let interaction = |c: &Candidate| &tallies.entries[c.entry].interaction;
+    let interaction = |c: &Candidate| &pool[c.entry].interaction;
     // some recorded row holds c without d (or d without c, when every row holding c
     // holds d: d is part of c)
     let separated = |c: &Candidate, d: &Candidate| {
@@ -199,7 +212,7 @@ pub fn propose(
     if cands.len() == 1
         || (cands[0].weight / total >= DECISIVE && cands[1..].iter().all(|d| separated(&cands[0], d)))
     {
-        return clearing(spec, rows, tallies, analysis, cands[0].entry, max_rows);
+        return clearing(spec, rows, tallies, analysis, pool[cands[0].entry], max_rows);
     }
     let base = *focus.first()? as usize;
     let r0 = rows.get(base)?;
@@ -239,7 +252,7 @@ pub fn propose(
     let mut out: Vec<(Row, u32)> = Vec::new();
     let mut new_rows = 0;
     let mut tried: BTreeSet<u64> = BTreeSet::new();
-    let known = Known::new(tallies, cands.iter().map(|c| c.entry));
+    let known = Known::new(tallies, cands.iter().map(|c| interaction(c)));
     while classes.iter().any(|c| c.len() > 1) {
         // the best recorded row to run again, unless a new row separates more
         let again = recorded
@@ -268,8 +281,7 @@ pub fn propose(
                 break;
             }
         }
-        let Some((row, held)) = built.or_else(|| again.map(|(_, r, held)| (r.clone(), held.clone())))
-        else {
+        let Some((row, held)) = built.or_else(|| again.map(|(_, r, held)| (r.clone(), held.clone()))) else {
             break;
         };
         classes = classes
@@ -295,7 +307,7 @@ pub fn propose(
     Some(Proposal {
         base,
         rows: out,
-        candidates: cands.iter().map(|c| c.entry).collect(),
+        candidates: cands.iter().map(|c| interaction(c).clone()).collect(),
         separates_all: classes.iter().all(|c| c.len() == 1),
     })
 }
@@ -348,16 +360,15 @@ fn clearing(
     rows: &[Row],
     tallies: &Tallies,
     analysis: &Analysis,
-    named: usize,
+    c: &Tally,
     max_rows: usize,
 ) -> Option<Proposal> {
-    let c = &tallies.entries[named];
     let mut out: Vec<(Row, u32)> = Vec::new();
     let mut cleared = Vec::new();
     for s in analysis
         .suspects
         .iter()
-        .filter(|s| s.explains > 0 && s.interaction != named)
+        .filter(|s| s.explains > 0 && tallies.entries[s.interaction].interaction != c.interaction)
     {
         if out.len() >= max_rows {
             break;
@@ -383,7 +394,7 @@ fn clearing(
             .copied()
             .filter(|f| !e.interaction.factors.contains(f))
             .collect();
-        let known = Known::new(tallies, [named, s.interaction]);
+        let known = Known::new(tallies, [&c.interaction, &e.interaction]);
         let Some(row) = build_row(spec, &rows[base as usize], &changed, &known) else {
             continue;
         };
@@ -406,8 +417,8 @@ fn clearing(
         .iter()
         .copied()
         .find(|&r| tallies.rows[r as usize].failures > 0)? as usize;
-    let mut candidates = vec![named];
-    candidates.extend(cleared);
+    let mut candidates = vec![c.interaction.clone()];
+    candidates.extend(cleared.iter().map(|&i| tallies.entries[i].interaction.clone()));
     Some(Proposal {
         base,
         rows: out,
@@ -474,11 +485,11 @@ fn change_sets(
 /// What the recorded rows tell about interactions a new row would hold.
 struct Known<'a> {
     tallies: &'a Tallies,
-    candidates: BTreeSet<usize>,
+    candidates: BTreeSet<&'a Interaction>,
 }
 
 impl<'a> Known<'a> {
-    fn new(tallies: &'a Tallies, candidates: impl IntoIterator<Item = usize>) -> Known<'a> {
+    fn new(tallies: &'a Tallies, candidates: impl IntoIterator<Item = &'a Interaction>) -> Known<'a> {
         Known {
             tallies,
             candidates: candidates.into_iter().collect(),
@@ -489,17 +500,9 @@ impl<'a> Known<'a> {
     fn score(&self, interaction: &Interaction) -> i64 {
         let group = self.tallies.of_arity(interaction.arity());
         match group.binary_search_by(|t| t.interaction.cmp(interaction)) {
-            Ok(i) => {
-                let index = self.offset(interaction.arity()) + i;
-                i64::from(group[i].count.passes > 0 && !self.candidates.contains(&index))
-            }
+            Ok(i) => i64::from(group[i].count.passes > 0 && !self.candidates.contains(interaction)),
             Err(_) => -1,
         }
-    }
-
-    /// Index of the first entry of an arity in [`Tallies::entries`].
-    fn offset(&self, arity: usize) -> usize {
-        (1..arity).map(|a| self.tallies.of_arity(a).len()).sum()
     }
 }
 
@@ -831,8 +834,77 @@ mod tests {
             }
         }
         let (t, a) = judge(&all);
-        assert_eq!(named(&t, &a), vec![fault], "after {} runs", all.len() - design.len());
+        assert_eq!(
+            named(&t, &a),
+            vec![fault],
+            "after {} runs",
+            all.len() - design.len()
+        );
         assert!(new <= 5);
+    }
+
+    #[test]
+    fn a_fault_of_a_focus_set_is_a_candidate_at_its_own_strength() {
+        // five three-level factors at strength 2, the first three also at strength 3
+        // (a focus set): a planted triple of a design row fails every run; its pairs fail
+        // with it, but only the triple explains every failure, so the follow-ups must
+        // hold it as a candidate and end with each of its pairs seen passing without it
+        let spec = Spec::new((0..5).map(|i| Factor::numbered(format!("f{i}"), 3)).collect())
+            .focus(heddle_generator::Focus::new(vec![0, 1, 2], 3));
+        let rows = generate(&spec, Effort::Fast).unwrap().rows;
+        let fault = Interaction {
+            factors: vec![0, 1, 2],
+            levels: vec![rows[0][0], rows[0][1], rows[0][2]],
+        };
+        let rec = |rows: &[Row]| {
+            SpecBuilder::new("f")
+                .numbered(&spec.levels())
+                .strength(2)
+                .focus(&[0, 1, 2], 3, 1)
+                .rows(rows.to_vec())
+                .build()
+        };
+        let judge = |rows: &[Row]| {
+            let outcomes = rows.iter().enumerate().map(|(i, r)| {
+                (
+                    i,
+                    if fault.in_row(r) {
+                        Outcome::Failed
+                    } else {
+                        Outcome::Passed
+                    },
+                )
+            });
+            let t = heddle_store::tally(&rec(rows), outcomes).unwrap();
+            let a = analyse(&t);
+            (t, a)
+        };
+        let mut all = rows.clone();
+        let mut first = None;
+        for _ in 0..6 {
+            let (t, a) = judge(&all);
+            let Some(p) = propose(&spec, &all, &t, &a, 5) else {
+                break;
+            };
+            first.get_or_insert(p.candidates.clone());
+            for (row, repeat) in p.rows {
+                all.extend(std::iter::repeat_n(row, repeat as usize));
+            }
+        }
+        let first = first.expect("the design alone cannot tell the triple from its pairs");
+        assert!(first.contains(&fault), "{first:?}");
+        let (t, _) = judge(&all);
+        assert_eq!(t.get(&fault).unwrap().count.passes, 0);
+        for (x, y) in [(0, 1), (0, 2), (1, 2)] {
+            let pair = Interaction {
+                factors: vec![x, y],
+                levels: vec![fault.levels[x], fault.levels[y]],
+            };
+            assert!(
+                all.iter().any(|r| pair.in_row(r) && !fault.in_row(r)),
+                "{pair:?} never ran without the triple"
+            );
+        }
     }
 
     #[test]

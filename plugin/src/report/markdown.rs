@@ -100,7 +100,7 @@ pub fn render(report: &Report<'_>) -> String {
                 out,
                 "\n> `{}`: not a complete run; {}",
                 cell(&s.spec.suite),
-                cell(&b.line(s.spec.lambda))
+                cell(&b.line())
             );
         }
     }

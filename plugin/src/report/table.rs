@@ -98,12 +98,7 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, report_other_runs: us
         );
     }
     if let Some(b) = &s.budget {
-        let _ = writeln!(
-            out,
-            "  {} {}",
-            st.yellow("not a complete run:"),
-            b.line(spec.lambda)
-        );
+        let _ = writeln!(out, "  {} {}", st.yellow("not a complete run:"), b.line());
     }
 
     if s.analysis.failures == 0 {
