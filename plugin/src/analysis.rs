@@ -19,7 +19,7 @@
 
 use std::cmp::Ordering;
 
-use heddle_store::Tallies;
+use heddle_store::{Count, Tallies, Tally};
 
 /// An interaction that explains failures.
 #[derive(Clone, Debug, PartialEq)]
@@ -57,6 +57,20 @@ pub enum Verdict {
 }
 
 impl Verdict {
+    /// The verdict on an interaction with these runs and rows (`None` when it never
+    /// failed): every run failed, some row both passed and failed, or neither.
+    pub fn of(count: &Count, split: &RowSplit) -> Option<Verdict> {
+        if count.failures == 0 {
+            None
+        } else if count.passes == 0 {
+            Some(Verdict::Always)
+        } else if split.mixed > 0 {
+            Some(Verdict::Flaky)
+        } else {
+            Some(Verdict::SomeRows)
+        }
+    }
+
     /// The words the reports use.
     pub fn words(self) -> &'static str {
         match self {
@@ -92,8 +106,13 @@ pub struct RowSplit {
 /// Counts the rows of one interaction by how they ran: distinct rows, not executions, so
 /// retries and repeats of one row count once.
 pub fn row_split(tallies: &Tallies, interaction: usize) -> RowSplit {
+    split_of(tallies, &tallies.entries[interaction])
+}
+
+/// [`row_split`] of any tally of the suite (a focus interaction's too).
+pub fn split_of(tallies: &Tallies, tally: &Tally) -> RowSplit {
     let mut s = RowSplit::default();
-    for &r in &tallies.entries[interaction].rows {
+    for &r in &tally.rows {
         let c = &tallies.rows[r as usize];
         if c.runs == 0 {
             continue;
@@ -349,13 +368,7 @@ pub fn analyse(tallies: &Tallies) -> Analysis {
         let c = &entries[i].count;
         let always = c.passes == 0;
         let split = row_split(tallies, i);
-        let verdict = if always {
-            Verdict::Always
-        } else if split.mixed > 0 {
-            Verdict::Flaky
-        } else {
-            Verdict::SomeRows
-        };
+        let verdict = Verdict::of(c, &split).unwrap_or(Verdict::SomeRows);
         let share = g as f64 / failures as f64;
         let reason = format!(
             "{}; explains {g} of {failures} failures",

@@ -80,16 +80,8 @@ impl Tallies {
                 once: 0,
                 lambda: 0,
             };
-            // the column sets of this focus set alone, listed by the one function that
-            // lists them; the tallies hold each once, sorted by factors
-            for (cols, _) in focus_sets(std::slice::from_ref(f)) {
-                let start = self.focus.partition_point(|t| t.tally.interaction.factors < cols);
-                for t in self.focus[start..]
-                    .iter()
-                    .take_while(|t| t.tally.interaction.factors == cols)
-                {
-                    r.add(&t.tally.rows, prefix, design);
-                }
+            for t in self.focus_of(f) {
+                r.add(&t.tally.rows, prefix, design);
             }
             out.push(r);
         }

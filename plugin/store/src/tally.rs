@@ -298,6 +298,22 @@ pub fn tally(
 }
 
 impl Tallies {
+    /// The interactions of one focus set (of the spec these tallies count) among
+    /// [`Tallies::focus`], by column set then levels: its own column sets, listed by the
+    /// one function that lists them (the tallies hold each once, sorted by factors).
+    pub fn focus_of(&self, f: &heddle_generator::Focus) -> Vec<&FocusTally> {
+        let mut out = Vec::new();
+        for (cols, _) in heddle_generator::focus_sets(std::slice::from_ref(f)) {
+            let start = self.focus.partition_point(|t| t.tally.interaction.factors < cols);
+            out.extend(
+                self.focus[start..]
+                    .iter()
+                    .take_while(|t| t.tally.interaction.factors == cols),
+            );
+        }
+        out
+    }
+
     /// Counts the focus interactions of the column sets `sets` (as
     /// [`heddle_generator::focus_sets`] lists them) over `rows`, the rows these tallies
     /// count.
