@@ -1,6 +1,6 @@
 //! The HTML report in a real browser (Debian's Chromium, headless): a suite of strength 3
-//! with an exclude read over three runs, and the greenhouse demo as the quick start runs
-//! it. Each page is loaded, its DOM and console read, and screenshots taken; the
+//! with an exclude read over three runs, a suite with focus sets, and the greenhouse demo
+//! as the quick start runs it. Each page is loaded, its DOM and console read, and screenshots taken; the
 //! suspects' outlines must show up as pixels. In CI (`CI` set) a missing browser fails
 //! the test; elsewhere the test says why it skipped the browser's part.
 

@@ -36,8 +36,8 @@
 //!    rate estimated by the rule of succession ((g + 1) / (n + 2), Laplace 1814; from
 //!    memory), which never takes two failures in two runs for a rate of 1.
 //! 5. **Named.** One candidate is taken as named when it holds at least [`DECISIVE`] of
-//!    the weight and the recorded rows separate it from every other candidate (some row
-//!    holds it without the other); until then the rounds go on. When the report still
+//!    the weight and the recorded rows separate it from every other candidate that is
+//!    not negligible (some row holds it without the other); until then the rounds go on. When the report still
 //!    ranks other suspects whose failing rows all hold it too, each of those is run once
 //!    more without it (clearing).
 //!
@@ -167,6 +167,14 @@ fn candidates(tallies: &Tallies, pool: &[&Tally], analysis: &Analysis) -> (Vec<C
     (kept, focus)
 }
 
+/// The most likely candidate behind the failures (of the base strength or a focus set's),
+/// `None` when nothing failed: what the follow-up rows point at once they are done.
+pub fn most_likely(tallies: &Tallies, analysis: &Analysis) -> Option<Interaction> {
+    let pool = pool(tallies);
+    let (cands, _) = candidates(tallies, &pool, analysis);
+    cands.first().map(|c| pool[c.entry].interaction.clone())
+}
+
 /// Natural log of B(g + 1, n − g + 1) = g! (n − g)! / (n + 1)!: the probability of a
 /// given sequence of `g` failures in `n` runs when the failure rate is uniform on [0, 1].
 fn log_marginal(g: u64, n: u64) -> f64 {
@@ -209,8 +217,14 @@ pub fn propose(
         let (c, d) = if c.contains(d) { (d, c) } else { (c, d) };
         rows.iter().any(|r| c.in_row(r) && !d.in_row(r))
     };
+    // candidates too unlikely to matter (below 1 − DECISIVE of the top's weight) need
+    // not have been separated
+    let negligible = |d: &Candidate| d.weight < (1.0 - DECISIVE) * cands[0].weight;
     if cands.len() == 1
-        || (cands[0].weight / total >= DECISIVE && cands[1..].iter().all(|d| separated(&cands[0], d)))
+        || (cands[0].weight / total >= DECISIVE
+            && cands[1..]
+                .iter()
+                .all(|d| negligible(d) || separated(&cands[0], d)))
     {
         return clearing(spec, rows, tallies, analysis, pool[cands[0].entry], max_rows);
     }
@@ -402,6 +416,18 @@ fn clearing(
         let repeat = lambda_for(rate, REPEAT_CONFIDENCE)
             .unwrap_or(1)
             .clamp(1, REPEAT_RANGE.1);
+        // already cleared: its rows without `named` passed as often as a row clearing
+        // it would run (the report may still rank it, when `named` is a focus set's
+        // interaction of more factors than the report's suspects)
+        let passed_without: u64 = e
+            .rows
+            .iter()
+            .filter(|r| c.rows.binary_search(r).is_err())
+            .map(|&r| tallies.rows[r as usize].passes)
+            .sum();
+        if passed_without >= u64::from(repeat) {
+            continue;
+        }
         cleared.push(s.interaction);
         // two suspects in one failing row may be cleared by the same row
         match out.iter_mut().find(|(r, _)| *r == row) {
