@@ -202,15 +202,9 @@ fn focus_sets_get_a_section_with_their_interactions() {
     // five factors at strength 2; f0, f1, f2 and f2, f3, f4 also at strength 3; rows from
     // the engine; the triple f0 = 1, f1 = 0, f2 = 1 fails every run
     let levels = [2usize, 2, 2, 2, 2];
-    let spec = Spec::new(
-        levels
-            .iter()
-            .enumerate()
-            .map(|(i, &v)| Factor::numbered(format!("f{i}"), v))
-            .collect(),
-    )
-    .focus(heddle_generator::Focus::new(vec![0, 1, 2], 3))
-    .focus(heddle_generator::Focus::new(vec![2, 3, 4], 3));
+    let spec = Spec::numbered(&levels)
+        .focus(heddle_generator::Focus::new(vec![0, 1, 2], 3))
+        .focus(heddle_generator::Focus::new(vec![2, 3, 4], 3));
     let rows = generate(&spec, Effort::Fast).unwrap().rows;
     let fails = |r: &[u8]| r[0] == 1 && r[1] == 0 && r[2] == 1;
     let dir = tempfile::tempdir().unwrap();

@@ -166,42 +166,29 @@ fn a_focus_set_runs_every_triple_and_the_report_tallies_them() {
 
 /// The same knobs with a planted defect of three of them — delta coding of Kelvin
 /// readings with four workers — and a row budget of 9 rows in the attribute.
-const FAULTY: &str = r#"//! The sensor hub's frame encoder with a defect of three knobs together.
-
-#[derive(Clone, Copy, Debug, PartialEq)]
-pub enum Codec { Plain, Rle, Delta }
-
-#[derive(Clone, Copy, Debug, PartialEq)]
-pub enum Unit { Celsius, Fahrenheit, Kelvin }
-
-fn encode(codec: Codec, unit: Unit, workers: usize, batch: usize) -> usize {
-    // the defect: four workers split Kelvin deltas one frame short
-    if codec == Codec::Delta && unit == Unit::Kelvin && workers == 4 { batch - 1 } else { batch }
+fn faulty() -> String {
+    SUITE
+        .replace(
+            "let _ = (codec, unit, workers);\n    batch",
+            "if codec == Codec::Delta && unit == Unit::Kelvin && workers == 4 { batch - 1 } else { batch }",
+        )
+        .replace(
+            "focus(codec, unit, workers))",
+            "focus(codec, unit, workers), budget(9))",
+        )
 }
-
-#[heddle_test::cover(seed = 3, focus(codec, unit, workers), budget(9))]
-fn frame(
-    #[levels(Codec::Plain, Codec::Rle, Codec::Delta)] codec: Codec,
-    #[levels(Unit::Celsius, Unit::Fahrenheit, Unit::Kelvin)] unit: Unit,
-    #[levels(1, 2, 4)] workers: usize,
-    #[levels(1, 8, 64)] batch: usize,
-    #[levels(false, true)] checksum: bool,
-) {
-    let _ = checksum;
-    assert_eq!(encode(codec, unit, workers, batch), batch, "frame length is off");
-}
-"#;
 
 #[test]
 fn a_focus_set_is_reached_drawn_and_followed_up_at_its_own_strength() {
     let krate = Scratch::create(&CrateDef {
         name: "focus_defect",
-        files: &[("tests/hub.rs", FAULTY)],
+        files: &[("tests/hub.rs", &faulty())],
         ..CrateDef::default()
     })
     .expect("the temporary crate resolves");
     let bin = env!("CARGO_BIN_EXE_cargo-heddle");
     let triple = "codec = Codec::Delta, unit = Unit::Kelvin, workers = 4";
+    assert!(faulty().contains("batch - 1 }") && faulty().contains("budget(9)"));
 
     // the budget's reach names the focus set and counts its 27 triples (9 rows hold at
     // most 9 of them, one each)

@@ -639,6 +639,23 @@ fn runs_with_and_without_follow_up_rows_merge() {
     assert!(!failing.contains(&"totals::row_followup_01"), "{failing:?}");
 }
 
+/// Two runs of a suite (`spec` of the run id) in which row 0 failed in the first and
+/// passed in the second, and every other row passed.
+fn write_flaky_row_0(dir: &Path, spec: impl Fn(&str) -> SpecRecord) {
+    for (run, ms, row0) in [
+        ("run-1", 1_700_000_000_000, Outcome::Failed),
+        ("run-2", 1_700_000_100_000, Outcome::Passed),
+    ] {
+        let s = spec(run);
+        let mut lines = vec![Line::Spec(s.clone()).to_json_line()];
+        for r in 0..s.rows.len() {
+            let o = if r == 0 { row0 } else { Outcome::Passed };
+            lines.push(Line::Row(row(&s, r, o, run)).to_json_line());
+        }
+        write_process(dir, run, ms, &lines);
+    }
+}
+
 /// A suite far too costly to generate again in a report (17 factors of 3 levels at
 /// strength 4; the engine took over a minute on it at a higher λ): the report prices the
 /// advice from the recorded design and finishes at once.
@@ -668,19 +685,7 @@ fn the_advice_on_a_large_suite_is_priced_without_generating() {
     for f in 0..17 {
         b = b.factor(&format!("k{f}"), &["a", "b", "c"]);
     }
-    for (run, ms, row0) in [
-        ("run-1", 1_700_000_000_000, Outcome::Failed),
-        ("run-2", 1_700_000_100_000, Outcome::Passed),
-    ] {
-        let mut s = b.clone().run(run).build();
-        s.run = run.into();
-        let mut lines = vec![Line::Spec(s.clone()).to_json_line()];
-        for r in 0..s.rows.len() {
-            let o = if r == 0 { row0 } else { Outcome::Passed };
-            lines.push(Line::Row(row(&s, r, o, run)).to_json_line());
-        }
-        write_process(tmp.path(), run, ms, &lines);
-    }
+    write_flaky_row_0(tmp.path(), |run| b.clone().run(run).build());
     let v = json(tmp.path(), &["--runs", "2"]);
     let advice = &v["suites"][0]["advice"];
     // row 0 failed once in two runs: rate 0.5, λ' = 5, the design repeated 5 times
@@ -802,18 +807,7 @@ fn the_advice_prices_the_focus_sets_at_the_index_asked() {
     // so λ' copies of its 27 rows reach λ' (juxtaposed arrays add their indices, common
     // practice)
     let tmp = tempfile::tempdir().unwrap();
-    for (run, ms, row0) in [
-        ("run-1", 1_700_000_000_000, Outcome::Failed),
-        ("run-2", 1_700_000_100_000, Outcome::Passed),
-    ] {
-        let s = focus_spec(run);
-        let mut lines = vec![Line::Spec(s.clone()).to_json_line()];
-        for r in 0..s.rows.len() {
-            let o = if r == 0 { row0 } else { Outcome::Passed };
-            lines.push(Line::Row(row(&s, r, o, run)).to_json_line());
-        }
-        write_process(tmp.path(), run, ms, &lines);
-    }
+    write_flaky_row_0(tmp.path(), focus_spec);
     let v = json(tmp.path(), &["--runs", "2"]);
     let advice = &v["suites"][0]["advice"];
     let needed = advice["lambda_needed"].as_u64().unwrap();
