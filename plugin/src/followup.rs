@@ -266,7 +266,7 @@ pub fn propose(
     let mut out: Vec<(Row, u32)> = Vec::new();
     let mut new_rows = 0;
     let mut tried: BTreeSet<u64> = BTreeSet::new();
-    let known = Known::new(tallies, cands.iter().map(|c| interaction(c)));
+    let known = Known::new(tallies, cands.iter().map(&interaction));
     while classes.iter().any(|c| c.len() > 1) {
         // the best recorded row to run again, unless a new row separates more
         let again = recorded

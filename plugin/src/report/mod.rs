@@ -654,7 +654,7 @@ pub fn write_to(path: &Path, text: &str) -> Result<(), Failure> {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use heddle_store::fixture::{SpecBuilder, oa9};
+    use heddle_store::fixture::SpecBuilder;
 
     #[test]
     fn a_focus_set_prices_its_own_interactions() {
