@@ -167,7 +167,7 @@ fn a_strength_three_suite_with_an_exclude_renders() {
     let records = Store::open(dir.path()).unwrap().read_last(3).unwrap();
     let report = report::build(&records, &[], 0.95, false);
     let s = &report.suites[0];
-    let top = &s.tallies.entries[s.analysis.suspects[0].interaction].interaction;
+    let top = &s.tallies.item(s.analysis.suspects[0].interaction).interaction;
     assert_eq!(
         (top.factors.clone(), top.levels.clone()),
         (vec![0, 2, 3], vec![1, 0, 2])

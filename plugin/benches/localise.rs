@@ -171,7 +171,7 @@ fn judge_deterministic(
     let pos = a
         .suspects
         .iter()
-        .position(|s| t.entries[s.interaction].interaction == *fault);
+        .position(|s| t.item(s.interaction).interaction == *fault);
     Judged {
         first: pos == Some(0),
         alone: pos == Some(0) && a.suspects.iter().filter(|s| s.explains > 0).count() == 1,
@@ -278,7 +278,7 @@ fn flaky(trials: usize) {
         let rec = record(&levels, lambda, seed, rows, "flaky");
         let t = tally(&rec, outcomes).expect("valid spec");
         let a = analyse(&t);
-        let is_fault = |i: usize| t.entries[i].interaction == fault;
+        let is_fault = |i: usize| t.item(i).interaction == fault;
         flagged += a.flaky.iter().any(|f| is_fault(f.interaction)) as usize;
         named += a
             .suspects
@@ -288,7 +288,7 @@ fn flaky(trials: usize) {
         clean_flagged += a
             .flaky
             .iter()
-            .filter(|f| t.entries[f.interaction].interaction.arity() == 2 && !is_fault(f.interaction))
+            .filter(|f| t.item(f.interaction).interaction.arity() == 2 && !is_fault(f.interaction))
             .count();
     }
     println!("flaky 2-way fault (fails with probability 0.5 per run), lambda {lambda}, {ROUNDS} rounds:");
@@ -359,7 +359,7 @@ fn follow_up(
         let a = analyse(&t);
         (t, a)
     };
-    let is = |t: &heddle_store::Tallies, i: usize| fault.is_some_and(|f| &t.entries[i].interaction == f);
+    let is = |t: &heddle_store::Tallies, i: usize| fault.is_some_and(|f| &t.item(i).interaction == f);
     let unique = |t: &heddle_store::Tallies, a: &cargo_heddle::analysis::Analysis| {
         a.suspects.first().is_some_and(|s| is(t, s.interaction))
             && a.suspects.iter().filter(|s| s.explains > 0).count() == 1

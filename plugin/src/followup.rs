@@ -98,15 +98,10 @@ struct Candidate {
     rate: f64,
 }
 
-/// Every interaction a candidate may be: the tallies' entries (arity 1 to t), then the
-/// focus interactions (each focus set's column sets at its own strength). A candidate
-/// is its place in this list.
+/// Every interaction a candidate may be ([`Tallies::items`]: the entries, then the focus
+/// interactions); a candidate is its place in this list, as a suspect is.
 fn pool(tallies: &Tallies) -> Vec<&Tally> {
-    tallies
-        .entries
-        .iter()
-        .chain(tallies.focus.iter().map(|f| &f.tally))
-        .collect()
+    tallies.items().collect()
 }
 
 /// The candidates behind the failures, most likely first, and the failing rows they
@@ -138,7 +133,7 @@ fn candidates(tallies: &Tallies, pool: &[&Tally], analysis: &Analysis) -> (Vec<C
         let Some(top) = analysis.suspects.first() else {
             return (Vec::new(), focus);
         };
-        focus = failing(&tallies.entries[top.interaction].rows);
+        focus = failing(&tallies.item(top.interaction).rows);
         all = in_all(&focus);
     }
     let ll: Vec<f64> = all
@@ -165,14 +160,6 @@ fn candidates(tallies: &Tallies, pool: &[&Tally], analysis: &Analysis) -> (Vec<C
     // most likely first, then in entry order (deterministic)
     kept.sort_by(|a, b| b.weight.total_cmp(&a.weight).then(a.entry.cmp(&b.entry)));
     (kept, focus)
-}
-
-/// The most likely candidate behind the failures (of the base strength or a focus set's),
-/// `None` when nothing failed: what the follow-up rows point at once they are done.
-pub fn most_likely(tallies: &Tallies, analysis: &Analysis) -> Option<Interaction> {
-    let pool = pool(tallies);
-    let (cands, _) = candidates(tallies, &pool, analysis);
-    cands.first().map(|c| pool[c.entry].interaction.clone())
 }
 
 /// Natural log of B(g + 1, n − g + 1) = g! (n − g)! / (n + 1)!: the probability of a
@@ -382,12 +369,12 @@ fn clearing(
     for s in analysis
         .suspects
         .iter()
-        .filter(|s| s.explains > 0 && tallies.entries[s.interaction].interaction != c.interaction)
+        .filter(|s| s.explains > 0 && tallies.item(s.interaction).interaction != c.interaction)
     {
         if out.len() >= max_rows {
             break;
         }
-        let e = &tallies.entries[s.interaction];
+        let e = tallies.item(s.interaction);
         let failing: Vec<u32> = e
             .rows
             .iter()
@@ -438,13 +425,14 @@ fn clearing(
     if out.is_empty() {
         return None;
     }
-    let base = tallies.entries[cleared[0]]
+    let base = tallies
+        .item(cleared[0])
         .rows
         .iter()
         .copied()
         .find(|&r| tallies.rows[r as usize].failures > 0)? as usize;
     let mut candidates = vec![c.interaction.clone()];
-    candidates.extend(cleared.iter().map(|&i| tallies.entries[i].interaction.clone()));
+    candidates.extend(cleared.iter().map(|&i| tallies.item(i).interaction.clone()));
     Some(Proposal {
         base,
         rows: out,
@@ -681,7 +669,7 @@ mod tests {
         a.suspects
             .iter()
             .filter(|s| s.explains > 0)
-            .map(|s| t.entries[s.interaction].interaction.clone())
+            .map(|s| t.item(s.interaction).interaction.clone())
             .collect()
     }
 

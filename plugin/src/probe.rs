@@ -164,21 +164,12 @@ fn follow_up(
     let engine = engine_spec(spec).map_err(|e| found(format!("{place}: {e}")))?;
     let max = args.max_rows.unwrap_or(engine.factors.len());
     let Some(p) = propose(&engine, &spec.rows, &tallies, &analysis, max) else {
-        // the candidate the follow-ups settled on, which may be a focus set's
-        // interaction of more factors than the report's suspects
-        let top = crate::followup::most_likely(&tallies, &analysis).or_else(|| {
-            let s = analysis.suspects.first()?;
-            Some(tallies.entries[s.interaction].interaction.clone())
-        });
-        let named = top
-            .as_ref()
-            .map(|i| levels_text(&report::described(spec, i)))
+        let named = analysis
+            .suspects
+            .first()
+            .map(|s| levels_text(&report::described(spec, &tallies.item(s.interaction).interaction)))
             .unwrap_or_default();
-        if top.is_some_and(|i| i.arity() > tallies.strength) {
-            say!("{place}: no follow-up rows needed, the rows single out `{named}` of a focus set");
-        } else {
-            say!("{place}: no follow-up rows needed, the report names `{named}`");
-        }
+        say!("{place}: no follow-up rows needed, the report names `{named}`");
         return Ok(None);
     };
     say!("{}", describe(&place, suite, &p));

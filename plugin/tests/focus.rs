@@ -233,7 +233,7 @@ fn a_focus_set_is_reached_drawn_and_followed_up_at_its_own_strength() {
     assert!(html.contains(&format!("<title>{triple}: fails always")), "{html}");
 
     // follow-up rows until they settle: the triple, an interaction of the focus set, is
-    // what they single out (the pairs of the report cannot be it)
+    // what they single out, not one of its pairs
     let mut said = String::new();
     for _ in 0..4 {
         let probe = krate.heddle(bin, &["probe"]);
@@ -246,9 +246,23 @@ fn a_focus_set_is_reached_drawn_and_followed_up_at_its_own_strength() {
         assert_eq!(run.code, Some(101), "{}\n{}", run.stdout, run.stderr);
     }
     assert!(
-        said.contains(&format!(
-            "no follow-up rows needed, the rows single out `{triple}` of a focus set"
-        )),
+        said.contains(&format!("no follow-up rows needed, the report names `{triple}`")),
         "{said}"
     );
+    // and the report ranks it alone among the suspects that explain failures
+    let report = krate.heddle(bin, &["report", "--format", "json"]);
+    assert_eq!(report.code, Some(0), "{}", report.stderr);
+    let v: serde_json::Value = serde_json::from_str(&report.stdout).unwrap();
+    let named: Vec<&serde_json::Value> = v["suites"][0]["suspects"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|s| s["explains"].as_u64() > Some(0))
+        .collect();
+    assert_eq!(named.len(), 1, "{}", report.stdout);
+    assert_eq!(
+        named[0]["levels"],
+        serde_json::json!({"codec": "Codec::Delta", "unit": "Unit::Kelvin", "workers": "4"})
+    );
+    assert_eq!(named[0]["verdict"], "always");
 }

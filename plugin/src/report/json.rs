@@ -21,7 +21,8 @@
 //!       "interactions": [ { "levels": {parameter: label, …}, "runs", "passes", "failures" } ],
 //!                                              every single level and every 2..t-way one
 //!       "suspects": [ { "levels", "score", "reason", "always", "verdict", "explains",
-//!                       "runs", "passes", "failures" } ],          best first
+//!                       "runs", "passes", "failures" } ],          best first; with focus
+//!                                              sets, their interactions are suspects too
 //!                                              verdict: always | flaky | some-rows
 //!       "flaky": [ { "levels", "runs", "passes", "low", "high" } ],  95% Wilson interval;
 //!                                              only interactions a row of which both
@@ -260,7 +261,7 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
             .suspects
             .iter()
             .map(|x| {
-                let e = &entries[x.interaction];
+                let e = s.tallies.item(x.interaction);
                 Suspect {
                     levels: Levels(described(spec, &e.interaction)),
                     score: x.score,
@@ -279,7 +280,7 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
             .flaky
             .iter()
             .map(|f| Flaky {
-                levels: Levels(described(spec, &entries[f.interaction].interaction)),
+                levels: Levels(described(spec, &s.tallies.item(f.interaction).interaction)),
                 runs: f.runs,
                 passes: f.passes,
                 low: f.low,

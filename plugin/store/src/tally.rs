@@ -210,6 +210,25 @@ impl Tallies {
         self.of_arity(self.strength)
     }
 
+    /// The `i`th interaction of [`Tallies::items`]: an entry, or past them a focus
+    /// interaction. The index suspects and follow-up candidates are named by.
+    ///
+    /// # Panics
+    ///
+    /// When `i` is not below the number of items, as indexing does.
+    pub fn item(&self, i: usize) -> &Tally {
+        match self.entries.get(i) {
+            Some(t) => t,
+            None => &self.focus[i - self.entries.len()].tally,
+        }
+    }
+
+    /// Every interaction counted: the entries (arity 1 to t), then the focus
+    /// interactions (each focus set's column sets at its own strength).
+    pub fn items(&self) -> impl Iterator<Item = &Tally> {
+        self.entries.iter().chain(self.focus.iter().map(|f| &f.tally))
+    }
+
     /// The tally of one interaction, if the design contains it (a focus interaction
     /// above the strength among [`Tallies::focus`]).
     pub fn get(&self, interaction: &Interaction) -> Option<&Tally> {

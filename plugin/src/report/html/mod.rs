@@ -139,7 +139,7 @@ fn overview(report: &Report<'_>) -> Markup {
                                 td class="num" { (s.failed) }
                                 td class="num" { (s.not_run) }
                                 td { @match s.analysis.suspects.first() {
-                                    Some(x) => { code { (levels_text(&described(s.spec, &s.tallies.entries[x.interaction].interaction))) } " " (verdict(x)) }
+                                    Some(x) => { code { (levels_text(&described(s.spec, &s.tallies.item(x.interaction).interaction))) } " " (verdict(x)) }
                                     None => { "none" }
                                 } }
                             }
@@ -240,7 +240,7 @@ fn suspects(s: &SuiteReport<'_>) -> Markup {
                     } }
                     tbody {
                         @for (n, x) in a.suspects.iter().enumerate() {
-                            @let e = &s.tallies.entries[x.interaction];
+                            @let e = s.tallies.item(x.interaction);
                             tr data-suspect=(n + 1) {
                                 td class="num" { (n + 1) }
                                 th scope="row" { code { (levels_text(&described(s.spec, &e.interaction))) } }
@@ -346,7 +346,7 @@ fn flaky_section(report: &Report<'_>, s: &SuiteReport<'_>, id: &str) -> Markup {
                     tbody {
                         @for f in &s.analysis.flaky {
                             tr {
-                                th scope="row" { code { (levels_text(&described(s.spec, &s.tallies.entries[f.interaction].interaction))) } }
+                                th scope="row" { code { (levels_text(&described(s.spec, &s.tallies.item(f.interaction).interaction))) } }
                                 td class="num" { (f.passes) "/" (f.runs) }
                                 td class="num" { (percent(f.passes as f64 / f.runs.max(1) as f64)) }
                                 td class="num" { (percent(f.low)) "–" (percent(f.high)) }
@@ -367,7 +367,7 @@ fn flaky_section(report: &Report<'_>, s: &SuiteReport<'_>, id: &str) -> Markup {
                         tbody {
                             @for (i, f) in s.analysis.flaky.iter().enumerate() {
                                 tr {
-                                    th scope="row" { code { (levels_text(&described(s.spec, &s.tallies.entries[f.interaction].interaction))) } }
+                                    th scope="row" { code { (levels_text(&described(s.spec, &s.tallies.item(f.interaction).interaction))) } }
                                     @for c in &counts[i] { td { (flaky::run_text(c)) } }
                                 }
                             }
