@@ -1,6 +1,6 @@
 //! The HTML report in a real browser (Debian's Chromium, headless): a suite of strength 3
-//! with an exclude read over three runs, and the greenhouse demo as the quick start runs
-//! it. Each page is loaded, its DOM and console read, and screenshots taken; the
+//! with an exclude read over three runs, a suite with focus sets, and the greenhouse demo
+//! as the quick start runs it. Each page is loaded, its DOM and console read, and screenshots taken; the
 //! suspects' outlines must show up as pixels. In CI (`CI` set) a missing browser fails
 //! the test; elsewhere the test says why it skipped the browser's part.
 
@@ -166,7 +166,7 @@ fn a_strength_three_suite_with_an_exclude_renders() {
     let records = Store::open(dir.path()).unwrap().read_last(3).unwrap();
     let report = report::build(&records, &[], 0.95, false);
     let s = &report.suites[0];
-    let top = &s.tallies.entries[s.analysis.suspects[0].interaction].interaction;
+    let top = &s.tallies.item(s.analysis.suspects[0].interaction).interaction;
     assert_eq!(
         (top.factors.clone(), top.levels.clone()),
         (vec![0, 2, 3], vec![1, 0, 2])
@@ -194,6 +194,84 @@ fn a_strength_three_suite_with_an_exclude_renders() {
     let Some(browser) = browser() else { return };
     let loaded = judge(&browser, &page, dir.path());
     assert!(loaded.dom.contains("f0 = 1, f2 = 0, f3 = 2"));
+}
+
+#[test]
+fn focus_sets_get_a_section_with_their_interactions() {
+    // five factors at strength 2; f0, f1, f2 and f2, f3, f4 also at strength 3; rows from
+    // the engine; the triple f0 = 1, f1 = 0, f2 = 1 fails every run
+    let levels = [2usize, 2, 2, 2, 2];
+    let spec = Spec::numbered(&levels)
+        .focus(heddle_generator::Focus::new(vec![0, 1, 2], 3))
+        .focus(heddle_generator::Focus::new(vec![2, 3, 4], 3));
+    let rows = generate(&spec, Effort::Fast).unwrap().rows;
+    let fails = |r: &[u8]| r[0] == 1 && r[1] == 0 && r[2] == 1;
+    let dir = tempfile::tempdir().unwrap();
+    let rec = SpecBuilder::new("focused")
+        .numbered(&levels)
+        .strength(2)
+        .run("r0")
+        .focus(&[0, 1, 2], 3, 1)
+        .focus(&[2, 3, 4], 3, 1)
+        .rows(rows.clone())
+        .build();
+    let outcomes: Vec<(usize, Outcome)> = rows
+        .iter()
+        .enumerate()
+        .map(|(i, r)| {
+            (
+                i,
+                if fails(r) {
+                    Outcome::Failed
+                } else {
+                    Outcome::Passed
+                },
+            )
+        })
+        .collect();
+    write_run(dir.path(), &rec, 1_000, &outcomes);
+    let records = Store::open(dir.path()).unwrap().read_last(1).unwrap();
+    let report = report::build(&records, &[], 0.95, false);
+    let html = report::render(&report, Format::Html, false);
+    // each focus set has its section, every one of its 8 triples a cell (2^3 levels, and
+    // a design covering them at strength 3 holds each), the failing triple marked
+    assert!(
+        html.contains("<h3 id=\"suite-1-focus\">Focus sets</h3>"),
+        "{html}"
+    );
+    for n in 1..=2 {
+        assert!(html.contains(&format!("data-focus=\"{n}\"")), "focus set {n}");
+    }
+    assert_eq!(html.matches("<g class=\"focus-cell\"").count(), 16, "{html}");
+    let at = |n: usize| html.find(&format!("data-focus=\"{n}\"")).unwrap();
+    let (first, second) = (&html[at(1)..at(2)], &html[at(2)..]);
+    // in the first set only the fault's triple failed, in every run
+    assert_eq!(
+        first
+            .matches("<g class=\"focus-cell\" data-verdict=\"always\"")
+            .count(),
+        1
+    );
+    assert_eq!(
+        first
+            .matches("<g class=\"focus-cell\" data-verdict=\"none\"")
+            .count(),
+        7
+    );
+    assert!(
+        first.contains("<title>f0 = 1, f1 = 0, f2 = 1: fails always"),
+        "{first}"
+    );
+    assert!(first.contains("<code>f0, f1, f2</code> at strength 3, λ 1"));
+    assert!(first.contains("8 of 8 interactions ran in at least 1 row; <strong>1 failed</strong>"));
+    // the second set's triples in the failing rows failed with it: never all clear
+    assert!(second.contains("<code>f2, f3, f4</code> at strength 3, λ 1"));
+    assert!(!second.contains("all clear"));
+    let page = dir.path().join("report.html");
+    std::fs::write(&page, &html).unwrap();
+    let Some(browser) = browser() else { return };
+    let loaded = judge(&browser, &page, dir.path());
+    assert!(loaded.dom.contains("Focus sets"));
 }
 
 /// The workspace root (this package lives in `<root>/demo`).

@@ -10,11 +10,14 @@
 //!    how often it is named among the suspects at all, and the share of clean 2-way
 //!    interactions flagged (target ≤ 5%).
 //! 3. Follow-up rows (`cargo_heddle::followup`): after one run of the design, rounds of
-//!    proposed rows (at most k distinct rows per trial, k = number of factors) are run and
-//!    the report judges again; figures: how often the planted pair is then the only
-//!    suspect explaining failures — a deterministic pair at λ = 1 (target ≥ 98%) and a
-//!    pair failing with probability 0.5 at λ = 2 (target ≥ 90%) — the rows and runs used,
-//!    and how often rows are proposed when no fault is planted (must be never).
+//!    proposed rows (at most k new distinct rows per trial, k = number of factors; rows
+//!    already recorded may run again) are run and the report judges again; figures: how
+//!    often the planted pair is then the only suspect explaining failures — a
+//!    deterministic pair at λ = 1 (target ≥ 98%) and a pair failing with probability 0.5
+//!    at λ = 2 (target ≥ 90%), over all trials and over the trials where some row of the
+//!    design failed (the others give nothing to follow up, so their share is the ceiling)
+//!    — the new rows, runs and rounds used, and how often rows are proposed when no fault
+//!    is planted (must be never).
 //! 4. Aliasing: where an orthogonal array of index λ exists it is the fewest rows, but a
 //!    linear one aliases interactions; figures: rows and aliased interactions of the
 //!    engine's design at λ, and how often a planted pair is ranked first (alone) with it
@@ -168,7 +171,7 @@ fn judge_deterministic(
     let pos = a
         .suspects
         .iter()
-        .position(|s| t.entries[s.interaction].interaction == *fault);
+        .position(|s| t.item(s.interaction).interaction == *fault);
     Judged {
         first: pos == Some(0),
         alone: pos == Some(0) && a.suspects.iter().filter(|s| s.explains > 0).count() == 1,
@@ -275,7 +278,7 @@ fn flaky(trials: usize) {
         let rec = record(&levels, lambda, seed, rows, "flaky");
         let t = tally(&rec, outcomes).expect("valid spec");
         let a = analyse(&t);
-        let is_fault = |i: usize| t.entries[i].interaction == fault;
+        let is_fault = |i: usize| t.item(i).interaction == fault;
         flagged += a.flaky.iter().any(|f| is_fault(f.interaction)) as usize;
         named += a
             .suspects
@@ -285,7 +288,7 @@ fn flaky(trials: usize) {
         clean_flagged += a
             .flaky
             .iter()
-            .filter(|f| t.entries[f.interaction].interaction.arity() == 2 && !is_fault(f.interaction))
+            .filter(|f| t.item(f.interaction).interaction.arity() == 2 && !is_fault(f.interaction))
             .count();
     }
     println!("flaky 2-way fault (fails with probability 0.5 per run), lambda {lambda}, {ROUNDS} rounds:");
@@ -311,7 +314,8 @@ struct Followed {
     unique_after: bool,
     /// Ranked first before.
     first_before: bool,
-    /// Distinct follow-up rows used, and their runs.
+    /// Distinct new rows used (not in the design nor an earlier round), and the runs of
+    /// every follow-up row (new or run again).
     rows: usize,
     runs: usize,
     /// Rounds with a proposal.
@@ -320,8 +324,12 @@ struct Followed {
     failed: bool,
 }
 
-/// Runs the design once, then proposes follow-up rows (at most `cap` distinct ones over
-/// every round) and runs them, with `fails(row, rng)` deciding each run; the report's
+/// Most rounds of follow-up rows per trial (each a `cargo heddle probe` and a test run).
+const MAX_ROUNDS: usize = 12;
+
+/// Runs the design once, then proposes follow-up rows (at most `cap` distinct new ones
+/// over every round, rows of the design or of an earlier round run again not counted;
+/// at most [`MAX_ROUNDS`] rounds) and runs them, with `fails(row, rng)` deciding each run; the report's
 /// analysis judges before and after.
 fn follow_up(
     rng: &mut Mix,
@@ -351,7 +359,7 @@ fn follow_up(
         let a = analyse(&t);
         (t, a)
     };
-    let is = |t: &heddle_store::Tallies, i: usize| fault.is_some_and(|f| &t.entries[i].interaction == f);
+    let is = |t: &heddle_store::Tallies, i: usize| fault.is_some_and(|f| &t.item(i).interaction == f);
     let unique = |t: &heddle_store::Tallies, a: &cargo_heddle::analysis::Analysis| {
         a.suspects.first().is_some_and(|s| is(t, s.interaction))
             && a.suspects.iter().filter(|s| s.explains > 0).count() == 1
@@ -363,13 +371,16 @@ fn follow_up(
         failed: a.failures > 0,
         ..Followed::default()
     };
-    while out.rows < cap {
+    while out.rounds < MAX_ROUNDS {
         let Some(p) = propose(spec, &all, &t, &a, cap - out.rows) else {
             break;
         };
         out.rounds += 1;
-        out.rows += p.rows.len();
         for (row, repeat) in &p.rows {
+            // a recorded row run again is no new configuration
+            if !all.contains(row) {
+                out.rows += 1;
+            }
             for _ in 0..*repeat {
                 all.push(row.clone());
                 run(rng, all.len() - 1, row, &mut outcomes);
@@ -413,8 +424,8 @@ fn localisation_with_follow_ups(trials: usize) {
         pct(after),
     );
     println!(
-        "    per trial: {:.2} extra rows ({:.2} runs), {:.2} rounds on average; at most {most} rows, \
-         more than k in {over_k} trials",
+        "    per trial: {:.2} new rows ({:.2} runs of follow-up rows, new or run again), {:.2} rounds on \
+         average; at most {most} new rows, more than k in {over_k} trials",
         rows as f64 / trials as f64,
         runs as f64 / trials as f64,
         rounds as f64 / trials as f64
@@ -422,6 +433,7 @@ fn localisation_with_follow_ups(trials: usize) {
 
     // a flaky pair at λ = 2, failing with probability 0.5 in each run
     let (mut before, mut after, mut rows, mut runs, mut seen, mut after_seen) = (0, 0, 0, 0, 0, 0);
+    let (mut rounds, mut most_rounds, mut capped) = (0, 0usize, 0usize);
     for trial in 0..trials {
         let mut rng = Mix(600_000 + trial as u64);
         let (levels, design, _, spec) = random_spec(&mut rng, 2);
@@ -434,22 +446,31 @@ fn localisation_with_follow_ups(trials: usize) {
         after += f.unique_after as usize;
         rows += f.rows;
         runs += f.runs;
+        rounds += f.rounds;
+        most_rounds = most_rounds.max(f.rounds);
+        capped += (f.rounds >= MAX_ROUNDS) as usize;
         seen += f.failed as usize;
         after_seen += (f.failed && f.unique_after) as usize;
     }
+    let per = |n: usize, of: usize| n as f64 / of.max(1) as f64;
     println!(
-        "  flaky pair (p = 0.5), lambda 2: some row failed in {:.1}% of trials (nothing to follow up in the \
-         others); uniquely named {:.1}% before, {:.1}% after",
-        pct(seen),
+        "  flaky pair (p = 0.5), lambda 2: uniquely named {:.1}% before, {:.1}% after, over all {trials} trials \
+         (target ≥ 90%)",
         pct(before),
         pct(after),
     );
     println!(
-        "    of the trials with a failure: uniquely named {:.1}% after (target ≥ 90%); per trial {:.2} extra \
-         rows, {:.2} runs of them",
-        100.0 * after_seen as f64 / seen.max(1) as f64,
-        rows as f64 / trials as f64,
-        runs as f64 / trials as f64
+        "    some row failed in {:.1}% of trials: the ceiling over all trials (nothing to follow up in the \
+         others); of the {seen} trials with a failure, uniquely named {:.1}% after",
+        pct(seen),
+        100.0 * per(after_seen, seen),
+    );
+    println!(
+        "    per trial with a failure: {:.2} new rows, {:.2} runs of follow-up rows (new or run again), \
+         {:.2} rounds; at most {most_rounds} rounds, the cap of {MAX_ROUNDS} reached in {capped} trials",
+        per(rows, seen),
+        per(runs, seen),
+        per(rounds, seen),
     );
 
     // nothing wrong: no fault planted

@@ -5,7 +5,10 @@
 //! Suspects come from a greedy explanation of the failing rows: repeatedly take the
 //! interaction that accounts for the most still-unexplained failures, preferring the
 //! purest (share of its runs that failed) and then the simplest (fewest factors), until
-//! every failing row is accounted for. An interaction whose every run failed is a strong
+//! every failing row is accounted for. The interactions weighed are those of every
+//! arity up to the strength and, with focus sets, each focus set's at its own strength
+//! (variable strength: a fault of the focused factors is found at the strength asked of
+//! them). An interaction whose every run failed is a strong
 //! suspect; one that also passed is weaker. Equally good explanations are all reported,
 //! since the rows cannot tell them apart.
 //!
@@ -19,12 +22,12 @@
 
 use std::cmp::Ordering;
 
-use heddle_store::Tallies;
+use heddle_store::{Count, Tallies, Tally};
 
 /// An interaction that explains failures.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Suspect {
-    /// Index into [`Tallies::entries`].
+    /// Index of the interaction in [`Tallies::item`] (a focus interaction past the entries).
     pub interaction: usize,
     /// Between 0 and 1, in the order suspects are ranked: above 0.5 for an interaction
     /// every run of which failed (0.5 + half the share of all failures it explains);
@@ -57,6 +60,20 @@ pub enum Verdict {
 }
 
 impl Verdict {
+    /// The verdict on an interaction with these runs and rows (`None` when it never
+    /// failed): every run failed, some row both passed and failed, or neither.
+    pub fn of(count: &Count, split: &RowSplit) -> Option<Verdict> {
+        if count.failures == 0 {
+            None
+        } else if count.passes == 0 {
+            Some(Verdict::Always)
+        } else if split.mixed > 0 {
+            Some(Verdict::Flaky)
+        } else {
+            Some(Verdict::SomeRows)
+        }
+    }
+
     /// The words the reports use.
     pub fn words(self) -> &'static str {
         match self {
@@ -92,8 +109,13 @@ pub struct RowSplit {
 /// Counts the rows of one interaction by how they ran: distinct rows, not executions, so
 /// retries and repeats of one row count once.
 pub fn row_split(tallies: &Tallies, interaction: usize) -> RowSplit {
+    split_of(tallies, tallies.item(interaction))
+}
+
+/// [`row_split`] of any tally of the suite (a focus interaction's too).
+pub fn split_of(tallies: &Tallies, tally: &Tally) -> RowSplit {
     let mut s = RowSplit::default();
-    for &r in &tallies.entries[interaction].rows {
+    for &r in &tally.rows {
         let c = &tallies.rows[r as usize];
         if c.runs == 0 {
             continue;
@@ -111,7 +133,7 @@ pub fn row_split(tallies: &Tallies, interaction: usize) -> RowSplit {
 /// An interaction some row of which both passed and failed, and which explains failures.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Flaky {
-    /// Index into [`Tallies::entries`].
+    /// Index of the interaction in [`Tallies::item`] (a focus interaction past the entries).
     pub interaction: usize,
     /// Executions.
     pub runs: u64,
@@ -243,7 +265,8 @@ pub fn analyse(tallies: &Tallies) -> Analysis {
     if failures == 0 {
         return Analysis::default();
     }
-    let entries = &tallies.entries;
+    // every interaction counted, a focus set's at its own strength too
+    let entries: Vec<&Tally> = tallies.items().collect();
     // candidates: interactions with failures, with the failing rows containing them
     let cands: Vec<(usize, Vec<usize>)> = entries
         .iter()
@@ -349,13 +372,7 @@ pub fn analyse(tallies: &Tallies) -> Analysis {
         let c = &entries[i].count;
         let always = c.passes == 0;
         let split = row_split(tallies, i);
-        let verdict = if always {
-            Verdict::Always
-        } else if split.mixed > 0 {
-            Verdict::Flaky
-        } else {
-            Verdict::SomeRows
-        };
+        let verdict = Verdict::of(c, &split).unwrap_or(Verdict::SomeRows);
         let share = g as f64 / failures as f64;
         let reason = format!(
             "{}; explains {g} of {failures} failures",
@@ -520,6 +537,43 @@ mod tests {
         for w in a.suspects.windows(2) {
             assert!(w[0].score >= w[1].score, "{:?}", a.suspects);
         }
+    }
+
+    #[test]
+    fn a_focus_interaction_is_a_suspect_at_its_own_strength() {
+        // the full factorial 3^3 (27 rows) at strength 2 with {p0, p1, p2} as a focus set
+        // at strength 3: each triple is in one row, each pair in three (common
+        // practice). The triple (b, b, b) fails: its pairs failed in one of their three
+        // rows, so only the triple failed in all of its rows and explains the failure
+        let rows: Vec<Vec<u8>> = (0..27u8).map(|x| vec![x / 9, x / 3 % 3, x % 3]).collect();
+        let mut b = SpecBuilder::new("f")
+            .strength(2)
+            .focus(&[0, 1, 2], 3, 1)
+            .rows(rows.clone());
+        for i in 0..3 {
+            b = b.factor(&format!("p{i}"), &["a", "b", "c"]);
+        }
+        let sp = b.build();
+        let outcomes = rows.iter().enumerate().map(|(i, r)| {
+            let fail = r == &[1, 1, 1];
+            (i, if fail { Outcome::Failed } else { Outcome::Passed })
+        });
+        let t = heddle_store::tally(&sp, outcomes).unwrap();
+        let a = analyse(&t);
+        let top = &a.suspects[0];
+        let it = &t.item(top.interaction).interaction;
+        assert_eq!(
+            (it.factors.clone(), it.levels.clone()),
+            (vec![0, 1, 2], vec![1, 1, 1])
+        );
+        assert!(top.interaction >= t.entries.len(), "a focus interaction");
+        assert_eq!((top.verdict, top.explains), (Verdict::Always, 1));
+        assert_eq!(
+            a.suspects.iter().filter(|s| s.explains > 0).count(),
+            1,
+            "{:?}",
+            a.suspects
+        );
     }
 
     #[test]

@@ -11,28 +11,36 @@ pub struct BudgetReach {
     pub rows: usize,
     /// Rows of the whole design.
     pub of: usize,
-    /// What those rows cover, strength 1 first.
+    /// What those rows cover, strength 1 first, then each focus set.
     pub reach: Vec<Reach>,
+    /// The factors of each focus set by name, in the spec's order (what a focus set's
+    /// reach is called).
+    pub focus: Vec<Vec<String>>,
 }
 
 impl BudgetReach {
-    /// The coverage in words, the design's own strength first: `strength 2: 78% of 84
-    /// interactions covered, 41% at least λ = 2 times; strength 1: …`.
-    pub fn coverage_text(&self, lambda: u32) -> String {
-        self.reach
-            .iter()
-            .rev()
+    /// The coverage in words, the design's own strength first, then each focus set at
+    /// its own: `strength 2: 78% of 84 interactions covered, 41% at least λ = 2 times;
+    /// strength 1: …; focus set `a, b, c` at strength 3: …`.
+    pub fn coverage_text(&self) -> String {
+        let base = self.reach.iter().filter(|r| r.focus.is_none()).rev();
+        let focus = self.reach.iter().filter(|r| r.focus.is_some());
+        base.chain(focus)
             .map(|r| {
+                let what = match r.focus.and_then(|i| self.focus.get(i)) {
+                    Some(names) => format!("focus set `{}` at strength {}", names.join(", "), r.strength),
+                    None => format!("strength {}", r.strength),
+                };
                 let mut s = format!(
-                    "strength {}: {} of {} interactions covered",
-                    r.strength,
+                    "{what}: {} of {} interactions covered",
                     pct(r.share_once()),
                     r.interactions
                 );
-                if lambda > 1 {
+                if r.index > 1 {
                     s.push_str(&format!(
-                        ", {} at least lambda = {lambda} times",
-                        pct(r.share_lambda())
+                        ", {} at least lambda = {} times",
+                        pct(r.share_lambda()),
+                        r.index
                     ));
                 }
                 s
@@ -42,12 +50,12 @@ impl BudgetReach {
     }
 
     /// `budget: 7 of 27 rows run; they cover …`, the line `show` and the table print.
-    pub fn line(&self, lambda: u32) -> String {
+    pub fn line(&self) -> String {
         format!(
             "budget: {} of {} rows run, the rest are ignored; they cover {}",
             self.rows,
             self.of,
-            self.coverage_text(lambda)
+            self.coverage_text()
         )
     }
 }
@@ -68,33 +76,43 @@ mod tests {
 
     #[test]
     fn words_of_a_reach() {
-        let b = BudgetReach {
+        let reach = |strength, focus, index, interactions, once, lambda| Reach {
+            strength,
+            focus,
+            index,
+            interactions,
+            once,
+            lambda,
+        };
+        let mut b = BudgetReach {
             rows: 7,
             of: 27,
-            reach: vec![
-                Reach {
-                    strength: 1,
-                    interactions: 20,
-                    once: 20,
-                    lambda: 18,
-                },
-                Reach {
-                    strength: 2,
-                    interactions: 1000,
-                    once: 999,
-                    lambda: 410,
-                },
-            ],
+            reach: vec![reach(1, None, 2, 20, 20, 18), reach(2, None, 2, 1000, 999, 410)],
+            focus: Vec::new(),
         };
         assert_eq!(
-            b.line(2),
+            b.line(),
             "budget: 7 of 27 rows run, the rest are ignored; they cover strength 2: >99% of 1000 \
              interactions covered, 41% at least lambda = 2 times; strength 1: 100% of 20 \
              interactions covered, 90% at least lambda = 2 times"
         );
+        for r in &mut b.reach {
+            r.index = 1;
+        }
         assert_eq!(
-            b.coverage_text(1),
+            b.coverage_text(),
             "strength 2: >99% of 1000 interactions covered; strength 1: 100% of 20 interactions covered"
+        );
+        // a focus set is named by its factors, at its own strength and index
+        b.reach.push(reach(3, Some(0), 2, 27, 9, 0));
+        b.focus = vec![vec!["codec".into(), "unit".into(), "workers".into()]];
+        assert!(
+            b.coverage_text().ends_with(
+                "; focus set `codec, unit, workers` at strength 3: 33% of 27 interactions covered, \
+                 0% at least lambda = 2 times"
+            ),
+            "{}",
+            b.coverage_text()
         );
     }
 }

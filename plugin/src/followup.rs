@@ -8,9 +8,12 @@
 //! 1. **Candidates.** One faulty interaction of at most t factors behind the failures is
 //!    in every failing row, so the candidates are the interactions in all of them (when
 //!    none is, there are several faults: those in all failing rows of the report's top
-//!    suspect). Each is weighed by the likelihood of its own passes and failures at its
-//!    best-fitting failure rate, relative to the best (1 for one that never passed); those
-//!    within a factor of e³ of the best are kept.
+//!    suspect), of the base strength and of each focus set at its own. Each is weighed by
+//!    the marginal likelihood of its own passes and failures under a uniform prior on its
+//!    failure rate (Bayes–Laplace: g failures in n runs weigh B(g + 1, n − g + 1)),
+//!    relative to the best; those within a factor of [`PLAUSIBLE_GAP`] of the best are
+//!    kept. Unlike the best-fitting rate, the prior does not take a candidate that failed
+//!    in its two runs for a certain fault.
 //! 2. **Rows from a failing row.** Every candidate sits in the failing row the follow-ups
 //!    start from; changing the levels of a set D of factors removes exactly the
 //!    candidates that touch D and keeps the others, as in the adaptive characterisation of
@@ -18,19 +21,25 @@
 //!    parameter interactions by adaptive testing", ISSTA; from memory). The new levels are
 //!    chosen among those already seen in passing interactions with the rest of the row
 //!    (so a failure of the new row is blamed on what it kept), within the excludes.
-//! 3. **One round, many rows.** The sets D of a round are chosen greedily so that no two
-//!    candidates are kept by the same set of rows and each is kept by one (separated from
+//! 3. **One round, many rows.** The rows of a round are chosen greedily so that no two
+//!    candidates are held by the same set of rows and each is held by one (separated from
 //!    a stand-in for "none of them") — for the candidates alone, the property of a
 //!    locating array (Colbourn & McClary 2008, "Locating and detecting arrays for
 //!    interaction faults", J. Comb. Optim. 15; from memory) — each row separating the
-//!    most weight of still-confused pairs. Then the outcomes of one run name a
-//!    deterministic fault.
+//!    most weight of still-confused pairs. A row already recorded (of the design or an
+//!    earlier round) that separates as much is run again instead of a new one: a passing
+//!    run of a row holding a flaky candidate is weak evidence, and another run of it
+//!    costs no new configuration.
 //! 4. **Flaky candidates.** A row holding a fault that fails with probability p passes
 //!    with probability 1 − p, so a row runs r times, the fewest for which the candidates
-//!    it holds, by weight, would have passed every run with probability at most 5%.
-//! 5. **Clearing.** When one candidate holds at least [`DECISIVE`] of the weight but the
-//!    report still ranks other suspects whose failing rows all hold it too, each of those
-//!    is run once more without it.
+//!    it holds, by weight, would have passed every run with probability at most 5%, each
+//!    rate estimated by the rule of succession ((g + 1) / (n + 2), Laplace 1814; from
+//!    memory), which never takes two failures in two runs for a rate of 1.
+//! 5. **Named.** One candidate is taken as named when it holds at least [`DECISIVE`] of
+//!    the weight and the recorded rows separate it from every other candidate that is
+//!    not negligible (some row holds it without the other); until then the rounds go on. When the report still
+//!    ranks other suspects whose failing rows all hold it too, each of those is run once
+//!    more without it (clearing).
 //!
 //! After the follow-up rows ran, the ordinary analysis ranks the suspects again with
 //! them, and another round is proposed while it is needed. Nothing is proposed when no
@@ -39,17 +48,20 @@
 use std::collections::BTreeSet;
 
 use heddle_generator::{Row, Spec, UNSET};
-use heddle_store::{Interaction, Tallies};
+use heddle_store::{Interaction, Tallies, Tally};
 use heddle_syntax::require::blocked;
 
-use crate::analysis::{Analysis, lambda_for, log_likelihood};
+use crate::analysis::{Analysis, lambda_for};
 
-/// How much lower (natural log) a candidate's likelihood may be than the best one's and
-/// still be worth separating: a likelihood ratio of e³ ≈ 20.
-const PLAUSIBLE_GAP: f64 = 3.0;
+/// How much lower (natural log) a candidate's marginal likelihood may be than the best
+/// one's and still be worth separating: a ratio of e⁷ ≈ 1100, so that a flaky fault that
+/// passed in several of its rows stays among the candidates beside an interaction that
+/// failed in its few rows.
+const PLAUSIBLE_GAP: f64 = 7.0;
 
-/// The share of the candidates' weight at which the most likely one is taken as named.
-pub const DECISIVE: f64 = 0.95;
+/// The share of the candidates' weight at which the most likely one is taken as named
+/// (once the rows separate it from the others).
+pub const DECISIVE: f64 = 0.99;
 
 /// Confidence that r runs of a row holding a flaky fault see it fail.
 const REPEAT_CONFIDENCE: f64 = 0.95;
@@ -68,25 +80,33 @@ pub struct Proposal {
     /// The new rows, distinct, in order, each with how many times it should run (1 when
     /// it holds no flaky candidate).
     pub rows: Vec<(Row, u32)>,
-    /// The candidates the rows tell apart: indices into [`Tallies::entries`], most
-    /// likely first.
-    pub candidates: Vec<usize>,
+    /// The candidates the rows tell apart (interactions of the base strength or below,
+    /// and of the focus sets at their own strength), most likely first.
+    pub candidates: Vec<Interaction>,
     /// Whether the rows tell every pair of candidates apart, and hold each candidate at
-    /// least once (else `max_rows` ran out, or the excludes leave no row that would).
+    /// least once (else the new rows `max_rows` allows ran out, or the excludes leave no
+    /// row that would).
     pub separates_all: bool,
 }
 
 /// A candidate: its entry, its weight (likelihood relative to the best one) and its
 /// observed failure rate.
 struct Candidate {
+    /// Its place in the pool ([`pool`]).
     entry: usize,
     weight: f64,
     rate: f64,
 }
 
+/// Every interaction a candidate may be ([`Tallies::items`]: the entries, then the focus
+/// interactions); a candidate is its place in this list, as a suspect is.
+fn pool(tallies: &Tallies) -> Vec<&Tally> {
+    tallies.items().collect()
+}
+
 /// The candidates behind the failures, most likely first, and the failing rows they
 /// are all in. Empty when nothing failed.
-fn candidates(tallies: &Tallies, analysis: &Analysis) -> (Vec<Candidate>, Vec<u32>) {
+fn candidates(tallies: &Tallies, pool: &[&Tally], analysis: &Analysis) -> (Vec<Candidate>, Vec<u32>) {
     let failing = |rows: &[u32]| -> Vec<u32> {
         rows.iter()
             .copied()
@@ -95,9 +115,9 @@ fn candidates(tallies: &Tallies, analysis: &Analysis) -> (Vec<Candidate>, Vec<u3
     };
     let every: Vec<u32> = (0..tallies.rows.len() as u32).collect();
     let in_all = |focus: &[u32]| -> Vec<usize> {
-        (0..tallies.entries.len())
+        (0..pool.len())
             .filter(|&i| {
-                let e = &tallies.entries[i];
+                let e = pool[i];
                 e.count.failures > 0 && focus.iter().all(|r| e.rows.binary_search(r).is_ok())
             })
             .collect()
@@ -113,14 +133,14 @@ fn candidates(tallies: &Tallies, analysis: &Analysis) -> (Vec<Candidate>, Vec<u3
         let Some(top) = analysis.suspects.first() else {
             return (Vec::new(), focus);
         };
-        focus = failing(&tallies.entries[top.interaction].rows);
+        focus = failing(&tallies.item(top.interaction).rows);
         all = in_all(&focus);
     }
     let ll: Vec<f64> = all
         .iter()
         .map(|&i| {
-            let c = &tallies.entries[i].count;
-            log_likelihood(c.failures, c.runs)
+            let c = &pool[i].count;
+            log_marginal(c.failures, c.runs)
         })
         .collect();
     let best = ll.iter().copied().fold(f64::NEG_INFINITY, f64::max);
@@ -129,11 +149,11 @@ fn candidates(tallies: &Tallies, analysis: &Analysis) -> (Vec<Candidate>, Vec<u3
         .zip(&ll)
         .filter(|&(_, &l)| l >= best - PLAUSIBLE_GAP)
         .map(|(&entry, &l)| {
-            let c = &tallies.entries[entry].count;
+            let c = &pool[entry].count;
             Candidate {
                 entry,
                 weight: (l - best).exp(),
-                rate: c.failures as f64 / c.runs.max(1) as f64,
+                rate: succession(c.failures, c.runs),
             }
         })
         .collect();
@@ -142,11 +162,27 @@ fn candidates(tallies: &Tallies, analysis: &Analysis) -> (Vec<Candidate>, Vec<u3
     (kept, focus)
 }
 
-/// Proposes at most `max_rows` follow-up rows for a suite whose `rows` (every recorded
-/// row, design and earlier follow-ups, indexed as in `tallies`) were judged by
-/// `analysis`; `spec` gives the factors and excludes. `None` when nothing failed, when
-/// one candidate holds at least [`DECISIVE`] of the weight, or when no row allowed by
-/// the excludes would tell any two apart.
+/// Natural log of B(g + 1, n − g + 1) = g! (n − g)! / (n + 1)!: the probability of a
+/// given sequence of `g` failures in `n` runs when the failure rate is uniform on [0, 1].
+fn log_marginal(g: u64, n: u64) -> f64 {
+    let ln_factorial = |m: u64| (2..=m).map(|i| (i as f64).ln()).sum::<f64>();
+    let g = g.min(n);
+    ln_factorial(g) + ln_factorial(n - g) - ln_factorial(n + 1)
+}
+
+/// The rule of succession: the expected failure rate after `g` failures in `n` runs
+/// under a uniform prior.
+fn succession(g: u64, n: u64) -> f64 {
+    (g.min(n) as f64 + 1.0) / (n as f64 + 2.0)
+}
+
+/// Proposes follow-up rows, at most `max_rows` of them new (not among the recorded
+/// rows; recorded rows run again are not counted, each is proposed once a round), for a
+/// suite whose `rows` (every recorded row, design and earlier follow-ups, indexed as in
+/// `tallies`) were judged by `analysis`; `spec` gives the factors and excludes. `None`
+/// when nothing failed, when one candidate is named (see the module's step 5) and no
+/// other suspect needs clearing, or when no row allowed by the excludes would tell any
+/// two candidates apart.
 pub fn propose(
     spec: &Spec,
     rows: &[Row],
@@ -154,13 +190,30 @@ pub fn propose(
     analysis: &Analysis,
     max_rows: usize,
 ) -> Option<Proposal> {
-    let (cands, focus) = candidates(tallies, analysis);
+    let pool = pool(tallies);
+    let (cands, focus) = candidates(tallies, &pool, analysis);
     let total: f64 = cands.iter().map(|c| c.weight).sum();
-    if cands.is_empty() || max_rows == 0 {
+    if cands.is_empty() {
         return None;
     }
-    if cands.len() == 1 || cands[0].weight / total >= DECISIVE {
-        return clearing(spec, rows, tallies, analysis, cands[0].entry, max_rows);
+    let interaction = |c: &Candidate| &pool[c.entry].interaction;
+    // some recorded row holds c without d (or d without c, when every row holding c
+    // holds d: d is part of c)
+    let separated = |c: &Candidate, d: &Candidate| {
+        let (c, d) = (interaction(c), interaction(d));
+        let (c, d) = if c.contains(d) { (d, c) } else { (c, d) };
+        rows.iter().any(|r| c.in_row(r) && !d.in_row(r))
+    };
+    // candidates too unlikely to matter (below 1 − DECISIVE of the top's weight) need
+    // not have been separated
+    let negligible = |d: &Candidate| d.weight < (1.0 - DECISIVE) * cands[0].weight;
+    if cands.len() == 1
+        || (cands[0].weight / total >= DECISIVE
+            && cands[1..]
+                .iter()
+                .all(|d| negligible(d) || separated(&cands[0], d)))
+    {
+        return clearing(spec, rows, tallies, analysis, pool[cands[0].entry], max_rows);
     }
     let base = *focus.first()? as usize;
     let r0 = rows.get(base)?;
@@ -171,13 +224,7 @@ pub fn propose(
     // bit f of a mask: the candidate touches factor f
     let masks: Vec<u64> = cands
         .iter()
-        .map(|c| {
-            tallies.entries[c.entry]
-                .interaction
-                .factors
-                .iter()
-                .fold(0, |m, &f| m | (1u64 << f))
-        })
+        .map(|c| interaction(c).factors.iter().fold(0, |m, &f| m | (1u64 << f)))
         .collect();
     // the last element stands for "none of them": every row leaves it out, so
     // separating a candidate from it means some row holds that candidate
@@ -186,35 +233,70 @@ pub fn propose(
     weights.push(cands[0].weight);
     let mut masks_all = masks.clone();
     masks_all.push(u64::MAX);
+    // the recorded rows that hold some candidates and not others, each once, with the
+    // candidates they hold (a row that holds all of them or none separates nothing)
+    let mut recorded: Vec<(&Row, Vec<bool>)> = Vec::new();
+    for row in rows {
+        let held: Vec<bool> = cands
+            .iter()
+            .map(|c| interaction(c).in_row(row))
+            .chain([false])
+            .collect();
+        if held[..none].iter().any(|&h| h)
+            && held[..none].iter().any(|&h| !h)
+            && !recorded.iter().any(|(r, _)| *r == row)
+        {
+            recorded.push((row, held));
+        }
+    }
     let mut classes: Vec<Vec<usize>> = vec![(0..=none).collect()];
-    let mut out = Vec::new();
+    let mut out: Vec<(Row, u32)> = Vec::new();
+    let mut new_rows = 0;
     let mut tried: BTreeSet<u64> = BTreeSet::new();
-    let known = Known::new(tallies, cands.iter().map(|c| c.entry));
-    while out.len() < max_rows && classes.iter().any(|c| c.len() > 1) {
-        let options = change_sets(k, &masks_all, &weights, &classes, &tried);
+    let known = Known::new(tallies, cands.iter().map(&interaction));
+    while classes.iter().any(|c| c.len() > 1) {
+        // the best recorded row to run again, unless a new row separates more
+        let again = recorded
+            .iter()
+            .filter(|(r, _)| !out.iter().any(|(o, _)| o == *r))
+            .map(|(r, held)| (split_score(&classes, &weights, |h| held[h]), *r, held))
+            .filter(|s| s.0 > 0.0)
+            .max_by(|a, b| a.0.total_cmp(&b.0));
+        let options = if new_rows < max_rows {
+            change_sets(k, &masks_all, &weights, &classes, &tried)
+        } else {
+            Vec::new()
+        };
         let mut built = None;
         for d in options {
+            let gain = split_score(&classes, &weights, |h| masks_all[h] & d == 0);
+            if again.as_ref().is_some_and(|a| a.0 >= gain) {
+                break;
+            }
             tried.insert(d);
             let changed: Vec<usize> = (0..k).filter(|&f| d & (1 << f) != 0).collect();
             if let Some(row) = build_row(spec, r0, &changed, &known) {
-                built = Some((d, row));
+                let held: Vec<bool> = (0..=none).map(|h| masks_all[h] & d == 0).collect();
+                built = Some((row, held));
+                new_rows += 1;
                 break;
             }
         }
-        let Some((d, row)) = built else { break };
+        let Some((row, held)) = built.or_else(|| again.map(|(_, r, held)| (r.clone(), held.clone()))) else {
+            break;
+        };
         classes = classes
             .into_iter()
             .flat_map(|c| {
-                let (kept, gone): (Vec<usize>, Vec<usize>) =
-                    c.into_iter().partition(|&h| masks_all[h] & d == 0);
+                let (kept, gone): (Vec<usize>, Vec<usize>) = c.into_iter().partition(|&h| held[h]);
                 [kept, gone]
             })
             .filter(|c| !c.is_empty())
             .collect();
         let kept: Vec<(f64, f64)> = cands
             .iter()
-            .zip(&masks)
-            .filter(|(_, m)| *m & d == 0)
+            .zip(&held)
+            .filter(|(_, h)| **h)
             .map(|(c, _)| (c.weight / total, c.rate))
             .collect();
         let repeat = repeats(&kept);
@@ -226,9 +308,28 @@ pub fn propose(
     Some(Proposal {
         base,
         rows: out,
-        candidates: cands.iter().map(|c| c.entry).collect(),
+        candidates: cands.iter().map(|c| interaction(c).clone()).collect(),
         separates_all: classes.iter().all(|c| c.len() == 1),
     })
+}
+
+/// The weight of candidate pairs within `classes` that a row holding the candidates
+/// `held` says apart (the sum, over classes, of the kept weight times the removed).
+fn split_score(classes: &[Vec<usize>], weights: &[f64], held: impl Fn(usize) -> bool) -> f64 {
+    classes
+        .iter()
+        .map(|c| {
+            let (mut kept, mut gone) = (0.0, 0.0);
+            for &h in c {
+                if held(h) {
+                    kept += weights[h];
+                } else {
+                    gone += weights[h];
+                }
+            }
+            kept * gone
+        })
+        .sum()
 }
 
 /// How many times a row should run, given the candidates it holds (their shares of the
@@ -260,21 +361,20 @@ fn clearing(
     rows: &[Row],
     tallies: &Tallies,
     analysis: &Analysis,
-    named: usize,
+    c: &Tally,
     max_rows: usize,
 ) -> Option<Proposal> {
-    let c = &tallies.entries[named];
     let mut out: Vec<(Row, u32)> = Vec::new();
     let mut cleared = Vec::new();
     for s in analysis
         .suspects
         .iter()
-        .filter(|s| s.explains > 0 && s.interaction != named)
+        .filter(|s| s.explains > 0 && tallies.item(s.interaction).interaction != c.interaction)
     {
         if out.len() >= max_rows {
             break;
         }
-        let e = &tallies.entries[s.interaction];
+        let e = tallies.item(s.interaction);
         let failing: Vec<u32> = e
             .rows
             .iter()
@@ -295,14 +395,26 @@ fn clearing(
             .copied()
             .filter(|f| !e.interaction.factors.contains(f))
             .collect();
-        let known = Known::new(tallies, [named, s.interaction]);
+        let known = Known::new(tallies, [&c.interaction, &e.interaction]);
         let Some(row) = build_row(spec, &rows[base as usize], &changed, &known) else {
             continue;
         };
-        let rate = e.count.failures as f64 / e.count.runs.max(1) as f64;
+        let rate = succession(e.count.failures, e.count.runs);
         let repeat = lambda_for(rate, REPEAT_CONFIDENCE)
             .unwrap_or(1)
             .clamp(1, REPEAT_RANGE.1);
+        // already cleared: its rows without `named` passed as often as a row clearing
+        // it would run (the report may still rank it, when `named` is a focus set's
+        // interaction of more factors than the report's suspects)
+        let passed_without: u64 = e
+            .rows
+            .iter()
+            .filter(|r| c.rows.binary_search(r).is_err())
+            .map(|&r| tallies.rows[r as usize].passes)
+            .sum();
+        if passed_without >= u64::from(repeat) {
+            continue;
+        }
         cleared.push(s.interaction);
         // two suspects in one failing row may be cleared by the same row
         match out.iter_mut().find(|(r, _)| *r == row) {
@@ -313,13 +425,14 @@ fn clearing(
     if out.is_empty() {
         return None;
     }
-    let base = tallies.entries[cleared[0]]
+    let base = tallies
+        .item(cleared[0])
         .rows
         .iter()
         .copied()
         .find(|&r| tallies.rows[r as usize].failures > 0)? as usize;
-    let mut candidates = vec![named];
-    candidates.extend(cleared);
+    let mut candidates = vec![c.interaction.clone()];
+    candidates.extend(cleared.iter().map(|&i| tallies.item(i).interaction.clone()));
     Some(Proposal {
         base,
         rows: out,
@@ -338,22 +451,7 @@ fn change_sets(
     classes: &[Vec<usize>],
     tried: &BTreeSet<u64>,
 ) -> Vec<u64> {
-    let score = |d: u64| -> f64 {
-        classes
-            .iter()
-            .map(|c| {
-                let (mut kept, mut gone) = (0.0, 0.0);
-                for &h in c {
-                    if masks[h] & d == 0 {
-                        kept += weights[h];
-                    } else {
-                        gone += weights[h];
-                    }
-                }
-                kept * gone
-            })
-            .sum()
-    };
+    let score = |d: u64| split_score(classes, weights, |h| masks[h] & d == 0);
     let mut scored: Vec<(f64, u32, u64)> = Vec::new();
     if n <= EXHAUSTIVE_FACTORS {
         for d in 1u64..(1 << n) {
@@ -401,11 +499,11 @@ fn change_sets(
 /// What the recorded rows tell about interactions a new row would hold.
 struct Known<'a> {
     tallies: &'a Tallies,
-    candidates: BTreeSet<usize>,
+    candidates: BTreeSet<&'a Interaction>,
 }
 
 impl<'a> Known<'a> {
-    fn new(tallies: &'a Tallies, candidates: impl IntoIterator<Item = usize>) -> Known<'a> {
+    fn new(tallies: &'a Tallies, candidates: impl IntoIterator<Item = &'a Interaction>) -> Known<'a> {
         Known {
             tallies,
             candidates: candidates.into_iter().collect(),
@@ -416,17 +514,9 @@ impl<'a> Known<'a> {
     fn score(&self, interaction: &Interaction) -> i64 {
         let group = self.tallies.of_arity(interaction.arity());
         match group.binary_search_by(|t| t.interaction.cmp(interaction)) {
-            Ok(i) => {
-                let index = self.offset(interaction.arity()) + i;
-                i64::from(group[i].count.passes > 0 && !self.candidates.contains(&index))
-            }
+            Ok(i) => i64::from(group[i].count.passes > 0 && !self.candidates.contains(interaction)),
             Err(_) => -1,
         }
-    }
-
-    /// Index of the first entry of an arity in [`Tallies::entries`].
-    fn offset(&self, arity: usize) -> usize {
-        (1..arity).map(|a| self.tallies.of_arity(a).len()).sum()
     }
 }
 
@@ -579,7 +669,7 @@ mod tests {
         a.suspects
             .iter()
             .filter(|s| s.explains > 0)
-            .map(|s| t.entries[s.interaction].interaction.clone())
+            .map(|s| t.item(s.interaction).interaction.clone())
             .collect()
     }
 
@@ -676,6 +766,159 @@ mod tests {
         let t = heddle_store::tally(&record(&spec, &all), outcomes(&all)).unwrap();
         let a = analyse(&t);
         assert_eq!(named(&t, &a), vec![fault]);
+    }
+
+    #[test]
+    fn weights_are_beta_functions_and_rates_follow_the_rule_of_succession() {
+        // B(a, b) = (a − 1)! (b − 1)! / (a + b − 1)! for whole a, b (the Beta function's
+        // relation to the Gamma function; common practice): B(3, 1) = 1/3, B(3, 5) = 1/105
+        assert!((log_marginal(2, 2) - (1.0f64 / 3.0).ln()).abs() < 1e-12);
+        assert!((log_marginal(2, 6) - (1.0f64 / 105.0).ln()).abs() < 1e-12);
+        assert_eq!(log_marginal(0, 0), 0.0);
+        // Laplace's rule: after g of n, (g + 1) / (n + 2); two failures in two runs
+        // are not a certain fault
+        assert_eq!(succession(2, 2), 0.75);
+        assert_eq!(succession(0, 0), 0.5);
+    }
+
+    #[test]
+    fn a_flaky_fault_behind_a_pair_that_failed_in_all_its_rows_is_named() {
+        // five factors of three levels; the fault f0 = 0, f1 = 0 fails in rows 0 and 1
+        // and passes in rows 2–5; the pair f2 = 0, f3 = 0 is only in rows 0 and 1, so it
+        // failed every time and the design alone names it; rows 6–9 show the other
+        // pairs of rows 0 and 1 passing
+        let spec = Spec::new((0..5).map(|i| Factor::numbered(format!("f{i}"), 3)).collect()).lambda(2);
+        let design: Vec<Row> = vec![
+            vec![0, 0, 0, 0, 0],
+            vec![0, 0, 0, 0, 1],
+            vec![0, 0, 1, 1, 2],
+            vec![0, 0, 2, 2, 0],
+            vec![0, 0, 1, 2, 1],
+            vec![0, 0, 2, 1, 2],
+            vec![0, 1, 0, 1, 0],
+            vec![0, 1, 1, 0, 1],
+            vec![1, 0, 0, 1, 2],
+            vec![1, 0, 1, 0, 0],
+        ];
+        let fault = Interaction {
+            factors: vec![0, 1],
+            levels: vec![0, 0],
+        };
+        let alias = Interaction {
+            factors: vec![2, 3],
+            levels: vec![0, 0],
+        };
+        // after the design, the runs of rows holding the fault pass and fail in turn,
+        // passing first: as unlucky as a rate of one half allows
+        let outcomes = |rows: &[Row]| -> Vec<(usize, Outcome)> {
+            let mut seen = 0;
+            rows.iter()
+                .enumerate()
+                .map(|(i, r)| {
+                    let fail = fault.in_row(r)
+                        && if i < 2 {
+                            true
+                        } else if i < design.len() {
+                            false
+                        } else {
+                            seen += 1;
+                            seen % 2 == 0
+                        };
+                    (i, if fail { Outcome::Failed } else { Outcome::Passed })
+                })
+                .collect()
+        };
+        let judge = |rows: &[Row]| {
+            let t = heddle_store::tally(&record(&spec, rows), outcomes(rows)).unwrap();
+            let a = analyse(&t);
+            (t, a)
+        };
+        let (t, a) = judge(&design);
+        assert_eq!(named(&t, &a), vec![alias], "the design alone");
+        let mut all = design.clone();
+        let mut new = 0;
+        for _ in 0..8 {
+            let (t, a) = judge(&all);
+            let Some(p) = propose(&spec, &all, &t, &a, 5 - new) else {
+                break;
+            };
+            for (row, repeat) in p.rows {
+                new += usize::from(!all.contains(&row));
+                all.extend(std::iter::repeat_n(row, repeat as usize));
+            }
+        }
+        let (t, a) = judge(&all);
+        assert_eq!(
+            named(&t, &a),
+            vec![fault],
+            "after {} runs",
+            all.len() - design.len()
+        );
+        assert!(new <= 5);
+    }
+
+    #[test]
+    fn a_fault_of_a_focus_set_is_a_candidate_at_its_own_strength() {
+        // five three-level factors at strength 2, the first three also at strength 3
+        // (a focus set): a planted triple of a design row fails every run; its pairs fail
+        // with it, but only the triple explains every failure, so the follow-ups must
+        // hold it as a candidate and end with each of its pairs seen passing without it
+        let spec = Spec::new((0..5).map(|i| Factor::numbered(format!("f{i}"), 3)).collect())
+            .focus(heddle_generator::Focus::new(vec![0, 1, 2], 3));
+        let rows = generate(&spec, Effort::Fast).unwrap().rows;
+        let fault = Interaction {
+            factors: vec![0, 1, 2],
+            levels: vec![rows[0][0], rows[0][1], rows[0][2]],
+        };
+        let rec = |rows: &[Row]| {
+            SpecBuilder::new("f")
+                .numbered(&spec.levels())
+                .strength(2)
+                .focus(&[0, 1, 2], 3, 1)
+                .rows(rows.to_vec())
+                .build()
+        };
+        let judge = |rows: &[Row]| {
+            let outcomes = rows.iter().enumerate().map(|(i, r)| {
+                (
+                    i,
+                    if fault.in_row(r) {
+                        Outcome::Failed
+                    } else {
+                        Outcome::Passed
+                    },
+                )
+            });
+            let t = heddle_store::tally(&rec(rows), outcomes).unwrap();
+            let a = analyse(&t);
+            (t, a)
+        };
+        let mut all = rows.clone();
+        let mut first = None;
+        for _ in 0..6 {
+            let (t, a) = judge(&all);
+            let Some(p) = propose(&spec, &all, &t, &a, 5) else {
+                break;
+            };
+            first.get_or_insert(p.candidates.clone());
+            for (row, repeat) in p.rows {
+                all.extend(std::iter::repeat_n(row, repeat as usize));
+            }
+        }
+        let first = first.expect("the design alone cannot tell the triple from its pairs");
+        assert!(first.contains(&fault), "{first:?}");
+        let (t, _) = judge(&all);
+        assert_eq!(t.get(&fault).unwrap().count.passes, 0);
+        for (x, y) in [(0, 1), (0, 2), (1, 2)] {
+            let pair = Interaction {
+                factors: vec![x, y],
+                levels: vec![fault.levels[x], fault.levels[y]],
+            };
+            assert!(
+                all.iter().any(|r| pair.in_row(r) && !fault.in_row(r)),
+                "{pair:?} never ran without the triple"
+            );
+        }
     }
 
     #[test]

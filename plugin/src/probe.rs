@@ -35,8 +35,8 @@ pub struct ProbeArgs {
     /// The run whose outcomes the rows follow up: `latest` or a run id.
     #[arg(long, value_name = "latest|ID", default_value = "latest")]
     run: String,
-    /// Most follow-up rows per function in this round (default: its number of
-    /// parameters).
+    /// Most new follow-up rows per function in this round (default: its number of
+    /// parameters); rows that ran already may be proposed again besides.
     #[arg(long, value_name = "N")]
     max_rows: Option<usize>,
     /// Print the rows without writing them.
@@ -167,17 +167,12 @@ fn follow_up(
         let named = analysis
             .suspects
             .first()
-            .map(|s| {
-                levels_text(&report::described(
-                    spec,
-                    &tallies.entries[s.interaction].interaction,
-                ))
-            })
+            .map(|s| levels_text(&report::described(spec, &tallies.item(s.interaction).interaction)))
             .unwrap_or_default();
         say!("{place}: no follow-up rows needed, the report names `{named}`");
         return Ok(None);
     };
-    say!("{}", describe(&place, suite, &tallies, &p));
+    say!("{}", describe(&place, suite, &p));
     let added: Vec<Vec<u8>> = p
         .rows
         .iter()
@@ -206,18 +201,13 @@ fn follow_up(
 }
 
 /// What a proposal is about and its rows, with their labels and how often each runs.
-fn describe(place: &str, suite: &SuiteRecords, tallies: &heddle_store::Tallies, p: &Proposal) -> String {
+fn describe(place: &str, suite: &SuiteRecords, p: &Proposal) -> String {
     let spec = &suite.spec;
     let named: Vec<String> = p
         .candidates
         .iter()
         .take(6)
-        .map(|&i| {
-            format!(
-                "`{}`",
-                levels_text(&report::described(spec, &tallies.entries[i].interaction))
-            )
-        })
+        .map(|i| format!("`{}`", levels_text(&report::described(spec, i))))
         .collect();
     let more = p.candidates.len().saturating_sub(named.len());
     let more = if more > 0 {
@@ -242,8 +232,15 @@ fn describe(place: &str, suite: &SuiteRecords, tallies: &heddle_store::Tallies, 
                 )
             })
             .collect();
+        let again = if spec.rows.contains(row) {
+            ", a row that ran already"
+        } else {
+            ""
+        };
         let times = if *repeat > 1 {
-            format!("  (runs {repeat} times: the suspects it holds also passed)")
+            format!("  (runs {repeat} times{again}: the suspects it holds also passed)")
+        } else if !again.is_empty() {
+            format!("  (runs once more{again})")
         } else {
             String::new()
         };

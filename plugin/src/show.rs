@@ -277,7 +277,7 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
             }
             let _ = writeln!(out, "{coverage_line}");
             if let Some((b, source)) = &budget {
-                let _ = writeln!(out, "{} ({source})", b.line(spec.lambda));
+                let _ = writeln!(out, "{} ({source})", b.line());
             }
         }
     }
@@ -294,7 +294,7 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
             format!("; {} (not in the csv)", followup_line(rows.followups.len()))
         };
         let budget = budget
-            .map(|(b, source)| format!("; {} ({source})", b.line(spec.lambda)))
+            .map(|(b, source)| format!("; {} ({source})", b.line()))
             .unwrap_or_default();
         say_err!(
             "heddle: {} ({place}), rows {source}; {bounds_line}; {coverage_line}{budget}{followups}",
@@ -339,12 +339,18 @@ fn show_budget(spec: &CoverSpec, rows: &[Vec<u8>]) -> Result<Option<(BudgetReach
         None => format!("`{}({b})`", kw::BUDGET),
     };
     let s = &spec.spec;
-    let reach = heddle_store::reach(rows, s.factors.len(), s.strength, s.lambda, runs);
+    let reach = heddle_store::reach(rows, s.factors.len(), s.strength, s.lambda, &s.focus, runs);
+    let name = |c: usize| s.factors.get(c).map_or_else(String::new, |f| f.name.clone());
     Ok(Some((
         BudgetReach {
             rows: runs,
             of: n,
             reach,
+            focus: s
+                .focus
+                .iter()
+                .map(|f| f.factors.iter().map(|&c| name(c)).collect())
+                .collect(),
         },
         source,
     )))

@@ -3,6 +3,8 @@
 //! rows that ran show every triple of the focused parameters, and the report tallies each
 //! of those triples at strength 3 besides the pairs of all parameters; then the rows are
 //! pinned, a second focus set makes the pin stale, and pinning again keeps the old rows.
+//! A second crate plants a defect of three focused parameters: the budget's reach, the
+//! HTML page and the follow-up rows all count the focus set at its own strength.
 
 use std::collections::BTreeSet;
 
@@ -160,4 +162,107 @@ fn a_focus_set_runs_every_triple_and_the_report_tallies_them() {
         .focus(Focus::new(vec![0, 1, 2], 3))
         .focus(Focus::new(vec![1, 3, 4], 3));
     verify(&spec, &pinned).expect("the new pin covers both focus sets (independent checker)");
+}
+
+/// The same knobs with a planted defect of three of them — delta coding of Kelvin
+/// readings with four workers — and a row budget of 9 rows in the attribute.
+fn faulty() -> String {
+    SUITE
+        .replace(
+            "let _ = (codec, unit, workers);\n    batch",
+            "if codec == Codec::Delta && unit == Unit::Kelvin && workers == 4 { batch - 1 } else { batch }",
+        )
+        .replace(
+            "focus(codec, unit, workers))",
+            "focus(codec, unit, workers), budget(9))",
+        )
+}
+
+#[test]
+fn a_focus_set_is_reached_drawn_and_followed_up_at_its_own_strength() {
+    let krate = Scratch::create(&CrateDef {
+        name: "focus_defect",
+        files: &[("tests/hub.rs", &faulty())],
+        ..CrateDef::default()
+    })
+    .expect("the temporary crate resolves");
+    let bin = env!("CARGO_BIN_EXE_cargo-heddle");
+    let triple = "codec = Codec::Delta, unit = Unit::Kelvin, workers = 4";
+    assert!(faulty().contains("batch - 1 }") && faulty().contains("budget(9)"));
+
+    // the budget's reach names the focus set and counts its 27 triples (9 rows hold at
+    // most 9 of them, one each)
+    let show = krate.heddle(bin, &["show", "frame"]);
+    assert_eq!(show.code, Some(0), "{}", show.stderr);
+    let line = show
+        .stdout
+        .lines()
+        .find(|l| l.starts_with("budget: 9 of "))
+        .unwrap_or_else(|| panic!("{}", show.stdout));
+    assert!(
+        line.contains("; focus set `codec, unit, workers` at strength 3: ")
+            && line.contains("% of 27 interactions covered"),
+        "{line}"
+    );
+    let run = krate.heddle(bin, &["test", "--quiet", "--format", "json"]);
+    let v: serde_json::Value =
+        serde_json::from_str(&run.stdout).unwrap_or_else(|e| panic!("{e}: {}\n{}", run.stdout, run.stderr));
+    let reach = v["suites"][0]["budget"]["reach"].as_array().unwrap().clone();
+    let focus = reach
+        .iter()
+        .find(|r| r["focus"].is_array())
+        .unwrap_or_else(|| panic!("{reach:?}"));
+    assert_eq!(focus["focus"], serde_json::json!(["codec", "unit", "workers"]));
+    assert_eq!(
+        (focus["strength"].as_u64(), focus["interactions"].as_u64()),
+        (Some(3), Some(27))
+    );
+    let once = focus["once"].as_u64().unwrap();
+    assert!((1..=9).contains(&once), "{focus}");
+
+    // the whole design: the triple fails; the page draws it in its focus set
+    let run = krate.heddle(bin, &["test", "--budget", "all", "--quiet"]);
+    assert_eq!(run.code, Some(101), "{}\n{}", run.stdout, run.stderr);
+    let html = krate.heddle(bin, &["report", "--format", "html", "--output", "report.html"]);
+    assert_eq!(html.code, Some(0), "{}", html.stderr);
+    let html = krate.read("report.html");
+    assert!(
+        html.contains("<code>codec, unit, workers</code> at strength 3, λ 1"),
+        "{html}"
+    );
+    assert!(html.contains(&format!("<title>{triple}: fails always")), "{html}");
+
+    // follow-up rows until they settle: the triple, an interaction of the focus set, is
+    // what they single out, not one of its pairs
+    let mut said = String::new();
+    for _ in 0..4 {
+        let probe = krate.heddle(bin, &["probe"]);
+        assert_eq!(probe.code, Some(0), "{}", probe.stderr);
+        said = probe.stdout;
+        if said.contains("no follow-up rows needed") {
+            break;
+        }
+        let run = krate.heddle(bin, &["test", "--budget", "all", "--quiet"]);
+        assert_eq!(run.code, Some(101), "{}\n{}", run.stdout, run.stderr);
+    }
+    assert!(
+        said.contains(&format!("no follow-up rows needed, the report names `{triple}`")),
+        "{said}"
+    );
+    // and the report ranks it alone among the suspects that explain failures
+    let report = krate.heddle(bin, &["report", "--format", "json"]);
+    assert_eq!(report.code, Some(0), "{}", report.stderr);
+    let v: serde_json::Value = serde_json::from_str(&report.stdout).unwrap();
+    let named: Vec<&serde_json::Value> = v["suites"][0]["suspects"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|s| s["explains"].as_u64() > Some(0))
+        .collect();
+    assert_eq!(named.len(), 1, "{}", report.stdout);
+    assert_eq!(
+        named[0]["levels"],
+        serde_json::json!({"codec": "Codec::Delta", "unit": "Unit::Kelvin", "workers": "4"})
+    );
+    assert_eq!(named[0]["verdict"], "always");
 }

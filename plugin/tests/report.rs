@@ -639,6 +639,23 @@ fn runs_with_and_without_follow_up_rows_merge() {
     assert!(!failing.contains(&"totals::row_followup_01"), "{failing:?}");
 }
 
+/// Two runs of a suite (`spec` of the run id) in which row 0 failed in the first and
+/// passed in the second, and every other row passed.
+fn write_flaky_row_0(dir: &Path, spec: impl Fn(&str) -> SpecRecord) {
+    for (run, ms, row0) in [
+        ("run-1", 1_700_000_000_000, Outcome::Failed),
+        ("run-2", 1_700_000_100_000, Outcome::Passed),
+    ] {
+        let s = spec(run);
+        let mut lines = vec![Line::Spec(s.clone()).to_json_line()];
+        for r in 0..s.rows.len() {
+            let o = if r == 0 { row0 } else { Outcome::Passed };
+            lines.push(Line::Row(row(&s, r, o, run)).to_json_line());
+        }
+        write_process(dir, run, ms, &lines);
+    }
+}
+
 /// A suite far too costly to generate again in a report (17 factors of 3 levels at
 /// strength 4; the engine took over a minute on it at a higher λ): the report prices the
 /// advice from the recorded design and finishes at once.
@@ -668,19 +685,7 @@ fn the_advice_on_a_large_suite_is_priced_without_generating() {
     for f in 0..17 {
         b = b.factor(&format!("k{f}"), &["a", "b", "c"]);
     }
-    for (run, ms, row0) in [
-        ("run-1", 1_700_000_000_000, Outcome::Failed),
-        ("run-2", 1_700_000_100_000, Outcome::Passed),
-    ] {
-        let mut s = b.clone().run(run).build();
-        s.run = run.into();
-        let mut lines = vec![Line::Spec(s.clone()).to_json_line()];
-        for r in 0..s.rows.len() {
-            let o = if r == 0 { row0 } else { Outcome::Passed };
-            lines.push(Line::Row(row(&s, r, o, run)).to_json_line());
-        }
-        write_process(tmp.path(), run, ms, &lines);
-    }
+    write_flaky_row_0(tmp.path(), |run| b.clone().run(run).build());
     // the report lists all 192 780 interactions: read only the advice, skipping the rest
     #[derive(serde::Deserialize)]
     struct Suite {
@@ -783,4 +788,91 @@ fn focus_interactions_count_toward_all_clear() {
         "{table}"
     );
     assert!(table.contains("partial run, not all clear"), "{table}");
+}
+
+#[test]
+fn a_budget_on_a_focus_suite_states_the_focus_sets_reach() {
+    // the first 9 rows of the focus suite are f0 = 0 with every (f1, f2): 9 of its 27
+    // triples, each once
+    let tmp = tempfile::tempdir().unwrap();
+    let mut s = focus_spec("quick");
+    s.budget = Some(9);
+    let mut lines = vec![Line::Spec(s.clone()).to_json_line()];
+    for r in 0..9 {
+        lines.push(Line::Row(row(&s, r, Outcome::Passed, "quick")).to_json_line());
+    }
+    write_process(tmp.path(), "quick", 1_700_000_000_000, &lines);
+    let v = json(tmp.path(), &[]);
+    let reach = v["suites"][0]["budget"]["reach"].as_array().unwrap().clone();
+    assert_eq!(reach.len(), 3, "{reach:?}");
+    assert_eq!(
+        reach[2],
+        serde_json::json!({"strength": 3, "interactions": 27, "once": 9, "lambda": 9,
+                           "focus": ["f0", "f1", "f2"], "focus_lambda": 1})
+    );
+    let table = text(&report(&["--store", tmp.path().to_str().unwrap()]).stdout);
+    assert!(
+        table.contains("; focus set `f0, f1, f2` at strength 3: 33% of 27 interactions covered"),
+        "{table}"
+    );
+}
+
+#[test]
+fn the_advice_prices_the_focus_sets_at_the_index_asked() {
+    // row 0 failed in one of two runs: the top flaky interaction asks for λ' runs. The
+    // 27 triples of the focus set each need λ' rows of their own (the counting bound),
+    // more than the 9 pairs of a column pair (9 λ'); the design shows each triple once,
+    // so λ' copies of its 27 rows reach λ' (juxtaposed arrays add their indices, common
+    // practice)
+    let tmp = tempfile::tempdir().unwrap();
+    write_flaky_row_0(tmp.path(), focus_spec);
+    let v = json(tmp.path(), &["--runs", "2"]);
+    let advice = &v["suites"][0]["advice"];
+    let needed = advice["lambda_needed"].as_u64().unwrap();
+    assert!(needed > 1, "{advice}");
+    assert_eq!(
+        advice["rows_needed_at_least"].as_u64(),
+        Some(27 * needed),
+        "{advice}"
+    );
+    assert_eq!(advice["rows_needed"].as_u64(), Some(27 * needed), "{advice}");
+}
+
+#[test]
+fn focus_sets_too_large_to_count_are_named_in_the_notes() {
+    // 20 two-level factors at strength 2 over 500 rows fit the tally's budget (2^21
+    // cells); all 20 at strength 4 add 500 · C(20, 4) = 2 422 500 cells and do not
+    let tmp = tempfile::tempdir().unwrap();
+    let rows: Vec<Vec<u8>> = (0..500u32)
+        .map(|r| (0..20).map(|c| ((r >> (c % 9)) & 1) as u8).collect())
+        .collect();
+    let all: Vec<u32> = (0..20).collect();
+    let s = SpecBuilder::new("wide")
+        .krate("hub")
+        .run("wide")
+        .strength(2)
+        .numbered(&[2; 20])
+        .focus(&all, 4, 1)
+        .rows(rows)
+        .build();
+    let lines = vec![
+        Line::Spec(s.clone()).to_json_line(),
+        Line::Row(row(&s, 0, Outcome::Passed, "wide")).to_json_line(),
+    ];
+    write_process(tmp.path(), "wide", 1_700_000_000_000, &lines);
+    let v = json(tmp.path(), &[]);
+    let notes: Vec<&str> = v["notes"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|n| n.as_str().unwrap())
+        .collect();
+    assert!(
+        notes.iter().any(|n| n.starts_with(
+            "suite `wide`: counted interactions of up to 2 factors, not the focus set `f0, f1, f2, \
+             f3, f4, f5, f6, f7, f8, f9, f10, f11, f12, f13, f14, f15, f16, f17, f18, f19` at \
+             strength 4: "
+        ) && n.contains("; hint: ")),
+        "{notes:?}"
+    );
 }

@@ -21,7 +21,8 @@
 //!       "interactions": [ { "levels": {parameter: label, …}, "runs", "passes", "failures" } ],
 //!                                              every single level and every 2..t-way one
 //!       "suspects": [ { "levels", "score", "reason", "always", "verdict", "explains",
-//!                       "runs", "passes", "failures" } ],          best first
+//!                       "runs", "passes", "failures" } ],          best first; with focus
+//!                                              sets, their interactions are suspects too
 //!                                              verdict: always | flaky | some-rows
 //!       "flaky": [ { "levels", "runs", "passes", "low", "high" } ],  95% Wilson interval;
 //!                                              only interactions a row of which both
@@ -37,9 +38,12 @@
 //!                                              at its own strength; rows = design rows
 //!                                              showing it (coverage gains "focus_interactions"
 //!                                              and "focus_at_lambda", counted in "complete")
-//!       "budget": { "rows", "of", "reach": [ { "strength", "interactions", "once", "lambda" } ] }
+//!       "budget": { "rows", "of", "reach": [ { "strength", "interactions", "once", "lambda",
+//!                                              "focus", "focus_lambda" } ] }
 //!                                              only when a row budget left rows out: the run
-//!                                              is then not complete; reach per strength 1..t
+//!                                              is then not complete; reach per strength 1..t,
+//!                                              then per focus set ("focus": its parameters;
+//!                                              "lambda" counts those in "focus_lambda" rows)
 //!   } ] }
 //! ```
 //! `levels` objects list parameters in declaration order.
@@ -100,7 +104,7 @@ struct Suite<'a> {
     #[serde(skip_serializing_if = "Vec::is_empty")]
     focus: Vec<FocusInteraction<'a>>,
     #[serde(skip_serializing_if = "Option::is_none")]
-    budget: Option<Budget>,
+    budget: Option<Budget<'a>>,
 }
 
 #[derive(Serialize)]
@@ -114,18 +118,22 @@ struct FocusInteraction<'a> {
 }
 
 #[derive(Serialize)]
-struct Budget {
+struct Budget<'a> {
     rows: usize,
     of: usize,
-    reach: Vec<Reach>,
+    reach: Vec<Reach<'a>>,
 }
 
 #[derive(Serialize)]
-struct Reach {
+struct Reach<'a> {
     strength: usize,
     interactions: u64,
     once: u64,
     lambda: u64,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    focus: Option<&'a [String]>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    focus_lambda: Option<u32>,
 }
 
 #[derive(Serialize)]
@@ -253,7 +261,7 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
             .suspects
             .iter()
             .map(|x| {
-                let e = &entries[x.interaction];
+                let e = s.tallies.item(x.interaction);
                 Suspect {
                     levels: Levels(described(spec, &e.interaction)),
                     score: x.score,
@@ -272,7 +280,7 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
             .flaky
             .iter()
             .map(|f| Flaky {
-                levels: Levels(described(spec, &entries[f.interaction].interaction)),
+                levels: Levels(described(spec, &s.tallies.item(f.interaction).interaction)),
                 runs: f.runs,
                 passes: f.passes,
                 low: f.low,
@@ -320,6 +328,8 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
                     interactions: r.interactions,
                     once: r.once,
                     lambda: r.lambda,
+                    focus: r.focus.and_then(|i| b.focus.get(i)).map(Vec::as_slice),
+                    focus_lambda: r.focus.map(|_| r.index),
                 })
                 .collect(),
         }),

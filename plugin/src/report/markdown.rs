@@ -25,7 +25,7 @@ pub fn render(report: &Report<'_>) -> String {
     );
     for s in &report.suites {
         let top = s.analysis.suspects.first().map_or("–".to_string(), |x| {
-            let e = &s.tallies.entries[x.interaction];
+            let e = s.tallies.item(x.interaction);
             let kind = x.verdict.words();
             format!(
                 "`{}` ({kind}, {:.2})",
@@ -72,7 +72,7 @@ pub fn render(report: &Report<'_>) -> String {
     for s in report.suites.iter().filter(|s| !s.analysis.suspects.is_empty()) {
         let _ = writeln!(out, "\n### `{}`\n", cell(&s.spec.suite));
         for (n, x) in s.analysis.suspects.iter().take(3).enumerate() {
-            let e = &s.tallies.entries[x.interaction];
+            let e = s.tallies.item(x.interaction);
             let _ = writeln!(
                 out,
                 "{}. `{}` — {}",
@@ -82,7 +82,7 @@ pub fn render(report: &Report<'_>) -> String {
             );
         }
         for f in &s.analysis.flaky {
-            let e = &s.tallies.entries[f.interaction];
+            let e = s.tallies.item(f.interaction);
             let _ = writeln!(
                 out,
                 "- flaky: `{}` passed {}/{} (95% interval {:.0}%–{:.0}%)",
@@ -100,7 +100,7 @@ pub fn render(report: &Report<'_>) -> String {
                 out,
                 "\n> `{}`: not a complete run; {}",
                 cell(&s.spec.suite),
-                cell(&b.line(s.spec.lambda))
+                cell(&b.line())
             );
         }
     }

@@ -210,32 +210,63 @@ pub struct Advice {
 }
 
 /// The rows a design of another index λ' costs, bracketed from what the report already
-/// holds; no design is generated, so pricing costs nothing whatever the spec.
+/// holds; no design is generated, so pricing costs nothing whatever the spec. A focus
+/// set is asked for λ' too, or for its own λ when that is higher (a design at λ' still
+/// covers what the focus set asked of the old one).
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub struct Price {
-    /// λ' times the most interactions of one set of t factors that the recorded design
-    /// shows: each needs λ' rows of its own, and impossible ones (ruled out by excludes)
-    /// are not among them (the counting bound, common practice).
+    /// The most, over the sets of t factors and the column sets of the focus sets, of
+    /// the interactions of one set that the recorded design shows times the index asked
+    /// of it: each needs that many rows of its own, and impossible ones (ruled out by
+    /// excludes) are not among them (the counting bound, common practice).
     pub at_least: u64,
-    /// The recorded design repeated ⌈λ'/λ⌉ times: the copies together cover every
-    /// interaction λ' times or more (juxtaposed arrays add their indices, common practice).
+    /// The recorded design repeated as often as the base or a focus set needs to reach
+    /// its index (⌈λ'/λ⌉ copies for the base): the copies together cover every
+    /// interaction that often or more (juxtaposed arrays add their indices, common
+    /// practice).
     pub at_most: u64,
 }
 
 impl Price {
     /// The price of index `lambda` for a suite whose design is `spec.rows`.
     pub fn of(spec: &SpecRecord, tallies: &Tallies, lambda: u32) -> Price {
-        let copies = u64::from(lambda.div_ceil(spec.lambda.max(1)));
+        let widest = |entries: &mut dyn Iterator<Item = (&[usize], u32)>| -> u64 {
+            let mut best = 0u64;
+            let mut run: Option<(&[usize], u64)> = None;
+            for (factors, asked) in entries {
+                run = match run {
+                    Some((f, n)) if f == factors => Some((f, n + 1)),
+                    _ => Some((factors, 1)),
+                };
+                if let Some((_, n)) = run {
+                    best = best.max(n.saturating_mul(u64::from(asked)));
+                }
+            }
+            best
+        };
+        // a focus set's λ' is λ' or its own λ when higher; its copies reach it in
+        // ⌈λ'_F / λ_F⌉
+        let asked = |own: u32| lambda.max(own);
+        let mut copies = u64::from(lambda.div_ceil(spec.lambda.max(1)));
+        for f in &tallies.focus {
+            copies = copies.max(u64::from(asked(f.lambda).div_ceil(f.lambda.max(1))));
+        }
         let at_most = copies.saturating_mul(spec.rows.len() as u64);
-        let widest = tallies
-            .interactions()
-            .chunk_by(|a, b| a.interaction.factors == b.interaction.factors)
-            .map(<[_]>::len)
-            .max()
-            .unwrap_or(0) as u64;
+        let base = widest(
+            &mut tallies
+                .interactions()
+                .iter()
+                .map(|t| (t.interaction.factors.as_slice(), lambda)),
+        );
+        let focus = widest(
+            &mut tallies
+                .focus
+                .iter()
+                .map(|f| (f.tally.interaction.factors.as_slice(), asked(f.lambda))),
+        );
         Price {
             // a hand-made design may not have the index it claims: never above the copies
-            at_least: widest.saturating_mul(u64::from(lambda)).min(at_most),
+            at_least: base.max(focus).min(at_most),
             at_most,
         }
     }
@@ -320,6 +351,23 @@ impl Report<'_> {
 /// Labels of an interaction as `(parameter, label)` pairs.
 pub fn described<'s>(spec: &'s SpecRecord, i: &heddle_store::Interaction) -> Vec<(&'s str, &'s str)> {
     i.describe(spec).unwrap_or_default()
+}
+
+/// The factors of each focus set by name, in the spec's order.
+pub fn focus_names(spec: &SpecRecord) -> Vec<Vec<String>> {
+    spec.focus
+        .iter()
+        .map(|f| {
+            f.factors
+                .iter()
+                .map(|&c| {
+                    spec.factors
+                        .get(c as usize)
+                        .map_or_else(String::new, |x| x.name.clone())
+                })
+                .collect()
+        })
+        .collect()
 }
 
 /// `a = x, b = y`.
@@ -421,7 +469,7 @@ pub fn build<'a>(records: &'a Records, packages: &[String], confidence: f64, all
         }
         match tally(&s.spec, s.outcomes()) {
             Ok(t) => {
-                if let Some(left_out) = t.left_out {
+                if let Some(left_out) = &t.left_out {
                     notes.push(left_out.note(&s.spec.suite, t.strength).one_line());
                 }
                 suites.push(suite_report(&s.spec, &s.rows, t, confidence, &run_ids))
@@ -516,10 +564,13 @@ fn suite_report<'a>(
 fn budget_reach(spec: &SpecRecord, tallies: &Tallies) -> Option<BudgetReach> {
     let design = spec.design_rows();
     let rows = (spec.budget? as usize).min(design);
+    // the tallies have read the focus sets already, so they read back
+    let focus = heddle_store::spec::focus(spec).unwrap_or_default();
     (rows < design).then(|| BudgetReach {
         rows,
         of: design,
-        reach: tallies.reach(rows, design, spec.lambda),
+        reach: tallies.reach(rows, design, spec.lambda, &focus),
+        focus: focus_names(spec),
     })
 }
 
@@ -598,4 +649,65 @@ pub fn write_to(path: &Path, text: &str) -> Result<(), Failure> {
                 .hint("check that the directory exists and is writable"),
         )
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use heddle_store::fixture::SpecBuilder;
+
+    #[test]
+    fn a_focus_set_prices_its_own_interactions() {
+        // the full factorial 3^3 (27 rows) shows each pair of levels of two columns in 3
+        // rows and each triple in 1 (common practice): an array of strength 2, index 3
+        let rows: Vec<Vec<u8>> = (0..27u8).map(|x| vec![x / 9, x / 3 % 3, x % 3]).collect();
+        let plain = SpecBuilder::new("f")
+            .numbered(&[3, 3, 3])
+            .strength(2)
+            .lambda(3)
+            .rows(rows.clone())
+            .build();
+        let tp = tally(&plain, []).unwrap();
+        // λ' = 6: 9 pairs × 6 = 54 rows at least, 2 copies = 54 at most
+        assert_eq!(
+            Price::of(&plain, &tp, 6),
+            Price {
+                at_least: 54,
+                at_most: 54
+            }
+        );
+        // with the focus set {0, 1, 2} at strength 3 (λ = 1): its 27 triples each need 6
+        // rows (162), and only 6 copies show each 6 times
+        let focused = SpecBuilder::new("f")
+            .numbered(&[3, 3, 3])
+            .strength(2)
+            .lambda(3)
+            .focus(&[0, 1, 2], 3, 1)
+            .rows(rows)
+            .build();
+        let t = tally(&focused, []).unwrap();
+        assert_eq!(t.focus.len(), 27);
+        assert_eq!(
+            Price::of(&focused, &t, 6),
+            Price {
+                at_least: 162,
+                at_most: 162
+            }
+        );
+        // λ' = 2 is below the base's 3 (one copy), not the focus set's 1: 2 copies
+        assert_eq!(
+            Price::of(&focused, &t, 2),
+            Price {
+                at_least: 54,
+                at_most: 54
+            }
+        );
+        assert_eq!(
+            Price::of(&plain, &tp, 2),
+            Price {
+                at_least: 18,
+                at_most: 27
+            }
+        );
+    }
 }

@@ -98,12 +98,7 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, report_other_runs: us
         );
     }
     if let Some(b) = &s.budget {
-        let _ = writeln!(
-            out,
-            "  {} {}",
-            st.yellow("not a complete run:"),
-            b.line(spec.lambda)
-        );
+        let _ = writeln!(out, "  {} {}", st.yellow("not a complete run:"), b.line());
     }
 
     if s.analysis.failures == 0 {
@@ -154,7 +149,7 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, report_other_runs: us
 
     let _ = writeln!(out, "\n  {}", st.bold("suspects, best first"));
     for (n, sus) in s.analysis.suspects.iter().take(SHOWN_SUSPECTS).enumerate() {
-        let entry = &s.tallies.entries[sus.interaction];
+        let entry = s.tallies.item(sus.interaction);
         let kind = match sus.verdict {
             Verdict::Always => st.red(sus.verdict.words()),
             _ => st.yellow(sus.verdict.words()),
@@ -182,7 +177,7 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, report_other_runs: us
             st.bold("flaky: a row of it both passed and failed")
         );
         for f in &s.analysis.flaky {
-            let entry = &s.tallies.entries[f.interaction];
+            let entry = s.tallies.item(f.interaction);
             let _ = writeln!(
                 out,
                 "    {}: passed {} of {} runs ({}), 95% interval {}–{}",

@@ -161,8 +161,9 @@ pub fn check(spec: &SpecRecord) -> Result<(), SpecError> {
     excludes(spec).map(drop)
 }
 
-/// The recorded focus sets as the engine's, checked by the engine's own focus check.
-pub(crate) fn focus(spec: &SpecRecord) -> Result<Vec<Focus>, SpecError> {
+/// The recorded focus sets as the engine's, checked by the engine's own focus check
+/// (the part of [`engine_spec`] a reader needs without the excludes).
+pub fn focus(spec: &SpecRecord) -> Result<Vec<Focus>, SpecError> {
     let names: Vec<&str> = spec.factors.iter().map(|f| f.name.as_str()).collect();
     spec.focus
         .iter()

@@ -149,21 +149,43 @@ pub struct FocusTally {
 }
 
 /// Interactions a tally left out to stay within [`MAX_TALLY_CELLS`].
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[derive(Clone, Debug, PartialEq, Eq)]
 pub struct LeftOut {
-    /// The spec's strength: arities above the tallies' up to this one were not counted.
+    /// The highest strength asked (the spec's or a focus set's): arities above the
+    /// tallies' up to this one were not all counted.
     pub strength: usize,
     /// The cells counting every arity would have taken.
     pub cells: u128,
+    /// The spec's own strength (below `strength` when a focus set asks more).
+    pub base: usize,
+    /// The focus sets not counted, in the spec's order: their factors' names and their
+    /// strength (empty when the spec has none).
+    pub focus: Vec<(Vec<String>, usize)>,
 }
 
 impl LeftOut {
-    /// What was left out, for a report's notes.
+    /// What was left out, for a report's notes: the base strength when its
+    /// interactions did not all fit, and each focus set by its factors.
     pub fn note(&self, suite: &str, counted: usize) -> heddle_generator::Diagnostic {
+        let mut missed = Vec::new();
+        if counted < self.base {
+            missed.push(self.base.to_string());
+        }
+        let sets: Vec<String> = self
+            .focus
+            .iter()
+            .map(|(names, strength)| format!("`{}` at strength {strength}", names.join(", ")))
+            .collect();
+        match sets.len() {
+            0 => {}
+            1 => missed.push(format!("the focus set {}", sets[0])),
+            _ => missed.push(format!("the focus sets {}", sets.join(" and "))),
+        }
         heddle_generator::Diagnostic::new(format!(
             "suite `{suite}`: counted interactions of up to {counted} factors, not {}: all of \
              them take {} steps, more than the {MAX_TALLY_CELLS} a suite may take",
-            self.strength, self.cells
+            missed.join(" nor "),
+            self.cells
         ))
         .hint("lower the strength or split the factors into several suites to count them all")
     }
@@ -186,6 +208,25 @@ impl Tallies {
     /// The t-way interactions.
     pub fn interactions(&self) -> &[Tally] {
         self.of_arity(self.strength)
+    }
+
+    /// The `i`th interaction of [`Tallies::items`]: an entry, or past them a focus
+    /// interaction. The index suspects and follow-up candidates are named by.
+    ///
+    /// # Panics
+    ///
+    /// When `i` is not below the number of items, as indexing does.
+    pub fn item(&self, i: usize) -> &Tally {
+        match self.entries.get(i) {
+            Some(t) => t,
+            None => &self.focus[i - self.entries.len()].tally,
+        }
+    }
+
+    /// Every interaction counted: the entries (arity 1 to t), then the focus
+    /// interactions (each focus set's column sets at its own strength).
+    pub fn items(&self) -> impl Iterator<Item = &Tally> {
+        self.entries.iter().chain(self.focus.iter().map(|f| &f.tally))
     }
 
     /// The tally of one interaction, if the design contains it (a focus interaction
@@ -258,22 +299,52 @@ pub fn tally(
     if counted < t || base_cells.saturating_add(focus_cells) > u128::from(MAX_TALLY_CELLS) {
         if !sets.is_empty() || counted < t {
             let top = focus.iter().map(|f| f.strength).max().unwrap_or(t).max(t);
+            let name = |c: usize| spec.factors.get(c).map_or_else(String::new, |f| f.name.clone());
             tallies.left_out = Some(LeftOut {
                 strength: top,
                 cells: base_cells.saturating_add(focus_cells),
+                base: t,
+                focus: focus
+                    .iter()
+                    .map(|f| (f.factors.iter().map(|&c| name(c)).collect(), f.strength))
+                    .collect(),
             });
         }
     } else {
-        let mut keys = Vec::with_capacity(rows);
+        tallies.count_focus(&spec.rows, sets);
+    }
+    Ok(tallies)
+}
+
+impl Tallies {
+    /// The interactions of one focus set (of the spec these tallies count) among
+    /// [`Tallies::focus`], by column set then levels: its own column sets, listed by the
+    /// one function that lists them (the tallies hold each once, sorted by factors).
+    pub fn focus_of(&self, f: &heddle_generator::Focus) -> Vec<&FocusTally> {
+        let mut out = Vec::new();
+        for (cols, _) in heddle_generator::focus_sets(std::slice::from_ref(f)) {
+            let start = self.focus.partition_point(|t| t.tally.interaction.factors < cols);
+            out.extend(
+                self.focus[start..]
+                    .iter()
+                    .take_while(|t| t.tally.interaction.factors == cols),
+            );
+        }
+        out
+    }
+
+    /// Counts the focus interactions of the column sets `sets` (as
+    /// [`heddle_generator::focus_sets`] lists them) over `rows`, the rows these tallies
+    /// count.
+    pub(crate) fn count_focus(&mut self, rows: &[Vec<u8>], sets: Vec<(Vec<usize>, u32)>) {
+        let mut keys = Vec::with_capacity(rows.len());
         for (cols, lambda) in sets {
             let mut entries = Vec::new();
-            tally_set(&spec.rows, &cols, &tallies.rows, &mut keys, &mut entries);
-            tallies
-                .focus
+            tally_set(rows, &cols, &self.rows, &mut keys, &mut entries);
+            self.focus
                 .extend(entries.into_iter().map(|tally| FocusTally { tally, lambda }));
         }
     }
-    Ok(tallies)
 }
 
 /// [`tally`] over plain rows; the caller guarantees `rows` have `k` levels each and
@@ -544,10 +615,12 @@ mod tests {
             t.left_out,
             Some(LeftOut {
                 strength: 8,
-                cells: 100_146_723
+                cells: 100_146_723,
+                base: 8,
+                focus: Vec::new(),
             })
         );
-        let note = t.left_out.unwrap().note("f", t.strength).one_line();
+        let note = t.left_out.clone().unwrap().note("f", t.strength).one_line();
         assert_eq!(
             note,
             "suite `f`: counted interactions of up to 5 factors, not 8: all of them take \
@@ -709,6 +782,44 @@ mod tests {
         assert_eq!(
             (spec.focus[0].factors.clone(), spec.focus[0].lambda),
             (vec![2, 0, 1], 2)
+        );
+    }
+
+    #[test]
+    fn focus_sets_that_do_not_fit_are_named_in_the_note() {
+        // 20 two-level factors at strength 2 over 500 rows: 500 · (20 + 190) = 105 000
+        // cells fit; a focus set of all 20 at strength 4 adds 500 · C(20, 4) = 2 422 500
+        // (C(20, 4) = 4845), more than 2^21, so it is left out and named
+        let rows: Vec<Vec<u8>> = (0..500u32)
+            .map(|r| (0..20).map(|c| ((r >> (c % 9)) & 1) as u8).collect())
+            .collect();
+        let all: Vec<u32> = (0..20).collect();
+        let spec = SpecBuilder::new("f")
+            .numbered(&[2; 20])
+            .strength(2)
+            .focus(&all, 4, 1)
+            .focus(&[3, 1, 2], 3, 1)
+            .rows(rows)
+            .build();
+        let t = tally(&spec, []).unwrap();
+        assert!(t.focus.is_empty());
+        let left = t.left_out.clone().unwrap();
+        assert_eq!(
+            (left.strength, left.base, left.cells),
+            (4, 2, 105_000 + 2_422_500 + 500)
+        );
+        assert_eq!(
+            left.focus[1],
+            (vec!["f3".to_string(), "f1".into(), "f2".into()], 3)
+        );
+        let note = left.note("f", t.strength).one_line();
+        assert!(
+            note.starts_with(
+                "suite `f`: counted interactions of up to 2 factors, not the focus sets `f0, f1, \
+                 f2, f3, f4, f5, f6, f7, f8, f9, f10, f11, f12, f13, f14, f15, f16, f17, f18, f19` \
+                 at strength 4 and `f3, f1, f2` at strength 3: all of them take 2528000 steps"
+            ),
+            "{note}"
         );
     }
 

@@ -20,7 +20,7 @@ const AXIS_W: f64 = 360.0;
 
 /// The label of the suite's `i`th flaky interaction.
 fn label(s: &SuiteReport<'_>, i: usize) -> String {
-    let e = &s.tallies.entries[s.analysis.flaky[i].interaction];
+    let e = s.tallies.item(s.analysis.flaky[i].interaction);
     levels_text(&described(s.spec, &e.interaction))
 }
 
@@ -78,7 +78,7 @@ pub fn per_run(s: &SuiteReport<'_>) -> Vec<Vec<Count>> {
         .flaky
         .iter()
         .map(|f| {
-            let rows = &s.tallies.entries[f.interaction].rows;
+            let rows = &s.tallies.item(f.interaction).rows;
             s.by_run
                 .iter()
                 .map(|run| {

@@ -2,7 +2,8 @@
 //! fetched; a Content-Security-Policy that forbids all of it says so to the browser) that
 //! works opened from a CI artifact. Per suite it shows the verdict, a heat map of pass
 //! rates for every pair of factors ([`pairs`]), the flaky interactions with their 95%
-//! Wilson intervals and, over several runs, their history ([`flaky`]), the coverage
+//! Wilson intervals and, over several runs, their history ([`flaky`]), each focus set's
+//! interactions at its own strength ([`focus`]), the coverage
 //! curve of the design and of what ran ([`coverage`]), and the failing rows with their
 //! rerun commands. Every picture has a table beneath it holding the same figures, for
 //! keyboards and screen readers; pictures never tell anything by colour alone
@@ -22,6 +23,7 @@ mod chart;
 mod colour;
 mod coverage;
 mod flaky;
+mod focus;
 mod pairs;
 
 use maud::{DOCTYPE, Markup, PreEscaped, html};
@@ -31,7 +33,7 @@ use chart::percent;
 use colour::{EXCLUDED, SUSPECT};
 
 /// Version of the page's structure.
-pub const HTML_FORMAT: u32 = 1;
+pub const HTML_FORMAT: u32 = 2;
 
 /// No fetch of any kind, inline style only: the page must be whole on its own.
 const POLICY: &str = "default-src 'none'; style-src 'unsafe-inline'";
@@ -137,7 +139,7 @@ fn overview(report: &Report<'_>) -> Markup {
                                 td class="num" { (s.failed) }
                                 td class="num" { (s.not_run) }
                                 td { @match s.analysis.suspects.first() {
-                                    Some(x) => { code { (levels_text(&described(s.spec, &s.tallies.entries[x.interaction].interaction))) } " " (verdict(x)) }
+                                    Some(x) => { code { (levels_text(&described(s.spec, &s.tallies.item(x.interaction).interaction))) } " " (verdict(x)) }
                                     None => { "none" }
                                 } }
                             }
@@ -201,6 +203,7 @@ fn suite(report: &Report<'_>, i: usize, s: &SuiteReport<'_>) -> Markup {
             @if !s.analysis.flaky.is_empty() {
                 (flaky_section(report, s, &id))
             }
+            (focus::section(s, &id))
             section aria-labelledby={ (id) "-coverage" } {
                 h3 id={ (id) "-coverage" } { "Coverage of the design" }
                 p {
@@ -237,7 +240,7 @@ fn suspects(s: &SuiteReport<'_>) -> Markup {
                     } }
                     tbody {
                         @for (n, x) in a.suspects.iter().enumerate() {
-                            @let e = &s.tallies.entries[x.interaction];
+                            @let e = s.tallies.item(x.interaction);
                             tr data-suspect=(n + 1) {
                                 td class="num" { (n + 1) }
                                 th scope="row" { code { (levels_text(&described(s.spec, &e.interaction))) } }
@@ -343,7 +346,7 @@ fn flaky_section(report: &Report<'_>, s: &SuiteReport<'_>, id: &str) -> Markup {
                     tbody {
                         @for f in &s.analysis.flaky {
                             tr {
-                                th scope="row" { code { (levels_text(&described(s.spec, &s.tallies.entries[f.interaction].interaction))) } }
+                                th scope="row" { code { (levels_text(&described(s.spec, &s.tallies.item(f.interaction).interaction))) } }
                                 td class="num" { (f.passes) "/" (f.runs) }
                                 td class="num" { (percent(f.passes as f64 / f.runs.max(1) as f64)) }
                                 td class="num" { (percent(f.low)) "–" (percent(f.high)) }
@@ -364,7 +367,7 @@ fn flaky_section(report: &Report<'_>, s: &SuiteReport<'_>, id: &str) -> Markup {
                         tbody {
                             @for (i, f) in s.analysis.flaky.iter().enumerate() {
                                 tr {
-                                    th scope="row" { code { (levels_text(&described(s.spec, &s.tallies.entries[f.interaction].interaction))) } }
+                                    th scope="row" { code { (levels_text(&described(s.spec, &s.tallies.item(f.interaction).interaction))) } }
                                     @for c in &counts[i] { td { (flaky::run_text(c)) } }
                                 }
                             }

@@ -119,7 +119,7 @@ pub fn grids(s: &SuiteReport<'_>) -> Vec<Grid> {
         .iter()
         .enumerate()
         .filter(|(_, x)| x.explains > 0)
-        .map(|(i, x)| (i + 1, &s.tallies.entries[x.interaction].interaction))
+        .map(|(i, x)| (i + 1, &s.tallies.item(x.interaction).interaction))
         .collect();
     let cell = |factors: Vec<usize>, levels: Vec<u8>| {
         let it = Interaction { factors, levels };
