@@ -163,7 +163,7 @@ pub fn arrays(k: usize, t: usize, limit: usize) -> Vec<(String, Vec<Row>, u32)> 
             }
             // choosing columns pays only where it gives fewer rows than found so far
             let fold = 2 * p <= limit.min(fewest(&out).saturating_sub(1));
-            if t < 4 || p == k || p >= fewest(&out) {
+            if !(4..=MAX_CHOICE_STRENGTH).contains(&t) || p == k || p >= fewest(&out) {
                 continue;
             }
             for (folded, cols) in choose_columns(&full, k, t, fold) {
@@ -199,6 +199,10 @@ fn fold_over(a: &[Row]) -> Vec<Row> {
 /// which columns are still chosen: past it a circulant leaves too few (measured at t = 5:
 /// p = 67 has 0.16% bad and gives 34 columns, p = 59 0.75% and 15).
 const BAD_SHARE: usize = 256;
+
+/// Highest strength at which columns are chosen (the count of t-sets through a column
+/// is far past [`MAX_COUNT_STEPS`] beyond it anyway).
+const MAX_CHOICE_STRENGTH: usize = 8;
 
 /// Tries of the randomised greedy choice of columns.
 const CHOICE_TRIES: usize = 32;
