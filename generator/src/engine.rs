@@ -6,7 +6,8 @@
 //! tabu search of `tighten`, or past its table limit the annealing of `anneal`, whose
 //! memory does not grow with rows × t-sets) then tries to remove rows from what was kept
 //! — briefly in
-//! [`Effort::Fast`] ([`FAST_BUDGET`] moves), for the given budget in [`Effort::Tight`].
+//! [`Effort::Fast`] ([`FAST_BUDGET`] moves), for the given budget in [`Effort::Tight`],
+//! where it also starts from a construction the greedy beat and keeps the smaller end.
 //! At index λ ≥ 2 the design for λ = 1 is made too and stacked λ times (levels relabelled
 //! from copy to copy), so that the result is never larger than λ times the λ = 1 result.
 //! Redundant rows are dropped, the rest ordered by gain, and the independent checker has
@@ -393,6 +394,7 @@ impl Context<'_> {
                 };
                 // its own draws, as if it were the only start
                 let mut rng = Rng::new(spec.seed, stream::TIGHTEN);
+                let start = other_method.clone();
                 let (fewer, line) = tighten::shrink(
                     &problem,
                     cons,
@@ -402,7 +404,7 @@ impl Context<'_> {
                     &mut other_method,
                     &label,
                 );
-                run.note(format!("{line}, from {other_method}"));
+                run.note(format!("{line}, from {start}"));
                 if let Some(fewer) = fewer.filter(|f| f.len() < rows.len()) {
                     (method, rows) = (other_method, fewer);
                 }

@@ -135,20 +135,22 @@ fn scan(
 /// columns of a circulant fail, k of its p columns are chosen (see [`choose_columns`]).
 pub fn arrays(k: usize, t: usize, limit: usize) -> Vec<(String, Vec<Row>, u32)> {
     let mut out: Vec<(String, Vec<Row>, u32)> = Vec::new();
-    let primes = (k.max(t + 2)..).filter(|&p| is_prime(p)).take(MAX_PRIMES);
+    let primes = || (k.max(t + 2)..).filter(|&p| is_prime(p)).take(MAX_PRIMES);
     let fewest = |out: &[(String, Vec<Row>, u32)]| {
         out.iter()
             .map(|(_, rows, _)| rows.len())
             .min()
             .unwrap_or(usize::MAX)
     };
-    for p in primes {
+    for p in primes() {
         if p > limit || p >= fewest(&out) {
             break;
         }
         for diagonal in [0u8, 1] {
-            let full = circulant(p, diagonal);
-            let a: Vec<Row> = full.iter().map(|r| r[..k].to_vec()).collect();
+            let a: Vec<Row> = circulant(p, diagonal)
+                .into_iter()
+                .map(|r| r[..k].to_vec())
+                .collect();
             if let Some(index @ 1..) = binary_index(&a, k, t) {
                 out.push((format!("cyclotomy(p={p},diagonal={diagonal})"), a.clone(), index));
             }
@@ -161,10 +163,25 @@ pub fn arrays(k: usize, t: usize, limit: usize) -> Vec<(String, Vec<Row>, u32)> 
                     index,
                 ));
             }
-            // choosing columns pays only where it gives fewer rows than found so far
+        }
+    }
+    if !(4..=MAX_CHOICE_STRENGTH).contains(&t) {
+        return out;
+    }
+    // then chosen columns, only where they give fewer rows than found so far: choosing
+    // scans every t-set through a column of the whole circulant
+    for p in primes() {
+        if p > limit || p >= fewest(&out) {
+            break;
+        }
+        if p == k {
+            continue;
+        }
+        for diagonal in [0u8, 1] {
+            let full = circulant(p, diagonal);
             let fold = 2 * p <= limit.min(fewest(&out).saturating_sub(1));
-            if !(4..=MAX_CHOICE_STRENGTH).contains(&t) || p == k || p >= fewest(&out) {
-                continue;
+            if p >= fewest(&out) {
+                break;
             }
             for (folded, cols) in choose_columns(&full, k, t, fold) {
                 let chosen: Vec<Row> = full
@@ -200,9 +217,9 @@ fn fold_over(a: &[Row]) -> Vec<Row> {
 /// p = 67 has 0.16% bad and gives 34 columns, p = 59 0.75% and 15).
 const BAD_SHARE: usize = 256;
 
-/// Highest strength at which columns are chosen (the count of t-sets through a column
-/// is far past [`MAX_COUNT_STEPS`] beyond it anyway).
-const MAX_CHOICE_STRENGTH: usize = 8;
+/// Highest strength at which columns are chosen: measured to pay at t = 4 and 5, and
+/// the count of t-sets through a column soon passes [`MAX_COUNT_STEPS`] beyond.
+const MAX_CHOICE_STRENGTH: usize = 6;
 
 /// Tries of the randomised greedy choice of columns.
 const CHOICE_TRIES: usize = 32;
@@ -227,12 +244,19 @@ fn choose_columns(full: &[Row], k: usize, t: usize, fold: bool) -> Vec<(bool, Ve
     let mut open = [true, fold];
     let all = (1usize << t) - 1;
     let scanned = scan(full, p, t, true, |cols, counts| {
-        let missing = |x: usize| counts[x] == 0;
-        for (kind, shows) in [
-            (0, (0..=all).all(|x| !missing(x))),
-            (1, (0..=all).all(|x| !missing(x) || !missing(all ^ x))),
-        ] {
-            if open[kind] && !shows {
+        // shows[0]: every combination shows; shows[1]: each or its complement does
+        let mut shows = [true, true];
+        for x in 0..=all {
+            if counts[x] == 0 {
+                shows[0] = false;
+                if counts[all ^ x] == 0 {
+                    shows[1] = false;
+                    break;
+                }
+            }
+        }
+        for kind in 0..2 {
+            if open[kind] && !shows[kind] {
                 bad[kind].push(cols.to_vec());
                 open[kind] = bad[kind].len() <= cap;
             }
@@ -256,9 +280,13 @@ fn choose_columns(full: &[Row], k: usize, t: usize, fold: bool) -> Vec<(bool, Ve
 
 /// k of p cyclically arranged columns holding no shift of a `bad` set, by randomised
 /// greedy choices (see [`choose_columns`]); `None` when no try reaches k.
+#[allow(clippy::needless_range_loop)] // index loops on purpose, as in `scan`
 fn greedy_columns(p: usize, k: usize, bad: &[Vec<usize>]) -> Option<Vec<usize>> {
-    let per_try = p * bad.iter().map(|b| b.len() * b.len()).sum::<usize>();
+    let t = bad.first().map_or(0, Vec::len);
+    let per_try = p * bad.len() * t * t;
     let tries = (MAX_CHOICE_STEPS / per_try.max(1)).min(CHOICE_TRIES);
+    // the bad sets one after another (each holds t columns)
+    let flat: Vec<usize> = bad.concat();
     let mut rng = Rng::new(p as u64, stream::CONSTRUCT);
     let mut taken = vec![false; p];
     for _ in 0..tries {
@@ -268,15 +296,26 @@ fn greedy_columns(p: usize, k: usize, bad: &[Vec<usize>]) -> Option<Vec<usize>> 
         let mut chosen = Vec::new();
         for &c in &order {
             // c is refused when some shift of a bad set holds c and only taken columns
-            let refused = bad.iter().any(|b| {
-                b.iter().any(|&m| {
-                    let shift = c + p - m;
-                    b.iter().all(|&x| {
-                        let y = (x + shift) % p;
-                        y == c || taken[y]
-                    })
-                })
-            });
+            // (plain index loops: this runs in unoptimised builds)
+            let mut refused = false;
+            'sets: for b in 0..bad.len() {
+                let set = &flat[b * t..(b + 1) * t];
+                for i in 0..t {
+                    let shift = c + p - set[i];
+                    let mut inside = true;
+                    for j in 0..t {
+                        let y = (set[j] + shift) % p;
+                        if y != c && !taken[y] {
+                            inside = false;
+                            break;
+                        }
+                    }
+                    if inside {
+                        refused = true;
+                        break 'sets;
+                    }
+                }
+            }
             if !refused {
                 taken[c] = true;
                 chosen.push(c);
