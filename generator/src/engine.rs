@@ -248,6 +248,9 @@ struct Context<'a> {
     required: &'a [Row],
 }
 
+/// A design and the method that made it.
+type Named = (String, Vec<Row>);
+
 /// What the methods of one generation did.
 #[derive(Default)]
 struct Run {
@@ -492,7 +495,7 @@ impl Context<'_> {
         cons: &mut Constraints,
         work: &mut Work,
         run: &mut Run,
-    ) -> ((String, Vec<Row>), Option<(String, Vec<Row>)>) {
+    ) -> (Named, Option<Named>) {
         let spec = self.spec;
         let layout = self.layout;
         let levels = &layout.levels;
