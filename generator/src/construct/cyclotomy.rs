@@ -234,8 +234,8 @@ const MAX_CHOICE_STEPS: usize = 1 << 27;
 /// A circulant is fixed by shifting rows and columns together, so a t-set of columns is
 /// covered exactly when its shifts are: the bad t-sets are the shifts of the bad ones
 /// through column 0, and those are counted once. Columns are then taken in a random order
-/// (a fixed seed) when no shift of a bad t-set would lie among those taken, the best of
-/// a few orders kept (greedy, as for an independent set of a hypergraph).
+/// (a fixed seed) when no shift of a bad t-set would lie among those taken, a few orders
+/// tried until one reaches k (greedy, as for an independent set of a hypergraph).
 fn choose_columns(full: &[Row], k: usize, t: usize, fold: bool) -> Vec<(bool, Vec<usize>)> {
     let p = full.len();
     let through_zero = (1..t).fold(1usize, |c, i| c * (p - i) / i);
