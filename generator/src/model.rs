@@ -322,8 +322,8 @@ pub enum Effort {
     /// unoptimised build; [`crate::Stats::pin_advised`] says when the bound bit.
     Fast,
     /// Constructions, the greedy with all its candidates, then a local search that tries
-    /// to remove rows for at most `budget` moves (deterministic for a given seed and
-    /// budget).
+    /// to remove rows for at most `budget` moves from what was kept, and as many again
+    /// from a construction the greedy beat (deterministic for a given seed and budget).
     Tight {
         /// Move budget of the local search.
         budget: u64,

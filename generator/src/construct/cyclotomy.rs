@@ -8,6 +8,7 @@
 
 use super::gf::is_prime;
 use crate::factor::Row;
+use crate::rng::{Rng, stream};
 
 /// Most primes tried above the column count.
 const MAX_PRIMES: usize = 16;
@@ -38,11 +39,36 @@ pub fn circulant(p: usize, diagonal: u8) -> Vec<Row> {
 /// The fewest times any level combination shows on any t of the first k columns of a
 /// binary array (0 as soon as one is missing), counted on bit masks of the rows; `None`
 /// when counting would take more than [`MAX_COUNT_STEPS`].
-#[allow(clippy::needless_range_loop)] // index loops on purpose, see below
 pub fn binary_index(rows: &[Row], k: usize, t: usize) -> Option<u32> {
+    let mut min = u32::MAX;
+    scan(rows, k, t, false, |_, counts| {
+        min = min.min(counts.iter().copied().min().unwrap_or(0));
+        min > 0
+    })?;
+    Some(min)
+}
+
+/// Calls `visit` with every t-set of the first k columns of a binary array (only those
+/// holding column 0 when `anchored`), in lexicographic order, and how often each level
+/// combination shows on it (bit j of a combination's number is the level of the t-set's
+/// j-th column), until `visit` returns false; counted on bit masks of the rows. `None`
+/// when counting would take more than [`MAX_COUNT_STEPS`].
+#[allow(clippy::needless_range_loop)] // index loops on purpose, see below
+fn scan(
+    rows: &[Row],
+    k: usize,
+    t: usize,
+    anchored: bool,
+    mut visit: impl FnMut(&[usize], &[u32]) -> bool,
+) -> Option<()> {
     let n = rows.len();
     let words = n.div_ceil(64).max(1);
-    let tsets = (0..t as u128).fold(1u128, |c, i| c * (k as u128 - i) / (i + 1));
+    let (from, choose) = if anchored {
+        (1, t.saturating_sub(1))
+    } else {
+        (0, t)
+    };
+    let tsets = (0..choose as u128).fold(1u128, |c, i| c * ((k - from) as u128 - i) / (i + 1));
     if t == 0 || k < t || tsets * (1u128 << t) * words as u128 > MAX_COUNT_STEPS {
         return None;
     }
@@ -62,7 +88,7 @@ pub fn binary_index(rows: &[Row], k: usize, t: usize) -> Option<u32> {
             (1u64 << (n % 64)) - 1
         };
     }
-    let mut min = u32::MAX;
+    let mut counts = vec![0u32; 1 << t];
     let mut cols: Vec<usize> = (0..t).collect();
     // the prefix levels still valid for `cols` (0: none)
     let mut valid = 0;
@@ -89,15 +115,15 @@ pub fn binary_index(rows: &[Row], k: usize, t: usize) -> Option<u32> {
             for w in 0..words {
                 count += last[pattern * words + w].count_ones();
             }
-            if count == 0 {
-                return Some(0);
-            }
-            min = min.min(count);
+            counts[pattern] = count;
+        }
+        if !visit(&cols, &counts) {
+            return Some(());
         }
         // the next t-set; the prefixes before the first changed position stay valid
         let before = cols.clone();
-        if !crate::interactions::next_lex(&mut cols, k) {
-            return Some(min);
+        if !crate::interactions::next_lex(&mut cols, k) || (anchored && cols[0] != 0) {
+            return Some(());
         }
         valid = (0..t).find(|&i| cols[i] != before[i]).unwrap_or(t);
     }
@@ -105,17 +131,19 @@ pub fn binary_index(rows: &[Row], k: usize, t: usize) -> Option<u32> {
 
 /// The cyclotomic arrays for k binary columns at strength t, up to `limit` rows, each
 /// with its name and its counted index (at least 1). Primes are tried upwards while they
-/// can still give fewer rows than the first array found.
+/// can still give fewer rows than the first array found; at t ≥ 4, where the first k
+/// columns of a circulant fail, k of its p columns are chosen (see [`choose_columns`]).
 pub fn arrays(k: usize, t: usize, limit: usize) -> Vec<(String, Vec<Row>, u32)> {
     let mut out: Vec<(String, Vec<Row>, u32)> = Vec::new();
-    let primes = (k.max(t + 2)..).filter(|&p| is_prime(p)).take(MAX_PRIMES);
-    for p in primes {
-        let fewest = out
-            .iter()
+    let primes = || (k.max(t + 2)..).filter(|&p| is_prime(p)).take(MAX_PRIMES);
+    let fewest = |out: &[(String, Vec<Row>, u32)]| {
+        out.iter()
             .map(|(_, rows, _)| rows.len())
             .min()
-            .unwrap_or(usize::MAX);
-        if p > limit || p >= fewest {
+            .unwrap_or(usize::MAX)
+    };
+    for p in primes() {
+        if p > limit || p >= fewest(&out) {
             break;
         }
         for diagonal in [0u8, 1] {
@@ -126,21 +154,179 @@ pub fn arrays(k: usize, t: usize, limit: usize) -> Vec<(String, Vec<Row>, u32)> 
             if let Some(index @ 1..) = binary_index(&a, k, t) {
                 out.push((format!("cyclotomy(p={p},diagonal={diagonal})"), a.clone(), index));
             }
-            if 2 * p > limit {
-                continue;
-            }
-            let mut folded = a.clone();
-            folded.extend(a.iter().map(|r| r.iter().map(|&x| 1 - x).collect::<Row>()));
-            if let Some(index @ 1..) = binary_index(&folded, k, t) {
+            if 2 * p <= limit
+                && let Some(index @ 1..) = binary_index(&fold_over(&a), k, t)
+            {
                 out.push((
                     format!("cyclotomy(p={p},diagonal={diagonal},fold-over)"),
-                    folded,
+                    fold_over(&a),
                     index,
                 ));
             }
         }
     }
+    if !(4..=MAX_CHOICE_STRENGTH).contains(&t) {
+        return out;
+    }
+    // then chosen columns, only where they give fewer rows than found so far: choosing
+    // scans every t-set through a column of the whole circulant
+    for p in primes() {
+        if p > limit || p >= fewest(&out) {
+            break;
+        }
+        if p == k {
+            continue;
+        }
+        for diagonal in [0u8, 1] {
+            let full = circulant(p, diagonal);
+            let fold = 2 * p <= limit.min(fewest(&out).saturating_sub(1));
+            if p >= fewest(&out) {
+                break;
+            }
+            for (folded, cols) in choose_columns(&full, k, t, fold) {
+                let chosen: Vec<Row> = full
+                    .iter()
+                    .map(|r| cols.iter().map(|&c| r[c]).collect())
+                    .collect();
+                let (rows, kind) = if folded {
+                    (fold_over(&chosen), ",fold-over")
+                } else {
+                    (chosen, "")
+                };
+                // counted again on the chosen columns: the choice is checked, not assumed
+                if let Some(index @ 1..) = binary_index(&rows, k, t) {
+                    let name = format!("cyclotomy(p={p},diagonal={diagonal}{kind},chosen columns)");
+                    out.push((name, rows, index));
+                }
+            }
+        }
+    }
     out
+}
+
+/// The array over its complement, [A; Ā]: at strength t it covers a combination when A
+/// shows it or its complement.
+fn fold_over(a: &[Row]) -> Vec<Row> {
+    let mut folded = a.to_vec();
+    folded.extend(a.iter().map(|r| r.iter().map(|&x| 1 - x).collect::<Row>()));
+    folded
+}
+
+/// Most bad t-sets through column 0, as a share of all t-sets through it (1/this), with
+/// which columns are still chosen: past it a circulant leaves too few (measured at t = 5:
+/// p = 67 has 0.16% bad and gives 34 columns, p = 59 0.75% and 15).
+const BAD_SHARE: usize = 256;
+
+/// Highest strength at which columns are chosen: measured to pay at t = 4 and 5, and
+/// the count of t-sets through a column soon passes [`MAX_COUNT_STEPS`] beyond.
+const MAX_CHOICE_STRENGTH: usize = 6;
+
+/// Tries of the randomised greedy choice of columns.
+const CHOICE_TRIES: usize = 32;
+
+/// Most (bad t-set × member) checks one choice of columns may take.
+const MAX_CHOICE_STEPS: usize = 1 << 27;
+
+/// k columns of the p × p circulant `full` on which it covers every t-set — alone, and
+/// when `fold`, as a fold-over [A; Ā] — whichever a choice was found for (`true` for the
+/// fold-over), the circulant's own first.
+///
+/// A circulant is fixed by shifting rows and columns together, so a t-set of columns is
+/// covered exactly when its shifts are: the bad t-sets are the shifts of the bad ones
+/// through column 0, and those are counted once. Columns are then taken in a random order
+/// (a fixed seed) when no shift of a bad t-set would lie among those taken, a few orders
+/// tried until one reaches k (greedy, as for an independent set of a hypergraph).
+fn choose_columns(full: &[Row], k: usize, t: usize, fold: bool) -> Vec<(bool, Vec<usize>)> {
+    let p = full.len();
+    let through_zero = (1..t).fold(1usize, |c, i| c * (p - i) / i);
+    let cap = through_zero / BAD_SHARE;
+    let mut bad: [Vec<Vec<usize>>; 2] = [Vec::new(), Vec::new()];
+    let mut open = [true, fold];
+    let all = (1usize << t) - 1;
+    let scanned = scan(full, p, t, true, |cols, counts| {
+        // shows[0]: every combination shows; shows[1]: each or its complement does
+        let mut shows = [true, true];
+        for x in 0..=all {
+            if counts[x] == 0 {
+                shows[0] = false;
+                if counts[all ^ x] == 0 {
+                    shows[1] = false;
+                    break;
+                }
+            }
+        }
+        for kind in 0..2 {
+            if open[kind] && !shows[kind] {
+                bad[kind].push(cols.to_vec());
+                open[kind] = bad[kind].len() <= cap;
+            }
+        }
+        open[0] || open[1]
+    });
+    if scanned.is_none() {
+        return Vec::new();
+    }
+    let mut out = Vec::new();
+    for (kind, bad) in bad.iter().enumerate() {
+        if !open[kind] {
+            continue;
+        }
+        if let Some(cols) = greedy_columns(p, k, bad) {
+            out.push((kind == 1, cols));
+        }
+    }
+    out
+}
+
+/// k of p cyclically arranged columns holding no shift of a `bad` set, by randomised
+/// greedy choices (see [`choose_columns`]); `None` when no try reaches k.
+#[allow(clippy::needless_range_loop)] // index loops on purpose, as in `scan`
+fn greedy_columns(p: usize, k: usize, bad: &[Vec<usize>]) -> Option<Vec<usize>> {
+    let t = bad.first().map_or(0, Vec::len);
+    let per_try = p * bad.len() * t * t;
+    let tries = (MAX_CHOICE_STEPS / per_try.max(1)).min(CHOICE_TRIES);
+    // the bad sets one after another (each holds t columns)
+    let flat: Vec<usize> = bad.concat();
+    let mut rng = Rng::new(p as u64, stream::CONSTRUCT);
+    let mut taken = vec![false; p];
+    for _ in 0..tries {
+        let mut order: Vec<usize> = (0..p).collect();
+        rng.shuffle(&mut order);
+        taken.fill(false);
+        let mut chosen = Vec::new();
+        for &c in &order {
+            // c is refused when some shift of a bad set holds c and only taken columns
+            // (plain index loops: this runs in unoptimised builds)
+            let mut refused = false;
+            'sets: for b in 0..bad.len() {
+                let set = &flat[b * t..(b + 1) * t];
+                for i in 0..t {
+                    let shift = c + p - set[i];
+                    let mut inside = true;
+                    for j in 0..t {
+                        let y = (set[j] + shift) % p;
+                        if y != c && !taken[y] {
+                            inside = false;
+                            break;
+                        }
+                    }
+                    if inside {
+                        refused = true;
+                        break 'sets;
+                    }
+                }
+            }
+            if !refused {
+                taken[c] = true;
+                chosen.push(c);
+                if chosen.len() == k {
+                    chosen.sort_unstable();
+                    return Some(chosen);
+                }
+            }
+        }
+    }
+    None
 }
 
 #[cfg(test)]
@@ -172,6 +358,31 @@ mod tests {
             .collect();
         // x < 64 covers each pattern 8 times, x = 64..69 add (0,0,0),(1,0,0),(0,1,0),(1,1,0),(0,0,1),(1,0,1)
         assert_eq!(binary_index(&wide, 3, 3), Some(8));
+    }
+
+    #[test]
+    fn chosen_columns_avoid_every_shift_of_a_bad_set() {
+        // the anchored scan lists the bad 5-sets through column 0 of the fold-over mod 67;
+        // columns chosen for it must hold no shift of one, which the count over every
+        // 5-set of the chosen columns confirms
+        let full = circulant(67, 0);
+        let choices = choose_columns(&full, 30, 5, true);
+        assert!(choices.iter().any(|(folded, _)| *folded), "{choices:?}");
+        for (folded, cols) in choices {
+            let a: Vec<Row> = full
+                .iter()
+                .map(|r| cols.iter().map(|&c| r[c]).collect())
+                .collect();
+            let rows = if folded { fold_over(&a) } else { a };
+            assert!(binary_index(&rows, 30, 5).unwrap() >= 1, "{cols:?}");
+        }
+        // the greedy refuses a column that completes a shift of a bad set
+        assert_eq!(greedy_columns(5, 5, &[vec![0, 1]]), None);
+        let two = greedy_columns(5, 2, &[vec![0, 1]]).unwrap();
+        assert!(
+            (two[1] - two[0]) % 5 != 1 && (two[0] + 5 - two[1]) % 5 != 1,
+            "{two:?}"
+        );
     }
 
     #[test]

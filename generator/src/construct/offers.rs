@@ -5,7 +5,8 @@
 use super::hadamard::{self, Recipe};
 use super::stack::Offer;
 use super::{
-    MAX_WEIGHT_CLASS_COLUMNS, Source, best_within, binary, cyclotomy, difference, gf, hash_family, orthogonal,
+    MAX_WEIGHT_CLASS_COLUMNS, Source, best_within, binary, cyclotomy, difference, gf, hash_family,
+    orthogonal, product,
 };
 use crate::factor::Row;
 
@@ -64,6 +65,7 @@ pub(super) fn candidates(levels: &[usize], t: usize, lambda: u32, limit: usize) 
     fields(&mut o);
     difference_matrices(&mut o);
     recursive(&mut o);
+    bose_products(&mut o);
     two_level(&mut o);
     hash_families(&mut o);
     prune_dominated(o.out)
@@ -248,6 +250,37 @@ fn recursive(o: &mut Offers<'_>) {
         let slack = o.collapses(o.vmax);
         o.offer(Source::Rows(name, rows), 1, n, slack);
     }
+}
+
+/// The product (see `product`) of the Bose array OA(q²; 2, q, q) on the columns (1, x),
+/// x ∈ GF(q), with itself: both hold the q constant rows (u = (a, 0)), so it has
+/// 2q² − q rows for up to q² columns, over the smallest field with the levels and enough
+/// columns — where Bose's q + 1 columns are too few and Rao–Hamming's q³ rows too many
+/// (10^50 at t = 2: 231 rows over GF(11), where the tabu search stalls near 243).
+fn bose_products(o: &mut Offers<'_>) {
+    let (k, vmax) = (o.k, o.vmax);
+    if o.t != 2 || o.lambda != 1 || vmax < 3 {
+        return;
+    }
+    let Some(q) = (vmax..=gf::MAX_ORDER)
+        .filter(|&q| gf::prime_power(q).is_some())
+        .find(|&q| q * q >= k)
+    else {
+        return;
+    };
+    if k <= q + 1 || 2 * q * q - q > o.limit {
+        return;
+    }
+    let Some(field) = gf::Field::new(q) else {
+        return;
+    };
+    // q ≤ 256 (the field limit), so every x fits a level
+    let columns: Vec<Vec<u8>> = (0..q).map(|x| vec![1, x as u8]).collect();
+    let oa = orthogonal::linear(&field, &columns);
+    let rows = product::product(&oa, &oa, o.levels);
+    let n = rows.len();
+    // collapsed levels, and the pairs of columns from one row of A that B covers again
+    o.offer(Source::Rows(format!("bose-product(q={q})"), rows), 1, n, true);
 }
 
 /// Covering perfect hash families over the smallest field with the levels (Sherwood,

@@ -541,6 +541,36 @@ fn cyclotomy_reaches_the_tables_for_binary_strength_four() {
 }
 
 #[test]
+fn cyclotomy_on_chosen_columns_reaches_the_tables_for_binary_strength_five() {
+    // CA(134; 5, 30, 2) is the best known size for 2^30 at t = 5 (Colbourn covering array
+    // tables, 2024 snapshot, value from memory): twice 67, the fold-over [A; Ā] of the
+    // quadratic-residue circulant mod 67 (Colbourn 2010, "Covering arrays from
+    // cyclotomy") on 30 of its columns chosen to avoid its bad 5-sets; the checker
+    // re-derives the coverage
+    let c = checked(&[2; 30], 5, 1);
+    assert!(c.rows.len() <= 134, "{} rows by {}", c.rows.len(), c.method);
+    assert!(c.method.contains("chosen columns"), "{}", c.method);
+}
+
+#[test]
+fn bose_product_is_offered_past_bose_columns() {
+    // CAN(2, k·l, v) ≤ N + M − v for factors holding the v constant rows (Colbourn,
+    // Martirosyan, Mullen, Shasha, Sherwood & Yucas 2006, from memory), with both factors
+    // OA(q²; 2, q, q) (Bose 1938): 2q² − q rows for q² columns; 10 levels take GF(11),
+    // 9 levels GF(9). The checker re-derives the coverage of what is offered
+    for (v, k, q) in [(10usize, 50usize, 11usize), (9, 20, 9), (7, 40, 7)] {
+        let c = checked(&vec![v; k], 2, 1);
+        assert!(
+            c.rows.len() <= 2 * q * q - q,
+            "{v}^{k}: {} rows by {}",
+            c.rows.len(),
+            c.method
+        );
+        assert!(c.method.starts_with("bose-product"), "{v}^{k}: {}", c.method);
+    }
+}
+
+#[test]
 fn product_of_strength_two_arrays_shares_the_constant_rows() {
     use super::{gf, orthogonal, product};
     // CAN(2, k·l, v) ≤ N + M − v when CA(N; 2, k, v) and CA(M; 2, l, v) both hold the v
