@@ -5,8 +5,8 @@
 //! serde, toml, …) compile once for all of them and stay built between runs of the
 //! suite. This workspace's `Cargo.lock` is copied into each crate, so they resolve to
 //! the versions already built, without the network; `--offline` is passed once a crate
-//! has resolved offline. Invocations are serialised by a process-wide lock (builds in
-//! one target directory would only queue on cargo's own lock) and each one prints its
+//! has resolved offline. At most two invocations of a test process run at once (builds in
+//! one target directory queue on cargo's own lock) and each one prints its
 //! wall time on stderr, past libtest's capture. Each crate keeps its directory,
 //! `e2e-crates/NAME` beside the shared target directory, from one run to the next, laid
 //! out afresh from its definition, so a warm run finds it built.
@@ -16,7 +16,7 @@ use std::ffi::OsString;
 use std::io::Write as _;
 use std::path::{Path, PathBuf};
 use std::process::Command;
-use std::sync::Mutex;
+use std::sync::{Condvar, Mutex};
 use std::time::{Duration, Instant, SystemTime};
 
 /// The workspace this crate belongs to (its `Cargo.lock`, its `runner/`).
@@ -47,24 +47,40 @@ pub fn cargo_program() -> OsString {
         .unwrap_or_else(|| OsString::from(env!("CARGO")))
 }
 
-static CARGO_LOCK: Mutex<()> = Mutex::new(());
+/// How many cargo invocations of one test process run at once. Two keep both cores of
+/// a small CI machine busy while a warm run's invocations mostly wait on test binaries;
+/// builds in the shared target directory still queue on cargo's own lock.
+const CARGO_SLOTS: usize = 2;
+
+/// Slots taken, out of [`CARGO_SLOTS`].
+static TAKEN: Mutex<usize> = Mutex::new(0);
+static FREED: Condvar = Condvar::new();
 
 thread_local! {
     static HOLDING: Cell<bool> = const { Cell::new(false) };
 }
 
-/// Runs `f` while holding the process-wide cargo lock; re-entrant, so a test can make
-/// several invocations one uninterrupted sequence (a clean followed by its rebuild).
-pub fn exclusive<R>(f: impl FnOnce() -> R) -> R {
+/// Runs `f` in one of the process's cargo slots; re-entrant, so a test can make several
+/// invocations one sequence in its slot (a clean followed by its rebuild).
+pub fn in_cargo_slot<R>(f: impl FnOnce() -> R) -> R {
     if HOLDING.with(Cell::get) {
         return f();
     }
-    // a test that panicked while holding the lock left no state behind it
-    let _guard = CARGO_LOCK.lock().unwrap_or_else(|e| e.into_inner());
+    {
+        // a test that panicked in its slot gave it back on the way out (`Release`)
+        let mut taken = TAKEN.lock().unwrap_or_else(|e| e.into_inner());
+        while *taken >= CARGO_SLOTS {
+            taken = FREED.wait(taken).unwrap_or_else(|e| e.into_inner());
+        }
+        *taken += 1;
+    }
     struct Release;
     impl Drop for Release {
         fn drop(&mut self) {
             HOLDING.with(|h| h.set(false));
+            let mut taken = TAKEN.lock().unwrap_or_else(|e| e.into_inner());
+            *taken -= 1;
+            FREED.notify_one();
         }
     }
     HOLDING.with(|h| h.set(true));
@@ -333,7 +349,7 @@ impl Scratch {
         store: Option<&Path>,
         env: &[(&str, &str)],
     ) -> Run {
-        exclusive(|| {
+        in_cargo_slot(|| {
             let mut cmd = Command::new(program);
             cmd.args(args).current_dir(self.root());
             for (key, _) in std::env::vars_os() {
@@ -511,7 +527,16 @@ mod tests {
     }
 
     #[test]
-    fn exclusive_is_reentrant() {
-        assert_eq!(exclusive(|| exclusive(|| 7)), 7);
+    fn a_slot_is_reentrant_and_given_back() {
+        assert_eq!(in_cargo_slot(|| in_cargo_slot(|| 7)), 7);
+        // every slot can be taken again, also after a panic inside one
+        let _ = std::panic::catch_unwind(|| in_cargo_slot(|| panic!("inside a slot")));
+        let held: Vec<_> = (0..CARGO_SLOTS)
+            .map(|_| std::thread::spawn(|| in_cargo_slot(|| std::thread::sleep(Duration::from_millis(20)))))
+            .collect();
+        for h in held {
+            h.join().unwrap();
+        }
+        assert_eq!(*TAKEN.lock().unwrap_or_else(|e| e.into_inner()), 0);
     }
 }

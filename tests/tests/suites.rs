@@ -684,7 +684,7 @@ fn nextest(krate: &Scratch, main: &Main) -> Result<(), String> {
 /// give the same specs (rows, seeds, fingerprints).
 fn rebuild(krate: &Scratch, main: &Main) -> Result<(), String> {
     let store = krate.store_dir("rebuilt");
-    let (clean, run) = scratch::exclusive(|| {
+    let (clean, run) = scratch::in_cargo_slot(|| {
         let clean = krate.cargo(&["clean", "-p", KRATE], None, &[]);
         (clean, krate.cargo(&test_args(), Some(&store), &[]))
     });
