@@ -64,6 +64,9 @@ pub(super) fn size(kind: Kind, q: usize, t: usize, n: usize) -> Option<usize> {
     n.checked_mul(block - shared)?.checked_add(shared)
 }
 
+/// The longest vectors (and most of them) [`Geometry::independent`] handles on the stack.
+const SMALL: usize = 8;
+
 /// The vectors of GF(q)^t a cell may hold, with the arithmetic the search needs.
 struct Geometry<'a> {
     field: &'a Field,
@@ -159,16 +162,120 @@ impl<'a> Geometry<'a> {
         Some(rows)
     }
 
+    /// Whether the vectors are linearly independent: [`Geometry::basis`] without its
+    /// allocations, for the search's inner loop (vectors of up to [`SMALL`] entries).
     fn independent(&self, pts: &[usize]) -> bool {
-        self.basis(pts).is_some()
+        let dim = pts.first().map_or(0, |&p| self.vectors[p].len());
+        if dim > SMALL || pts.len() > SMALL {
+            return self.basis(pts).is_some();
+        }
+        let f = self.field;
+        let q = f.order();
+        let mut rows = [[0u8; SMALL]; SMALL];
+        for (row, &p) in rows.iter_mut().zip(pts) {
+            row[..dim].copy_from_slice(&self.vectors[p]);
+        }
+        let n = pts.len();
+        let mut col = 0;
+        for i in 0..n {
+            loop {
+                if col == dim {
+                    return false;
+                }
+                if let Some(j) = (i..n).find(|&j| rows[j][col] != 0) {
+                    rows.swap(i, j);
+                    break;
+                }
+                col += 1;
+            }
+            let inv = f.pow(rows[i][col], q - 2);
+            let pivot = rows[i].map(|x| f.mul(x, inv));
+            for row in rows[i + 1..n].iter_mut() {
+                let m = row[col];
+                if m != 0 {
+                    for (x, &p) in row[..dim].iter_mut().zip(&pivot) {
+                        *x = f.sub(*x, f.mul(m, p));
+                    }
+                }
+            }
+            col += 1;
+        }
+        true
     }
 
     /// The candidates in the linear span of independent vectors (each once, marked in
-    /// `seen` with `stamp`); `None` when they are dependent. Sherwood's candidates in the
+    /// `seen` with `stamp`); `false` (and nothing listed) when they are dependent. Sherwood's candidates in the
     /// span are its affine combinations (coefficients summing to 1), so only those are
     /// listed for them.
-    fn span(&self, kind: Kind, pts: &[usize], seen: &mut [u32], stamp: u32) -> Option<Vec<usize>> {
-        self.basis(pts)?;
+    fn span(&self, kind: Kind, pts: &[usize], seen: &mut [u32], stamp: u32, out: &mut Vec<usize>) -> bool {
+        out.clear();
+        if !self.independent(pts) {
+            return false;
+        }
+        let f = self.field;
+        let q = f.order();
+        let dim = self.vectors[pts[0]].len();
+        let (first, rest) = (&self.vectors[pts[0]], &pts[1..]);
+        if dim > SMALL || rest.len() > SMALL {
+            return self.span_large(kind, pts, seen, stamp, out);
+        }
+        // every combination a·rest of all but the first vector (coefficients counted in
+        // base q), with the sum of its coefficients
+        let mut coeff = [0u8; SMALL];
+        loop {
+            let mut v = [0u8; SMALL];
+            let mut sum = 0u8;
+            for (&a, &p) in coeff.iter().zip(rest) {
+                if a != 0 {
+                    for (x, &y) in v[..dim].iter_mut().zip(&self.vectors[p]) {
+                        *x = f.add(*x, f.mul(a, y));
+                    }
+                    sum = f.add(sum, a);
+                }
+            }
+            let (from, to) = match kind {
+                Kind::Affine => {
+                    let a = f.sub(1, sum);
+                    (a, a)
+                }
+                Kind::Projective => (0, q as u8 - 1),
+            };
+            for a in from..=to {
+                let number = v[..dim]
+                    .iter()
+                    .zip(first)
+                    .fold(0usize, |acc, (&x, &y)| acc * q + f.add(x, f.mul(a, y)) as usize);
+                let c = self.candidate[number];
+                if c != NONE && seen[c as usize] != stamp {
+                    seen[c as usize] = stamp;
+                    out.push(c as usize);
+                }
+            }
+            // the next coefficients, or done
+            let mut i = 0;
+            while i < rest.len() {
+                coeff[i] += 1;
+                if (coeff[i] as usize) < q {
+                    break;
+                }
+                coeff[i] = 0;
+                i += 1;
+            }
+            if i == rest.len() {
+                return true;
+            }
+        }
+    }
+
+    /// [`Geometry::span`] past the stack's sizes.
+    fn span_large(
+        &self,
+        kind: Kind,
+        pts: &[usize],
+        seen: &mut [u32],
+        stamp: u32,
+        out: &mut Vec<usize>,
+    ) -> bool {
         let f = self.field;
         let q = f.order();
         let dim = self.vectors[pts[0]].len();
@@ -186,7 +293,6 @@ impl<'a> Geometry<'a> {
             combos = next;
         }
         let first = &self.vectors[pts[0]];
-        let mut out = Vec::new();
         for (v, sum) in combos {
             let coefficients: Vec<u8> = match kind {
                 Kind::Affine => vec![f.sub(1, sum)],
@@ -205,7 +311,7 @@ impl<'a> Geometry<'a> {
                 }
             }
         }
-        Some(out)
+        true
     }
 }
 
@@ -274,15 +380,16 @@ fn family_within(
     if anchored {
         cells[0] = (0..k).collect();
     }
-    let pts_of = |cells: &[usize], s: usize| -> Vec<usize> {
-        sets[s * t..(s + 1) * t]
-            .iter()
-            .map(|&c| cells[c as usize])
-            .collect()
+    // the points of t-set `s` in a row, into a buffer reused across the search
+    let mut buffer: Vec<usize> = Vec::with_capacity(t);
+    let mut set_independent = |cells: &[usize], s: usize| -> bool {
+        buffer.clear();
+        buffer.extend(sets[s * t..(s + 1) * t].iter().map(|&c| cells[c as usize]));
+        geo.independent(&buffer)
     };
     let mut good: Vec<Vec<bool>> = cells
         .iter()
-        .map(|row| (0..nsets).map(|s| geo.independent(&pts_of(row, s))).collect())
+        .map(|row| (0..nsets).map(|s| set_independent(row, s)).collect())
         .collect();
     let mut cover: Vec<u32> = (0..nsets)
         .map(|s| good.iter().filter(|g| g[s]).count() as u32)
@@ -300,6 +407,7 @@ fn family_within(
         }) as u64;
     let mut steps = 0u64;
     let mut delta = vec![0i64; points];
+    let mut span: Vec<usize> = Vec::new();
     while !open.is_empty() {
         let s = open[rng.index(open.len())];
         let r = if anchored {
@@ -327,8 +435,8 @@ fn family_within(
             // off the span every point leaves the t-set covered here (a change of
             // −was_open for all points alike, left out); on it, none does
             stamp += 1;
-            if let Some(span) = geo.span(kind, &others, &mut seen, stamp) {
-                for p in span {
+            if geo.span(kind, &others, &mut seen, stamp, &mut span) {
+                for &p in &span {
                     delta[p] += if_dependent + was_open;
                 }
             }
@@ -353,7 +461,7 @@ fn family_within(
         cells[r][c] = p;
         for &s2 in &through[c] {
             let s2 = s2 as usize;
-            let now = geo.independent(&pts_of(&cells[r], s2));
+            let now = set_independent(&cells[r], s2);
             if now == good[r][s2] {
                 continue;
             }
