@@ -228,6 +228,9 @@ impl Scratch {
             ("src/lib.rs", "//! Nothing: the suites are integration tests.\n"),
         ];
         files.extend(def.files.iter().copied());
+        forget_records(&shared_target_dir(), def.name).map_err(|e| {
+            CreateError::Setup(format!("cannot clear earlier records of `{}`: {e}", def.name))
+        })?;
         lay_out(&dir, &files)
             .map_err(|e| CreateError::Setup(format!("cannot lay out `{}`: {e}", dir.display())))?;
         let mut krate = Scratch {
@@ -428,6 +431,44 @@ pub fn crates_dir() -> PathBuf {
         .map_or_else(|| target.join("crates"), |p| p.join("e2e-crates"))
 }
 
+/// Removes what earlier runs of the suite recorded for package `name` in the store of
+/// the shared target directory (where its runs land when a test sets no store), so a
+/// test starts from no history of its own, and the store, read by every report there,
+/// does not grow from one run of the suite to the next. A file belongs to the process
+/// that wrote it, and so to one package, named on each of its lines; other packages'
+/// files, which tests running at the same time may be writing, are left alone.
+fn forget_records(target: &Path, name: &str) -> std::io::Result<()> {
+    use heddle_test::record::Line;
+    use heddle_test::record::layout::{RUNS_DIR, store_root};
+    let runs = store_root(target).join(RUNS_DIR);
+    let Ok(dirs) = std::fs::read_dir(&runs) else {
+        return Ok(());
+    };
+    for run in dirs {
+        let run = run?.path();
+        let Ok(files) = std::fs::read_dir(&run) else {
+            continue;
+        };
+        for file in files {
+            let file = file?.path();
+            let Ok(text) = std::fs::read_to_string(&file) else {
+                continue;
+            };
+            let package = text.lines().find_map(|l| match Line::parse(l) {
+                Ok(Line::Spec(s)) => Some(s.krate),
+                Ok(Line::Row(r)) => Some(r.krate),
+                Err(_) => None,
+            });
+            if package.as_deref() == Some(name) {
+                std::fs::remove_file(&file)?;
+            }
+        }
+        // only when empty: another test may be writing there
+        let _ = std::fs::remove_dir(&run);
+    }
+    Ok(())
+}
+
 /// Makes `dir` hold exactly `files` (path relative to `dir`, text): a file whose text
 /// is already right is left alone, so its modification time, and with it cargo's
 /// verdict that the crate is built, survives; anything else an earlier run left there
@@ -524,6 +565,31 @@ mod tests {
             .modified()
             .unwrap();
         assert_eq!(kept, past);
+    }
+
+    #[test]
+    fn earlier_records_of_a_package_are_forgotten_and_others_kept() {
+        use heddle_test::record::layout::{RUNS_DIR, STORE_DIR};
+        let dir = tempfile::tempdir().expect("a temporary directory");
+        let line = |krate: &str| {
+            let spec = heddle_store::fixture::SpecBuilder::new("f").krate(krate).build();
+            let row = heddle_store::fixture::row(&spec, 0, heddle_test::record::Outcome::Passed);
+            assert_eq!(row.krate, krate);
+            heddle_test::record::Line::Row(row).to_json_line()
+        };
+        let runs = dir.path().join(STORE_DIR).join(RUNS_DIR);
+        for (run, file, krate) in [
+            ("r1", "a.jsonl", "mine"),
+            ("r1", "b.jsonl", "other"),
+            ("r2", "c.jsonl", "mine"),
+        ] {
+            std::fs::create_dir_all(runs.join(run)).unwrap();
+            std::fs::write(runs.join(run).join(file), line(krate)).unwrap();
+        }
+        forget_records(dir.path(), "mine").unwrap();
+        assert!(!runs.join("r1/a.jsonl").exists());
+        assert!(runs.join("r1/b.jsonl").exists());
+        assert!(!runs.join("r2").exists(), "an emptied run directory goes too");
     }
 
     #[test]
