@@ -302,8 +302,10 @@ fn the_quick_start_has_two_commands_and_the_first_is_the_demo() {
     );
 }
 
+// named to sort first: libtest starts tests in the order of their names, and this, the
+// longest (the demo's rounds, then the browser), should not wait for the others
 #[test]
-fn the_first_command_exits_zero_names_both_defects_and_writes_a_page() {
+fn a_first_command_exits_zero_names_both_defects_and_writes_a_page() {
     // the quick start's first command, run as written from the repository's root
     let first = quick_start().remove(0);
     let words: Vec<&str> = first.split_whitespace().collect();
