@@ -238,7 +238,22 @@ impl Scratch {
             name: def.name.to_string(),
             offline: false,
         };
-        krate.resolve().map_err(CreateError::Unresolved)?;
+        // resolving again finds what it found last time, unless the manifest or the lock
+        // changed: the key of the last success is kept beside the crates
+        let key = {
+            use std::hash::{Hash as _, Hasher as _};
+            let mut h = std::hash::DefaultHasher::new();
+            (manifest.as_str(), lock_text.as_str()).hash(&mut h);
+            format!("{:016x}\n", h.finish())
+        };
+        let resolved = crates_dir().join(format!(".resolved-{}", def.name));
+        if std::fs::read_to_string(&resolved).is_ok_and(|k| k == key) {
+            krate.offline = true;
+        } else {
+            krate.resolve().map_err(CreateError::Unresolved)?;
+            std::fs::write(&resolved, key)
+                .map_err(|e| CreateError::Setup(format!("cannot write `{}`: {e}", resolved.display())))?;
+        }
         Ok(krate)
     }
 
