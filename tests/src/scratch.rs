@@ -1,14 +1,14 @@
 //! Temporary crates and the cargo invocations on them.
 //!
-//! Every temporary crate builds into one shared target directory,
-//! `<this workspace's target dir>/e2e-target`, so heddle and its dependencies (syn,
+//! Every temporary crate builds into one shared target directory, the greenhouse
+//! demo's (`examples/greenhouse/target`), so heddle and its dependencies (syn,
 //! serde, toml, …) compile once for all of them and stay built between runs of the
 //! suite. This workspace's `Cargo.lock` is copied into each crate, so they resolve to
 //! the versions already built, without the network; `--offline` is passed once a crate
 //! has resolved offline. At most two invocations of a test process run at once (builds in
 //! one target directory queue on cargo's own lock) and each one prints its
 //! wall time on stderr, past libtest's capture. Each crate keeps its directory,
-//! `e2e-crates/NAME` beside the shared target directory, from one run to the next, laid
+//! `e2e-crates/NAME` in this workspace's target directory, from one run to the next, laid
 //! out afresh from its definition, so a warm run finds it built.
 
 use std::cell::Cell;
@@ -28,15 +28,17 @@ pub fn workspace_root() -> PathBuf {
         .unwrap_or_else(|| PathBuf::from(env!("CARGO_MANIFEST_DIR")))
 }
 
-/// The target directory every temporary crate builds into: `e2e-target` inside the
-/// directory cargo built this test executable in (found like the runtime finds its
-/// store, by cargo's `CACHEDIR.TAG`), else inside the workspace's `target/`.
+/// The target directory every temporary crate builds into: the greenhouse demo's,
+/// `examples/greenhouse/target`, where the quick start builds heddle for the demo. The
+/// temporary crates copy this workspace's lock, as the demo's holds the same versions,
+/// and depend on heddle alone, as the demo does, so they and the demo share one build of
+/// heddle and its dependencies (checked: the same unit hashes); the suite's browser test
+/// runs the quick start after the plugin's tests have built it.
 pub fn shared_target_dir() -> PathBuf {
-    let built_in = std::env::current_exe()
-        .ok()
-        .and_then(|exe| heddle_test::record::layout::find_build_dir(&exe))
-        .unwrap_or_else(|| workspace_root().join("target"));
-    built_in.join("e2e-target")
+    workspace_root()
+        .join("examples")
+        .join("greenhouse")
+        .join("target")
 }
 
 /// The cargo running these tests (cargo sets `CARGO` for test processes), so the
@@ -440,10 +442,11 @@ const INHERITED_NOT: &[&str] = &[
 /// warm run finds its test binaries built and compiles only what changed; every run
 /// starts it from its definition again (see [`lay_out`]).
 pub fn crates_dir() -> PathBuf {
-    let target = shared_target_dir();
-    target
-        .parent()
-        .map_or_else(|| target.join("crates"), |p| p.join("e2e-crates"))
+    std::env::current_exe()
+        .ok()
+        .and_then(|exe| heddle_test::record::layout::find_build_dir(&exe))
+        .unwrap_or_else(|| workspace_root().join("target"))
+        .join("e2e-crates")
 }
 
 /// Removes what earlier runs of the suite recorded for package `name` in the store of
@@ -542,15 +545,16 @@ mod tests {
     }
 
     #[test]
-    fn the_shared_target_dir_is_inside_a_cargo_target_dir() {
-        let dir = shared_target_dir();
-        assert_eq!(dir.file_name().and_then(|n| n.to_str()), Some("e2e-target"));
-        let parent = dir.parent().expect("e2e-target has a parent");
+    fn the_crates_live_in_a_cargo_target_dir_and_build_in_the_demos() {
+        let crates = crates_dir();
+        let parent = crates.parent().expect("e2e-crates has a parent");
         assert!(
             parent.join(heddle_test::record::layout::CACHEDIR_TAG).is_file(),
             "{}",
-            dir.display()
+            crates.display()
         );
+        // the demo's manifest sits beside its target directory
+        assert!(shared_target_dir().with_file_name("Cargo.toml").is_file());
     }
 
     #[test]
