@@ -216,14 +216,12 @@ impl<'a> Geometry<'a> {
         let q = f.order();
         let dim = self.vectors[pts[0]].len();
         let (first, rest) = (&self.vectors[pts[0]], &pts[1..]);
-        if dim > SMALL || rest.len() > SMALL {
-            return self.span_large(kind, pts, seen, stamp, out);
-        }
         // every combination a·rest of all but the first vector (coefficients counted in
-        // base q), with the sum of its coefficients
-        let mut coeff = [0u8; SMALL];
+        // base q), with the sum of its coefficients; two buffers a call, none a combination
+        let mut coeff = vec![0u8; rest.len()];
+        let mut v = vec![0u8; dim];
         loop {
-            let mut v = [0u8; SMALL];
+            v.fill(0);
             let mut sum = 0u8;
             for (&a, &p) in coeff.iter().zip(rest) {
                 if a != 0 {
@@ -241,7 +239,7 @@ impl<'a> Geometry<'a> {
                 Kind::Projective => (0, q as u8 - 1),
             };
             for a in from..=to {
-                let number = v[..dim]
+                let number = v
                     .iter()
                     .zip(first)
                     .fold(0usize, |acc, (&x, &y)| acc * q + f.add(x, f.mul(a, y)) as usize);
@@ -265,53 +263,6 @@ impl<'a> Geometry<'a> {
                 return true;
             }
         }
-    }
-
-    /// [`Geometry::span`] past the stack's sizes.
-    fn span_large(
-        &self,
-        kind: Kind,
-        pts: &[usize],
-        seen: &mut [u32],
-        stamp: u32,
-        out: &mut Vec<usize>,
-    ) -> bool {
-        let f = self.field;
-        let q = f.order();
-        let dim = self.vectors[pts[0]].len();
-        // combinations of all but the first vector, with the sum of their coefficients
-        let mut combos: Vec<(Vec<u8>, u8)> = vec![(vec![0; dim], 0)];
-        for &p in &pts[1..] {
-            let b = &self.vectors[p];
-            let mut next = Vec::with_capacity(combos.len() * q);
-            for (v, sum) in &combos {
-                for a in 0..q as u8 {
-                    let w = v.iter().zip(b).map(|(&x, &y)| f.add(x, f.mul(a, y))).collect();
-                    next.push((w, f.add(*sum, a)));
-                }
-            }
-            combos = next;
-        }
-        let first = &self.vectors[pts[0]];
-        for (v, sum) in combos {
-            let coefficients: Vec<u8> = match kind {
-                Kind::Affine => vec![f.sub(1, sum)],
-                Kind::Projective => (0..q as u8).collect(),
-            };
-            for a in coefficients {
-                let w: Vec<u8> = v
-                    .iter()
-                    .zip(first)
-                    .map(|(&x, &y)| f.add(x, f.mul(a, y)))
-                    .collect();
-                let c = self.candidate[w.iter().fold(0usize, |acc, &d| acc * q + d as usize)];
-                if c != NONE && seen[c as usize] != stamp {
-                    seen[c as usize] = stamp;
-                    out.push(c as usize);
-                }
-            }
-        }
-        true
     }
 }
 
