@@ -62,6 +62,7 @@ mod focused;
 mod greedy;
 mod incidence;
 mod interactions;
+mod invariant;
 mod limits;
 mod model;
 mod order;

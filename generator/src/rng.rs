@@ -50,4 +50,6 @@ pub mod stream {
     pub const CONSTRUCT: u64 = 3;
     /// The rows added for focus sets, and the search over the whole demand after them.
     pub const FOCUS: u64 = 4;
+    /// The search for starters of a group-invariant design.
+    pub const INVARIANT: u64 = 5;
 }

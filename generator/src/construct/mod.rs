@@ -9,7 +9,7 @@
 mod binary;
 mod cyclotomy;
 mod difference;
-mod gf;
+pub(crate) mod gf;
 mod hadamard;
 mod hash_family;
 mod offers;
