@@ -8,6 +8,9 @@
 //! — briefly in
 //! [`Effort::Fast`] ([`FAST_BUDGET`] moves), for the given budget in [`Effort::Tight`],
 //! where it also starts from a construction the greedy beat and keeps the smaller end.
+//! In [`Effort::Tight`] at strength 3 and more, two more candidates join the
+//! constructions before the greedy: the doubling of the designs made on half the columns
+//! and the smallest design invariant under the affine group of the levels (`invariant`).
 //! At index λ ≥ 2 the design for λ = 1 is made too and stacked λ times (levels relabelled
 //! from copy to copy), so that the result is never larger than λ times the λ = 1 result.
 //! Redundant rows are dropped, the rest ordered by gain, and the independent checker has
@@ -45,8 +48,13 @@ pub const FAST_BUDGET: u64 = 40_000;
 /// the greedy over all pairs is quick and beats it (measured on the benchmark's 3^k).
 const PRODUCT_COLUMNS: usize = 100;
 
-/// Steps the tight mode gives the group-invariant search (some seconds optimised).
-const INVARIANT_WORK: u64 = 4_000_000_000;
+/// Factors from which a strength-3 spec in the tight mode also tries the doubling of two
+/// designs on half its columns: below, the halves are too small to gain.
+const DOUBLING_COLUMNS: usize = 8;
+
+/// Steps the tight mode gives the group-invariant search per move of its budget: the
+/// default budget's 4·10⁹ steps take some seconds in an optimised build.
+const INVARIANT_STEPS_PER_MOVE: u64 = 200;
 
 /// Rows × t-sets past which a design the fast bound cut keeps its method's order.
 const UNORDERED_CELLS: u64 = 1 << 20;
@@ -297,6 +305,7 @@ impl Context<'_> {
             run.note(format!("construction {}: {} rows", c.method, c.rows.len()));
         }
         let construction = self.with_product(construction, lambda, &mut work, run);
+        let construction = self.with_doubling(construction, lambda, run);
         let construction = self.with_invariant(construction, lambda, run);
         let mut proven = construction
             .as_ref()
@@ -490,6 +499,54 @@ impl Context<'_> {
         }
     }
 
+    /// `construction`, or in the tight mode at strength 3 the v-ary doubling (see
+    /// `construct::doubled`) of the designs this engine makes on half the columns at
+    /// strengths 3 and 2 where it is smaller: the constructions' doubling takes only
+    /// constructions as its halves, where the searched halves are often smaller.
+    fn with_doubling(
+        &self,
+        construction: Option<Construction>,
+        lambda: u32,
+        run: &mut Run,
+    ) -> Option<Construction> {
+        let levels = &self.layout.levels;
+        let k = levels.len();
+        let v = levels[0];
+        if !matches!(self.effort, Effort::Tight { .. })
+            || self.layout.t != 3
+            || lambda != 1
+            || k < DOUBLING_COLUMNS
+            || levels.iter().any(|&l| l != v)
+            || !self.spec.excludes.is_empty()
+            || !self.required.is_empty()
+            || construction.as_ref().is_some_and(|c| c.optimal)
+        {
+            return construction;
+        }
+        let h = k.div_ceil(2);
+        let half = |t: usize| {
+            let spec = Spec::numbered(&vec![v; h]).strength(t).seed(self.spec.seed);
+            generate_within(&spec, self.effort, self.fast_work).ok()
+        };
+        let (Some(a), Some(b)) = (half(3), half(2)) else {
+            return construction;
+        };
+        run.work = run.work.saturating_add(a.stats.work).saturating_add(b.stats.work);
+        let rows = construct::doubled(&a.rows, &b.rows, v, k);
+        run.note(format!(
+            "doubling of designs on {h} columns at strengths 3 and 2: {} rows",
+            rows.len()
+        ));
+        match construction {
+            Some(c) if c.rows.len() <= rows.len() => Some(c),
+            _ => Some(Construction {
+                method: format!("doubling({}; {})", a.stats.method, b.stats.method),
+                rows,
+                optimal: false,
+            }),
+        }
+    }
+
     /// `construction`, or in the tight mode at strength 3 and more with one level count a
     /// prime power, the smallest design invariant under the affine group of the levels
     /// (see `invariant`) where it is smaller: on the benchmark's 3^12 at t = 3 it meets
@@ -503,8 +560,10 @@ impl Context<'_> {
         let levels = &self.layout.levels;
         let t = self.layout.t;
         let v = levels[0];
-        if !matches!(self.effort, Effort::Tight { .. })
-            || t < 3
+        let Effort::Tight { budget } = self.effort else {
+            return construction;
+        };
+        if t < 3
             || lambda != 1
             || levels.iter().any(|&l| l != v)
             || !self.spec.excludes.is_empty()
@@ -523,7 +582,7 @@ impl Context<'_> {
             return construction;
         }
         let mut rng = Rng::new(self.spec.seed, stream::INVARIANT);
-        let mut work = Work::new(INVARIANT_WORK);
+        let mut work = Work::new(budget.saturating_mul(INVARIANT_STEPS_PER_MOVE));
         let found = invariant::search(v, levels.len(), t, below, &mut rng, &mut work);
         run.work = run.work.saturating_add(work.spent());
         let Some(found) = found else {
@@ -691,6 +750,26 @@ mod tests {
         let a = generate_within(&s, Effort::Fast, 50_000).unwrap();
         let b = generate_within(&s, Effort::Fast, 50_000).unwrap();
         assert_eq!(a.rows, b.rows);
+    }
+
+    #[test]
+    fn the_tight_mode_adds_the_invariant_design_and_the_doubling_at_strength_three() {
+        // 3^10 at t = 3: the tight mode also builds the doubling of its own 3^5 designs
+        // and searches for an AGL(1,3)-invariant design below the best so far; the fast
+        // mode does neither
+        let s = spec(&[3; 10], 3);
+        let tight = generate(&s, Effort::Tight { budget: 20_000 }).unwrap();
+        assert!(verify(&s, &tight.rows).is_ok());
+        let has = |d: &Design, what: &str| d.stats.methods.iter().any(|m| m.contains(what));
+        assert!(
+            has(&tight, "doubling of designs on 5 columns"),
+            "{:?}",
+            tight.stats.methods
+        );
+        assert!(has(&tight, "invariant"), "{:?}", tight.stats.methods);
+        let fast = generate(&s, Effort::Fast).unwrap();
+        assert!(!has(&fast, "invariant") && !has(&fast, "doubling of designs"));
+        assert!(tight.rows.len() <= fast.rows.len());
     }
 
     #[test]

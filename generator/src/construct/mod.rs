@@ -21,6 +21,7 @@ mod tests;
 mod transform;
 
 use hadamard::Recipe;
+pub(crate) use offers::doubled;
 use offers::{Candidate, candidates};
 pub(crate) use product::{constant_rows, product, split};
 use stack::Offer;

@@ -409,13 +409,16 @@ fn doubling(v: usize, k: usize, limit: usize) -> Option<(String, Vec<Row>)> {
     let h = k.div_ceil(2);
     let a = best_within(&vec![v; h], 3, 1, limit)?;
     let b = best_within(&vec![v; h], 2, 1, limit)?;
-    let mut rows: Vec<Row> = a
-        .rows
-        .iter()
-        .map(|r| [r.as_slice(), r.as_slice()].concat())
-        .collect();
+    let rows = doubled(&a.rows, &b.rows, v, k);
+    Some((format!("doubling({}; {})", a.method, b.method), rows))
+}
+
+/// The rows of the v-ary doubling (see `doubling`) of a strength-3 array `a` and a
+/// strength-2 array `b` on the same ⌈k/2⌉ columns of v levels, cut to k columns.
+pub(crate) fn doubled(a: &[Row], b: &[Row], v: usize, k: usize) -> Vec<Row> {
+    let mut rows: Vec<Row> = a.iter().map(|r| [r.as_slice(), r.as_slice()].concat()).collect();
     for s in 1..v {
-        rows.extend(b.rows.iter().map(|r| {
+        rows.extend(b.iter().map(|r| {
             let shifted: Vec<u8> = r.iter().map(|&x| ((x as usize + s) % v) as u8).collect();
             [r.as_slice(), shifted.as_slice()].concat()
         }));
@@ -423,7 +426,7 @@ fn doubling(v: usize, k: usize, limit: usize) -> Option<(String, Vec<Row>)> {
     for r in &mut rows {
         r.truncate(k);
     }
-    Some((format!("doubling({}; {})", a.method, b.method), rows))
+    rows
 }
 
 /// The known Hadamard orders n ≥ `from` (multiples of 4) up to the first one ≥ `enough`,
