@@ -215,6 +215,14 @@ fn fold_over(a: &[Row]) -> Vec<Row> {
 /// Most bad t-sets through column 0, as a share of all t-sets through it (1/this), with
 /// which columns are still chosen: past it a circulant leaves too few (measured at t = 5:
 /// p = 67 has 0.16% bad and gives 34 columns, p = 59 0.75% and 15).
+///
+/// Why no smaller prime reaches 20 columns at t = 5 (measured with a throwaway tabu search
+/// over column sets, minimising the bad 5-sets inside the set, not kept): the fold-over
+/// leaves 21.6% of the 5-sets through column 0 bad at p = 41, 10.4% at 43, 7.8% at 47,
+/// 4.8% at 53, 0.75% at 59 and 1.6% at 61, and the search found at most 10 (p = 53),
+/// 16 (p = 59) and 15 (p = 61) columns; the circulant alone leaves 19–50% bad for
+/// p = 89…113 and gave no 14 columns; quartic and sextic classes mod 53 and 61 in place of
+/// the quadratic character leave as many bad or more. So 2^20 at t = 5 stays at p = 67.
 const BAD_SHARE: usize = 256;
 
 /// Highest strength at which columns are chosen: measured to pay at t = 4 and 5, and
