@@ -499,6 +499,20 @@ impl Context<'_> {
         }
     }
 
+    /// The level count and the move budget where the tight mode's extra candidates
+    /// apply: one level count, index 1, no excludes or required rows, and no proven
+    /// optimum to begin with.
+    fn tight_uniform(&self, construction: &Option<Construction>, lambda: u32) -> Option<(usize, u64)> {
+        let levels = &self.layout.levels;
+        let v = levels[0];
+        let Effort::Tight { budget } = self.effort else {
+            return None;
+        };
+        let plain = self.spec.excludes.is_empty() && self.required.is_empty();
+        let open = !construction.as_ref().is_some_and(|c| c.optimal);
+        (lambda == 1 && levels.iter().all(|&l| l == v) && plain && open).then_some((v, budget))
+    }
+
     /// `construction`, or in the tight mode at strength 3 the v-ary doubling (see
     /// `construct::doubled`) of the designs this engine makes on half the columns at
     /// strengths 3 and 2 where it is smaller: the constructions' doubling takes only
@@ -509,18 +523,11 @@ impl Context<'_> {
         lambda: u32,
         run: &mut Run,
     ) -> Option<Construction> {
-        let levels = &self.layout.levels;
-        let k = levels.len();
-        let v = levels[0];
-        if !matches!(self.effort, Effort::Tight { .. })
-            || self.layout.t != 3
-            || lambda != 1
-            || k < DOUBLING_COLUMNS
-            || levels.iter().any(|&l| l != v)
-            || !self.spec.excludes.is_empty()
-            || !self.required.is_empty()
-            || construction.as_ref().is_some_and(|c| c.optimal)
-        {
+        let k = self.layout.levels.len();
+        let Some((v, _)) = self.tight_uniform(&construction, lambda) else {
+            return construction;
+        };
+        if self.layout.t != 3 || k < DOUBLING_COLUMNS {
             return construction;
         }
         let h = k.div_ceil(2);
@@ -559,17 +566,10 @@ impl Context<'_> {
     ) -> Option<Construction> {
         let levels = &self.layout.levels;
         let t = self.layout.t;
-        let v = levels[0];
-        let Effort::Tight { budget } = self.effort else {
+        let Some((v, budget)) = self.tight_uniform(&construction, lambda) else {
             return construction;
         };
-        if t < 3
-            || lambda != 1
-            || levels.iter().any(|&l| l != v)
-            || !self.spec.excludes.is_empty()
-            || !self.required.is_empty()
-            || construction.as_ref().is_some_and(|c| c.optimal)
-        {
+        if t < 3 {
             return construction;
         }
         let lower = bounds::lower_bound(levels, t, lambda);
