@@ -1,16 +1,17 @@
 //! Covering arrays invariant under a group acting on the levels: the array is the union of
-//! the orbits of a few starter rows (plus rows the group fixes), so a search needs to
+//! the orbits of a few starter rows (plus, if chosen, the constant rows), so a search needs to
 //! place only the starters, and a t-set is covered once its starters meet every orbit of
 //! level tuples — a problem |G| times smaller than the array's. Group constructions of
 //! this kind (Chateauneuf, Colbourn & Kreher 1999 for strength 3; Meagher & Stevens 2005,
 //! "Group construction of covering arrays", for strength 2) give many of the best known
 //! arrays with several levels, where the engine's other methods are furthest from them.
 //!
-//! The starters are found by simulated annealing on the number of uncovered (t-set, orbit)
-//! pairs with an incremental cost (after Cohen, Colbourn & Ling 2008), whose move rewrites
-//! one starter on the t-set of an uncovered pair so that it covers that pair; once every
-//! pair is covered the least useful starter is dropped and the search goes on.
+//! The starters are found by a tabu search on the weighted count of uncovered (t-set,
+//! orbit) pairs, kept incrementally, whose move rewrites one starter on the t-set of an
+//! uncovered pair so that it covers that pair (see `Search::tabu`); once every pair is
+//! covered the least useful starter is dropped and the search goes on.
 
+use crate::construct::constant_rows;
 use crate::construct::gf::Field;
 use crate::factor::Row;
 use crate::incidence::Incidence;
@@ -160,7 +161,7 @@ impl Extras {
     fn rows(self, v: usize, k: usize) -> Vec<Row> {
         match self {
             Extras::None => Vec::new(),
-            Extras::Constant => (0..v as u8).map(|x| vec![x; k]).collect(),
+            Extras::Constant => constant_rows(v, k),
         }
     }
 
@@ -179,7 +180,7 @@ pub(crate) struct Found {
 }
 
 /// Moves one attempt at a given number of starters may take, per t-set of the spec
-/// (measured on the benchmark's 3^12 and 5^10 at t = 3 and 10^20 at t = 2).
+/// (measured on the benchmark's 3^12 at t = 3, whose 45 rows it reaches).
 const MOVES_PER_SET: u64 = 200;
 
 /// The smallest design of strength t on k columns of v levels that is the union of
@@ -200,6 +201,7 @@ pub(crate) fn search(
     let inc = Incidence::new(&layout);
     let mut best: Option<Found> = None;
     for group in Group::candidates(v) {
+        let orbits = Orbits::new(&group, v, t);
         for extras in [Extras::None, Extras::Constant] {
             let limit = best.as_ref().map_or(below, |b| b.rows.len());
             let extra_rows = extras.rows(v, k);
@@ -217,7 +219,7 @@ pub(crate) fn search(
                 break;
             }
             work.spend(setup);
-            let mut search = Search::new(&inc, &group, v, &extra_rows, starters, rng);
+            let mut search = Search::new(&inc, &orbits, v, &extra_rows, starters, rng);
             let moves = MOVES_PER_SET.saturating_mul(inc.sets() as u64);
             let Some(found) = search.shrink(rng, work, moves) else {
                 continue;
@@ -246,10 +248,10 @@ pub(crate) fn search(
     best
 }
 
-/// The annealing state: starters and, per (t-set, orbit), how many rows cover it.
+/// The search state: starters and, per (t-set, orbit), how many rows cover it.
 struct Search<'a> {
     inc: &'a Incidence,
-    orbits: Orbits,
+    orbits: &'a Orbits,
     v: usize,
     starters: Vec<Row>,
     /// Covering count of (t-set rank × orbits + orbit); extra rows count too.
@@ -271,13 +273,12 @@ struct Search<'a> {
 impl<'a> Search<'a> {
     fn new(
         inc: &'a Incidence,
-        group: &Group,
+        orbits: &'a Orbits,
         v: usize,
         extras: &[Row],
         starters: usize,
         rng: &mut Rng,
     ) -> Search<'a> {
-        let orbits = Orbits::new(group, v, inc.t());
         let pairs = inc.sets() * orbits.count();
         let mut s = Search {
             inc,
@@ -416,7 +417,7 @@ impl<'a> Search<'a> {
     /// every way to make one starter cover it, the one leaving fewest pairs uncovered
     /// whose cells were not changed in the last few moves. Runs until every pair is
     /// covered or `moves` are spent; true when covered.
-    fn anneal(&mut self, rng: &mut Rng, work: &mut Work, moves: u64) -> bool {
+    fn tabu(&mut self, rng: &mut Rng, work: &mut Work, moves: u64) -> bool {
         let t = self.inc.t();
         let k = self.inc.columns();
         let mut digits = vec![0u8; t];
@@ -534,7 +535,7 @@ impl<'a> Search<'a> {
     /// again within `moves`; the last covering starters, if any.
     fn shrink(&mut self, rng: &mut Rng, work: &mut Work, moves: u64) -> Option<Vec<Row>> {
         let mut last = None;
-        while self.anneal(rng, work, moves) {
+        while self.tabu(rng, work, moves) {
             last = Some(self.starters.clone());
             if self.starters.len() <= 1 {
                 break;
