@@ -10,7 +10,8 @@
 //! where it also starts from a construction the greedy beat and keeps the smaller end.
 //! In [`Effort::Tight`] at strength 3 and more, two more candidates join the
 //! constructions before the greedy: the doubling of the designs made on half the columns
-//! and the smallest design invariant under the affine group of the levels (`invariant`).
+//! and the smallest design invariant under a group of the rows (`invariant`: rotating
+//! columns and levels together, or the affine group of the levels).
 //! At index λ ≥ 2 the design for λ = 1 is made too and stacked λ times (levels relabelled
 //! from copy to copy), so that the result is never larger than λ times the λ = 1 result.
 //! Redundant rows are dropped, the rest ordered by gain, and the independent checker has
@@ -554,10 +555,10 @@ impl Context<'_> {
         }
     }
 
-    /// `construction`, or in the tight mode at strength 3 and more with one level count a
-    /// prime power, the smallest design invariant under the affine group of the levels
-    /// (see `invariant`) where it is smaller: on the benchmark's 3^12 at t = 3 it meets
-    /// the best known size where the constructions and the search stop 8 rows above.
+    /// `construction`, or in the tight mode at strength 3 and more with one level count,
+    /// the smallest design invariant under a group of the rows (see `invariant`) where it
+    /// is smaller: on the benchmark's 3^12 at t = 3 it meets the best known size where the
+    /// constructions and the search stop 8 rows above, and on 3^20 it comes within one.
     fn with_invariant(
         &self,
         construction: Option<Construction>,
@@ -755,7 +756,7 @@ mod tests {
     #[test]
     fn the_tight_mode_adds_the_invariant_design_and_the_doubling_at_strength_three() {
         // 3^10 at t = 3: the tight mode also builds the doubling of its own 3^5 designs
-        // and searches for an AGL(1,3)-invariant design below the best so far; the fast
+        // and searches for a group-invariant design below the best so far; the fast
         // mode does neither
         let s = spec(&[3; 10], 3);
         let tight = generate(&s, Effort::Tight { budget: 20_000 }).unwrap();

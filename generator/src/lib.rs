@@ -35,7 +35,7 @@
 //! - `greedy`, `tighten`, `anneal`, `order`: the one-row-at-a-time greedy, the two local
 //!   searches that remove rows (tabu with per-row tables; annealing without, for large
 //!   designs), and the finishing passes; `invariant`: the tight mode's search for
-//!   designs that a group acting on the levels maps to themselves (few starter rows);
+//!   designs that a group of the rows maps to themselves (few starter rows);
 //! - `interactions`, `incidence`, `demand`, `constraints`: numbering of t-way
 //!   interactions, per-column tables of column sets (all t-sets, then any focus sets of
 //!   other sizes), remaining demand, and exact answers to "can this partial row still be
@@ -90,4 +90,4 @@ pub use verify::{Coverage, Violation, verify};
 
 /// Version of the generation algorithms. Any change that can alter the rows produced for
 /// some spec and seed bumps it, so pinned rows can tell they came from another engine.
-pub const ENGINE_VERSION: u32 = 5;
+pub const ENGINE_VERSION: u32 = 6;
