@@ -1,7 +1,8 @@
 //! Orchestration: validate, find what is possible, run every applicable method, keep the
 //! smallest result, finish it, check it independently.
 //!
-//! Order of work: a construction at the counting bound ends the search at once; otherwise
+//! Order of work: a construction at the counting bound ends the search at once (a design
+//! the tight mode found and the engine ships, `table`, counts as a construction); otherwise
 //! the greedy runs, a construction replaces it when no larger, and a local search (the
 //! tabu search of `tighten`, or past its table limit the annealing of `anneal`, whose
 //! memory does not grow with rows × t-sets) then tries to remove rows from what was kept
@@ -36,6 +37,7 @@ use crate::limits::MAX_INTERACTIONS;
 use crate::model::{Effort, Spec};
 use crate::order;
 use crate::rng::{Rng, stream};
+use crate::table;
 use crate::tighten;
 use crate::verify::{Coverage, verify};
 use crate::work::{FAST_WORK, PIN_WORK, Work};
@@ -133,6 +135,17 @@ pub fn generate(spec: &Spec, effort: Effort) -> Result<Design, Error> {
 /// [`generate`] with `fast_work` steps for each index's budgeted methods in
 /// [`Effort::Fast`].
 pub(crate) fn generate_within(spec: &Spec, effort: Effort, fast_work: u64) -> Result<Design, Error> {
+    generate_from(spec, effort, fast_work, true)
+}
+
+/// [`generate`] without the stored designs of `table`: what the example that writes the
+/// table compares them with.
+#[doc(hidden)]
+pub fn generate_untabled(spec: &Spec, effort: Effort) -> Result<Design, Error> {
+    generate_from(spec, effort, FAST_WORK, false)
+}
+
+fn generate_from(spec: &Spec, effort: Effort, fast_work: u64, table: bool) -> Result<Design, Error> {
     spec.validate()?;
     if !spec.focus.is_empty() {
         return crate::focused::generate(spec, effort, fast_work);
@@ -159,6 +172,7 @@ pub(crate) fn generate_within(spec: &Spec, effort: Effort, fast_work: u64) -> Re
         spec,
         effort,
         fast_work,
+        table,
         layout: &layout,
         possible: &possible,
         required: &required,
@@ -256,6 +270,8 @@ struct Context<'a> {
     spec: &'a Spec,
     effort: Effort,
     fast_work: u64,
+    /// Whether the stored designs of `table` may be used.
+    table: bool,
     layout: &'a Layout,
     possible: &'a [bool],
     required: &'a [Row],
@@ -305,9 +321,16 @@ impl Context<'_> {
         if let Some(c) = &construction {
             run.note(format!("construction {}: {} rows", c.method, c.rows.len()));
         }
+        let (construction, stored) = self.with_table(construction, lambda, run);
         let construction = self.with_product(construction, lambda, &mut work, run);
-        let construction = self.with_doubling(construction, lambda, run);
-        let construction = self.with_invariant(construction, lambda, run);
+        // a stored design is what the tight mode's extra candidates found for this spec
+        // (or for more columns), so they are not run again
+        let construction = if stored {
+            construction
+        } else {
+            let construction = self.with_doubling(construction, lambda, run);
+            self.with_invariant(construction, lambda, run)
+        };
         let mut proven = construction
             .as_ref()
             .is_some_and(|c| c.optimal || c.rows.len() as u128 <= lower);
@@ -442,6 +465,37 @@ impl Context<'_> {
             }
         }
         (method, rows)
+    }
+
+    /// `construction`, or the design stored in `table` for the spec's levels, strength
+    /// and (at least) its columns where that is smaller; and whether it was.
+    fn with_table(
+        &self,
+        construction: Option<Construction>,
+        lambda: u32,
+        run: &mut Run,
+    ) -> (Option<Construction>, bool) {
+        let levels = &self.layout.levels;
+        let v = levels[0];
+        let plain = self.spec.excludes.is_empty() && self.required.is_empty();
+        if !self.table || lambda != 1 || !plain || levels.iter().any(|&l| l != v) {
+            return (construction, false);
+        }
+        let Some((method, rows)) = table::lookup(v, levels.len(), self.layout.t) else {
+            return (construction, false);
+        };
+        run.note(format!("{method}: {} rows", rows.len()));
+        match construction {
+            Some(c) if c.rows.len() <= rows.len() => (Some(c), false),
+            _ => {
+                let stored = Construction {
+                    method,
+                    rows,
+                    optimal: false,
+                };
+                (Some(stored), true)
+            }
+        }
     }
 
     /// `construction`, or at t = 2 with many factors the product of two designs this
@@ -754,23 +808,45 @@ mod tests {
     }
 
     #[test]
+    fn the_fast_mode_starts_from_the_stored_designs_of_plain_specs() {
+        // 3^12 at t = 3: the table holds the tight mode's 45-row design (the best known
+        // size, Colbourn's tables, from memory), which the fast mode alone does not reach
+        let s = spec(&[3; 12], 3);
+        let fast = generate(&s, Effort::Fast).unwrap();
+        assert!(fast.stats.method.starts_with("table("), "{}", fast.stats.method);
+        assert!(fast.rows.len() <= 45 && verify(&s, &fast.rows).is_ok());
+        let untabled = generate_untabled(&s, Effort::Fast).unwrap();
+        assert!(!untabled.stats.methods.iter().any(|m| m.contains("table(")));
+        assert!(untabled.rows.len() > fast.rows.len());
+        // a spec with a required row is not plain: the table does not apply
+        let required = s.clone().require(vec![0; 12]);
+        let d = generate(&required, Effort::Fast).unwrap();
+        assert!(!d.stats.methods.iter().any(|m| m.contains("table(")));
+    }
+
+    #[test]
     fn the_tight_mode_adds_the_invariant_design_and_the_doubling_at_strength_three() {
-        // 3^10 at t = 3: the tight mode also builds the doubling of its own 3^5 designs
-        // and searches for a group-invariant design below the best so far; the fast
-        // mode does neither
+        // 3^10 at t = 3 without the stored designs: the tight mode also builds the
+        // doubling of its own 3^5 designs and searches for a group-invariant design below
+        // the best so far; the fast mode does neither
         let s = spec(&[3; 10], 3);
-        let tight = generate(&s, Effort::Tight { budget: 20_000 }).unwrap();
+        let tight = generate_untabled(&s, Effort::Tight { budget: 20_000 }).unwrap();
         assert!(verify(&s, &tight.rows).is_ok());
-        let has = |d: &Design, what: &str| d.stats.methods.iter().any(|m| m.contains(what));
+        let ran = |d: &Design, what: &str| d.stats.methods.iter().any(|m| m.starts_with(what));
         assert!(
-            has(&tight, "doubling of designs on 5 columns"),
+            ran(&tight, "doubling of designs on 5 columns"),
             "{:?}",
             tight.stats.methods
         );
-        assert!(has(&tight, "invariant"), "{:?}", tight.stats.methods);
-        let fast = generate(&s, Effort::Fast).unwrap();
-        assert!(!has(&fast, "invariant") && !has(&fast, "doubling of designs"));
+        assert!(ran(&tight, "invariant"), "{:?}", tight.stats.methods);
+        let fast = generate_untabled(&s, Effort::Fast).unwrap();
+        assert!(!ran(&fast, "invariant") && !ran(&fast, "doubling of designs"));
         assert!(tight.rows.len() <= fast.rows.len());
+        // with them, a stored design of the tight mode stands in for both searches
+        let stored = generate(&s, Effort::Tight { budget: 20_000 }).unwrap();
+        assert!(ran(&stored, "table("), "{:?}", stored.stats.methods);
+        assert!(!ran(&stored, "invariant") && !ran(&stored, "doubling of designs"));
+        assert!(stored.rows.len() <= tight.rows.len());
     }
 
     #[test]

@@ -35,7 +35,8 @@
 //! - `greedy`, `tighten`, `anneal`, `order`: the one-row-at-a-time greedy, the two local
 //!   searches that remove rows (tabu with per-row tables; annealing without, for large
 //!   designs), and the finishing passes; `invariant`: the tight mode's search for
-//!   designs that a group of the rows maps to themselves (few starter rows);
+//!   designs that a group of the rows maps to themselves (few starter rows); `table`:
+//!   designs the tight mode found, shipped so that the fast mode starts from them;
 //! - `interactions`, `incidence`, `demand`, `constraints`: numbering of t-way
 //!   interactions, per-column tables of column sets (all t-sets, then any focus sets of
 //!   other sizes), remaining demand, and exact answers to "can this partial row still be
@@ -68,13 +69,14 @@ mod limits;
 mod model;
 mod order;
 mod rng;
+mod table;
 mod tighten;
 mod verify;
 mod work;
 
 pub use complete::{Completion, complete};
 pub use diagnostic::Diagnostic;
-pub use engine::{Design, FAST_BUDGET, Stats, generate};
+pub use engine::{Design, FAST_BUDGET, Stats, generate, generate_untabled};
 pub use error::Error;
 pub use expr::{Expr, FORMULA_VERSION, ParseError};
 pub use factor::{Factor, Row, UNSET};

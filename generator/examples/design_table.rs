@@ -1,0 +1,51 @@
+//! Writes the engine's table of stored designs (`generator/src/designs.txt`, see the
+//! engine's `table` module): for each spec of a family, the tight mode's design where it
+//! is smaller than the fast mode's, both made without the table. Entries a larger one
+//! serves as well (no more rows on more columns) are left out.
+//!
+//! `cargo run --release -p heddle-generator --example design_table > generator/src/designs.txt`
+//! (a few minutes on two cores: the tight mode's group searches take seconds each).
+
+use heddle_generator::{Effort, Spec, generate_untabled};
+
+/// Levels, strength and the column counts the table covers: the specs where the tight
+/// mode's group-invariant designs beat the fast mode (measured by this example).
+const FAMILY: &[(usize, usize, std::ops::RangeInclusive<usize>)] =
+    &[(3, 3, 6..=26), (4, 3, 7..=16), (5, 3, 8..=10)];
+
+/// Levels, strength, columns, method (spaces as `_`) and rows of one entry.
+type Entry = (usize, usize, usize, String, Vec<Vec<u8>>);
+
+fn main() {
+    let mut entries: Vec<Entry> = Vec::new();
+    for (v, t, ks) in FAMILY {
+        for k in ks.clone() {
+            let spec = Spec::numbered(&vec![*v; k]).strength(*t);
+            let tight = generate_untabled(&spec, Effort::tight()).expect("a valid spec");
+            let fast = generate_untabled(&spec, Effort::Fast).expect("a valid spec");
+            eprintln!(
+                "{v}^{k} t={t}: tight {} ({}), fast {}",
+                tight.rows.len(),
+                tight.stats.method,
+                fast.rows.len()
+            );
+            if tight.rows.len() < fast.rows.len() {
+                entries.push((*v, *t, k, tight.stats.method.replace(' ', "_"), tight.rows));
+            }
+        }
+    }
+    println!("# heddle design table, format 1 (see table.rs); written by examples/design_table.rs");
+    for (i, (v, t, k, method, rows)) in entries.iter().enumerate() {
+        let served = entries[i + 1..]
+            .iter()
+            .any(|e| e.0 == *v && e.1 == *t && e.2 > *k && e.4.len() <= rows.len());
+        if served {
+            continue;
+        }
+        let rows: Vec<String> = rows
+            .iter()
+            .map(|r| r.iter().map(|&x| char::from(b'0' + x)).collect())
+            .collect();
+        println!("{v} {t} {k} {method} {}", rows.join(","));
+    }
+}
