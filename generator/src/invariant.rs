@@ -273,7 +273,9 @@ pub(crate) fn search(
 /// column) alone or with the cyclic, affine or one-level-fixing groups of the levels —
 /// reached no benchmark size below the engine's other methods (measured on 4^15, 5^20,
 /// 9^20 and 10^20 at t = 2; 3^12, 3^16, 3^20, 4^20 and 5^10 at t = 3; 2^20 at t = 4
-/// and 5), nor did any group with two levels, so binary specs skip the search.
+/// and 5), nor did A5 acting on 5 levels and on their 10 pairs as columns (5^10 at
+/// t = 3: 3 starters and the constant rows, 185 rows, stayed 27 or more orbits short),
+/// nor any group with two levels, so binary specs skip the search.
 pub(crate) fn candidates(v: usize, k: usize) -> Vec<Group> {
     if v < 3 {
         return Vec::new();
