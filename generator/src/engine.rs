@@ -475,13 +475,11 @@ impl Context<'_> {
         lambda: u32,
         run: &mut Run,
     ) -> (Option<Construction>, bool) {
-        let levels = &self.layout.levels;
-        let v = levels[0];
-        let plain = self.spec.excludes.is_empty() && self.required.is_empty();
-        if !self.table || lambda != 1 || !plain || levels.iter().any(|&l| l != v) {
+        let Some(v) = self.plain_uniform(lambda).filter(|_| self.table) else {
             return (construction, false);
-        }
-        let Some((method, rows)) = table::lookup(v, levels.len(), self.layout.t) else {
+        };
+        let k = self.layout.levels.len();
+        let Some((method, rows)) = table::lookup(v, k, self.layout.t) else {
             return (construction, false);
         };
         run.note(format!("{method}: {} rows", rows.len()));
@@ -554,18 +552,25 @@ impl Context<'_> {
         }
     }
 
-    /// The level count and the move budget where the tight mode's extra candidates
-    /// apply: one level count, index 1, no excludes or required rows, and no proven
-    /// optimum to begin with.
-    fn tight_uniform(&self, construction: &Option<Construction>, lambda: u32) -> Option<(usize, u64)> {
+    /// The level count of a spec the stored designs and the tight mode's extra
+    /// candidates apply to: one level count, index 1, no excludes or required rows.
+    fn plain_uniform(&self, lambda: u32) -> Option<usize> {
         let levels = &self.layout.levels;
         let v = levels[0];
+        let plain = self.spec.excludes.is_empty() && self.required.is_empty();
+        (lambda == 1 && levels.iter().all(|&l| l == v) && plain).then_some(v)
+    }
+
+    /// The level count and the move budget where the tight mode's extra candidates
+    /// apply: a plain uniform spec (see `plain_uniform`) in the tight mode, and no
+    /// proven optimum to begin with.
+    fn tight_uniform(&self, construction: &Option<Construction>, lambda: u32) -> Option<(usize, u64)> {
         let Effort::Tight { budget } = self.effort else {
             return None;
         };
-        let plain = self.spec.excludes.is_empty() && self.required.is_empty();
         let open = !construction.as_ref().is_some_and(|c| c.optimal);
-        (lambda == 1 && levels.iter().all(|&l| l == v) && plain && open).then_some((v, budget))
+        let v = self.plain_uniform(lambda)?;
+        open.then_some((v, budget))
     }
 
     /// `construction`, or in the tight mode at strength 3 the v-ary doubling (see
