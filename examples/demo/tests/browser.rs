@@ -274,12 +274,12 @@ fn focus_sets_get_a_section_with_their_interactions() {
     assert!(loaded.dom.contains("Focus sets"));
 }
 
-/// The workspace root (this package lives in `<root>/demo`).
+/// The workspace root (this package lives in `<root>/examples/demo`).
 fn root() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR"))
-        .parent()
+        .join("../..")
+        .canonicalize()
         .unwrap()
-        .to_path_buf()
 }
 
 /// The commands of the README's quick start block.

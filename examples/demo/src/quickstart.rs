@@ -40,7 +40,7 @@ pub struct DemoArgs {
 
 /// The demo crate's manifest, in this repository.
 pub fn greenhouse_manifest() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("../examples/greenhouse/Cargo.toml")
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("../greenhouse/Cargo.toml")
 }
 
 /// A path as the user should read it: relative to the current directory when below it.
