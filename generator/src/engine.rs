@@ -643,7 +643,9 @@ impl Context<'_> {
         }
         let mut rng = Rng::new(self.spec.seed, stream::INVARIANT);
         let mut work = Work::new(budget.saturating_mul(INVARIANT_STEPS_PER_MOVE));
-        let found = invariant::search(v, levels.len(), t, below, &mut rng, &mut work);
+        // a larger budget lets each attempt run longer, not only more of them
+        let scale = budget / Effort::DEFAULT_TIGHT_BUDGET;
+        let found = invariant::search(v, levels.len(), t, below, scale, &mut rng, &mut work);
         run.work = run.work.saturating_add(work.spent());
         let Some(found) = found else {
             run.note(format!(

@@ -66,8 +66,9 @@ fn golden_rows() {
     // search from a construction the greedy beat), and version 5 (the tight mode's
     // affine-invariant search and doubling of searched halves at strength 3 and more,
     // which need a spec without excludes and required rows), and version 6 (that search
-    // also over the group rotating columns and levels, likewise)
-    assert_eq!(ENGINE_VERSION, 6);
+    // also over the group rotating columns and levels, likewise), and version 7 (that
+    // search with two levels too, and binary designs in the stored table, likewise)
+    assert_eq!(ENGINE_VERSION, 7);
     let mixed = factors(&[4, 3, 3, 2, 2, 2, 5, 3]);
     let cases: Vec<(Spec, Effort, (usize, u64))> = vec![
         (
