@@ -271,8 +271,9 @@ pub(crate) fn search(
 /// The groups worth trying for k columns of v levels, cheapest first: the cyclic
 /// group rotating the columns and the levels together, whose single starter's vk images
 /// often cover (3^20 at t = 3 in 60 rows, 59 after the tabu search: the best known;
-/// with two levels, where the level shift is the complement, 2^20 at t = 5 in 120 rows
-/// from 3 starters where the cyclotomy gives 134, and 2^24 at t = 4 in 48 from one),
+/// with two levels, where the level shift is the complement, 2^20 at t = 5 in 122 rows
+/// from 3 starters and the constant rows where the cyclotomy gives 134, and 2^24 at
+/// t = 4 in 48 from one starter),
 /// then the affine group of the levels where v ≥ 3 is a prime power (3^12 at t = 3 in
 /// the best known 45 rows). Other groups — every column rotation (with or without a
 /// fixed column) alone or with the cyclic, affine or one-level-fixing groups of the
