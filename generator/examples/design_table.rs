@@ -6,49 +6,75 @@
 //! columns) are left out.
 //!
 //! `cargo run --release -p heddle-generator --example design_table > generator/src/designs.txt`
-//! (about 30 minutes: the tight mode's group searches take seconds to a minute each).
+//! (about 40 minutes on two cores: the tight mode's group searches and long tabu runs
+//! take seconds to a few minutes each; the specs run in parallel).
+
+use std::sync::Mutex;
+use std::sync::atomic::{AtomicUsize, Ordering};
 
 use heddle_generator::{Effort, Spec, generate_untabled};
 
 /// Levels, strength, the column counts the table covers, and the tight mode's budget
 /// in multiples of its default: the specs where the tight mode's designs beat the fast
 /// mode (measured by this example). Binary strength 5 takes eight times the default:
-/// the invariant search needs it to cover 2^20 with 3 starters of Z20 × Z2 and the
-/// constant rows at seed 0 (four times was enough at seeds 1 and 2; measured).
+/// the invariant search needs it to cover 2^20 with 3 starters of Z20 × Z2 at seed 0
+/// (120 rows; with the constant rows, 122, four times was enough at seeds 1 and 2;
+/// measured).
+/// 5^10 at strength 3 takes 32 times: the search found Z10 × Z5's 4 starters with the
+/// constant rows (205 rows, where the doubling gives 225) there and not at eight times
+/// (measured, seed 0).
 /// Binary strength 4 from 23 columns is where one starter of Zk × Z2 covers (2k rows)
-/// and the cyclotomy needs more.
+/// and the cyclotomy needs more. Strength 2 takes sixteen times: the tabu search's
+/// longer runs take one to three rows off the fast mode's designs there (4^15: 27 rows
+/// at sixteen times, 28 at the default; 3^20: 15 against 17; measured).
 const FAMILY: &[(usize, usize, std::ops::RangeInclusive<usize>, u64)] = &[
     (3, 3, 6..=30, 1),
     (4, 3, 7..=16, 1),
-    (5, 3, 8..=10, 1),
+    (5, 3, 8..=9, 1),
+    (5, 3, 10..=10, 32),
     (3, 4, 6..=14, 1),
-    (4, 4, 6..=9, 1),
+    (4, 4, 6..=9, 2),
     (2, 4, 23..=29, 1),
     (2, 5, 16..=20, 8),
+    (3, 2, 5..=24, 16),
+    (4, 2, 6..=24, 16),
+    (5, 2, 7..=24, 16),
+    (6, 2, 4..=24, 16),
 ];
 
 /// Levels, strength, columns, method (spaces as `_`) and rows of one entry.
 type Entry = (usize, usize, usize, String, Vec<Vec<u8>>);
 
 fn main() {
-    let mut entries: Vec<Entry> = Vec::new();
-    for (v, t, ks, times) in FAMILY {
-        let budget = Effort::DEFAULT_TIGHT_BUDGET * times;
-        for k in ks.clone() {
-            let spec = Spec::numbered(&vec![*v; k]).strength(*t);
-            let tight = generate_untabled(&spec, Effort::Tight { budget }).expect("a valid spec");
-            let fast = generate_untabled(&spec, Effort::Fast).expect("a valid spec");
-            eprintln!(
-                "{v}^{k} t={t}: tight {} ({}), fast {}",
-                tight.rows.len(),
-                tight.stats.method,
-                fast.rows.len()
-            );
-            if tight.rows.len() < fast.rows.len() {
-                entries.push((*v, *t, k, tight.stats.method.replace(' ', "_"), tight.rows));
-            }
+    let specs: Vec<(usize, usize, usize, u64)> = FAMILY
+        .iter()
+        .flat_map(|(v, t, ks, times)| ks.clone().map(move |k| (*v, *t, k, *times)))
+        .collect();
+    // the specs are independent and the engine is deterministic, so they run on every
+    // core and their entries are written in the family order all the same
+    let next = AtomicUsize::new(0);
+    let found: Mutex<Vec<Option<Entry>>> = Mutex::new((0..specs.len()).map(|_| None).collect());
+    let workers = std::thread::available_parallelism().map_or(1, |n| n.get());
+    std::thread::scope(|scope| {
+        for _ in 0..workers {
+            scope.spawn(|| {
+                loop {
+                    let at = next.fetch_add(1, Ordering::Relaxed);
+                    let Some(&(v, t, k, times)) = specs.get(at) else {
+                        break;
+                    };
+                    let entry = entry(v, t, k, times);
+                    found.lock().expect("no worker panicked")[at] = entry;
+                }
+            });
         }
-    }
+    });
+    let entries: Vec<Entry> = found
+        .into_inner()
+        .expect("no worker panicked")
+        .into_iter()
+        .flatten()
+        .collect();
     println!("# heddle design table, format 1 (see table.rs); written by examples/design_table.rs");
     for (i, (v, t, k, method, rows)) in entries.iter().enumerate() {
         let served = entries[i + 1..]
@@ -63,4 +89,20 @@ fn main() {
             .collect();
         println!("{v} {t} {k} {method} {}", rows.join(","));
     }
+}
+
+/// The tight mode's design for v^k at strength t, made with `times` its default
+/// budget, where it is smaller than the fast mode's.
+fn entry(v: usize, t: usize, k: usize, times: u64) -> Option<Entry> {
+    let budget = Effort::DEFAULT_TIGHT_BUDGET * times;
+    let spec = Spec::numbered(&vec![v; k]).strength(t);
+    let tight = generate_untabled(&spec, Effort::Tight { budget }).expect("a valid spec");
+    let fast = generate_untabled(&spec, Effort::Fast).expect("a valid spec");
+    eprintln!(
+        "{v}^{k} t={t}: tight {} ({}), fast {}",
+        tight.rows.len(),
+        tight.stats.method,
+        fast.rows.len()
+    );
+    (tight.rows.len() < fast.rows.len()).then(|| (v, t, k, tight.stats.method.replace(' ', "_"), tight.rows))
 }

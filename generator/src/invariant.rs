@@ -271,8 +271,8 @@ pub(crate) fn search(
 /// The groups worth trying for k columns of v levels, cheapest first: the cyclic
 /// group rotating the columns and the levels together, whose single starter's vk images
 /// often cover (3^20 at t = 3 in 60 rows, 59 after the tabu search: the best known;
-/// with two levels, where the level shift is the complement, 2^20 at t = 5 in 122 rows
-/// from 3 starters and the constant rows where the cyclotomy gives 134, and 2^24 at
+/// with two levels, where the level shift is the complement, 2^20 at t = 5 in 120 rows
+/// from 3 starters where the cyclotomy gives 134, and 2^24 at
 /// t = 4 in 48 from one starter), then the affine group of the levels where v ≥ 3 is a
 /// prime power (3^12 at t = 3 in the best known 45 rows). Other groups — every column rotation (with or without a
 /// fixed column) alone or with the cyclic, affine or one-level-fixing groups of the
@@ -348,30 +348,38 @@ fn search_group(
     // 2^20 at t = 5 with 3 starters of Z20 × Z2 covered within a minute with them (122
     // rows, seeds 1–3) and not within four times the tight budget without (120 rows,
     // seeds 0 and 2; measured), so they are tried first and the smaller design after
+    // (which, with its own share of the steps, eight times the budget reaches at seed 0)
     let order = if v == 2 {
         [Extras::Constant, Extras::None]
     } else {
         [Extras::None, Extras::Constant]
     };
-    for extras in order {
+    for (i, extras) in order.into_iter().enumerate() {
         let limit = best.as_ref().map_or(limit, |b| b.rows.len());
         let extra_rows = extras.rows(v, k);
         if limit <= extra_rows.len() + group.order {
             continue;
         }
         let starters = (limit - 1 - extra_rows.len()) / group.order;
+        // an equal share of what is left for each attempt still to try, as between the
+        // groups: the first one's shrinking would otherwise take the second's steps
+        // (5^10 at t = 3: AGL(1,5)'s 10 starters and the constant rows, 205 rows, were
+        // out of reach behind 11 starters alone at 32 times the tight budget; measured)
+        let mut share = work.share(1, (order.len() - i) as u64);
         // setting up counts every row on every t-set
         let setup = ((extra_rows.len() + starters) * inc.sets() * t) as u64;
-        if work.left() < setup {
+        if share.left() < setup {
             work.cut = true;
             break;
         }
-        work.spend(setup);
+        share.spend(setup);
         let mut search = Search::new(inc, &orbits, v, &extra_rows, starters, rng);
         let moves = MOVES_PER_SET
             .saturating_mul(scale.max(1))
             .saturating_mul(inc.sets() as u64);
-        let Some(found) = search.shrink(rng, work, moves) else {
+        let found = search.shrink(rng, &mut share, moves);
+        work.absorb(&share);
+        let Some(found) = found else {
             continue;
         };
         let mut rows = extra_rows.clone();
