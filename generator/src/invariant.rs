@@ -862,6 +862,36 @@ mod tests {
     }
 
     #[test]
+    fn each_try_gets_its_share_when_the_first_cannot_cover() {
+        // 3^4 at t = 3 below 28 rows under AGL(1,3) (order 6): 4 starters alone make 24
+        // rows, under the counting bound of 27 (common practice: v^t), so that try can
+        // only fail; 4 starters and the 3 constant rows make 27, the size of the linear
+        // orthogonal array (Bush 1952), invariant under x ↦ ax + b: its polynomials of
+        // degree below t include the constants and are closed under scaling
+        let (v, k, t) = (3, 4, 3);
+        let g = Group::new(v, k, OnColumns::Fixed, OnLevels::Affine).expect("a prime power");
+        let layout = Layout::new(&vec![v; k], t);
+        let inc = Incidence::new(&layout);
+        let orbits = Orbits::new(&g, &layout, &inc);
+        let bound = 20_000;
+        let mut rng = Rng::new(1, stream::INVARIANT);
+        // the first try, given every step, spends far more than the bound before its
+        // moves run out: without a share it would leave the second nothing
+        let mut alone = Work::new(u64::MAX);
+        let mut search = Search::new(&inc, &orbits, v, &[], 4, &mut rng);
+        assert!(!search.tabu(&mut rng, &mut alone, MOVES_PER_SET * inc.sets() as u64));
+        assert!(alone.spent() > 2 * bound, "{}", alone.spent());
+        // within the bound, the second try still covers with its half
+        let mut work = Work::new(bound);
+        let found = search_groups((v, k, t), 28, std::slice::from_ref(&g), 1, &mut rng, &mut work)
+            .expect("the constant rows' try covers");
+        assert_eq!(found.rows.len(), 27, "{}", found.method);
+        assert!(found.method.contains("constant rows"), "{}", found.method);
+        assert!(covers(v, k, t, &found.rows));
+        assert!(work.spent() <= bound);
+    }
+
+    #[test]
     fn the_affine_group_is_sharply_two_transitive() {
         // AGL(1, q) maps any ordered pair of distinct levels to any other in exactly one
         // way (common practice; e.g. Dixon & Mortimer 1996, §7.7, from memory): a row
