@@ -272,11 +272,11 @@ pub(crate) fn search(
 /// group rotating the columns and the levels together, whose single starter's vk images
 /// often cover (3^20 at t = 3 in 60 rows, 59 after the tabu search: the best known;
 /// with two levels, where the level shift is the complement, 2^20 at t = 5 in 120 rows
-/// from 3 starters where the cyclotomy gives 134, and 2^24 at
-/// t = 4 in 48 from one starter), then the affine group of the levels where v ≥ 3 is a
-/// prime power (3^12 at t = 3 in the best known 45 rows). Other groups — every column rotation (with or without a
-/// fixed column) alone or with the cyclic, affine or one-level-fixing groups of the
-/// levels — reached no benchmark size below the engine's other methods (measured on
+/// from 3 starters where the cyclotomy gives 134, and 2^24 at t = 4 in 48 from one
+/// starter), then the affine group of the levels where v ≥ 3 is a prime power (3^12 at
+/// t = 3 in the best known 45 rows). Other groups — every column rotation (with or
+/// without a fixed column) alone or with the cyclic, affine or one-level-fixing groups
+/// of the levels — reached no benchmark size below the engine's other methods (measured on
 /// 4^15, 5^20, 9^20 and 10^20 at t = 2; 3^12, 3^16, 3^20, 4^20 and 5^10 at t = 3),
 /// nor did A5 acting on 5 levels and on their 10 pairs as columns (5^10 at t = 3:
 /// 3 starters and the constant rows, 185 rows, stayed 27 or more orbits short); for
