@@ -369,8 +369,9 @@ fn search_group(
         // setting up counts every row on every t-set
         let setup = ((extra_rows.len() + starters) * inc.sets() * t) as u64;
         if share.left() < setup {
+            // the next try gets all that is left, which may still pay its setup
             work.cut = true;
-            break;
+            continue;
         }
         share.spend(setup);
         let mut search = Search::new(inc, &orbits, v, &extra_rows, starters, rng);
