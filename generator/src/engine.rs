@@ -36,6 +36,7 @@ use crate::invariant;
 use crate::limits::MAX_INTERACTIONS;
 use crate::model::{Effort, Spec};
 use crate::order;
+use crate::product_tree::{Maker, PRODUCT_COLUMNS};
 use crate::rng::{Rng, stream};
 use crate::table;
 use crate::tighten;
@@ -46,10 +47,6 @@ use crate::work::{FAST_WORK, PIN_WORK, Work};
 /// finishes in milliseconds even in an unoptimised build (the macro runs there), large
 /// enough to take a greedy result most of the way to what the search reaches at all.
 pub const FAST_BUDGET: u64 = 40_000;
-
-/// Factors from which a t = 2 spec also tries the product of two smaller designs: below,
-/// the greedy over all pairs is quick and beats it (measured on the benchmark's 3^k).
-const PRODUCT_COLUMNS: usize = 100;
 
 /// Factors from which a strength-3 spec in the tight mode also tries the doubling of two
 /// designs on half its columns: below, the halves are too small to gain.
@@ -145,7 +142,12 @@ pub fn generate_untabled(spec: &Spec, effort: Effort) -> Result<Design, Error> {
     generate_from(spec, effort, FAST_WORK, false)
 }
 
-fn generate_from(spec: &Spec, effort: Effort, fast_work: u64, table: bool) -> Result<Design, Error> {
+pub(crate) fn generate_from(
+    spec: &Spec,
+    effort: Effort,
+    fast_work: u64,
+    table: bool,
+) -> Result<Design, Error> {
     spec.validate()?;
     if !spec.focus.is_empty() {
         return crate::focused::generate(spec, effort, fast_work);
@@ -496,9 +498,9 @@ impl Context<'_> {
         }
     }
 
-    /// `construction`, or at t = 2 with many factors the product of two designs this
-    /// engine makes on about √k columns each (see `construct::product`) where it is
-    /// smaller: the one method whose cost grows gently in k.
+    /// `construction`, or at t = 2 with many factors the nested product of smaller
+    /// designs this engine makes (see `product_tree`) where it is smaller: the one method
+    /// whose cost grows gently in k.
     fn with_product(
         &self,
         construction: Option<Construction>,
@@ -513,36 +515,31 @@ impl Context<'_> {
             || k < PRODUCT_COLUMNS
             || !self.spec.excludes.is_empty()
             || !self.required.is_empty()
+            || construction.as_ref().is_some_and(|c| c.optimal)
         {
             return construction;
         }
         let v = levels.iter().copied().max().unwrap_or(1);
-        let (k1, k2) = construct::split(k);
-        // each factor holds the v constant rows, which the product then shares
-        let factor = |cols: usize| {
-            let spec = construct::constant_rows(v, cols)
-                .into_iter()
-                .fold(Spec::numbered(&vec![v; cols]).seed(self.spec.seed), Spec::require);
-            generate_within(&spec, self.effort, self.fast_work / 4).ok()
-        };
-        let Some(a) = factor(k1) else {
+        // the factors share half of what is left, each engine run at most a quarter of
+        // a fast run's steps
+        let mut share = work.share(1, 2);
+        let made = Maker::new(
+            v,
+            self.spec.seed,
+            self.effort,
+            self.table,
+            self.fast_work / 4,
+            &mut share,
+        )
+        .design(k);
+        work.absorb(&share);
+        let Some(made) = made else {
             return construction;
         };
-        let b = if k2 == k1 { Some(a.clone()) } else { factor(k2) };
-        let Some(b) = b else {
-            return construction;
-        };
-        work.spend(a.stats.work);
-        if k2 != k1 {
-            work.spend(b.stats.work);
-        }
-        let rows = construct::product(&a.rows, &b.rows, levels);
-        run.note(format!(
-            "product of designs on {k1} and {k2} columns: {} rows",
-            rows.len()
-        ));
+        let rows = construct::collapse(&made.rows, levels);
+        run.note(format!("{}: {} rows", made.method, rows.len()));
         let product = Construction {
-            method: format!("product({}; {})", a.stats.method, b.stats.method),
+            method: made.method,
             rows,
             optimal: false,
         };

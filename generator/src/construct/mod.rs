@@ -25,6 +25,7 @@ pub(crate) use offers::doubled;
 use offers::{Candidate, candidates};
 pub(crate) use product::{constant_rows, product, split};
 use stack::Offer;
+pub(crate) use transform::collapse;
 
 use crate::bounds;
 use crate::factor::Row;
