@@ -2,10 +2,12 @@
 //! product (see `construct::product`) of designs on k₁ and k₂ columns that hold the v
 //! constant rows has N₁ + N₂ − v rows on k₁·k₂ columns and holds them too, so a design on
 //! k columns costs the sum of its factors' N − v. Which factors is the whole question:
-//! N − v grows with ln k, and a small design far below that line (an orthogonal array:
-//! 3^4 in 9 rows) pays back at every level of nesting — 3^1000 as 3^4 × 3^250, 3^250 as
-//! 3^4 × 3^63, 3^63 as 3^4 × 3^16, 33 rows, where two designs on 32 columns give 37
-//! (measured; the best known is 32).
+//! N − v grows with ln k, and a small design below that line pays back at every level of
+//! nesting — 3^16 holds the constant rows in 15 rows (12 / ln 16 = 4.3, where 3^32 takes
+//! 20: 4.9), and 3^1000 as 3^16 × 3^63 takes 35 rows where two designs on 32 columns take
+//! 37 (measured in the tight mode; the best known is 32). An orthogonal array is not
+//! always such a design: two rows of OA(9; 2, 4, 3) always agree in one column, so it
+//! holds no two disjoint rows, let alone three.
 //!
 //! So each k tries two splits: the small base with the least (N − v) / ln k, and k₁ near
 //! √k (which wins where no small design stands out); below [`PRODUCT_COLUMNS`] the
@@ -29,9 +31,11 @@ pub(crate) const PRODUCT_COLUMNS: usize = 100;
 /// constant rows in 15, 12 / ln 16 = 4.3; 3^32 in 20, 4.9).
 const BASE_COLUMNS: usize = 20;
 
-/// Steps the search for v mutually disjoint rows may take in one design: it is a
-/// clique search, cheap on the designs met here and exponential on none of them, but
-/// bounded all the same.
+/// Relative difference below which two bases' costs count as equal (see `Maker::base`).
+const COST_TIE: f64 = 1e-9;
+
+/// Steps the search for v mutually disjoint rows may take in one design: a clique
+/// search, quick on the designs met here but exponential at worst, so bounded.
 const DISJOINT_STEPS: u64 = 200_000;
 
 /// A design that holds the v constant rows, with its method.
@@ -116,15 +120,18 @@ impl<'a> Maker<'a> {
     }
 
     /// The small column count (below k, from 2 to [`BASE_COLUMNS`]) whose design has the
-    /// least (N − v) / ln k: the base every nesting level pays once.
+    /// least (N − v) / ln k: the base every nesting level pays once. Costs within
+    /// [`COST_TIE`] of each other count as equal and the fewer columns win, so that a
+    /// last bit of `ln` (which may differ between platforms) cannot change the rows:
+    /// 3^4 in 11 rows and 3^16 in 19 would tie exactly.
     fn base(&mut self, k: usize) -> Option<usize> {
         if self.base.is_none() {
             self.base = Some(None);
             let mut best: Option<(f64, usize)> = None;
             for b in 2..=BASE_COLUMNS {
                 let Some(d) = self.design(b) else { continue };
-                let cost = (d.rows.len() - self.v) as f64 / (b as f64).ln();
-                if best.is_none_or(|(c, _)| cost < c) {
+                let cost = d.rows.len().saturating_sub(self.v) as f64 / (b as f64).ln();
+                if best.is_none_or(|(c, _)| cost < c * (1.0 - COST_TIE)) {
                     best = Some((cost, b));
                 }
             }
@@ -263,6 +270,29 @@ mod tests {
         let mut steps = 0;
         assert!(disjoint_rows(&c.rows, 2, &mut steps).is_none());
         assert!(steps > 0);
+    }
+
+    #[test]
+    fn a_tie_between_bases_goes_to_fewer_columns() {
+        // 3^4 in 11 rows and 3^16 in 19: (11 − 3) / ln 4 = (19 − 3) / ln 16 exactly; every
+        // other column count far worse
+        let mut work = Work::new(u64::MAX);
+        let mut maker = Maker::new(3, 0, Effort::Fast, false, 0, &mut work);
+        for b in 2..=BASE_COLUMNS {
+            let n = match b {
+                4 => 11,
+                16 => 19,
+                _ => 100,
+            };
+            let made = Made {
+                method: String::new(),
+                rows: vec![vec![0; b]; n],
+            };
+            maker.made.insert(b, Some(made));
+        }
+        assert_eq!(maker.base(1000), Some(4));
+        // and a base is never k itself or more
+        assert_eq!(maker.base(4), None);
     }
 
     #[test]
