@@ -893,6 +893,33 @@ mod tests {
     }
 
     #[test]
+    fn a_try_that_cannot_pay_its_setup_passes_on_to_the_next() {
+        // 3^4 at t = 3 below 28 rows under AGL(1,3) (order 6): the try without extra rows
+        // sets up 4 starters, the one with the constant rows 3 + 4 rows. Given the orbits'
+        // cost and one step more than the second setup, the first try's half cannot pay
+        // its own setup; the second, with all that is left, must still be set up (with
+        // `break` in place of `continue` it is not: checked)
+        let (v, k, t) = (3, 4, 3);
+        let g = Group::new(v, k, OnColumns::Fixed, OnLevels::Affine).expect("a prime power");
+        let layout = Layout::new(&vec![v; k], t);
+        let inc = Incidence::new(&layout);
+        let orbits = Orbits::cost(&g, &layout);
+        let per_row = (inc.sets() * t) as u64;
+        let (first, second) = (4 * per_row, (3 + 4) * per_row);
+        let left = second + 1;
+        assert!(left / 2 < first);
+        let mut work = Work::new(orbits + left);
+        let mut rng = Rng::new(1, stream::INVARIANT);
+        search_groups((v, k, t), 28, std::slice::from_ref(&g), 1, &mut rng, &mut work);
+        assert!(work.cut);
+        assert!(
+            work.spent() >= orbits + second,
+            "the second try ran: {}",
+            work.spent()
+        );
+    }
+
+    #[test]
     fn the_affine_group_is_sharply_two_transitive() {
         // AGL(1, q) maps any ordered pair of distinct levels to any other in exactly one
         // way (common practice; e.g. Dixon & Mortimer 1996, §7.7, from memory): a row
