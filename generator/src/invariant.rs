@@ -282,7 +282,12 @@ pub(crate) fn search(
 /// 3 starters and the constant rows, 185 rows, stayed 27 or more orbits short); for
 /// 2^20 at t = 5, rotating 19 columns and fixing one, with the complement (3 starters
 /// and the constant rows, 116 rows), stayed 11 or more orbits short, and Z20 on the
-/// columns alone (5 starters and the constant rows, 102 rows) about 100.
+/// columns alone (5 starters and the constant rows, 102 rows) about 100. Tried again once
+/// each try had its own share of the steps, still without a design: for 5^10 at t = 3
+/// and 185 rows, rotating 9 columns and fixing one with Z5 on the levels (4 starters and
+/// the constant rows; 32 times the tight budget), with x ↦ ±x + b (2 starters; 32
+/// times) and with AGL(1,5) (1 starter; 64 times); at t = 2, Z20 on the columns alone
+/// for 5^20 in 40 rows (2 starters) and the translations of GF(9) for 9^20 below 143.
 pub(crate) fn candidates(v: usize, k: usize) -> Vec<Group> {
     if v < 2 {
         return Vec::new();
