@@ -36,6 +36,10 @@ fn main() {
         spec("10^50 t=2", &[10; 50], 2, 1),
         spec("3^1000 t=2", &[3; 1000], 2, 1),
         spec("3^3000 t=2", &[3; 3000], 2, 1),
+        // many levels and factors: the fast mode's products look for a base among the
+        // constructions on up to 20 columns
+        spec("9^100 t=2", &[9; 100], 2, 1),
+        spec("64^100 t=2", &[64; 100], 2, 1),
         spec("2^4096 t=2", &[2; 4096], 2, 1),
         spec("255^2 t=2 l=16", &[255; 2], 2, 16),
         spec("255^23 t=2", &[255; 23], 2, 1),

@@ -89,15 +89,22 @@ impl<'a> Maker<'a> {
         if k < PRODUCT_COLUMNS {
             keep(self.direct(k));
         }
-        // the fast mode splits only what is too large to make directly, at √k, as the
-        // engine's own designs are made at a fraction of a fast run's steps each
+        // the fast mode splits only what is too large to make directly, as the engine's
+        // own designs are made at a fraction of a fast run's steps each: at √k first, as
+        // before there was a base, then at a base taken from the constructions alone
         let nested = matches!(self.effort, Effort::Tight { .. });
         if !nested && k < PRODUCT_COLUMNS {
             self.made.insert(k, best.clone());
             return best;
         }
-        let base = if nested && k > 4 { self.base(k) } else { None };
-        for k1 in base.into_iter().chain([split(k).0]) {
+        let base = if k > 4 { self.base(k) } else { None };
+        let root = split(k).0;
+        let splits = if nested {
+            [base, Some(root)]
+        } else {
+            [Some(root), base]
+        };
+        for k1 in splits.into_iter().flatten() {
             let k2 = k.div_ceil(k1);
             if k1 < 2 || k1 >= k || k2 < 2 || k2 >= k {
                 continue;
@@ -120,7 +127,8 @@ impl<'a> Maker<'a> {
     }
 
     /// The small column count (below k, from 2 to [`BASE_COLUMNS`]) whose design has the
-    /// least (N − v) / ln k: the base every nesting level pays once. Costs within
+    /// least (N − v) / ln k: the base every nesting level pays once. The fast mode
+    /// compares the constructions' designs only, which cost no engine run. Costs within
     /// [`COST_TIE`] of each other count as equal and the fewer columns win, so that a
     /// last bit of `ln` (which may differ between platforms) cannot change the rows:
     /// 3^4 in 11 rows and 3^16 in 19 would tie exactly.
@@ -129,7 +137,11 @@ impl<'a> Maker<'a> {
             self.base = Some(None);
             let mut best: Option<(f64, usize)> = None;
             for b in 2..=BASE_COLUMNS {
-                let Some(d) = self.design(b) else { continue };
+                let d = match self.effort {
+                    Effort::Tight { .. } => self.design(b),
+                    Effort::Fast => self.constructed(b),
+                };
+                let Some(d) = d else { continue };
                 let cost = d.rows.len().saturating_sub(self.v) as f64 / (b as f64).ln();
                 if best.is_none_or(|(c, _)| cost < c * (1.0 - COST_TIE)) {
                     best = Some((cost, b));
@@ -140,21 +152,25 @@ impl<'a> Maker<'a> {
         self.base.flatten().filter(|&b| b < k)
     }
 
-    /// The engine's design for v^k holding the constant rows: a construction where it
-    /// has v mutually disjoint rows (relabelled so they are the constant rows; a Bose
-    /// array on q of its q + 1 columns does), or the engine's design with the constant
-    /// rows required, whichever is smaller.
+    /// The construction for v^k where it has v mutually disjoint rows, relabelled so
+    /// that they are the constant rows (a Bose array on q of its q + 1 columns has them).
+    fn constructed(&mut self, k: usize) -> Option<Made> {
+        let c = construct::best(&vec![self.v; k], 2, 1)?;
+        let mut steps = 0;
+        let picks = disjoint_rows(&c.rows, self.v, &mut steps);
+        self.work.spend(steps);
+        Some(Made {
+            method: c.method,
+            rows: with_constant_rows(&c.rows, &picks?),
+        })
+    }
+
+    /// The engine's design for v^k holding the constant rows: the construction (see
+    /// `constructed`) or the engine's design with the constant rows required, whichever
+    /// is smaller.
     fn direct(&mut self, k: usize) -> Option<Made> {
         let levels = vec![self.v; k];
-        let mut best = construct::best(&levels, 2, 1).and_then(|c| {
-            let mut steps = 0;
-            let picks = disjoint_rows(&c.rows, self.v, &mut steps);
-            self.work.spend(steps);
-            Some(Made {
-                method: c.method,
-                rows: with_constant_rows(&c.rows, &picks?),
-            })
-        });
+        let mut best = self.constructed(k);
         if self.work.left() == 0 {
             self.work.cut = true;
             return best;
@@ -237,6 +253,7 @@ pub(crate) fn with_constant_rows(rows: &[Row], picks: &[usize]) -> Vec<Row> {
 mod tests {
     use super::*;
     use crate::verify::verify;
+    use crate::work::FAST_WORK;
 
     fn holds_constant_rows(rows: &[Row], v: usize) -> bool {
         let k = rows[0].len();
@@ -277,7 +294,9 @@ mod tests {
         // 3^4 in 11 rows and 3^16 in 19: (11 − 3) / ln 4 = (19 − 3) / ln 16 exactly; every
         // other column count far worse
         let mut work = Work::new(u64::MAX);
-        let mut maker = Maker::new(3, 0, Effort::Fast, false, 0, &mut work);
+        // (the tight mode compares the designs made, which the test puts in place)
+        let effort = Effort::Tight { budget: 1 };
+        let mut maker = Maker::new(3, 0, effort, false, 0, &mut work);
         for b in 2..=BASE_COLUMNS {
             let n = match b {
                 4 => 11,
@@ -293,6 +312,22 @@ mod tests {
         assert_eq!(maker.base(1000), Some(4));
         // and a base is never k itself or more
         assert_eq!(maker.base(4), None);
+    }
+
+    #[test]
+    fn the_fast_mode_nests_at_a_base_from_the_constructions() {
+        // Bose's OA(25; 2, 5, 5) holds 5 disjoint rows (Bose 1938; see above), so it is
+        // a base at (25 − 5) / ln 5; the product of two of them (Colbourn et al. 2006)
+        // makes 5^25 in 25 + 25 − 5 = 45 rows, and 5^100 is then 25 + 45 − 5 = 65 rows,
+        // where the split at √100 alone gives 72 (measured)
+        let mut work = Work::new(FAST_WORK / 2);
+        let mut maker = Maker::new(5, 0, Effort::Fast, false, FAST_WORK / 4, &mut work);
+        let made = maker.design(100).expect("a design");
+        assert_eq!(maker.base(100), Some(5));
+        assert_eq!(made.rows.len(), 65, "{}", made.method);
+        let rows = construct::collapse(&made.rows, &[5; 100]);
+        assert!(holds_constant_rows(&rows, 5));
+        assert!(verify(&Spec::numbered(&[5; 100]), &rows).is_ok());
     }
 
     #[test]

@@ -70,9 +70,9 @@ fn golden_rows() {
     // search with two levels too, and binary designs in the stored table, likewise), and
     // version 8 (each try of that search with and without the constant rows gets its own
     // share of the steps, and strength-2 designs in the stored table, likewise), and
-    // version 9 (the product for many factors at t = 2 nested in the tight mode, with
-    // constructions relabelled to hold the constant rows as factors: 100 factors or
-    // more, likewise)
+    // version 9 (the product for many factors at t = 2 nested, in the fast mode at a
+    // base from the constructions only, with constructions relabelled to hold the
+    // constant rows as factors: 100 factors or more, likewise)
     assert_eq!(ENGINE_VERSION, 9);
     let mixed = factors(&[4, 3, 3, 2, 2, 2, 5, 3]);
     let cases: Vec<(Spec, Effort, (usize, u64))> = vec![
