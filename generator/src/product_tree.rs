@@ -14,7 +14,7 @@
 //! engine's own design too. Designs are made once per column count. The fast mode, held
 //! to its bound on work, chooses its base among the constructions alone and splits only
 //! from [`PRODUCT_COLUMNS`] on (9^100: Bose's 9^9 times a design on 12 columns, 200
-//! rows, where the split at √k gave 222).
+//! rows, where the Bose product of 11-level arrays with the tabu search gave 222).
 
 use std::collections::BTreeMap;
 
