@@ -867,6 +867,14 @@ mod tests {
         assert_eq!(candidates(2, 10).len(), 1);
     }
 
+    /// 3^4 at t = 3 under AGL(1,3), the spec of the tests of the tries' shares.
+    fn affine_3_4() -> (Group, Layout, Incidence) {
+        let g = Group::new(3, 4, OnColumns::Fixed, OnLevels::Affine).expect("a prime power");
+        let layout = Layout::new(&[3; 4], 3);
+        let inc = Incidence::new(&layout);
+        (g, layout, inc)
+    }
+
     #[test]
     fn each_try_gets_its_share_when_the_first_cannot_cover() {
         // 3^4 at t = 3 below 28 rows under AGL(1,3) (order 6): 4 starters alone make 24
@@ -875,9 +883,7 @@ mod tests {
         // orthogonal array (Bush 1952), invariant under x ↦ ax + b: its polynomials of
         // degree below t include the constants and are closed under scaling
         let (v, k, t) = (3, 4, 3);
-        let g = Group::new(v, k, OnColumns::Fixed, OnLevels::Affine).expect("a prime power");
-        let layout = Layout::new(&vec![v; k], t);
-        let inc = Incidence::new(&layout);
+        let (g, layout, inc) = affine_3_4();
         let orbits = Orbits::new(&g, &layout, &inc);
         let bound = 20_000;
         let mut rng = Rng::new(1, stream::INVARIANT);
@@ -905,9 +911,7 @@ mod tests {
         // its own setup; the second, with all that is left, must still be set up (with
         // `break` in place of `continue` it is not: checked)
         let (v, k, t) = (3, 4, 3);
-        let g = Group::new(v, k, OnColumns::Fixed, OnLevels::Affine).expect("a prime power");
-        let layout = Layout::new(&vec![v; k], t);
-        let inc = Incidence::new(&layout);
+        let (g, layout, inc) = affine_3_4();
         let orbits = Orbits::cost(&g, &layout);
         let per_row = (inc.sets() * t) as u64;
         let (first, second) = (4 * per_row, (3 + 4) * per_row);
