@@ -93,8 +93,9 @@ impl<'a> Maker<'a> {
             keep(self.direct(k));
         }
         // the fast mode splits only what is too large to make directly, as the engine's
-        // own designs are made at a fraction of a fast run's steps each: at √k first, as
-        // before there was a base, then at a base taken from the constructions alone
+        // own designs are made at a fraction of a fast run's steps each: at √k first, so
+        // that the base's engine runs cannot starve it, then at a base taken from the
+        // constructions alone
         let nested = matches!(self.effort, Effort::Tight { .. });
         if !nested && k < PRODUCT_COLUMNS {
             self.made.insert(k, best.clone());
