@@ -97,23 +97,21 @@ impl<'a> Maker<'a> {
         // that the base's engine runs cannot starve it, then at a base taken from the
         // constructions alone
         let nested = matches!(self.effort, Effort::Tight { .. });
-        if !nested && k < PRODUCT_COLUMNS {
-            self.made.insert(k, best.clone());
-            return best;
-        }
-        let base = if k > 4 { self.base(k) } else { None };
-        let root = split(k).0;
-        let splits = if nested {
-            [base, Some(root)]
-        } else {
-            [Some(root), base]
-        };
-        for k1 in splits.into_iter().flatten() {
-            let k2 = k.div_ceil(k1);
-            if k1 < 2 || k1 >= k || k2 < 2 || k2 >= k {
-                continue;
+        if nested || k >= PRODUCT_COLUMNS {
+            let base = if k > 4 { self.base(k) } else { None };
+            let root = split(k).0;
+            let splits = if nested {
+                [base, Some(root)]
+            } else {
+                [Some(root), base]
+            };
+            for k1 in splits.into_iter().flatten() {
+                let k2 = k.div_ceil(k1);
+                if k1 < 2 || k1 >= k || k2 < 2 || k2 >= k {
+                    continue;
+                }
+                keep(self.product(k1, k2));
             }
-            keep(self.product(k1, k2));
         }
         self.made.insert(k, best.clone());
         best
@@ -200,15 +198,10 @@ impl<'a> Maker<'a> {
 /// v rows of `rows` that differ pairwise in every column (whose levels, relabelled per
 /// column, become the constant rows), if the bounded search finds them.
 pub(crate) fn disjoint_rows(rows: &[Row], v: usize, steps: &mut u64) -> Option<Vec<usize>> {
-    let apart = |a: &Row, b: &Row| a.iter().zip(b).all(|(x, y)| x != y);
-    fn extend(
-        rows: &[Row],
-        v: usize,
-        picked: &mut Vec<usize>,
-        from: &[usize],
-        steps: &mut u64,
-        apart: &dyn Fn(&Row, &Row) -> bool,
-    ) -> bool {
+    fn apart(a: &Row, b: &Row) -> bool {
+        a.iter().zip(b).all(|(x, y)| x != y)
+    }
+    fn extend(rows: &[Row], v: usize, picked: &mut Vec<usize>, from: &[usize], steps: &mut u64) -> bool {
         if picked.len() == v {
             return true;
         }
@@ -223,7 +216,7 @@ pub(crate) fn disjoint_rows(rows: &[Row], v: usize, steps: &mut u64) -> Option<V
                 .filter(|&s| apart(&rows[r], &rows[s]))
                 .collect();
             picked.push(r);
-            if extend(rows, v, picked, &next, steps, apart) {
+            if extend(rows, v, picked, &next, steps) {
                 return true;
             }
             picked.pop();
@@ -232,7 +225,7 @@ pub(crate) fn disjoint_rows(rows: &[Row], v: usize, steps: &mut u64) -> Option<V
     }
     let all: Vec<usize> = (0..rows.len()).collect();
     let mut picked = Vec::with_capacity(v);
-    extend(rows, v, &mut picked, &all, steps, &apart).then_some(picked)
+    extend(rows, v, &mut picked, &all, steps).then_some(picked)
 }
 
 /// `rows` with each column's levels renamed so that row `picks[x]` shows x everywhere:
