@@ -288,6 +288,17 @@ pub(crate) fn search(
 /// the constant rows; 32 times the tight budget), with x ↦ ±x + b (2 starters; 32
 /// times) and with AGL(1,5) (1 starter; 64 times); at t = 2, Z20 on the columns alone
 /// for 5^20 in 40 rows (2 starters) and the translations of GF(9) for 9^20 below 143.
+/// Also without a design: a wider cyclic group, its design to be cut down to k columns —
+/// Z12 × Z5 for 5^10 at t = 3 (3 starters and the constant rows, 185 rows; 32 times the
+/// tight budget) and Z24 × Z2 for 2^20 at t = 5 (2 starters and the constant rows, 98
+/// rows; 4 times, stopped after 40 minutes); groups of order 20 moving the columns and
+/// the levels together for 5^20 in 40 rows (Z20 with x ↦ x + 1 or x ↦ 2x on the levels;
+/// AGL(1,5) acting regularly on the columns, and on the levels naturally, by its
+/// multiplier alone or not at all), which reached 45 with the constant rows, as the
+/// product does. A separate annealing of the starters alone (measured, not part of the engine) got no
+/// closer at t = 2: Z21 on the columns alone for 9^21 in 126 rows stayed 22 orbits short,
+/// Z20 for 9^20 in 140 rows 4 short, Z21 for 10^21 in 168 rows 15 short, and the
+/// translations of Z5 alone for 5^20 in 40 rows cover at most 10 columns.
 pub(crate) fn candidates(v: usize, k: usize) -> Vec<Group> {
     if v < 2 {
         return Vec::new();
