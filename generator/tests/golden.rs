@@ -72,8 +72,10 @@ fn golden_rows() {
     // share of the steps, and strength-2 designs in the stored table, likewise), and
     // version 9 (the product for many factors at t = 2 nested, in the fast mode at a
     // base from the constructions only, with constructions relabelled to hold the
-    // constant rows as factors: 100 factors or more, likewise)
-    assert_eq!(ENGINE_VERSION, 9);
+    // constant rows as factors: 100 factors or more, likewise), and version 10 (stored
+    // designs at strength 2 on 32, 40 and 50 columns, and the search from a construction
+    // a stored design displaced, likewise)
+    assert_eq!(ENGINE_VERSION, 10);
     let mixed = factors(&[4, 3, 3, 2, 2, 2, 5, 3]);
     let cases: Vec<(Spec, Effort, (usize, u64))> = vec![
         (
