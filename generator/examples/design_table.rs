@@ -62,7 +62,10 @@ const FAMILY: &[(usize, usize, std::ops::RangeInclusive<usize>, u64)] = &[
 ///
 /// At strength 3 with 3 levels, the tight mode's doubling of the stored halves (which
 /// the fast mode does not build) takes 25 to 35 rows off from 40 to 60 columns (3^40: 89
-/// against 123; 3^50: 111 against 128; 3^60: 122 against 155; measured).
+/// against 123; 3^50: 111 against 128; 3^60: 122 against 155; measured). At strength 4
+/// with 3 levels, the tight mode's invariant search takes 47 to 147 rows off from 20 to
+/// 28 columns (3^20: 327 against 374; 3^24: 363 against 455; 3^28: 402 against 549;
+/// measured).
 const WIDE: &[(usize, usize, &[usize], u64)] = &[
     (4, 2, &[32, 40, 50], 16),
     (5, 2, &[32, 40, 50], 16),
@@ -72,6 +75,7 @@ const WIDE: &[(usize, usize, &[usize], u64)] = &[
     (9, 2, &[32, 40, 50], 16),
     (10, 2, &[32, 40, 50], 16),
     (3, 3, &[40, 50, 60], 1),
+    (3, 4, &[20, 24, 28], 1),
 ];
 
 /// Levels, strength, columns, method (spaces as `_`) and rows of one entry.

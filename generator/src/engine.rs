@@ -839,8 +839,9 @@ mod tests {
         // 6^45 at t = 2 takes the design stored for 6^50 (86 rows), larger than what
         // the fast mode makes from the spec's own Bose product of order 7 (82 rows):
         // the search from that construction runs as well, and the smaller wins; 3^35 at
-        // t = 3 takes the design stored for 3^40 (a doubling the fast mode does not build)
-        for (v, k, t) in [(6usize, 45usize, 2usize), (10, 28, 2), (3, 35, 3)] {
+        // t = 3 takes the design stored for 3^40 (a doubling the fast mode does not
+        // build), 3^22 at t = 4 the one for 3^24 (from the invariant search)
+        for (v, k, t) in [(6usize, 45usize, 2usize), (10, 28, 2), (3, 35, 3), (3, 22, 4)] {
             let s = spec(&vec![v; k], t);
             let fast = generate(&s, Effort::Fast).unwrap();
             assert!(verify(&s, &fast.rows).is_ok());
