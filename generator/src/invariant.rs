@@ -295,10 +295,10 @@ pub(crate) fn search(
 /// the levels together for 5^20 in 40 rows (Z20 with x ↦ x + 1 or x ↦ 2x on the levels;
 /// AGL(1,5) acting regularly on the columns, and on the levels naturally, by its
 /// multiplier alone or not at all), which reached 45 with the constant rows, as the
-/// product does. A separate annealing of the starters alone (measured, not part of the engine) got no
-/// closer at t = 2: Z21 on the columns alone for 9^21 in 126 rows stayed 22 orbits short,
-/// Z20 for 9^20 in 140 rows 4 short, Z21 for 10^21 in 168 rows 15 short, and the
-/// translations of Z5 alone for 5^20 in 40 rows cover at most 10 columns.
+/// product does. A separate annealing of the starters alone (measured, not part of the
+/// engine) got no closer at t = 2: Z21 on the columns alone for 9^21 in 126 rows stayed
+/// 22 orbits short, Z20 for 9^20 in 140 rows 4 short, Z21 for 10^21 in 168 rows 15
+/// short, and the translations of Z5 alone for 5^20 in 40 rows cover at most 10 columns.
 pub(crate) fn candidates(v: usize, k: usize) -> Vec<Group> {
     if v < 2 {
         return Vec::new();
