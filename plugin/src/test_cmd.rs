@@ -67,7 +67,9 @@ pub struct TestArgs {
 fn run_id() -> Result<String, Failure> {
     match std::env::var(RUN_ID_VAR) {
         Ok(id) if !id.is_empty() => {
-            validate_run_id(&id).map_err(|e| usage(format!("`{RUN_ID_VAR}`: {e}")))?;
+            validate_run_id(&id).map_err(|e| {
+                usage(Diagnostic::new(format!("`{RUN_ID_VAR}`: {}", e.message())).hint(e.hint()))
+            })?;
             Ok(id)
         }
         _ => Ok(pipeline_run_id(&|n| std::env::var(n).ok()).unwrap_or_else(new_run_id)),
