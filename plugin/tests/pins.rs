@@ -579,6 +579,49 @@ fn unknown_package_and_bad_flags_are_usage_errors() {
 }
 
 #[test]
+fn outside_any_package_every_command_says_where_to_run_it() {
+    let dir = tempfile::tempdir().expect("a temporary directory");
+    let above: Vec<PathBuf> = dir
+        .path()
+        .ancestors()
+        .map(|d| d.join("Cargo.toml"))
+        .filter(|m| m.is_file())
+        .collect();
+    assert!(
+        above.is_empty(),
+        "the temporary directory must lie outside any package: {above:?}"
+    );
+    let missing = dir.path().join("nope/Cargo.toml");
+    let missing = missing.to_str().expect("a UTF-8 temporary path");
+    for args in [
+        &["pin"][..],
+        &["check"],
+        &["show", "f"],
+        &["test"],
+        &["report"],
+        &["probe"],
+        &["runs"],
+        &["check", "--manifest-path", missing],
+    ] {
+        let out = Command::new(env!("CARGO_BIN_EXE_cargo-heddle"))
+            .arg("heddle")
+            .args(args)
+            .current_dir(dir.path())
+            .output()
+            .expect("the binary runs");
+        let r = Run(out);
+        r.fails(2);
+        let err = r.stderr();
+        // cargo's reason once, with no `error: error:`, then a hint on a line of its own
+        assert!(
+            err.starts_with("error: ") && !err.contains("error: error:"),
+            "{args:?}: {err}"
+        );
+        assert!(err.contains("\n  hint: "), "{args:?}: {err}");
+    }
+}
+
+#[test]
 fn show_unknown_names_list_near_matches() {
     let c = Crate::new(&[("tests/codec.rs", CODEC)]);
     let r = c.heddle(&["show", "roundtirp"]);
