@@ -160,6 +160,17 @@ pub fn load(sel: &Selection) -> Result<Project, Failure> {
         .collect();
     packages.sort_by(|a, b| a.name.cmp(&b.name));
     packages.dedup();
+    // every command would find nothing to do, and to the store reader no package
+    // means every package: the report would show other projects' runs
+    if packages.is_empty() {
+        return Err(usage(
+            Diagnostic::new(format!(
+                "the workspace at `{}` has no member packages",
+                meta.workspace_root
+            ))
+            .hint("add a package to its `members`, or run it in a package's directory"),
+        ));
+    }
     Ok(Project {
         workspace_root: meta.workspace_root.as_std_path().to_path_buf(),
         target_dir: meta.target_directory.as_std_path().to_path_buf(),

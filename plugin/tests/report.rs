@@ -876,3 +876,36 @@ fn focus_sets_too_large_to_count_are_named_in_the_notes() {
         "{notes:?}"
     );
 }
+
+/// A workspace with no members selects no package, and to the store reader no package
+/// means every package: `report` and `probe` there must refuse, not show the runs
+/// another project left in a shared target directory.
+#[test]
+fn a_workspace_without_members_does_not_report_other_projects_runs() {
+    let dir = tempfile::tempdir().unwrap();
+    let target = dir.path().join("shared-target");
+    write_run(&target, "run-shop", 1, |_, _| false);
+    let empty = dir.path().join("empty");
+    std::fs::create_dir_all(&empty).unwrap();
+    std::fs::write(empty.join("Cargo.toml"), "[workspace]\nmembers = []\n").unwrap();
+    // the run is there to be found: `--store` reads every package in it
+    let all = report(&["--store", target.to_str().unwrap()]);
+    assert!(all.status.success(), "{}", String::from_utf8_lossy(&all.stderr));
+    assert!(String::from_utf8_lossy(&all.stdout).contains("totals"));
+    for cmd in ["report", "probe"] {
+        let o = Command::new(env!("CARGO_BIN_EXE_cargo-heddle"))
+            .args(["heddle", cmd])
+            .current_dir(&empty)
+            .env("CARGO_TARGET_DIR", &target)
+            .env("NO_COLOR", "1")
+            .output()
+            .unwrap();
+        let (out, err) = (
+            String::from_utf8_lossy(&o.stdout),
+            String::from_utf8_lossy(&o.stderr),
+        );
+        assert_eq!(o.status.code(), Some(2), "{cmd}: {out}{err}");
+        assert!(err.contains("has no member packages\n  hint: "), "{cmd}: {err}");
+        assert!(!out.contains("totals"), "{cmd}: {out}");
+    }
+}
