@@ -174,9 +174,8 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
     let rows = rows_for(&f.spec, Some(&f.key()), pins.as_ref())
         .map_err(|e| found(e.diagnostic().at(place.clone())))?;
     let spec = &f.spec.spec;
-    let levels = spec.levels();
     let lower = bounds::spec_lower_bound(spec);
-    let expected = bounds::expected_bound(&levels, spec.strength, spec.lambda);
+    let expected = bounds::spec_expected_bound(spec);
     let coverage = verify(spec, &rows.rows);
     let source = if rows.pinned {
         format!("pinned in `{}`", pkg.display(heddle_syntax::pins::PINS_FILE))
