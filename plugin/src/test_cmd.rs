@@ -239,7 +239,9 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
 /// and writes a page from one run).
 pub fn run_rounds(args: &TestArgs) -> Result<Rounds, Failure> {
     if args.repeat == 0 {
-        return Err(usage("`--repeat` must be at least 1"));
+        return Err(usage(
+            Diagnostic::new("`--repeat` must be at least 1").hint("leave it out to run the tests once"),
+        ));
     }
     let mut project = workspace::load(&args.selection)?;
     if let Some(dir) = workspace::target_dir_arg(&args.cargo_args) {
@@ -306,8 +308,12 @@ pub fn run_rounds(args: &TestArgs) -> Result<Rounds, Failure> {
             None => String::new(),
         };
         eprintln!("heddle: run {id}{round_note}{budget_note}");
-        let status = run_cargo(&mut cmd, args.quiet, &mut warnings)
-            .map_err(|e| usage(format!("could not start `{}`: {e}", cargo.to_string_lossy())))?;
+        let status = run_cargo(&mut cmd, args.quiet, &mut warnings).map_err(|e| {
+            usage(
+                Diagnostic::new(format!("could not start `{}`: {e}", cargo.to_string_lossy()))
+                    .hint("check that cargo is installed and on `PATH` (or that `CARGO` names it)"),
+            )
+        })?;
         if !status.success() && status_code == 0 {
             status_code = status.code().map_or(1, |c| c.clamp(1, 255) as u8);
         }

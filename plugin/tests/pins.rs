@@ -567,6 +567,14 @@ fn unknown_package_and_bad_flags_are_usage_errors() {
         assert!(r.stderr().contains(says), "{}", r.stderr());
         assert!(!r.stderr().contains("heddle: run "), "{}", r.stderr());
     }
+    // no rounds is refused before anything runs, with a hint
+    let r = c.heddle(&["test", "--repeat", "0"]);
+    r.fails(2);
+    assert!(
+        r.stderr().contains("`--repeat` must be at least 1\n  hint: "),
+        "{}",
+        r.stderr()
+    );
     // the selection flags reach the project from elsewhere too
     let manifest = c.path("Cargo.toml");
     let r = Command::new(env!("CARGO_BIN_EXE_cargo-heddle"))

@@ -892,6 +892,11 @@ fn a_workspace_without_members_does_not_report_other_projects_runs() {
     let all = report(&["--store", target.to_str().unwrap()]);
     assert!(all.status.success(), "{}", String::from_utf8_lossy(&all.stderr));
     assert!(String::from_utf8_lossy(&all.stdout).contains("totals"));
+    // (and merging no runs of it is refused with a hint)
+    let none = report(&["--store", target.to_str().unwrap(), "--runs", "0"]);
+    assert_eq!(none.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&none.stderr);
+    assert!(err.contains("`--runs` must be at least 1\n  hint: "), "{err}");
     for cmd in ["report", "probe"] {
         let o = Command::new(env!("CARGO_BIN_EXE_cargo-heddle"))
             .args(["heddle", cmd])

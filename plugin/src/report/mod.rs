@@ -432,7 +432,12 @@ pub fn read(store: &Store, args: &ReportArgs, packages: &[String]) -> Result<(Re
         return Ok((records, ours.len().saturating_sub(1)));
     }
     let n = match args.runs {
-        Some(0) => return Err(usage("`--runs` must be at least 1")),
+        Some(0) => {
+            return Err(usage(
+                Diagnostic::new("`--runs` must be at least 1")
+                    .hint("write `--runs 10` for the last ten runs, or `--runs all`"),
+            ));
+        }
         Some(n) => n,
         None => 1,
     };
