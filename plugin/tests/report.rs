@@ -914,3 +914,29 @@ fn a_workspace_without_members_does_not_report_other_projects_runs() {
         assert!(!out.contains("totals"), "{cmd}: {out}");
     }
 }
+
+/// With `HEDDLE_TARGET_DIR` set the report reads only there, so finding nothing names
+/// that directory, not cargo's target directory it never looked in.
+#[test]
+fn no_records_names_the_directory_it_looked_in() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(
+        dir.path().join("Cargo.toml"),
+        "[package]\nname = \"lone\"\nversion = \"0.1.0\"\nedition = \"2021\"\n\n[workspace]\n",
+    )
+    .unwrap();
+    std::fs::create_dir_all(dir.path().join("src")).unwrap();
+    std::fs::write(dir.path().join("src/lib.rs"), "").unwrap();
+    let elsewhere = dir.path().join("elsewhere");
+    let o = Command::new(env!("CARGO_BIN_EXE_cargo-heddle"))
+        .args(["heddle", "report"])
+        .current_dir(dir.path())
+        .env("HEDDLE_TARGET_DIR", &elsewhere)
+        .env_remove("CARGO_TARGET_DIR")
+        .output()
+        .unwrap();
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(2), "{err}");
+    let says = format!("error: no heddle records found in `{}`\n", elsewhere.display());
+    assert!(err.starts_with(&says), "{err}");
+}

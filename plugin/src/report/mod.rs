@@ -405,13 +405,16 @@ pub fn open_store(args: &ReportArgs) -> Result<(Store, Vec<String>), Failure> {
         return Ok((store, args.selection.package.clone()));
     }
     let project = workspace::load(&args.selection)?;
-    let roots: Vec<PathBuf> = project
-        .record_roots()
-        .into_iter()
+    let searched = project.record_roots();
+    let roots: Vec<PathBuf> = searched
+        .iter()
         .filter(|r| find_root(r).is_some())
+        .cloned()
         .collect();
     if roots.is_empty() {
-        return Err(not_found(format!("in `{}`", project.target_dir.display())));
+        // name where it looked: `HEDDLE_TARGET_DIR` replaces the target directory
+        let places: Vec<String> = searched.iter().map(|r| format!("`{}`", r.display())).collect();
+        return Err(not_found(format!("in {}", places.join(" or "))));
     }
     let store = Store::merge(roots).map_err(|e| usage(e.diagnostic()))?;
     let packages = project.packages.iter().map(|p| p.name.clone()).collect();
