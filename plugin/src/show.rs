@@ -49,13 +49,19 @@ fn matches(pkg: &Scanned, f: &Function, test: &str) -> bool {
     if let Some((file, name)) = test.rsplit_once("::").filter(|(file, _)| file.ends_with(".rs")) {
         let file = file.trim_start_matches("./");
         let shown = pkg.display(&f.file);
-        return f.function == name
+        return f.function == plain(name)
             && (f.file == file || shown == file || shown.ends_with(&format!("/{file}")));
     }
-    let want: Vec<&str> = test.split("::").collect();
+    let want: Vec<&str> = test.split("::").map(plain).collect();
     let path = f.test_path();
-    let have: Vec<&str> = path.split("::").collect();
+    let have: Vec<&str> = path.split("::").map(plain).collect();
     have.ends_with(&want)
+}
+
+/// A path segment without its `r#`: libtest and the rerun commands print `r#match`,
+/// the scan keeps the name as `match`.
+fn plain(segment: &str) -> &str {
+    segment.strip_prefix("r#").unwrap_or(segment)
 }
 
 /// Edit distance (Levenshtein 1966), for suggesting names close to a misspelt one.

@@ -629,6 +629,25 @@ fn outside_any_package_every_command_says_where_to_run_it() {
     }
 }
 
+/// Test names and rerun commands print a raw identifier as `r#match`, so `show` and
+/// `probe` take that form as well as the plain one.
+#[test]
+fn show_takes_a_raw_name_as_the_test_runner_prints_it() {
+    let src = "use heddle_test::cover;\n\nmod r#in {\n    #[cover]\n    fn r#match(#[levels(1, 2)] a: u8, #[levels(3, 4)] b: u8) {}\n}\n";
+    let c = Crate::new(&[("tests/names.rs", src)]);
+    for name in [
+        "r#match",
+        "match",
+        "r#in::r#match",
+        "in::match",
+        "tests/names.rs::r#match",
+    ] {
+        let r = c.heddle(&["show", name, "--format", "csv"]);
+        r.ok();
+        assert_eq!(r.stdout().lines().next(), Some("a,b"), "{name}");
+    }
+}
+
 #[test]
 fn show_unknown_names_list_near_matches() {
     let c = Crate::new(&[("tests/codec.rs", CODEC)]);
