@@ -940,3 +940,27 @@ fn no_records_names_the_directory_it_looked_in() {
     let says = format!("error: no heddle records found in `{}`\n", elsewhere.display());
     assert!(err.starts_with(&says), "{err}");
 }
+
+/// Nothing recorded at all is incomplete: with `--fail-on incomplete` the report exits
+/// 5, as when a shard is missing; without it, 2.
+#[test]
+fn nothing_recorded_is_incomplete_when_asked() {
+    let dir = tempfile::tempdir().unwrap();
+    let empty = dir.path().join("shards");
+    std::fs::create_dir_all(empty.join("job1/heddle").join(RUNS_DIR)).unwrap();
+    let missing = dir.path().join("never-downloaded");
+    for store in [&empty, &missing] {
+        let store = store.to_str().unwrap();
+        let gate = report(&["--store", store, "--fail-on", "failures,incomplete"]);
+        let err = String::from_utf8_lossy(&gate.stderr);
+        assert_eq!(gate.status.code(), Some(5), "{store}: {err}");
+        assert!(err.starts_with("error: no "), "{err}");
+        assert!(err.contains("(`--fail-on incomplete`: exit code 5)"), "{err}");
+        for args in [
+            &["--store", store][..],
+            &["--store", store, "--fail-on", "failures"],
+        ] {
+            assert_eq!(report(args).status.code(), Some(2), "{args:?}");
+        }
+    }
+}
