@@ -649,6 +649,19 @@ fn show_takes_a_raw_name_as_the_test_runner_prints_it() {
 }
 
 #[test]
+fn the_pin_summary_counts_in_words() {
+    let src = "#[cover]\nfn lone(#[levels(1, 2)] a: u8, #[levels(3, 4)] b: u8) {}\n";
+    let c = Crate::new(&[("tests/lone.rs", src)]);
+    let r = c.heddle(&["pin"]);
+    r.ok();
+    assert!(
+        r.stdout().contains("heddle-pins.toml: wrote 1 pin (1 new, "),
+        "{}",
+        r.stdout()
+    );
+}
+
+#[test]
 fn show_unknown_names_list_near_matches() {
     let c = Crate::new(&[("tests/codec.rs", CODEC)]);
     let r = c.heddle(&["show", "roundtirp"]);
