@@ -5,6 +5,7 @@ use std::path::PathBuf;
 use std::process::{Command, ExitCode, Stdio};
 
 use clap::Args;
+use heddle_store::words::plural;
 use heddle_store::{Records, Store, find_root};
 use heddle_syntax::budget::{BUDGET_VAR, Budget};
 use heddle_test::record::layout::{RUN_ID_VAR, TARGET_DIR_VAR, new_run_id, pipeline_run_id, validate_run_id};
@@ -74,6 +75,14 @@ fn run_id() -> Result<String, Failure> {
         }
         _ => Ok(pipeline_run_id(&|n| std::env::var(n).ok()).unwrap_or_else(new_run_id)),
     }
+}
+
+/// Whether any record of run `id` is in the store under `store_dir`.
+fn recorded_any(store_dir: &std::path::Path, id: &str) -> bool {
+    find_root(store_dir)
+        .and_then(|_| Store::open(store_dir).ok())
+        .and_then(|store| store.read_run(id).ok())
+        .is_some_and(|records| !records.suites.is_empty() || records.stats.row_lines > 0)
 }
 
 /// Under `--quiet`, the errors of a failed test run: a build that failed shows whole
@@ -316,6 +325,15 @@ pub fn run_rounds(args: &TestArgs) -> Result<Rounds, Failure> {
         })?;
         if !status.success() && status_code == 0 {
             status_code = status.code().map_or(1, |c| c.clamp(1, 255) as u8);
+        }
+        // a round that failed before any row ran (a build error, an argument cargo
+        // refused) fails the same way each time: the rounds left would only repeat it
+        if !status.success() && round < args.repeat && !recorded_any(&store_dir, &id) {
+            eprintln!(
+                "heddle: round {round} failed before any `#[cover]` row ran, so the {} left are skipped",
+                plural((args.repeat - round) as usize, "round", "rounds")
+            );
+            break;
         }
     }
     let store = find_root(&store_dir).and_then(|_| Store::open(&store_dir).ok());

@@ -648,6 +648,20 @@ fn show_takes_a_raw_name_as_the_test_runner_prints_it() {
     }
 }
 
+/// A round that fails before any row runs (here, a test that does not compile) would
+/// fail the same way each time, so `--repeat` stops after it instead of rebuilding.
+#[test]
+fn repeat_stops_after_a_round_that_ran_nothing() {
+    let c = Crate::new(&[("tests/broken.rs", "fn oops( {\n")]);
+    let r = c.heddle(&["test", "--repeat", "3", "--quiet"]);
+    assert_ne!(r.code(), 0, "{}", r.stderr());
+    let err = r.stderr();
+    assert!(err.contains("(round 1 of 3)"), "{err}");
+    assert!(!err.contains("round 2 of 3"), "{err}");
+    assert!(err.contains("so the 2 rounds left are skipped"), "{err}");
+    assert!(err.contains("recorded nothing"), "{err}");
+}
+
 #[test]
 fn the_pin_summary_counts_in_words() {
     let src = "#[cover]\nfn lone(#[levels(1, 2)] a: u8, #[levels(3, 4)] b: u8) {}\n";
