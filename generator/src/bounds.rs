@@ -142,8 +142,42 @@ pub fn expected_deficient(groups: &BTreeMap<u128, f64>, n: u64, lambda: u32) -> 
 /// assert_eq!(heddle_generator::bounds::expected_bound(&[2, 2, 2], 2, 1), 9);
 /// ```
 pub fn expected_bound(levels: &[usize], t: usize, lambda: u32) -> u64 {
-    let groups = tsets_by_product(levels, t);
-    let below = |n: u64| expected_deficient(&groups, n, lambda) < 1.0;
+    least_rows(&[(tsets_by_product(levels, t), lambda)])
+}
+
+/// [`expected_bound`] for a whole spec: the t-way interactions at λ and every focus set's
+/// at its own strength and index, all in one sum, so that with focus sets it is never
+/// below what they alone need (the first-moment argument holds for any set of demands).
+///
+/// ```
+/// use heddle_generator::{Focus, Spec, bounds};
+/// let plain = Spec::numbered(&[3; 6]);
+/// assert_eq!(bounds::spec_expected_bound(&plain), bounds::expected_bound(&[3; 6], 2, 1));
+/// let focused = plain.focus(Focus::new(vec![0, 1, 2], 3).lambda(2));
+/// assert!(bounds::spec_expected_bound(&focused) >= bounds::expected_bound(&[3; 3], 3, 2));
+/// ```
+pub fn spec_expected_bound(spec: &Spec) -> u64 {
+    let levels = spec.levels();
+    let t = spec.strength.min(levels.len());
+    let mut demands = vec![(tsets_by_product(&levels, t), spec.lambda)];
+    for f in &spec.focus {
+        let sub: Vec<usize> = f.factors.iter().filter_map(|&c| levels.get(c).copied()).collect();
+        demands.push((tsets_by_product(&sub, f.strength.min(sub.len())), f.lambda));
+    }
+    least_rows(&demands)
+}
+
+/// The least N at which a uniformly random N-row array leaves, in expectation, fewer
+/// than one interaction of all `demands` (t-sets by product, and their λ) short.
+fn least_rows(demands: &[(BTreeMap<u128, f64>, u32)]) -> u64 {
+    let below = |n: u64| {
+        demands
+            .iter()
+            .map(|(groups, lambda)| expected_deficient(groups, n, *lambda))
+            .sum::<f64>()
+            < 1.0
+    };
+    let lambda = demands.iter().map(|(_, l)| *l).max().unwrap_or(1);
     let mut hi: u64 = lambda as u64;
     while !below(hi) {
         if hi >= 1 << 62 {
@@ -194,6 +228,33 @@ mod tests {
                 }
             }
         }
+    }
+
+    #[test]
+    fn a_design_with_focus_sets_states_an_expected_bound_for_them_too() {
+        use crate::{Effort, Focus, generate};
+        // the README's `frame`: pairs of 3·3·3·3·2, every triple of the first three and
+        // every 4-set of four at λ = 2 (the counting bound 2·3·3·3·2 = 108)
+        let spec = Spec::numbered(&[3, 3, 3, 3, 2])
+            .focus(Focus::new(vec![0, 1, 2], 3))
+            .focus(Focus::new(vec![3, 4, 0, 1], 4).lambda(2));
+        let stats = generate(&spec, Effort::Fast).unwrap().stats;
+        // a random array of fewer rows than the counting bound cannot be a design
+        assert!(
+            stats.expected_bound >= stats.lower_bound,
+            "{} < {}",
+            stats.expected_bound,
+            stats.lower_bound
+        );
+        // and the sum over all demands needs at least what each needs alone
+        let alone = expected_bound(&[3, 3, 2, 3], 4, 2);
+        assert!(
+            stats.expected_bound >= alone,
+            "{} < {alone}",
+            stats.expected_bound
+        );
+        assert!(stats.expected_bound >= expected_bound(&[3, 3, 3, 3, 2], 2, 1));
+        assert_eq!(stats.expected_bound, spec_expected_bound(&spec));
     }
 
     #[test]

@@ -115,7 +115,7 @@ pub(crate) fn generate(spec: &Spec, effort: Effort, fast_work: u64) -> Result<De
         method,
         methods,
         lower_bound: lower.min(u64::MAX as u128) as u64,
-        expected_bound: base.stats.expected_bound,
+        expected_bound: crate::bounds::spec_expected_bound(spec),
         interactions: inc.total() as u64,
         impossible,
         coverage_curve: curve(&checked),

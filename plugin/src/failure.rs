@@ -12,13 +12,16 @@ pub enum Failure {
     Usage(Diagnostic),
     /// The work ran and found a problem: exit code 1.
     Found(Diagnostic),
+    /// Nothing was recorded where the command looked: exit code 2, as a usage error,
+    /// unless `report --fail-on incomplete` asked for its own code.
+    Unrecorded(Diagnostic),
 }
 
 impl Failure {
     /// Exit code for this failure.
     pub fn code(&self) -> u8 {
         match self {
-            Failure::Usage(_) => 2,
+            Failure::Usage(_) | Failure::Unrecorded(_) => 2,
             Failure::Found(_) => 1,
         }
     }
@@ -26,7 +29,7 @@ impl Failure {
     /// What went wrong.
     pub fn diagnostic(&self) -> &Diagnostic {
         match self {
-            Failure::Usage(d) | Failure::Found(d) => d,
+            Failure::Usage(d) | Failure::Found(d) | Failure::Unrecorded(d) => d,
         }
     }
 }
@@ -45,4 +48,9 @@ pub fn usage(d: impl Into<Diagnostic>) -> Failure {
 /// A problem found in the project.
 pub fn found(d: impl Into<Diagnostic>) -> Failure {
     Failure::Found(d.into())
+}
+
+/// Nothing recorded where the command looked.
+pub fn unrecorded(d: impl Into<Diagnostic>) -> Failure {
+    Failure::Unrecorded(d.into())
 }

@@ -261,8 +261,8 @@ fn write(pkg: &Scanned, out: &Package, gone: usize, bar: &ProgressBar) -> Result
         }
     }
     let mut summary = format!(
-        "{file}: wrote {} pins ({} new, {} changed, {} up to date, {gone} removed)",
-        pins.pins.len(),
+        "{file}: wrote {} ({} new, {} changed, {} up to date, {gone} removed)",
+        plural(pins.pins.len(), "pin", "pins"),
         out.new,
         out.changed,
         out.same

@@ -49,13 +49,19 @@ fn matches(pkg: &Scanned, f: &Function, test: &str) -> bool {
     if let Some((file, name)) = test.rsplit_once("::").filter(|(file, _)| file.ends_with(".rs")) {
         let file = file.trim_start_matches("./");
         let shown = pkg.display(&f.file);
-        return f.function == name
+        return f.function == plain(name)
             && (f.file == file || shown == file || shown.ends_with(&format!("/{file}")));
     }
-    let want: Vec<&str> = test.split("::").collect();
+    let want: Vec<&str> = test.split("::").map(plain).collect();
     let path = f.test_path();
-    let have: Vec<&str> = path.split("::").collect();
+    let have: Vec<&str> = path.split("::").map(plain).collect();
     have.ends_with(&want)
+}
+
+/// A path segment without its `r#`: libtest and the rerun commands print `r#match`,
+/// the scan keeps the name as `match`.
+fn plain(segment: &str) -> &str {
+    segment.strip_prefix("r#").unwrap_or(segment)
 }
 
 /// Edit distance (Levenshtein 1966), for suggesting names close to a misspelt one.
@@ -174,9 +180,8 @@ pub fn run(args: ShowArgs) -> Result<ExitCode, Failure> {
     let rows = rows_for(&f.spec, Some(&f.key()), pins.as_ref())
         .map_err(|e| found(e.diagnostic().at(place.clone())))?;
     let spec = &f.spec.spec;
-    let levels = spec.levels();
     let lower = bounds::spec_lower_bound(spec);
-    let expected = bounds::expected_bound(&levels, spec.strength, spec.lambda);
+    let expected = bounds::spec_expected_bound(spec);
     let coverage = verify(spec, &rows.rows);
     let source = if rows.pinned {
         format!("pinned in `{}`", pkg.display(heddle_syntax::pins::PINS_FILE))

@@ -15,15 +15,21 @@ pub fn parse_specs(tokens: &[String]) -> Result<Vec<Factor>, Failure> {
             let v = parse_count(tok, v, "level count")?;
             let n = parse_count(tok, n, "factor count")?;
             if v > MAX_LEVELS {
-                return Err(usage(format!(
-                    "malformed SPEC `{tok}`: {v} levels, at most {MAX_LEVELS} are supported"
-                )));
+                return Err(usage(
+                    Diagnostic::new(format!(
+                        "malformed SPEC `{tok}`: {v} levels, at most {MAX_LEVELS} are supported"
+                    ))
+                    .hint("split the factor into two, or sample its levels"),
+                ));
             }
             if n > heddle_generator::MAX_FACTORS {
-                return Err(usage(format!(
-                    "malformed SPEC `{tok}`: {n} factors, at most {} are supported",
-                    heddle_generator::MAX_FACTORS
-                )));
+                return Err(usage(
+                    Diagnostic::new(format!(
+                        "malformed SPEC `{tok}`: {n} factors, at most {} are supported",
+                        heddle_generator::MAX_FACTORS
+                    ))
+                    .hint("split the factors into designs of their own"),
+                ));
             }
             for _ in 0..n {
                 let name = format!("f{}", factors.len() + 1);
@@ -261,6 +267,10 @@ mod tests {
             let err = parse_specs(&toks(&[bad])).unwrap_err();
             assert_eq!(err.code(), 2, "{bad}");
             assert!(err.to_string().contains("malformed SPEC"), "{bad}: {err}");
+            assert!(err.diagnostic().hint.is_some(), "{bad}: {err}");
         }
+        let too_many = format!("2^{}", heddle_generator::MAX_FACTORS + 1);
+        let err = parse_specs(&[too_many]).unwrap_err();
+        assert!(err.diagnostic().hint.is_some(), "{err}");
     }
 }

@@ -5,6 +5,7 @@ use std::path::PathBuf;
 use std::process::{Command, ExitCode, Stdio};
 
 use clap::Args;
+use heddle_store::words::plural;
 use heddle_store::{Records, Store, find_root};
 use heddle_syntax::budget::{BUDGET_VAR, Budget};
 use heddle_test::record::layout::{RUN_ID_VAR, TARGET_DIR_VAR, new_run_id, pipeline_run_id, validate_run_id};
@@ -67,11 +68,21 @@ pub struct TestArgs {
 fn run_id() -> Result<String, Failure> {
     match std::env::var(RUN_ID_VAR) {
         Ok(id) if !id.is_empty() => {
-            validate_run_id(&id).map_err(|e| usage(format!("`{RUN_ID_VAR}`: {e}")))?;
+            validate_run_id(&id).map_err(|e| {
+                usage(Diagnostic::new(format!("`{RUN_ID_VAR}`: {}", e.message())).hint(e.hint()))
+            })?;
             Ok(id)
         }
         _ => Ok(pipeline_run_id(&|n| std::env::var(n).ok()).unwrap_or_else(new_run_id)),
     }
+}
+
+/// Whether any record of run `id` is in the store under `store_dir`.
+fn recorded_any(store_dir: &std::path::Path, id: &str) -> bool {
+    find_root(store_dir)
+        .and_then(|_| Store::open(store_dir).ok())
+        .and_then(|store| store.read_run(id).ok())
+        .is_some_and(|records| !records.suites.is_empty() || records.stats.row_lines > 0)
 }
 
 /// Under `--quiet`, the errors of a failed test run: a build that failed shows whole
@@ -237,7 +248,9 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
 /// and writes a page from one run).
 pub fn run_rounds(args: &TestArgs) -> Result<Rounds, Failure> {
     if args.repeat == 0 {
-        return Err(usage("`--repeat` must be at least 1"));
+        return Err(usage(
+            Diagnostic::new("`--repeat` must be at least 1").hint("leave it out to run the tests once"),
+        ));
     }
     let mut project = workspace::load(&args.selection)?;
     if let Some(dir) = workspace::target_dir_arg(&args.cargo_args) {
@@ -304,10 +317,23 @@ pub fn run_rounds(args: &TestArgs) -> Result<Rounds, Failure> {
             None => String::new(),
         };
         eprintln!("heddle: run {id}{round_note}{budget_note}");
-        let status = run_cargo(&mut cmd, args.quiet, &mut warnings)
-            .map_err(|e| usage(format!("could not start `{}`: {e}", cargo.to_string_lossy())))?;
+        let status = run_cargo(&mut cmd, args.quiet, &mut warnings).map_err(|e| {
+            usage(
+                Diagnostic::new(format!("could not start `{}`: {e}", cargo.to_string_lossy()))
+                    .hint("check that cargo is installed and on `PATH` (or that `CARGO` names it)"),
+            )
+        })?;
         if !status.success() && status_code == 0 {
             status_code = status.code().map_or(1, |c| c.clamp(1, 255) as u8);
+        }
+        // a round that failed before any row ran (a build error, an argument cargo
+        // refused) fails the same way each time: the rounds left would only repeat it
+        if !status.success() && round < args.repeat && !recorded_any(&store_dir, &id) {
+            eprintln!(
+                "heddle: round {round} failed before any `#[cover]` row ran, so the {} left are skipped",
+                plural((args.repeat - round) as usize, "round", "rounds")
+            );
+            break;
         }
     }
     let store = find_root(&store_dir).and_then(|_| Store::open(&store_dir).ok());

@@ -96,13 +96,14 @@ pub fn load(sel: &Selection) -> Result<Project, Failure> {
     cmd.no_deps();
     if let Some(p) = &sel.manifest_path {
         if !p.is_file() {
-            return Err(usage(format!("manifest path `{}` does not exist", p.display())));
+            return Err(usage(
+                Diagnostic::new(format!("manifest path `{}` does not exist", p.display()))
+                    .hint("give the path of a package's or workspace's `Cargo.toml`"),
+            ));
         }
         cmd.manifest_path(p);
     }
-    let meta = cmd
-        .exec()
-        .map_err(|e| usage(format!("could not read the cargo project: {e}")))?;
+    let meta = cmd.exec().map_err(metadata_failure)?;
     let members: Vec<&cargo_metadata::Package> = meta
         .packages
         .iter()
@@ -159,6 +160,17 @@ pub fn load(sel: &Selection) -> Result<Project, Failure> {
         .collect();
     packages.sort_by(|a, b| a.name.cmp(&b.name));
     packages.dedup();
+    // every command would find nothing to do, and to the store reader no package
+    // means every package: the report would show other projects' runs
+    if packages.is_empty() {
+        return Err(usage(
+            Diagnostic::new(format!(
+                "the workspace at `{}` has no member packages",
+                meta.workspace_root
+            ))
+            .hint("add a package to its `members`, or run it in a package's directory"),
+        ));
+    }
     Ok(Project {
         workspace_root: meta.workspace_root.as_std_path().to_path_buf(),
         target_dir: meta.target_directory.as_std_path().to_path_buf(),
@@ -168,6 +180,25 @@ pub fn load(sel: &Selection) -> Result<Project, Failure> {
             .map(|b| b.as_std_path().to_path_buf()),
         packages,
     })
+}
+
+/// A failed `cargo metadata`: cargo's own words (without its `error: `, which the front
+/// end adds) and a hint: where to run it when there is no package, else to fix what
+/// cargo named.
+fn metadata_failure(e: cargo_metadata::Error) -> Failure {
+    let why = match &e {
+        cargo_metadata::Error::CargoMetadata { stderr } => {
+            let stderr = stderr.trim();
+            stderr.strip_prefix("error: ").unwrap_or(stderr).to_string()
+        }
+        other => other.to_string(),
+    };
+    let hint = if why.contains("could not find `Cargo.toml`") {
+        "run it in a cargo package's directory, or name one with `--manifest-path PATH/Cargo.toml`"
+    } else {
+        "fix what cargo names above (`cargo metadata --no-deps` reads the project the same way)"
+    };
+    usage(Diagnostic::new(format!("could not read the cargo project: {why}")).hint(hint))
 }
 
 /// The nearest Cargo.toml at or above `dir`.

@@ -1180,6 +1180,23 @@ fn runs_are_listed_and_pruned() {
         "{}",
         bad.stderr
     );
+
+    // a bad run id is a usage error in the command line's shape: the hint on a line of its own
+    let bad = heddle(
+        &krate,
+        &["test", "--quiet"],
+        Some(&store),
+        &[("HEDDLE_RUN_ID", "a b")],
+    );
+    assert_eq!(bad.code, Some(2));
+    assert!(
+        bad.stderr.contains(
+            "error: `HEDDLE_RUN_ID`: invalid run id `a b`: it holds a character other than \
+             a letter, digit, `.`, `_` or `-`\n  hint: use ASCII letters"
+        ),
+        "{}",
+        bad.stderr
+    );
 }
 
 /// The shell lines of one `# recipe:NAME` … `# recipe:end` block of a CI recipe file,

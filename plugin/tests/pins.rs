@@ -567,6 +567,14 @@ fn unknown_package_and_bad_flags_are_usage_errors() {
         assert!(r.stderr().contains(says), "{}", r.stderr());
         assert!(!r.stderr().contains("heddle: run "), "{}", r.stderr());
     }
+    // no rounds is refused before anything runs, with a hint
+    let r = c.heddle(&["test", "--repeat", "0"]);
+    r.fails(2);
+    assert!(
+        r.stderr().contains("`--repeat` must be at least 1\n  hint: "),
+        "{}",
+        r.stderr()
+    );
     // the selection flags reach the project from elsewhere too
     let manifest = c.path("Cargo.toml");
     let r = Command::new(env!("CARGO_BIN_EXE_cargo-heddle"))
@@ -576,6 +584,95 @@ fn unknown_package_and_bad_flags_are_usage_errors() {
         .output()
         .unwrap();
     assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+}
+
+#[test]
+fn outside_any_package_every_command_says_where_to_run_it() {
+    let dir = tempfile::tempdir().expect("a temporary directory");
+    let above: Vec<PathBuf> = dir
+        .path()
+        .ancestors()
+        .map(|d| d.join("Cargo.toml"))
+        .filter(|m| m.is_file())
+        .collect();
+    assert!(
+        above.is_empty(),
+        "the temporary directory must lie outside any package: {above:?}"
+    );
+    let missing = dir.path().join("nope/Cargo.toml");
+    let missing = missing.to_str().expect("a UTF-8 temporary path");
+    for args in [
+        &["pin"][..],
+        &["check"],
+        &["show", "f"],
+        &["test"],
+        &["report"],
+        &["probe"],
+        &["runs"],
+        &["check", "--manifest-path", missing],
+    ] {
+        let out = Command::new(env!("CARGO_BIN_EXE_cargo-heddle"))
+            .arg("heddle")
+            .args(args)
+            .current_dir(dir.path())
+            .output()
+            .expect("the binary runs");
+        let r = Run(out);
+        r.fails(2);
+        let err = r.stderr();
+        // cargo's reason once, with no `error: error:`, then a hint on a line of its own
+        assert!(
+            err.starts_with("error: ") && !err.contains("error: error:"),
+            "{args:?}: {err}"
+        );
+        assert!(err.contains("\n  hint: "), "{args:?}: {err}");
+    }
+}
+
+/// Test names and rerun commands print a raw identifier as `r#match`, so `show` and
+/// `probe` take that form as well as the plain one.
+#[test]
+fn show_takes_a_raw_name_as_the_test_runner_prints_it() {
+    let src = "use heddle_test::cover;\n\nmod r#in {\n    #[cover]\n    fn r#match(#[levels(1, 2)] a: u8, #[levels(3, 4)] b: u8) {}\n}\n";
+    let c = Crate::new(&[("tests/names.rs", src)]);
+    for name in [
+        "r#match",
+        "match",
+        "r#in::r#match",
+        "in::match",
+        "tests/names.rs::r#match",
+    ] {
+        let r = c.heddle(&["show", name, "--format", "csv"]);
+        r.ok();
+        assert_eq!(r.stdout().lines().next(), Some("a,b"), "{name}");
+    }
+}
+
+/// A round that fails before any row runs (here, a test that does not compile) would
+/// fail the same way each time, so `--repeat` stops after it instead of rebuilding.
+#[test]
+fn repeat_stops_after_a_round_that_ran_nothing() {
+    let c = Crate::new(&[("tests/broken.rs", "fn oops( {\n")]);
+    let r = c.heddle(&["test", "--repeat", "3", "--quiet"]);
+    assert_ne!(r.code(), 0, "{}", r.stderr());
+    let err = r.stderr();
+    assert!(err.contains("(round 1 of 3)"), "{err}");
+    assert!(!err.contains("round 2 of 3"), "{err}");
+    assert!(err.contains("so the 2 rounds left are skipped"), "{err}");
+    assert!(err.contains("recorded nothing"), "{err}");
+}
+
+#[test]
+fn the_pin_summary_counts_in_words() {
+    let src = "#[cover]\nfn lone(#[levels(1, 2)] a: u8, #[levels(3, 4)] b: u8) {}\n";
+    let c = Crate::new(&[("tests/lone.rs", src)]);
+    let r = c.heddle(&["pin"]);
+    r.ok();
+    assert!(
+        r.stdout().contains("heddle-pins.toml: wrote 1 pin (1 new, "),
+        "{}",
+        r.stdout()
+    );
 }
 
 #[test]

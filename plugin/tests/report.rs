@@ -876,3 +876,91 @@ fn focus_sets_too_large_to_count_are_named_in_the_notes() {
         "{notes:?}"
     );
 }
+
+/// A workspace with no members selects no package, and to the store reader no package
+/// means every package: `report` and `probe` there must refuse, not show the runs
+/// another project left in a shared target directory.
+#[test]
+fn a_workspace_without_members_does_not_report_other_projects_runs() {
+    let dir = tempfile::tempdir().unwrap();
+    let target = dir.path().join("shared-target");
+    write_run(&target, "run-shop", 1, |_, _| false);
+    let empty = dir.path().join("empty");
+    std::fs::create_dir_all(&empty).unwrap();
+    std::fs::write(empty.join("Cargo.toml"), "[workspace]\nmembers = []\n").unwrap();
+    // the run is there to be found: `--store` reads every package in it
+    let all = report(&["--store", target.to_str().unwrap()]);
+    assert!(all.status.success(), "{}", String::from_utf8_lossy(&all.stderr));
+    assert!(String::from_utf8_lossy(&all.stdout).contains("totals"));
+    // (and merging no runs of it is refused with a hint)
+    let none = report(&["--store", target.to_str().unwrap(), "--runs", "0"]);
+    assert_eq!(none.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&none.stderr);
+    assert!(err.contains("`--runs` must be at least 1\n  hint: "), "{err}");
+    for cmd in ["report", "probe"] {
+        let o = Command::new(env!("CARGO_BIN_EXE_cargo-heddle"))
+            .args(["heddle", cmd])
+            .current_dir(&empty)
+            .env("CARGO_TARGET_DIR", &target)
+            .env("NO_COLOR", "1")
+            .output()
+            .unwrap();
+        let (out, err) = (
+            String::from_utf8_lossy(&o.stdout),
+            String::from_utf8_lossy(&o.stderr),
+        );
+        assert_eq!(o.status.code(), Some(2), "{cmd}: {out}{err}");
+        assert!(err.contains("has no member packages\n  hint: "), "{cmd}: {err}");
+        assert!(!out.contains("totals"), "{cmd}: {out}");
+    }
+}
+
+/// With `HEDDLE_TARGET_DIR` set the report reads only there, so finding nothing names
+/// that directory, not cargo's target directory it never looked in.
+#[test]
+fn no_records_names_the_directory_it_looked_in() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(
+        dir.path().join("Cargo.toml"),
+        "[package]\nname = \"lone\"\nversion = \"0.1.0\"\nedition = \"2021\"\n\n[workspace]\n",
+    )
+    .unwrap();
+    std::fs::create_dir_all(dir.path().join("src")).unwrap();
+    std::fs::write(dir.path().join("src/lib.rs"), "").unwrap();
+    let elsewhere = dir.path().join("elsewhere");
+    let o = Command::new(env!("CARGO_BIN_EXE_cargo-heddle"))
+        .args(["heddle", "report"])
+        .current_dir(dir.path())
+        .env("HEDDLE_TARGET_DIR", &elsewhere)
+        .env_remove("CARGO_TARGET_DIR")
+        .output()
+        .unwrap();
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(2), "{err}");
+    let says = format!("error: no heddle records found in `{}`\n", elsewhere.display());
+    assert!(err.starts_with(&says), "{err}");
+}
+
+/// Nothing recorded at all is incomplete: with `--fail-on incomplete` the report exits
+/// 5, as when a shard is missing; without it, 2.
+#[test]
+fn nothing_recorded_is_incomplete_when_asked() {
+    let dir = tempfile::tempdir().unwrap();
+    let empty = dir.path().join("shards");
+    std::fs::create_dir_all(empty.join("job1/heddle").join(RUNS_DIR)).unwrap();
+    let missing = dir.path().join("never-downloaded");
+    for store in [&empty, &missing] {
+        let store = store.to_str().unwrap();
+        let gate = report(&["--store", store, "--fail-on", "failures,incomplete"]);
+        let err = String::from_utf8_lossy(&gate.stderr);
+        assert_eq!(gate.status.code(), Some(5), "{store}: {err}");
+        assert!(err.starts_with("error: no "), "{err}");
+        assert!(err.contains("(`--fail-on incomplete`: exit code 5)"), "{err}");
+        for args in [
+            &["--store", store][..],
+            &["--store", store, "--fail-on", "failures"],
+        ] {
+            assert_eq!(report(args).status.code(), Some(2), "{args:?}");
+        }
+    }
+}

@@ -6,7 +6,7 @@
 //! later ([`crate::ast`], [`mod@crate::validate`]), so an unknown key is reported as such
 //! rather than as a syntax error.
 
-use proc_macro2::{Span, TokenStream};
+use proc_macro2::{Delimiter, Group, Span, TokenStream, TokenTree};
 use syn::ext::IdentExt;
 use syn::parse::{Parse, ParseStream, Parser};
 use syn::punctuated::Punctuated;
@@ -67,13 +67,48 @@ impl Parse for Arg {
             let content;
             let paren = syn::parenthesized!(content in input);
             let tokens: TokenStream = content.parse()?;
-            let expr = syn::parse2::<syn::Expr>(tokens.clone());
+            let expr = parse_to_end(
+                |input: ParseStream| {
+                    let expr: syn::Expr = input.parse()?;
+                    if !input.is_empty() {
+                        return Err(input.error("unexpected token"));
+                    }
+                    Ok(expr)
+                },
+                tokens.clone(),
+                paren.span.close(),
+            );
             ArgValue::Call { paren, tokens, expr }
         } else {
             ArgValue::Flag
         };
         Ok(Arg { key, value })
     }
+}
+
+/// Parses `tokens` to their end with `parser`, as if they sat in parentheses whose
+/// closing one is at `end`: a plain `parse2` blames an input that stops too early
+/// (`exclude(a ==)`) on the call site, which is the whole attribute in the macro and
+/// line 1 in the plugin, where the user needs the place it stopped.
+pub fn parse_to_end<T>(
+    parser: impl FnOnce(ParseStream) -> syn::Result<T>,
+    tokens: TokenStream,
+    end: Span,
+) -> syn::Result<T> {
+    let mut group = Group::new(Delimiter::Parenthesis, tokens);
+    group.set_span(end);
+    (|input: ParseStream| {
+        let content;
+        syn::parenthesized!(content in input);
+        parser(&content)
+    })
+    .parse2(TokenTree::Group(group).into())
+}
+
+/// The span of the last token of `tokens` (where an input that stops too early
+/// stopped), or `otherwise` when there is none.
+pub fn last_span(tokens: &TokenStream, otherwise: Span) -> Span {
+    tokens.clone().into_iter().last().map_or(otherwise, |t| t.span())
 }
 
 impl Args {
@@ -86,9 +121,9 @@ impl Args {
             "write each condition as an `exclude(…)` of its own, without redundant parentheses",
             crate::nesting::Scope::Expressions,
         )?;
-        let items = Punctuated::<Arg, Token![,]>::parse_terminated
-            .parse2(tokens)
-            .map_err(|e| {
+        let end = last_span(&tokens, span);
+        let items =
+            parse_to_end(Punctuated::<Arg, Token![,]>::parse_terminated, tokens, end).map_err(|e| {
                 crate::diag::error_at_span(
                     e.span(),
                     format!("cannot read `#[{}(…)]`: {e}", crate::keywords::COVER),
@@ -162,6 +197,31 @@ mod tests {
             "{e}"
         );
         assert!(parse("strength 2").is_err());
+    }
+
+    #[test]
+    fn input_that_stops_early_is_blamed_where_it_stops() {
+        // (attribute, the text at whose start the error must point)
+        for (attr, at) in [
+            ("#[cover(strength =)]", "=)"),
+            ("#[cover(exclude(a ==))]", "))"),
+            ("#[cover(require(a =))]", "=)"),
+            ("#[cover(focus(a, b, strength =))]", "=)"),
+        ] {
+            let src = format!("\n\n{attr}\nfn f(#[levels(1, 2)] a: u8, #[levels(true, false)] b: bool) {{}}");
+            let found = crate::find::analyse_source(&src, &crate::Defaults::default()).unwrap();
+            let Err(errors) = &found[0].spec else {
+                panic!("`{attr}` was accepted");
+            };
+            for e in errors.clone() {
+                let start = e.span().start();
+                assert_eq!(
+                    (start.line, start.column),
+                    (3, attr.find(at).unwrap()),
+                    "{attr}: {e}"
+                );
+            }
+        }
     }
 
     #[test]

@@ -76,7 +76,9 @@ struct Package {
 
 #[derive(Deserialize)]
 struct Metadata {
-    heddle: Option<Spanned<toml::Table>>,
+    // any value, so that one other than a table is named as such here: cargo itself
+    // never looks inside `[package.metadata]`
+    heddle: Option<Spanned<toml::Value>>,
 }
 
 impl Defaults {
@@ -96,9 +98,24 @@ impl Defaults {
         let Some(table) = manifest.package.and_then(|p| p.metadata).and_then(|m| m.heddle) else {
             return Ok(Defaults::default());
         };
-        let mut d = Defaults::default();
         let table_at = at(text, Some(table.span()));
-        for (key, value) in table.get_ref() {
+        let Some(table) = table.get_ref().as_table() else {
+            return Err(DefaultsError(diag::diagnostic(
+                format!(
+                    "`package.metadata.{}` in `{}`{table_at} is `{}`, not a table",
+                    METADATA_TABLE,
+                    MANIFEST_FILE,
+                    table.get_ref()
+                ),
+                format!(
+                    "write a table: `[package.metadata.{}]` with the keys {} on the lines below it",
+                    METADATA_TABLE,
+                    diag::list(METADATA_KEYS)
+                ),
+            )));
+        };
+        let mut d = Defaults::default();
+        for (key, value) in table {
             let found = value.to_string();
             let int = value.as_integer().and_then(|v| u64::try_from(v).ok());
             let bad = |range: &str| {
@@ -240,6 +257,14 @@ mod tests {
             .unwrap_err()
             .to_string();
         assert!(e.contains("non-negative"), "{e}");
+        // cargo accepts any value there, so the hint must not send the user to cargo
+        let e = Defaults::from_manifest("[package]\nname = \"x\"\n\n[package.metadata]\nheddle = 1\n")
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.starts_with("`package.metadata.heddle` in `Cargo.toml` (line 5, column 10) is `1`, not a table\nhint: write a table: `[package.metadata.heddle]`"),
+            "{e}"
+        );
     }
 
     #[test]

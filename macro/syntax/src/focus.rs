@@ -5,7 +5,6 @@
 
 use heddle_generator::{Factor, Focus};
 use proc_macro2::TokenStream;
-use syn::parse::Parser;
 use syn::punctuated::Punctuated;
 use syn::{Ident, Token};
 
@@ -57,7 +56,11 @@ pub(crate) fn convert(
     errs: &mut Errors,
 ) -> Option<Focus> {
     let shown = canonical(tokens);
-    let items = match Punctuated::<Arg, Token![,]>::parse_terminated.parse2(tokens.clone()) {
+    let items = match crate::args::parse_to_end(
+        Punctuated::<Arg, Token![,]>::parse_terminated,
+        tokens.clone(),
+        crate::args::last_span(tokens, key.span()),
+    ) {
         Ok(items) => items,
         Err(e) => {
             errs.at_span(

@@ -12,7 +12,6 @@
 use heddle_generator::{Expr, Factor, Row, Spec, UNSET};
 use proc_macro2::TokenStream;
 use quote::ToTokens;
-use syn::parse::Parser;
 use syn::punctuated::Punctuated;
 use syn::{Ident, Token};
 
@@ -93,7 +92,11 @@ pub fn example() -> String {
 /// Converts the tokens of one `require(…)` (written after `key`) into a row; every
 /// problem found is added to `errs`, and `None` is returned when there was any.
 pub fn convert(key: &Ident, tokens: &TokenStream, factors: &[Factor], errs: &mut Errors) -> Option<Row> {
-    let items = match Punctuated::<syn::Expr, Token![,]>::parse_terminated.parse2(tokens.clone()) {
+    let items = match crate::args::parse_to_end(
+        Punctuated::<syn::Expr, Token![,]>::parse_terminated,
+        tokens.clone(),
+        crate::args::last_span(tokens, key.span()),
+    ) {
         Ok(items) => items,
         Err(e) => {
             errs.at_span(

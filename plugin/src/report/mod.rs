@@ -25,7 +25,7 @@ use heddle_test::record::{RowRecord, SpecRecord};
 
 use crate::analysis::{self, Analysis};
 use crate::budget::BudgetReach;
-use crate::failure::{Diagnostic, Failure, usage};
+use crate::failure::{Diagnostic, Failure, unrecorded, usage};
 use crate::workspace::{self, Selection};
 use ran::Ran;
 
@@ -112,7 +112,7 @@ impl FailOn {
                 let n = rows(&|r| r.count.is_mixed());
                 (n > 0).then(|| format!("{n} row{} both passed and failed", s(n)))
             }
-            FailOn::Incomplete if report.suites.is_empty() => Some("no suite was recorded".into()),
+            FailOn::Incomplete if report.suites.is_empty() => Some(NO_SUITE.into()),
             FailOn::Incomplete => {
                 let n = report.suites.iter().filter(|x| !x.ran.complete()).count();
                 (n > 0).then(|| format!("{n} suite{} did not run every interaction in lambda rows", s(n)))
@@ -121,6 +121,9 @@ impl FailOn {
     }
 }
 
+/// Why `--fail-on incomplete` holds when there is nothing to report on.
+const NO_SUITE: &str = "no suite was recorded";
+
 /// The exit code `--fail-on` asks for, saying on stderr which condition held.
 pub fn fail_code(report: &Report<'_>, fail_on: &[FailOn]) -> ExitCode {
     let mut asked = fail_on.to_vec();
@@ -128,14 +131,21 @@ pub fn fail_code(report: &Report<'_>, fail_on: &[FailOn]) -> ExitCode {
     asked.dedup();
     for f in asked {
         if let Some(why) = f.holds(report) {
-            let name = f
-                .to_possible_value()
-                .map_or_else(String::new, |v| v.get_name().to_string());
-            eprintln!("heddle: {why} (`--fail-on {name}`: exit code {})", f.code());
-            return ExitCode::from(f.code());
+            return f.exit(&why);
         }
     }
     ExitCode::SUCCESS
+}
+
+impl FailOn {
+    /// Says on stderr why this condition held, and gives its exit code.
+    fn exit(self, why: &str) -> ExitCode {
+        let name = self
+            .to_possible_value()
+            .map_or_else(String::new, |v| v.get_name().to_string());
+        eprintln!("heddle: {why} (`--fail-on {name}`: exit code {})", self.code());
+        ExitCode::from(self.code())
+    }
 }
 
 /// `--runs`: a count, or `all` (every run).
@@ -385,7 +395,7 @@ pub fn levels_text(pairs: &[(&str, &str)]) -> String {
 /// no project) it covers the `-p` given, else every package found.
 pub fn open_store(args: &ReportArgs) -> Result<(Store, Vec<String>), Failure> {
     let not_found = |what: String| {
-        usage(Diagnostic::new(format!("no heddle records found {what}")).hint(format!(
+        unrecorded(Diagnostic::new(format!("no heddle records found {what}")).hint(format!(
             "run the tests first, e.g. `cargo heddle test`; tests that ran outside cargo's target directory (a nextest archive, `--archive-file`) record only where `{}` points",
             heddle_test::record::layout::TARGET_DIR_VAR
         )))
@@ -405,13 +415,16 @@ pub fn open_store(args: &ReportArgs) -> Result<(Store, Vec<String>), Failure> {
         return Ok((store, args.selection.package.clone()));
     }
     let project = workspace::load(&args.selection)?;
-    let roots: Vec<PathBuf> = project
-        .record_roots()
-        .into_iter()
+    let searched = project.record_roots();
+    let roots: Vec<PathBuf> = searched
+        .iter()
         .filter(|r| find_root(r).is_some())
+        .cloned()
         .collect();
     if roots.is_empty() {
-        return Err(not_found(format!("in `{}`", project.target_dir.display())));
+        // name where it looked: `HEDDLE_TARGET_DIR` replaces the target directory
+        let places: Vec<String> = searched.iter().map(|r| format!("`{}`", r.display())).collect();
+        return Err(not_found(format!("in {}", places.join(" or "))));
     }
     let store = Store::merge(roots).map_err(|e| usage(e.diagnostic()))?;
     let packages = project.packages.iter().map(|p| p.name.clone()).collect();
@@ -432,13 +445,18 @@ pub fn read(store: &Store, args: &ReportArgs, packages: &[String]) -> Result<(Re
         return Ok((records, ours.len().saturating_sub(1)));
     }
     let n = match args.runs {
-        Some(0) => return Err(usage("`--runs` must be at least 1")),
+        Some(0) => {
+            return Err(usage(
+                Diagnostic::new("`--runs` must be at least 1")
+                    .hint("write `--runs 10` for the last ten runs, or `--runs all`"),
+            ));
+        }
         Some(n) => n,
         None => 1,
     };
     if ours.is_empty() {
         let names: Vec<String> = packages.iter().map(|p| format!("`{p}`")).collect();
-        return Err(usage(
+        return Err(unrecorded(
             Diagnostic::new(format!(
                 "no run in the store recorded {}",
                 if names.is_empty() {
@@ -596,8 +614,18 @@ pub fn run(args: ReportArgs) -> Result<ExitCode, Failure> {
             .hint("for example `--confidence 0.95`"),
         ));
     }
-    let (store, packages) = open_store(&args)?;
-    let (records, other) = read(&store, &args, &packages)?;
+    let opened = open_store(&args).and_then(|(store, packages)| {
+        let (records, other) = read(&store, &args, &packages)?;
+        Ok((store, packages, records, other))
+    });
+    let (store, packages, records, other) = match opened {
+        // nothing recorded at all is the most incomplete a run can be
+        Err(Failure::Unrecorded(d)) if args.fail_on.contains(&FailOn::Incomplete) => {
+            eprintln!("error: {d}");
+            return Ok(FailOn::Incomplete.exit(NO_SUITE));
+        }
+        opened => opened?,
+    };
     print(&records, &args, &packages, other, store.roots().len())
 }
 

@@ -373,6 +373,46 @@ mod tests {
     }
 
     #[test]
+    fn a_spec_run_before_and_after_pinning_its_same_rows_is_one_suite_without_a_note() {
+        let tmp = tempfile::tempdir().unwrap();
+        let root = tmp.path().join("heddle");
+        let mut pinned = spec("r2");
+        pinned.pinned = true;
+        write_file(
+            &root,
+            "r1",
+            "0000000000001-1-0.jsonl",
+            &[Line::Spec(spec("r1")), Line::Row(row("r1", 0, Outcome::Passed))],
+            "",
+        );
+        write_file(
+            &root,
+            "r2",
+            "0000000000002-2-0.jsonl",
+            &[Line::Spec(pinned), Line::Row(row("r2", 1, Outcome::Failed))],
+            "",
+        );
+        let rec = Store::open(&root).unwrap().read_all().unwrap();
+        assert_eq!(rec.stats.conflicting_specs, 0);
+        assert!(rec.stats.notes().is_empty(), "{:?}", rec.stats.notes());
+        assert_eq!(rec.suites.len(), 1);
+        assert_eq!(rec.suites[0].outcomes().count(), 2);
+        // rows of their own under one fingerprint still contradict
+        let mut other = spec("r3");
+        other.rows[0][0] ^= 1;
+        write_file(&root, "r3", "0000000000003-3-0.jsonl", &[Line::Spec(other)], "");
+        assert_eq!(
+            Store::open(&root)
+                .unwrap()
+                .read_all()
+                .unwrap()
+                .stats
+                .conflicting_specs,
+            1
+        );
+    }
+
+    #[test]
     fn missing_and_empty_stores_are_named() {
         let tmp = tempfile::tempdir().unwrap();
         assert!(matches!(

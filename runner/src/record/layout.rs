@@ -96,15 +96,25 @@ pub struct RunIdError {
     pub reason: &'static str,
 }
 
+impl RunIdError {
+    /// What is wrong, without the hint (for front ends that print the hint apart).
+    pub fn message(&self) -> String {
+        format!("invalid run id `{}`: {}", self.value.escape_debug(), self.reason)
+    }
+
+    /// What a valid run id looks like.
+    pub fn hint(&self) -> String {
+        format!(
+            "use ASCII letters, digits, `.`, `_` and `-`, starting with a letter or digit, \
+             at most {MAX_RUN_ID_LEN} characters"
+        )
+    }
+}
+
+/// The one-line shape of the runtime's warnings: `message; hint: hint`.
 impl std::fmt::Display for RunIdError {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        write!(
-            f,
-            "invalid run id `{}`: {}; hint: use ASCII letters, digits, `.`, `_` and `-`, \
-             starting with a letter or digit, at most {MAX_RUN_ID_LEN} characters",
-            self.value.escape_debug(),
-            self.reason
-        )
+        write!(f, "{}; hint: {}", self.message(), self.hint())
     }
 }
 

@@ -284,6 +284,9 @@ impl SpecRecord {
             SpecRecord {
                 run: String::new(),
                 time: String::new(),
+                // the same rows from the pins file after `cargo heddle pin` are the
+                // same design (a pin with other rows differs in `rows`)
+                pinned: false,
                 budget: None,
                 followups: 0,
                 focus: Vec::new(),

@@ -137,6 +137,11 @@ pub(super) fn check_keys<'a>(cover: &CoverFn<'a>, errs: &mut Errors) -> KeyValue
             }
             KeyKind::Exclude => match &key.arg.value {
                 ArgValue::Call { expr: Ok(e), .. } => kv.excludes.push(e),
+                ArgValue::Call { tokens, .. } if tokens.is_empty() => errs.at(
+                    &key.arg.key,
+                    format!("`{}()` holds no condition", kw::EXCLUDE),
+                    exclude_hint(),
+                ),
                 ArgValue::Call {
                     expr: Err(e), tokens, ..
                 } => errs.at_span(

@@ -71,6 +71,19 @@ pub(super) fn check_params(cover: &CoverFn<'_>, errs: &mut Errors) -> Option<Vec
             ok = false;
             continue;
         }
+        if let syn::Meta::NameValue(nv) = &first.attr.meta {
+            errs.at(
+                first.attr,
+                format!("`#[{} = …]` is not how levels are listed", kw::LEVELS),
+                format!(
+                    "write the levels in parentheses: `#[{}({})]`",
+                    kw::LEVELS,
+                    canonical(&nv.value)
+                ),
+            );
+            ok = false;
+            continue;
+        }
         let list = match &first.levels {
             Ok(l) => l,
             // an error of heddle's own (it has a hint) stands as it is
