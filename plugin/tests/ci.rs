@@ -283,6 +283,87 @@ fn flaky_needs_a_row_that_both_passed_and_failed() {
     assert_eq!(suite(&v, "valves")["suspects"][0]["verdict"], "always");
 }
 
+/// A row that failed, was fixed in the code and passed when rerun is not flaky: the two
+/// runs were two builds, and `--runs 2` lets the later build's outcome stand (saying what
+/// it left out). Runs of one unchanged build still merge whole, so a flake seen across
+/// them is still flaky.
+#[test]
+fn a_fix_between_runs_is_not_flakiness() {
+    let krate = create(
+        "ci_fixed",
+        "tests/valves.rs",
+        &format!("//! A broken pair.\n{VALVES}"),
+    );
+    krate.write("tests/misting.rs", &format!("//! A flaky pair.\n{MISTING}"));
+    let store = krate.store_dir("history");
+    let broken = heddle(
+        &krate,
+        &words("test --quiet --format json -- --test valves"),
+        Some(&store),
+        &[],
+    );
+    let v = parse_json(&broken);
+    let valves = suite(&v, "valves");
+    assert_eq!(valves["suspects"][0]["verdict"], "always", "{valves:#}");
+    let failing: Vec<String> = valves["failing_rows"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|r| r["test"].as_str().unwrap().to_string())
+        .collect();
+    assert!(!failing.is_empty(), "{valves:#}");
+
+    // the fix: the spec (and so the fingerprint) is unchanged, the body is not
+    let fixed = VALVES.replace(
+        "assert!(!(valve == \"shut\" && zone == 3), \"shut valve starves zone 3\");",
+        "assert!(zone > 0, \"zone {zone} of valve {valve}\");",
+    );
+    assert_ne!(fixed, VALVES);
+    krate.write("tests/valves.rs", &format!("//! The pair, fixed.\n{fixed}"));
+    for test in &failing {
+        let mut args = words("test --quiet -- --test valves");
+        args.extend([test.as_str(), "--", "--exact"]);
+        let rerun = heddle(&krate, &args, Some(&store), &[]);
+        assert_eq!(rerun.code, Some(0), "{}", rerun.stderr);
+    }
+    let runs = (failing.len() + 1).to_string();
+    let merged = heddle(
+        &krate,
+        &["report", "--runs", &runs, "--format", "json"],
+        Some(&store),
+        &[],
+    );
+    let v = parse_json(&merged);
+    let valves = suite(&v, "valves");
+    assert_eq!(valves["flaky"], serde_json::json!([]), "{valves:#}");
+    assert_eq!(valves["suspects"], serde_json::json!([]), "{valves:#}");
+    assert_eq!(valves["failed"], 0, "{valves:#}");
+    let n = failing.len();
+    let note = format!(
+        "note: left out {n} row record{} of earlier runs of another build",
+        if n == 1 { "" } else { "s" }
+    );
+    assert!(merged.stderr.contains(&note), "{}", merged.stderr);
+
+    // two runs of one build: the flake's rows failed in the first and passed in the
+    // second, which is flakiness
+    let markers = krate.root().join("markers");
+    let markers = markers.to_str().unwrap();
+    for _ in 0..2 {
+        heddle(
+            &krate,
+            &words("test --quiet -- --test misting"),
+            Some(&store),
+            &[("MARKERS", markers)],
+        );
+    }
+    let history = heddle(&krate, &words("report --runs 2 --format json"), Some(&store), &[]);
+    let v = parse_json(&history);
+    let misting = suite(&v, "misting");
+    assert_eq!(misting["suspects"][0]["verdict"], "flaky", "{misting:#}");
+    assert!(!history.stderr.contains("another build"), "{}", history.stderr);
+}
+
 /// The run id `cargo heddle test` announced on stderr.
 fn run_id(run: &Run) -> String {
     run.stderr

@@ -15,6 +15,8 @@ pub(crate) struct Config {
     pub(crate) run_id: String,
     /// nextest's attempt number for this process (nextest runs one test per process).
     pub(crate) attempt: Option<u32>,
+    /// Which build of the test executable this process is ([`build_id`]).
+    pub(crate) build: Option<String>,
 }
 
 /// Why a process cannot record. Printed as a one-line warning; never fails a test.
@@ -107,12 +109,27 @@ pub(crate) fn attempt(var: &dyn Fn(&str) -> Option<OsString>) -> Option<u32> {
         .filter(|&n| n >= 1)
 }
 
+/// Names one build of the test executable: its size and modification time, which a
+/// rebuild (a change to the code under test, the test or a dependency) changes, and
+/// which every process started from that executable shares. Reading the metadata costs
+/// one `stat`, where hashing the contents would cost every nextest process a read of
+/// the whole executable. `None` when the metadata cannot be read: such rows are one
+/// build of unknown identity, as rows written before the field existed.
+pub(crate) fn build_id(exe: &std::path::Path) -> Option<String> {
+    let meta = std::fs::metadata(exe).ok()?;
+    let modified = meta.modified().ok()?;
+    let since = modified.duration_since(std::time::UNIX_EPOCH).ok()?;
+    Some(format!("{:x}-{:x}", meta.len(), since.as_nanos()))
+}
+
 /// Resolves the store and run id from an env lookup and the executable's path.
 pub(crate) fn resolve(
     var: &dyn Fn(&str) -> Option<OsString>,
     exe: &dyn Fn() -> io::Result<PathBuf>,
 ) -> Result<Config, SetupError> {
     let run_id = run_id(var)?;
+    let exe_path = exe();
+    let build = exe_path.as_deref().ok().and_then(build_id);
     let dir = match non_empty(var, TARGET_DIR_VAR) {
         Some(path) => {
             let path = PathBuf::from(path);
@@ -125,7 +142,7 @@ pub(crate) fn resolve(
             path
         }
         None => {
-            let exe = exe().map_err(|reason| SetupError::NoExecutable { reason })?;
+            let exe = exe_path.map_err(|reason| SetupError::NoExecutable { reason })?;
             layout::find_build_dir(&exe).ok_or(SetupError::NoBuildDir { exe })?
         }
     };
@@ -133,6 +150,7 @@ pub(crate) fn resolve(
         store: layout::store_root(&dir),
         run_id,
         attempt: attempt(var),
+        build,
     })
 }
 
@@ -216,6 +234,28 @@ mod tests {
             err.to_string()
                 .starts_with("`HEDDLE_TARGET_DIR` is not a usable directory")
         );
+    }
+
+    #[test]
+    fn a_rebuilt_executable_is_another_build() {
+        let tmp = tempfile::tempdir().unwrap();
+        let exe = tmp.path().join("t-0123");
+        std::fs::write(&exe, "first build").unwrap();
+        let first = build_id(&exe).expect("metadata of a file is readable");
+        assert_eq!(build_id(&exe).as_ref(), Some(&first), "one build, one name");
+        // the same size written again, later: cargo relinking after a change
+        let f = std::fs::File::options().write(true).open(&exe).unwrap();
+        let later = std::fs::metadata(&exe).unwrap().modified().unwrap() + std::time::Duration::from_secs(5);
+        f.set_modified(later).unwrap();
+        assert_ne!(build_id(&exe), Some(first.clone()));
+        std::fs::write(&exe, "a longer second build").unwrap();
+        assert_ne!(build_id(&exe), Some(first));
+        assert_eq!(build_id(&tmp.path().join("gone")), None);
+        let e = env(&[(RUN_ID_VAR, "r")]);
+        let path = exe.clone();
+        let found = move || Ok(path.clone());
+        std::fs::write(tmp.path().join(layout::CACHEDIR_TAG), "").unwrap();
+        assert_eq!(resolve(&e, &found).unwrap().build, build_id(&exe));
     }
 
     #[test]

@@ -15,7 +15,8 @@ use crate::read::Partial;
 pub struct SuiteRecords {
     /// Its spec (the first spec line read for it).
     pub spec: SpecRecord,
-    /// Its row records, in run order, then file order, then line order.
+    /// Its row records, in run order, then file order, then line order; a row's
+    /// executions in earlier runs by another build than its latest are left out.
     pub rows: Vec<RowRecord>,
 }
 
@@ -106,7 +107,38 @@ pub(crate) fn join(runs: Vec<RunInfo>, partials: Vec<Partial>) -> Records {
         stats.row_lines += 1;
         suites[i].rows.push(row);
     }
+    for suite in &mut suites {
+        let left_out = keep_latest_builds(&mut suite.rows);
+        stats.superseded_rows += left_out;
+        stats.row_lines -= left_out;
+    }
     Records { runs, suites, stats }
+}
+
+/// Lets each row's latest build decide its outcome: the executions of a row in earlier
+/// runs by another build of the test executable are left out, since the code changed in
+/// between (a row that failed, was fixed and passed is not flaky). Executions in the
+/// row's latest run all stay whatever their build (shards of one run built on several
+/// machines), and so do earlier runs of the same build (history across runs of unchanged
+/// code, which is what shows a flake). Rows come in run order, so the last is the latest.
+/// Returns how many executions were left out.
+fn keep_latest_builds(rows: &mut Vec<RowRecord>) -> usize {
+    let mut latest: BTreeMap<u32, (&str, Option<&str>)> = BTreeMap::new();
+    for r in rows.iter() {
+        latest.insert(r.row, (r.run.as_str(), r.build.as_deref()));
+    }
+    let keep: Vec<bool> = rows
+        .iter()
+        .map(|r| {
+            latest
+                .get(&r.row)
+                .is_none_or(|&(run, build)| r.run == run || r.build.as_deref() == build)
+        })
+        .collect();
+    let before = rows.len();
+    let mut flags = keep.into_iter();
+    rows.retain(|_| flags.next().unwrap_or(true));
+    before - rows.len()
 }
 
 /// Whether a row record carries this spec's key.

@@ -15,7 +15,10 @@
 //! stamp among its file names, which orders runs without reading them. Shards (stores
 //! copied from several CI jobs) are merged by opening them together: a run present in
 //! several shards is the union of its files, and a file present twice (the same shard
-//! copied twice) is read once.
+//! copied twice) is read once. When runs are merged, a row run again in a later run by
+//! another build of the test executable (`RowRecord::build`) keeps only the executions
+//! from that build on: the code changed in between, so the earlier outcome is no
+//! evidence about it (counted in [`ReadStats::superseded_rows`]).
 //!
 //! Reading never fails on content: corrupt or truncated lines, lines of another format
 //! version, rows whose spec is missing or does not match are skipped and counted in

@@ -49,6 +49,9 @@ pub struct ReadStats {
     pub orphan_rows: usize,
     /// Row lines whose row index or labels disagree with their spec.
     pub mismatched_rows: usize,
+    /// Row lines left out because a later run ran the same row in another build of the
+    /// test executable: the code changed in between, and the later outcome stands.
+    pub superseded_rows: usize,
     /// Files left out as copies of a file in another root.
     pub duplicate_files: usize,
     /// Files or directories that could not be read.
@@ -133,6 +136,15 @@ impl ReadStats {
                 );
             }
         }
+        if self.superseded_rows > 0 {
+            out.push(
+                Diagnostic::new(format!(
+                    "left out {} of earlier runs of another build: a later build ran those rows again, and its outcomes stand",
+                    plural(self.superseded_rows, "row record", "row records")
+                ))
+                .hint("a row that failed before a rebuild and passed after it was changed, not flaky; runs of one build are merged whole"),
+            );
+        }
         if self.duplicate_files > 0 {
             out.push(Diagnostic::new(format!(
                 "read {} found in several stores once",
@@ -189,6 +201,7 @@ impl ReadStats {
         self.conflicting_specs += other.conflicting_specs;
         self.orphan_rows += other.orphan_rows;
         self.mismatched_rows += other.mismatched_rows;
+        self.superseded_rows += other.superseded_rows;
         self.duplicate_files += other.duplicate_files;
         self.unreadable.extend(other.unreadable);
     }

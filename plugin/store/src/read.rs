@@ -343,6 +343,81 @@ mod tests {
     }
 
     #[test]
+    fn a_later_build_supersedes_a_rows_earlier_runs_but_not_its_own() {
+        let tmp = tempfile::tempdir().unwrap();
+        let root = tmp.path().join("heddle");
+        let built = |run: &str, r: u32, outcome: Outcome, build: &str| {
+            let mut rec = row(run, r, outcome);
+            rec.build = Some(build.into());
+            Line::Row(rec)
+        };
+        // run 1, build A: row 0 fails, row 1 passes; run 2, build A: row 1 fails (a
+        // flake of one build); run 3, build B: row 0 passes (the fix), on two machines
+        // of one run whose builds differ (B and C: both stay)
+        let files: [(&str, &str, Vec<Line>); 4] = [
+            (
+                "r1",
+                "0000000000001-1-0.jsonl",
+                vec![
+                    built("r1", 0, Outcome::Failed, "A"),
+                    built("r1", 1, Outcome::Passed, "A"),
+                ],
+            ),
+            (
+                "r2",
+                "0000000000002-1-0.jsonl",
+                vec![built("r2", 1, Outcome::Failed, "A")],
+            ),
+            (
+                "r3",
+                "0000000000003-1-0.jsonl",
+                vec![built("r3", 0, Outcome::Passed, "B")],
+            ),
+            (
+                "r3",
+                "0000000000004-2-0.jsonl",
+                vec![built("r3", 0, Outcome::Failed, "C")],
+            ),
+        ];
+        for (run, name, rows) in files {
+            let mut lines = vec![Line::Spec(spec(run))];
+            lines.extend(rows);
+            write_file(&root, run, name, &lines, "");
+        }
+        let rec = Store::open(&root).unwrap().read_all().unwrap();
+        let kept: Vec<(String, u32, Outcome)> = rec.suites[0]
+            .rows
+            .iter()
+            .map(|r| (r.run.clone(), r.row, r.outcome))
+            .collect();
+        assert_eq!(
+            kept,
+            [
+                ("r1".to_string(), 1, Outcome::Passed),
+                ("r2".to_string(), 1, Outcome::Failed),
+                ("r3".to_string(), 0, Outcome::Passed),
+                ("r3".to_string(), 0, Outcome::Failed),
+            ]
+        );
+        assert_eq!((rec.stats.superseded_rows, rec.stats.row_lines), (1, 4));
+        let notes: Vec<String> = rec.stats.notes().iter().map(|d| d.one_line()).collect();
+        assert!(
+            notes[0].starts_with("left out 1 row record of earlier runs of another build"),
+            "{notes:?}"
+        );
+        // one run read alone keeps what it holds
+        assert_eq!(
+            Store::open(&root)
+                .unwrap()
+                .read_run("r1")
+                .unwrap()
+                .stats
+                .superseded_rows,
+            0
+        );
+    }
+
+    #[test]
     fn parallel_reading_gives_the_same_records_as_one_thread() {
         let tmp = tempfile::tempdir().unwrap();
         let root = tmp.path().join("heddle");
