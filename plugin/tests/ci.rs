@@ -364,6 +364,59 @@ fn a_fix_between_runs_is_not_flakiness() {
     assert!(!history.stderr.contains("another build"), "{}", history.stderr);
 }
 
+/// Runs before and after a spec change (here a level added along with a fix): the old
+/// spec's rows are another fingerprint, and merged with `--runs 2` its verdicts would
+/// speak for a test the code no longer has. Only the latest spec of the function is
+/// reported, with a note, and `--fail-on` judges that one.
+#[test]
+fn a_changed_spec_leaves_the_old_ones_verdicts_out() {
+    let krate = create(
+        "ci_respec",
+        "tests/valves.rs",
+        &format!("//! A broken pair.\n{VALVES}"),
+    );
+    let store = krate.store_dir("history");
+    let broken = heddle(
+        &krate,
+        &words("test --quiet --format json -- --test valves"),
+        Some(&store),
+        &[],
+    );
+    let old = suite(&parse_json(&broken), "valves")["fingerprint"].clone();
+    let changed = VALVES
+        .replace("#[levels(1, 2, 3)] zone", "#[levels(1, 2, 3, 4)] zone")
+        .replace(
+            "assert!(!(valve == \"shut\" && zone == 3)",
+            "assert!(!(valve == \"shut\" && zone == 5)",
+        );
+    assert_ne!(changed, VALVES);
+    krate.write(
+        "tests/valves.rs",
+        &format!("//! A fourth zone, and the pair fixed.\n{changed}"),
+    );
+    let after = heddle(&krate, &words("test --quiet -- --test valves"), Some(&store), &[]);
+    assert_eq!(after.code, Some(0), "{}", after.stderr);
+    let merged = heddle(
+        &krate,
+        &words("report --runs 2 --format json --fail-on failures"),
+        Some(&store),
+        &[],
+    );
+    assert_eq!(merged.code, Some(0), "{}", merged.stderr);
+    let v = parse_json(&merged);
+    let suites = v["suites"].as_array().unwrap();
+    assert_eq!(suites.len(), 1, "{v:#}");
+    assert_ne!(suites[0]["fingerprint"], old, "{v:#}");
+    assert_eq!(suites[0]["coverage"]["complete"], true, "{v:#}");
+    assert!(
+        merged
+            .stderr
+            .contains("note: left out 1 earlier spec of `valves` ("),
+        "{}",
+        merged.stderr
+    );
+}
+
 /// The run id `cargo heddle test` announced on stderr.
 fn run_id(run: &Run) -> String {
     run.stderr

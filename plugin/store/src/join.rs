@@ -112,7 +112,42 @@ pub(crate) fn join(runs: Vec<RunInfo>, partials: Vec<Partial>) -> Records {
         stats.superseded_rows += left_out;
         stats.row_lines -= left_out;
     }
+    let suites = latest_specs(suites, &runs, &mut stats);
     Records { runs, suites, stats }
+}
+
+/// Keeps, of the suites of one function (crate, target and path alike) recorded under
+/// several spec fingerprints, the one recorded last: a changed spec makes other rows, and
+/// the verdicts of the old ones describe a test the code no longer has. "Last" is the
+/// latest run holding a row (or, without rows, the spec line) of it; specs last recorded
+/// in the same run all stay, as nothing tells which is current.
+fn latest_specs(suites: Vec<SuiteRecords>, runs: &[RunInfo], stats: &mut ReadStats) -> Vec<SuiteRecords> {
+    let order: BTreeMap<&str, usize> = runs.iter().enumerate().map(|(i, r)| (r.id.as_str(), i)).collect();
+    let at = |run: &str| order.get(run).copied().unwrap_or(0);
+    let last = |s: &SuiteRecords| {
+        s.rows
+            .iter()
+            .map(|r| at(&r.run))
+            .max()
+            .unwrap_or_else(|| at(&s.spec.run))
+    };
+    let function = |s: &SuiteRecords| (s.spec.krate.clone(), s.spec.target.clone(), s.spec.suite.clone());
+    let mut newest: BTreeMap<(String, String, String), usize> = BTreeMap::new();
+    for s in &suites {
+        let n = newest.entry(function(s)).or_default();
+        *n = (*n).max(last(s));
+    }
+    let mut kept = Vec::with_capacity(suites.len());
+    for s in suites {
+        if last(&s) < newest[&function(&s)] {
+            stats.superseded_specs.push(s.spec.suite.clone());
+            stats.superseded_spec_rows += s.rows.len();
+            stats.row_lines -= s.rows.len();
+        } else {
+            kept.push(s);
+        }
+    }
+    kept
 }
 
 /// Lets each row's latest build decide its outcome: the executions of a row in earlier

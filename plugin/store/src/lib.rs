@@ -18,7 +18,9 @@
 //! copied twice) is read once. When runs are merged, a row run again in a later run by
 //! another build of the test executable (`RowRecord::build`) keeps only the executions
 //! from that build on: the code changed in between, so the earlier outcome is no
-//! evidence about it (counted in [`ReadStats::superseded_rows`]).
+//! evidence about it (counted in [`ReadStats::superseded_rows`]). Of a function recorded
+//! under several spec fingerprints, only the spec of the latest run is kept
+//! ([`ReadStats::superseded_specs`]).
 //!
 //! Reading never fails on content: corrupt or truncated lines, lines of another format
 //! version, rows whose spec is missing or does not match are skipped and counted in

@@ -52,6 +52,12 @@ pub struct ReadStats {
     /// Row lines left out because a later run ran the same row in another build of the
     /// test executable: the code changed in between, and the later outcome stands.
     pub superseded_rows: usize,
+    /// Suites (by libtest path) left out because a later run recorded the same
+    /// function under another spec fingerprint (levels, strength, λ, seed or excludes
+    /// changed): one entry per spec left out.
+    pub superseded_specs: Vec<String>,
+    /// Row lines of those specs.
+    pub superseded_spec_rows: usize,
     /// Files left out as copies of a file in another root.
     pub duplicate_files: usize,
     /// Files or directories that could not be read.
@@ -145,6 +151,19 @@ impl ReadStats {
                 .hint("a row that failed before a rebuild and passed after it was changed, not flaky; runs of one build are merged whole"),
             );
         }
+        if !self.superseded_specs.is_empty() {
+            let mut names: Vec<String> = self.superseded_specs.iter().map(|s| format!("`{s}`")).collect();
+            names.dedup();
+            out.push(
+                Diagnostic::new(format!(
+                    "left out {} of {} ({}): a later run recorded the same function under a changed spec",
+                    plural(self.superseded_specs.len(), "earlier spec", "earlier specs"),
+                    names.join(", "),
+                    plural(self.superseded_spec_rows, "row record", "row records")
+                ))
+                .hint("their rows and verdicts belong to a spec the code no longer has; `--run ID` reports an earlier run alone"),
+            );
+        }
         if self.duplicate_files > 0 {
             out.push(Diagnostic::new(format!(
                 "read {} found in several stores once",
@@ -202,6 +221,8 @@ impl ReadStats {
         self.orphan_rows += other.orphan_rows;
         self.mismatched_rows += other.mismatched_rows;
         self.superseded_rows += other.superseded_rows;
+        self.superseded_specs.extend(other.superseded_specs);
+        self.superseded_spec_rows += other.superseded_spec_rows;
         self.duplicate_files += other.duplicate_files;
         self.unreadable.extend(other.unreadable);
     }
