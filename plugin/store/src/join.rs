@@ -3,6 +3,7 @@
 //! wrote the same spec.
 
 use std::collections::BTreeMap;
+use std::path::{Path, PathBuf};
 
 use heddle_test::record::{Outcome, RowRecord, SpecRecord, SuiteKey};
 
@@ -47,7 +48,18 @@ pub(crate) fn join(runs: Vec<RunInfo>, partials: Vec<Partial>) -> Records {
     // every distinct content seen per key, the first one (in file order) kept
     let mut variants: BTreeMap<SuiteKey, Vec<SpecRecord>> = BTreeMap::new();
     let mut rows: Vec<RowRecord> = Vec::new();
+    // the store root each row was read from, by index into `roots`
+    let mut roots: Vec<PathBuf> = Vec::new();
+    let mut row_roots: Vec<usize> = Vec::new();
     for part in partials {
+        for (n, file) in &part.row_files {
+            let root = store_root_of(file);
+            let at = roots.iter().position(|r| *r == root).unwrap_or_else(|| {
+                roots.push(root);
+                roots.len() - 1
+            });
+            row_roots.extend(std::iter::repeat_n(at, *n));
+        }
         stats.absorb(part.stats);
         for spec in part.specs {
             let known = variants.entry(spec.key()).or_default();
@@ -86,8 +98,9 @@ pub(crate) fn join(runs: Vec<RunInfo>, partials: Vec<Partial>) -> Records {
             })
         })
         .collect();
+    let mut suite_roots: Vec<Vec<usize>> = vec![Vec::new(); suites.len()];
     let mut last: Option<usize> = None;
-    for row in rows {
+    for (row, root) in rows.into_iter().zip(row_roots) {
         let index = match last.filter(|&i| row_belongs(&row, &suites[i].spec)) {
             Some(i) => Some(i),
             None => {
@@ -106,9 +119,10 @@ pub(crate) fn join(runs: Vec<RunInfo>, partials: Vec<Partial>) -> Records {
         }
         stats.row_lines += 1;
         suites[i].rows.push(row);
+        suite_roots[i].push(root);
     }
-    for suite in &mut suites {
-        let left_out = keep_latest_builds(&mut suite.rows);
+    for (suite, roots) in suites.iter_mut().zip(&suite_roots) {
+        let left_out = keep_latest_builds(&mut suite.rows, roots);
         stats.superseded_rows += left_out;
         stats.row_lines -= left_out;
     }
@@ -151,29 +165,38 @@ fn latest_specs(suites: Vec<SuiteRecords>, runs: &[RunInfo], stats: &mut ReadSta
 }
 
 /// Lets each row's latest build decide its outcome: the executions of a row in earlier
-/// runs by another build of the test executable are left out, since the code changed in
-/// between (a row that failed, was fixed and passed is not flaky). Executions in the
-/// row's latest run all stay whatever their build (shards of one run built on several
-/// machines), and so do earlier runs of the same build (history across runs of unchanged
-/// code, which is what shows a flake). Rows come in run order, so the last is the latest.
-/// Returns how many executions were left out.
-fn keep_latest_builds(rows: &mut Vec<RowRecord>) -> usize {
-    let mut latest: BTreeMap<u32, (&str, Option<&str>)> = BTreeMap::new();
-    for r in rows.iter() {
-        latest.insert(r.row, (r.run.as_str(), r.build.as_deref()));
+/// runs by another build of the test executable, in the same store, are left out, since
+/// the code changed in between (a row that failed, was fixed and passed is not flaky).
+/// Executions in the row's latest run all stay whatever their build (shards of one run
+/// built on several machines), and so do earlier runs of the same build (history across
+/// runs of unchanged code, which is what shows a flake) and runs read from other stores
+/// (jobs of a CI matrix, copied and merged: another machine's build is no later version
+/// of this one, and a failure there must not be hidden). Rows come in run order, so the
+/// last is the latest; `roots` holds the store of each. Returns how many executions were
+/// left out.
+fn keep_latest_builds(rows: &mut Vec<RowRecord>, roots: &[usize]) -> usize {
+    let mut latest: BTreeMap<u32, (&str, Option<&str>, usize)> = BTreeMap::new();
+    for (r, &root) in rows.iter().zip(roots) {
+        latest.insert(r.row, (r.run.as_str(), r.build.as_deref(), root));
     }
     let keep: Vec<bool> = rows
         .iter()
-        .map(|r| {
-            latest
-                .get(&r.row)
-                .is_none_or(|&(run, build)| r.run == run || r.build.as_deref() == build)
+        .zip(roots)
+        .map(|(r, &root)| {
+            latest.get(&r.row).is_none_or(|&(run, build, store)| {
+                r.run == run || r.build.as_deref() == build || root != store
+            })
         })
         .collect();
     let before = rows.len();
     let mut flags = keep.into_iter();
     rows.retain(|_| flags.next().unwrap_or(true));
     before - rows.len()
+}
+
+/// The store root a record file lies in (`<root>/runs/<run id>/<file>`).
+fn store_root_of(file: &Path) -> PathBuf {
+    file.ancestors().nth(3).unwrap_or(file).to_path_buf()
 }
 
 /// Whether a row record carries this spec's key.

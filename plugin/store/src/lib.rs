@@ -16,8 +16,9 @@
 //! copied from several CI jobs) are merged by opening them together: a run present in
 //! several shards is the union of its files, and a file present twice (the same shard
 //! copied twice) is read once. When runs are merged, a row run again in a later run by
-//! another build of the test executable (`RowRecord::build`) keeps only the executions
-//! from that build on: the code changed in between, so the earlier outcome is no
+//! another build of the test executable (`RowRecord::build`) in the same store keeps
+//! only the executions from that build on (another store's build, a CI matrix job's, is
+//! no later version and stays): the code changed in between, so the earlier outcome is no
 //! evidence about it (counted in [`ReadStats::superseded_rows`]). Of a function recorded
 //! under several spec fingerprints, only the spec of the latest run is kept
 //! ([`ReadStats::superseded_specs`]).

@@ -17,6 +17,8 @@ pub(crate) struct Partial {
     /// Fully parsed, valid spec lines, in file order.
     pub(crate) specs: Vec<SpecRecord>,
     pub(crate) rows: Vec<RowRecord>,
+    /// The file each run of consecutive `rows` came from: (rows, file), in order.
+    pub(crate) row_files: Vec<(usize, PathBuf)>,
     pub(crate) stats: ReadStats,
 }
 
@@ -91,6 +93,7 @@ fn read_files(files: &[&Path]) -> Partial {
             continue;
         }
         stats.files += 1;
+        let rows_before = part.rows.len();
         for (i, raw) in bytes.split(|&b| b == b'\n').enumerate() {
             if raw.iter().all(u8::is_ascii_whitespace) {
                 continue;
@@ -142,6 +145,10 @@ fn read_files(files: &[&Path]) -> Partial {
                     }
                 }
             }
+        }
+        let read = part.rows.len() - rows_before;
+        if read > 0 {
+            part.row_files.push((read, path.to_path_buf()));
         }
     }
     part
@@ -415,6 +422,35 @@ mod tests {
                 .superseded_rows,
             0
         );
+    }
+
+    #[test]
+    fn another_stores_build_is_no_later_version() {
+        // two jobs of a matrix, each with its store, copied and merged: the row failed
+        // on one machine's build and passed on the other's, later; both stay
+        let tmp = tempfile::tempdir().unwrap();
+        for (job, run, ms, outcome, build) in [
+            ("linux", "r1", 1, Outcome::Failed, "A"),
+            ("mac", "r2", 2, Outcome::Passed, "B"),
+        ] {
+            let mut rec = row(run, 0, outcome);
+            rec.build = Some(build.into());
+            let root = tmp.path().join(job).join("heddle");
+            write_file(
+                &root,
+                run,
+                &format!("{ms:013}-1-0.jsonl"),
+                &[Line::Spec(spec(run)), Line::Row(rec)],
+                "",
+            );
+        }
+        let store = Store::discover(tmp.path()).unwrap();
+        let rec = store.read_all().unwrap();
+        assert_eq!(
+            rec.suites[0].outcomes().collect::<Vec<_>>(),
+            [(0, Outcome::Failed), (0, Outcome::Passed)]
+        );
+        assert_eq!(rec.stats.superseded_rows, 0);
     }
 
     #[test]
