@@ -283,18 +283,10 @@ fn flaky_needs_a_row_that_both_passed_and_failed() {
     assert_eq!(suite(&v, "valves")["suspects"][0]["verdict"], "always");
 }
 
-/// A row that failed, was fixed in the code and passed when rerun is not flaky: the two
-/// runs were two builds, and `--runs 2` lets the later build's outcome stand (saying what
-/// it left out). Runs of one unchanged build still merge whole, so a flake seen across
-/// them is still flaky.
-#[test]
-fn a_fix_between_runs_is_not_flakiness() {
-    let krate = create(
-        "ci_fixed",
-        "tests/valves.rs",
-        &format!("//! A broken pair.\n{VALVES}"),
-    );
-    krate.write("tests/misting.rs", &format!("//! A flaky pair.\n{MISTING}"));
+/// A crate of the broken `valves` suite, run once whole into a store of its own: the
+/// crate, the store and the JSON report of that run.
+fn broken_valves(name: &str) -> (Scratch, std::path::PathBuf, Value) {
+    let krate = create(name, "tests/valves.rs", &format!("//! A broken pair.\n{VALVES}"));
     let store = krate.store_dir("history");
     let broken = heddle(
         &krate,
@@ -303,6 +295,17 @@ fn a_fix_between_runs_is_not_flakiness() {
         &[],
     );
     let v = parse_json(&broken);
+    (krate, store, v)
+}
+
+/// A row that failed, was fixed in the code and passed when rerun is not flaky: the two
+/// runs were two builds, and `--runs 2` lets the later build's outcome stand (saying what
+/// it left out). Runs of one unchanged build still merge whole, so a flake seen across
+/// them is still flaky.
+#[test]
+fn a_fix_between_runs_is_not_flakiness() {
+    let (krate, store, v) = broken_valves("ci_fixed");
+    krate.write("tests/misting.rs", &format!("//! A flaky pair.\n{MISTING}"));
     let valves = suite(&v, "valves");
     assert_eq!(valves["suspects"][0]["verdict"], "always", "{valves:#}");
     let failing: Vec<String> = valves["failing_rows"]
@@ -370,19 +373,8 @@ fn a_fix_between_runs_is_not_flakiness() {
 /// reported, with a note, and `--fail-on` judges that one.
 #[test]
 fn a_changed_spec_leaves_the_old_ones_verdicts_out() {
-    let krate = create(
-        "ci_respec",
-        "tests/valves.rs",
-        &format!("//! A broken pair.\n{VALVES}"),
-    );
-    let store = krate.store_dir("history");
-    let broken = heddle(
-        &krate,
-        &words("test --quiet --format json -- --test valves"),
-        Some(&store),
-        &[],
-    );
-    let old = suite(&parse_json(&broken), "valves")["fingerprint"].clone();
+    let (krate, store, v) = broken_valves("ci_respec");
+    let old = suite(&v, "valves")["fingerprint"].clone();
     let changed = VALVES
         .replace("#[levels(1, 2, 3)] zone", "#[levels(1, 2, 3, 4)] zone")
         .replace(
