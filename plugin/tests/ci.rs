@@ -520,6 +520,69 @@ fn retries_are_attempts_of_one_row() {
     );
 }
 
+/// A row whose process aborts on the first try and passes on nextest's retry is flaky,
+/// as nextest calls it, not a clean pass: the retry's record (attempt 2) shows the first
+/// attempt failed, though the aborted process wrote nothing.
+#[test]
+fn a_crash_before_a_passing_retry_is_flaky() {
+    if !have_nextest() {
+        return;
+    }
+    let pumps = r#"//! A row that aborts its process once.
+#[heddle_test::cover(strength = 2, seed = 3)]
+fn pumps(
+    #[levels("low", "high")] speed: &str,
+    #[levels(1, 2, 3)] zone: u32,
+    #[levels(true, false)] night: bool,
+) {
+    if speed == "high" && zone == 2 {
+        let dir = std::path::PathBuf::from(std::env::var("MARKERS").expect("MARKERS is set"));
+        let marker = dir.join(format!("{speed}-{zone}-{night}"));
+        if !marker.exists() {
+            std::fs::create_dir_all(&dir).unwrap();
+            std::fs::write(&marker, "").unwrap();
+            std::process::abort();
+        }
+    }
+}
+"#;
+    let krate = create("ci_crash", "tests/pumps.rs", pumps);
+    let markers = krate.root().join("markers");
+    let run = heddle(
+        &krate,
+        &words("test --nextest --quiet --format json -- --retries 1"),
+        None,
+        &[("MARKERS", markers.to_str().unwrap())],
+    );
+    let v = parse_json(&run);
+    let pumps = suite(&v, "pumps");
+    assert_eq!(pumps["not_run"], 0, "{pumps:#}");
+    assert_eq!(pumps["suspects"][0]["verdict"], "flaky", "{pumps:#}");
+    assert_eq!(
+        pumps["suspects"][0]["levels"],
+        serde_json::json!({"speed": "\"high\"", "zone": "2"}),
+        "{pumps:#}"
+    );
+    assert!(
+        run.stderr
+            .contains("note: counted 1 attempt that left no record as failed"),
+        "{}",
+        run.stderr
+    );
+    let junit = heddle(
+        &krate,
+        &["report", "--run", &run_id(&run), "--format", "junit"],
+        None,
+        &[],
+    );
+    junit_valid(&junit.stdout);
+    assert!(
+        junit.stdout.contains("attempt 1 left no record"),
+        "{}",
+        junit.stdout
+    );
+}
+
 /// Runs one nextest partition of the crate as a CI job would, recording into its own
 /// store directory (the job's target directory, later uploaded as an artifact).
 fn shard(krate: &Scratch, label: &str, partition: &str, env: &[(&str, &str)]) -> std::path::PathBuf {

@@ -125,6 +125,7 @@ pub(crate) fn join(runs: Vec<RunInfo>, partials: Vec<Partial>) -> Records {
         let left_out = keep_latest_builds(&mut suite.rows, roots);
         stats.superseded_rows += left_out;
         stats.row_lines -= left_out;
+        stats.unfinished_attempts += crate::attempts::fill_unfinished(&mut suite.rows);
     }
     let suites = latest_specs(suites, &runs, &mut stats);
     Records { runs, suites, stats }

@@ -58,6 +58,9 @@ pub struct ReadStats {
     pub superseded_specs: Vec<String>,
     /// Row lines of those specs.
     pub superseded_spec_rows: usize,
+    /// Failed attempts counted without a record: nextest retried the row, so the attempt
+    /// before failed, but its process ended before the row finished.
+    pub unfinished_attempts: usize,
     /// Files left out as copies of a file in another root.
     pub duplicate_files: usize,
     /// Files or directories that could not be read.
@@ -164,6 +167,15 @@ impl ReadStats {
                 .hint("their rows and verdicts belong to a spec the code no longer has; `--run ID` reports an earlier run alone"),
             );
         }
+        if self.unfinished_attempts > 0 {
+            out.push(
+                Diagnostic::new(format!(
+                    "counted {} that left no record as failed: nextest retried the row, so the attempt failed, but its process ended before the row finished",
+                    plural(self.unfinished_attempts, "attempt", "attempts")
+                ))
+                .hint("a crash, an abort or a timeout; the failing row's message names the attempt"),
+            );
+        }
         if self.duplicate_files > 0 {
             out.push(Diagnostic::new(format!(
                 "read {} found in several stores once",
@@ -223,6 +235,7 @@ impl ReadStats {
         self.superseded_rows += other.superseded_rows;
         self.superseded_specs.extend(other.superseded_specs);
         self.superseded_spec_rows += other.superseded_spec_rows;
+        self.unfinished_attempts += other.unfinished_attempts;
         self.duplicate_files += other.duplicate_files;
         self.unreadable.extend(other.unreadable);
     }
