@@ -583,6 +583,46 @@ fn pumps(
     );
 }
 
+/// Plain `cargo test` runs one process per test binary: they record as one run (the
+/// cargo invocation's, where the platform tells it), so the report of the latest run
+/// shows the broken suite of the first binary beside the clean one of the last, and
+/// `--fail-on failures` fails.
+#[test]
+fn one_cargo_test_is_one_run() {
+    if !cfg!(target_os = "linux") {
+        note("SKIPPED: test processes find their cargo invocation only on Linux");
+        return;
+    }
+    let krate = create(
+        "ci_binaries",
+        "tests/a_valves.rs",
+        &format!("//! A broken pair.\n{VALVES}"),
+    );
+    krate.write(
+        "tests/b_clean.rs",
+        CLEAN_AND_PARITY
+            .split("#[heddle_test::cover(strength = 2, lambda = 3")
+            .next()
+            .unwrap(),
+    );
+    let store = krate.store_dir("plain");
+    krate
+        .cargo(&words("test --no-fail-fast"), Some(&store), &[])
+        .assert_compiled();
+    let report = heddle(
+        &krate,
+        &words("report --format json --fail-on failures"),
+        Some(&store),
+        &[],
+    );
+    assert_eq!(report.code, Some(3), "{}", report.stderr);
+    let v = parse_json(&report);
+    assert_eq!(v["runs"].as_array().map(Vec::len), Some(1), "{v:#}");
+    assert!(v["runs"][0].as_str().unwrap().starts_with("cargo-"), "{v:#}");
+    assert_eq!(suite(&v, "valves")["suspects"][0]["verdict"], "always", "{v:#}");
+    assert_eq!(suite(&v, "tally")["coverage"]["complete"], true, "{v:#}");
+}
+
 /// Runs one nextest partition of the crate as a CI job would, recording into its own
 /// store directory (the job's target directory, later uploaded as an artifact).
 fn shard(krate: &Scratch, label: &str, partition: &str, env: &[(&str, &str)]) -> std::path::PathBuf {
