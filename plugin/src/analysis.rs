@@ -13,8 +13,10 @@
 //! since the rows cannot tell them apart.
 //!
 //! Flakiness is a property of a row, not of an interaction: only a row that both passed
-//! and failed (repeated with `--repeat`, retried by nextest, or run again in a later run)
-//! shows that the same configuration gives different outcomes. An interaction that
+//! and failed (repeated with `--repeat`, retried by nextest, or run again in a later run
+//! of the same build) shows that the same configuration gives different outcomes. The
+//! store reader leaves out a row's executions in earlier runs by another build of the
+//! test executable (`heddle_store::Records`), so a fix between runs is not flakiness. An interaction that
 //! passed in some of its rows and failed in others, with no row of both kinds, may as
 //! well be part of a fault of more factors than the strength (a higher-order fault):
 //! its verdict is [`Verdict::SomeRows`], and only an interaction whose failing rows

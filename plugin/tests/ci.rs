@@ -283,6 +283,132 @@ fn flaky_needs_a_row_that_both_passed_and_failed() {
     assert_eq!(suite(&v, "valves")["suspects"][0]["verdict"], "always");
 }
 
+/// A crate of the broken `valves` suite, run once whole into a store of its own: the
+/// crate, the store and the JSON report of that run.
+fn broken_valves(name: &str) -> (Scratch, std::path::PathBuf, Value) {
+    let krate = create(name, "tests/valves.rs", &format!("//! A broken pair.\n{VALVES}"));
+    let store = krate.store_dir("history");
+    let broken = heddle(
+        &krate,
+        &words("test --quiet --format json -- --test valves"),
+        Some(&store),
+        &[],
+    );
+    let v = parse_json(&broken);
+    (krate, store, v)
+}
+
+/// A row that failed, was fixed in the code and passed when rerun is not flaky: the two
+/// runs were two builds, and `--runs 2` lets the later build's outcome stand (saying what
+/// it left out). Runs of one unchanged build still merge whole, so a flake seen across
+/// them is still flaky.
+#[test]
+fn a_fix_between_runs_is_not_flakiness() {
+    let (krate, store, v) = broken_valves("ci_fixed");
+    krate.write("tests/misting.rs", &format!("//! A flaky pair.\n{MISTING}"));
+    let valves = suite(&v, "valves");
+    assert_eq!(valves["suspects"][0]["verdict"], "always", "{valves:#}");
+    let failing: Vec<String> = valves["failing_rows"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|r| r["test"].as_str().unwrap().to_string())
+        .collect();
+    assert!(!failing.is_empty(), "{valves:#}");
+
+    // the fix: the spec (and so the fingerprint) is unchanged, the body is not
+    let fixed = VALVES.replace(
+        "assert!(!(valve == \"shut\" && zone == 3), \"shut valve starves zone 3\");",
+        "assert!(zone > 0, \"zone {zone} of valve {valve}\");",
+    );
+    assert_ne!(fixed, VALVES);
+    krate.write("tests/valves.rs", &format!("//! The pair, fixed.\n{fixed}"));
+    for test in &failing {
+        let mut args = words("test --quiet -- --test valves");
+        args.extend([test.as_str(), "--", "--exact"]);
+        let rerun = heddle(&krate, &args, Some(&store), &[]);
+        assert_eq!(rerun.code, Some(0), "{}", rerun.stderr);
+    }
+    let runs = (failing.len() + 1).to_string();
+    let merged = heddle(
+        &krate,
+        &["report", "--runs", &runs, "--format", "json"],
+        Some(&store),
+        &[],
+    );
+    let v = parse_json(&merged);
+    let valves = suite(&v, "valves");
+    assert_eq!(valves["flaky"], serde_json::json!([]), "{valves:#}");
+    assert_eq!(valves["suspects"], serde_json::json!([]), "{valves:#}");
+    assert_eq!(valves["failed"], 0, "{valves:#}");
+    let n = failing.len();
+    let note = format!(
+        "note: left out {n} row record{} of earlier runs of another build",
+        if n == 1 { "" } else { "s" }
+    );
+    assert!(merged.stderr.contains(&note), "{}", merged.stderr);
+
+    // two runs of one build: the flake's rows failed in the first and passed in the
+    // second, which is flakiness
+    let markers = krate.root().join("markers");
+    let markers = markers.to_str().unwrap();
+    for _ in 0..2 {
+        heddle(
+            &krate,
+            &words("test --quiet -- --test misting"),
+            Some(&store),
+            &[("MARKERS", markers)],
+        );
+    }
+    let history = heddle(&krate, &words("report --runs 2 --format json"), Some(&store), &[]);
+    let v = parse_json(&history);
+    let misting = suite(&v, "misting");
+    assert_eq!(misting["suspects"][0]["verdict"], "flaky", "{misting:#}");
+    assert!(!history.stderr.contains("another build"), "{}", history.stderr);
+}
+
+/// Runs before and after a spec change (here a level added along with a fix): the old
+/// spec's rows are another fingerprint, and merged with `--runs 2` its verdicts would
+/// speak for a test the code no longer has. Only the latest spec of the function is
+/// reported, with a note, and `--fail-on` judges that one.
+#[test]
+fn a_changed_spec_leaves_the_old_ones_verdicts_out() {
+    let (krate, store, v) = broken_valves("ci_respec");
+    let old = suite(&v, "valves")["fingerprint"].clone();
+    let changed = VALVES
+        .replace("#[levels(1, 2, 3)] zone", "#[levels(1, 2, 3, 4)] zone")
+        .replace(
+            "assert!(!(valve == \"shut\" && zone == 3)",
+            "assert!(!(valve == \"shut\" && zone == 5)",
+        );
+    assert_ne!(changed, VALVES);
+    krate.write(
+        "tests/valves.rs",
+        &format!("//! A fourth zone, and the pair fixed.\n{changed}"),
+    );
+    let after = heddle(&krate, &words("test --quiet -- --test valves"), Some(&store), &[]);
+    assert_eq!(after.code, Some(0), "{}", after.stderr);
+    let merged = heddle(
+        &krate,
+        &words("report --runs 2 --format json --fail-on failures"),
+        Some(&store),
+        &[],
+    );
+    assert_eq!(merged.code, Some(0), "{}", merged.stderr);
+    let v = parse_json(&merged);
+    let suites = v["suites"].as_array().unwrap();
+    assert_eq!(suites.len(), 1, "{v:#}");
+    assert_ne!(suites[0]["fingerprint"], old, "{v:#}");
+    assert_eq!(suites[0]["coverage"]["complete"], true, "{v:#}");
+    assert!(
+        merged
+            .stderr
+            .contains("note: left out 1 earlier spec of `valves` ("),
+        "{}",
+        merged.stderr
+    );
+}
+
 /// The run id `cargo heddle test` announced on stderr.
 fn run_id(run: &Run) -> String {
     run.stderr
@@ -392,6 +518,109 @@ fn retries_are_attempts_of_one_row() {
         vec![2; rows],
         "each failing row: a failure and two rerunFailures"
     );
+}
+
+/// A row whose process aborts on the first try and passes on nextest's retry is flaky,
+/// as nextest calls it, not a clean pass: the retry's record (attempt 2) shows the first
+/// attempt failed, though the aborted process wrote nothing.
+#[test]
+fn a_crash_before_a_passing_retry_is_flaky() {
+    if !have_nextest() {
+        return;
+    }
+    let pumps = r#"//! A row that aborts its process once.
+#[heddle_test::cover(strength = 2, seed = 3)]
+fn pumps(
+    #[levels("low", "high")] speed: &str,
+    #[levels(1, 2, 3)] zone: u32,
+    #[levels(true, false)] night: bool,
+) {
+    if speed == "high" && zone == 2 {
+        let dir = std::path::PathBuf::from(std::env::var("MARKERS").expect("MARKERS is set"));
+        let marker = dir.join(format!("{speed}-{zone}-{night}"));
+        if !marker.exists() {
+            std::fs::create_dir_all(&dir).unwrap();
+            std::fs::write(&marker, "").unwrap();
+            std::process::abort();
+        }
+    }
+}
+"#;
+    let krate = create("ci_crash", "tests/pumps.rs", pumps);
+    let markers = krate.root().join("markers");
+    let run = heddle(
+        &krate,
+        &words("test --nextest --quiet --format json -- --retries 1"),
+        None,
+        &[("MARKERS", markers.to_str().unwrap())],
+    );
+    let v = parse_json(&run);
+    let pumps = suite(&v, "pumps");
+    assert_eq!(pumps["not_run"], 0, "{pumps:#}");
+    assert_eq!(pumps["suspects"][0]["verdict"], "flaky", "{pumps:#}");
+    assert_eq!(
+        pumps["suspects"][0]["levels"],
+        serde_json::json!({"speed": "\"high\"", "zone": "2"}),
+        "{pumps:#}"
+    );
+    assert!(
+        run.stderr
+            .contains("note: counted 1 attempt that left no record as failed"),
+        "{}",
+        run.stderr
+    );
+    let junit = heddle(
+        &krate,
+        &["report", "--run", &run_id(&run), "--format", "junit"],
+        None,
+        &[],
+    );
+    junit_valid(&junit.stdout);
+    assert!(
+        junit.stdout.contains("attempt 1 left no record"),
+        "{}",
+        junit.stdout
+    );
+}
+
+/// Plain `cargo test` runs one process per test binary: they record as one run (the
+/// cargo invocation's, where the platform tells it), so the report of the latest run
+/// shows the broken suite of the first binary beside the clean one of the last, and
+/// `--fail-on failures` fails.
+#[test]
+fn one_cargo_test_is_one_run() {
+    if !cfg!(target_os = "linux") {
+        note("SKIPPED: test processes find their cargo invocation only on Linux");
+        return;
+    }
+    let krate = create(
+        "ci_binaries",
+        "tests/a_valves.rs",
+        &format!("//! A broken pair.\n{VALVES}"),
+    );
+    krate.write(
+        "tests/b_clean.rs",
+        CLEAN_AND_PARITY
+            .split("#[heddle_test::cover(strength = 2, lambda = 3")
+            .next()
+            .unwrap(),
+    );
+    let store = krate.store_dir("plain");
+    krate
+        .cargo(&words("test --no-fail-fast"), Some(&store), &[])
+        .assert_compiled();
+    let report = heddle(
+        &krate,
+        &words("report --format json --fail-on failures"),
+        Some(&store),
+        &[],
+    );
+    assert_eq!(report.code, Some(3), "{}", report.stderr);
+    let v = parse_json(&report);
+    assert_eq!(v["runs"].as_array().map(Vec::len), Some(1), "{v:#}");
+    assert!(v["runs"][0].as_str().unwrap().starts_with("cargo-"), "{v:#}");
+    assert_eq!(suite(&v, "valves")["suspects"][0]["verdict"], "always", "{v:#}");
+    assert_eq!(suite(&v, "tally")["coverage"]["complete"], true, "{v:#}");
 }
 
 /// Runs one nextest partition of the crate as a CI job would, recording into its own

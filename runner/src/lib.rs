@@ -68,7 +68,9 @@
 //!   a row count (`12`), a share (`25%`) or `all`; an invalid value is a compile error.
 //! - `HEDDLE_RUN_ID` (set by `cargo heddle test` for a whole invocation), else
 //!   `NEXTEST_RUN_ID` (set by nextest): the run id, ASCII letters, digits, `.`, `_`, `-`.
-//!   Neither: each test process is a run of its own.
+//!   Neither: on Linux, the test processes one `cargo test` starts share a run named
+//!   after that cargo process (`cargo-<pid>-<start>-<boot>`, read from `/proc`);
+//!   elsewhere each test process is a run of its own.
 
 #![warn(missing_docs)]
 #![forbid(unsafe_code)]

@@ -41,6 +41,7 @@ struct Writer {
     path: PathBuf,
     run_id: String,
     attempt: Option<u32>,
+    build: Option<String>,
     /// Suites whose spec line this process already wrote, by address (suites are
     /// `'static`, so an address names one suite for the life of the process).
     specs: BTreeSet<usize>,
@@ -116,6 +117,7 @@ fn open(config: Config) -> Result<Writer, SetupError> {
         path,
         run_id: config.run_id,
         attempt: config.attempt,
+        build: config.build,
         specs: BTreeSet::new(),
     })
 }
@@ -132,6 +134,7 @@ impl Writer {
         }
         let mut row = row_record(suite, result, &self.run_id, stamp);
         row.attempt = self.attempt;
+        row.build.clone_from(&self.build);
         buf.push_str(&Line::Row(row).to_json_line());
         // one write of whole lines; the spec goes out with its suite's first row
         self.file
@@ -206,6 +209,7 @@ fn row_record(suite: &Suite, result: &RowResult, run_id: &str, time: String) -> 
         duration_ns: u64::try_from(result.duration.as_nanos()).unwrap_or(u64::MAX),
         time,
         attempt: None,
+        build: None,
     }
 }
 
@@ -293,6 +297,7 @@ mod tests {
             store: tmp.path().join("heddle"),
             run_id: "run-1".into(),
             attempt: None,
+            build: Some("b1".into()),
         };
         let mut w = open(cfg).unwrap();
         w.write(&SUITE, &result(0, Outcome::Passed)).unwrap();
@@ -306,5 +311,11 @@ mod tests {
             matches!(&lines[2], Line::Row(r) if r.message.as_deref() == Some("boom") && r.duration_ns == 3000)
         );
         assert!(w.path.starts_with(tmp.path().join("heddle/runs/run-1")));
+        // every row names the build that ran it
+        assert!(
+            lines[1..]
+                .iter()
+                .all(|l| matches!(l, Line::Row(r) if r.build.as_deref() == Some("b1")))
+        );
     }
 }

@@ -38,8 +38,10 @@ pub struct ReportArgs {
     /// Run to report: `latest` or a run id.
     #[arg(long, value_name = "latest|ID", default_value = "latest")]
     pub run: String,
-    /// Merge the last N runs (history across CI runs, for flakiness), or `all`: every run
-    /// found in the stores read (shards of one pipeline recorded under different ids).
+    /// Merge the last N runs (history across runs, for flakiness), or `all`: every run
+    /// found in the stores read (shards of one pipeline recorded under different ids). A
+    /// row run again by a later build counts only that build's executions: a fix is not
+    /// a flake.
     #[arg(long, value_name = "N|all", conflicts_with = "run", value_parser = parse_runs)]
     pub runs: Option<usize>,
     /// List every interaction's pass counts, not only those with failures.

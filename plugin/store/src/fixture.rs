@@ -208,6 +208,7 @@ pub fn row(spec: &SpecRecord, row: usize, outcome: Outcome) -> RowRecord {
         duration_ns: 1_000,
         time: "2026-01-01T00:00:01.000000Z".into(),
         attempt: None,
+        build: None,
     }
 }
 

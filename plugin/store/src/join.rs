@@ -3,6 +3,7 @@
 //! wrote the same spec.
 
 use std::collections::BTreeMap;
+use std::path::{Path, PathBuf};
 
 use heddle_test::record::{Outcome, RowRecord, SpecRecord, SuiteKey};
 
@@ -15,7 +16,8 @@ use crate::read::Partial;
 pub struct SuiteRecords {
     /// Its spec (the first spec line read for it).
     pub spec: SpecRecord,
-    /// Its row records, in run order, then file order, then line order.
+    /// Its row records, in run order, then file order, then line order; a row's
+    /// executions in earlier runs by another build than its latest are left out.
     pub rows: Vec<RowRecord>,
 }
 
@@ -46,7 +48,18 @@ pub(crate) fn join(runs: Vec<RunInfo>, partials: Vec<Partial>) -> Records {
     // every distinct content seen per key, the first one (in file order) kept
     let mut variants: BTreeMap<SuiteKey, Vec<SpecRecord>> = BTreeMap::new();
     let mut rows: Vec<RowRecord> = Vec::new();
+    // the store root each row was read from, by index into `roots`
+    let mut roots: Vec<PathBuf> = Vec::new();
+    let mut row_roots: Vec<usize> = Vec::new();
     for part in partials {
+        for (n, file) in &part.row_files {
+            let root = store_root_of(file);
+            let at = roots.iter().position(|r| *r == root).unwrap_or_else(|| {
+                roots.push(root);
+                roots.len() - 1
+            });
+            row_roots.extend(std::iter::repeat_n(at, *n));
+        }
         stats.absorb(part.stats);
         for spec in part.specs {
             let known = variants.entry(spec.key()).or_default();
@@ -85,8 +98,9 @@ pub(crate) fn join(runs: Vec<RunInfo>, partials: Vec<Partial>) -> Records {
             })
         })
         .collect();
+    let mut suite_roots: Vec<Vec<usize>> = vec![Vec::new(); suites.len()];
     let mut last: Option<usize> = None;
-    for row in rows {
+    for (row, root) in rows.into_iter().zip(row_roots) {
         let index = match last.filter(|&i| row_belongs(&row, &suites[i].spec)) {
             Some(i) => Some(i),
             None => {
@@ -105,8 +119,85 @@ pub(crate) fn join(runs: Vec<RunInfo>, partials: Vec<Partial>) -> Records {
         }
         stats.row_lines += 1;
         suites[i].rows.push(row);
+        suite_roots[i].push(root);
     }
+    for (suite, roots) in suites.iter_mut().zip(&suite_roots) {
+        let left_out = keep_latest_builds(&mut suite.rows, roots);
+        stats.superseded_rows += left_out;
+        stats.row_lines -= left_out;
+        stats.unfinished_attempts += crate::attempts::fill_unfinished(&mut suite.rows);
+    }
+    let suites = latest_specs(suites, &runs, &mut stats);
     Records { runs, suites, stats }
+}
+
+/// Keeps, of the suites of one function (crate, target and path alike) recorded under
+/// several spec fingerprints, the one recorded last: a changed spec makes other rows, and
+/// the verdicts of the old ones describe a test the code no longer has. "Last" is the
+/// latest run holding a row (or, without rows, the spec line) of it; specs last recorded
+/// in the same run all stay, as nothing tells which is current.
+fn latest_specs(suites: Vec<SuiteRecords>, runs: &[RunInfo], stats: &mut ReadStats) -> Vec<SuiteRecords> {
+    let order: BTreeMap<&str, usize> = runs.iter().enumerate().map(|(i, r)| (r.id.as_str(), i)).collect();
+    let at = |run: &str| order.get(run).copied().unwrap_or(0);
+    let last = |s: &SuiteRecords| {
+        s.rows
+            .iter()
+            .map(|r| at(&r.run))
+            .max()
+            .unwrap_or_else(|| at(&s.spec.run))
+    };
+    let function = |s: &SuiteRecords| (s.spec.krate.clone(), s.spec.target.clone(), s.spec.suite.clone());
+    let mut newest: BTreeMap<(String, String, String), usize> = BTreeMap::new();
+    for s in &suites {
+        let n = newest.entry(function(s)).or_default();
+        *n = (*n).max(last(s));
+    }
+    let mut kept = Vec::with_capacity(suites.len());
+    for s in suites {
+        if last(&s) < newest[&function(&s)] {
+            stats.superseded_specs.push(s.spec.suite.clone());
+            stats.superseded_spec_rows += s.rows.len();
+            stats.row_lines -= s.rows.len();
+        } else {
+            kept.push(s);
+        }
+    }
+    kept
+}
+
+/// Lets each row's latest build decide its outcome: the executions of a row in earlier
+/// runs by another build of the test executable, in the same store, are left out, since
+/// the code changed in between (a row that failed, was fixed and passed is not flaky).
+/// Executions in the row's latest run all stay whatever their build (shards of one run
+/// built on several machines), and so do earlier runs of the same build (history across
+/// runs of unchanged code, which is what shows a flake) and runs read from other stores
+/// (jobs of a CI matrix, copied and merged: another machine's build is no later version
+/// of this one, and a failure there must not be hidden). Rows come in run order, so the
+/// last is the latest; `roots` holds the store of each. Returns how many executions were
+/// left out.
+fn keep_latest_builds(rows: &mut Vec<RowRecord>, roots: &[usize]) -> usize {
+    let mut latest: BTreeMap<u32, (&str, Option<&str>, usize)> = BTreeMap::new();
+    for (r, &root) in rows.iter().zip(roots) {
+        latest.insert(r.row, (r.run.as_str(), r.build.as_deref(), root));
+    }
+    let keep: Vec<bool> = rows
+        .iter()
+        .zip(roots)
+        .map(|(r, &root)| {
+            latest.get(&r.row).is_none_or(|&(run, build, store)| {
+                r.run == run || r.build.as_deref() == build || root != store
+            })
+        })
+        .collect();
+    let before = rows.len();
+    let mut flags = keep.into_iter();
+    rows.retain(|_| flags.next().unwrap_or(true));
+    before - rows.len()
+}
+
+/// The store root a record file lies in (`<root>/runs/<run id>/<file>`).
+fn store_root_of(file: &Path) -> PathBuf {
+    file.ancestors().nth(3).unwrap_or(file).to_path_buf()
 }
 
 /// Whether a row record carries this spec's key.

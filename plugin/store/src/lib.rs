@@ -15,7 +15,15 @@
 //! stamp among its file names, which orders runs without reading them. Shards (stores
 //! copied from several CI jobs) are merged by opening them together: a run present in
 //! several shards is the union of its files, and a file present twice (the same shard
-//! copied twice) is read once.
+//! copied twice) is read once. When runs are merged, a row run again in a later run by
+//! another build of the test executable (`RowRecord::build`) in the same store keeps
+//! only the executions from that build on (another store's build, a CI matrix job's, is
+//! no later version and stays): the code changed in between, so the earlier outcome is no
+//! evidence about it (counted in [`ReadStats::superseded_rows`]). Of a function recorded
+//! under several spec fingerprints, only the spec of the latest run is kept
+//! ([`ReadStats::superseded_specs`]). A row recorded at nextest's attempt N shows that
+//! its attempts before N failed: those that left no record (the process crashed or was
+//! killed) are counted as failed records (`attempts`, [`ReadStats::unfinished_attempts`]).
 //!
 //! Reading never fails on content: corrupt or truncated lines, lines of another format
 //! version, rows whose spec is missing or does not match are skipped and counted in
@@ -32,7 +40,7 @@
 //! # Ok::<(), Box<dyn std::error::Error>>(())
 //! ```
 //!
-//! Modules: [`discover`] (stores and their runs on disk), `read` (a run's files, in
+//! Modules: `attempts` (nextest attempts that left no record), [`discover`] (stores and their runs on disk), `read` (a run's files, in
 //! parallel), `join` (rows to their suite), [`notes`] (what was skipped, in words),
 //! [`spec`] (a spec line checked, and turned back into the engine's spec), [`tally`]
 //! (counts per interaction), [`reach`] (what a prefix of the rows covers), [`words`] (counts in words), [`fixture`] (records made by
@@ -41,6 +49,7 @@
 #![warn(missing_docs)]
 #![forbid(unsafe_code)]
 
+mod attempts;
 pub mod discover;
 pub mod fixture;
 mod join;

@@ -49,6 +49,18 @@ pub struct ReadStats {
     pub orphan_rows: usize,
     /// Row lines whose row index or labels disagree with their spec.
     pub mismatched_rows: usize,
+    /// Row lines left out because a later run ran the same row in another build of the
+    /// test executable: the code changed in between, and the later outcome stands.
+    pub superseded_rows: usize,
+    /// Suites (by libtest path) left out because a later run recorded the same
+    /// function under another spec fingerprint (levels, strength, λ, seed or excludes
+    /// changed): one entry per spec left out.
+    pub superseded_specs: Vec<String>,
+    /// Row lines of those specs.
+    pub superseded_spec_rows: usize,
+    /// Failed attempts counted without a record: nextest retried the row, so the attempt
+    /// before failed, but its process ended before the row finished.
+    pub unfinished_attempts: usize,
     /// Files left out as copies of a file in another root.
     pub duplicate_files: usize,
     /// Files or directories that could not be read.
@@ -133,6 +145,37 @@ impl ReadStats {
                 );
             }
         }
+        if self.superseded_rows > 0 {
+            out.push(
+                Diagnostic::new(format!(
+                    "left out {} of earlier runs of another build: a later build ran those rows again, and its outcomes stand",
+                    plural(self.superseded_rows, "row record", "row records")
+                ))
+                .hint("a row that failed before a rebuild and passed after it was changed, not flaky; runs of one build are merged whole"),
+            );
+        }
+        if !self.superseded_specs.is_empty() {
+            let mut names: Vec<String> = self.superseded_specs.iter().map(|s| format!("`{s}`")).collect();
+            names.dedup();
+            out.push(
+                Diagnostic::new(format!(
+                    "left out {} of {} ({}): a later run recorded the same function under a changed spec",
+                    plural(self.superseded_specs.len(), "earlier spec", "earlier specs"),
+                    names.join(", "),
+                    plural(self.superseded_spec_rows, "row record", "row records")
+                ))
+                .hint("their rows and verdicts belong to a spec the code no longer has; `--run ID` reports an earlier run alone"),
+            );
+        }
+        if self.unfinished_attempts > 0 {
+            out.push(
+                Diagnostic::new(format!(
+                    "counted {} that left no record as failed: nextest retried the row, so the attempt failed, but its process ended before the row finished",
+                    plural(self.unfinished_attempts, "attempt", "attempts")
+                ))
+                .hint("a crash, an abort or a timeout; the failing row's message names the attempt"),
+            );
+        }
         if self.duplicate_files > 0 {
             out.push(Diagnostic::new(format!(
                 "read {} found in several stores once",
@@ -189,6 +232,10 @@ impl ReadStats {
         self.conflicting_specs += other.conflicting_specs;
         self.orphan_rows += other.orphan_rows;
         self.mismatched_rows += other.mismatched_rows;
+        self.superseded_rows += other.superseded_rows;
+        self.superseded_specs.extend(other.superseded_specs);
+        self.superseded_spec_rows += other.superseded_spec_rows;
+        self.unfinished_attempts += other.unfinished_attempts;
         self.duplicate_files += other.duplicate_files;
         self.unreadable.extend(other.unreadable);
     }

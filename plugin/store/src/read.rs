@@ -17,6 +17,8 @@ pub(crate) struct Partial {
     /// Fully parsed, valid spec lines, in file order.
     pub(crate) specs: Vec<SpecRecord>,
     pub(crate) rows: Vec<RowRecord>,
+    /// The file each run of consecutive `rows` came from: (rows, file), in order.
+    pub(crate) row_files: Vec<(usize, PathBuf)>,
     pub(crate) stats: ReadStats,
 }
 
@@ -91,6 +93,7 @@ fn read_files(files: &[&Path]) -> Partial {
             continue;
         }
         stats.files += 1;
+        let rows_before = part.rows.len();
         for (i, raw) in bytes.split(|&b| b == b'\n').enumerate() {
             if raw.iter().all(u8::is_ascii_whitespace) {
                 continue;
@@ -142,6 +145,10 @@ fn read_files(files: &[&Path]) -> Partial {
                     }
                 }
             }
+        }
+        let read = part.rows.len() - rows_before;
+        if read > 0 {
+            part.row_files.push((read, path.to_path_buf()));
         }
     }
     part
@@ -340,6 +347,110 @@ mod tests {
         let merged = Store::merge([tmp.path().join("shards/job1/target"), job2.clone(), job2]).unwrap();
         assert_eq!(merged.roots().len(), 2);
         assert_eq!(merged.read_all().unwrap().stats.row_lines, 2);
+    }
+
+    #[test]
+    fn a_later_build_supersedes_a_rows_earlier_runs_but_not_its_own() {
+        let tmp = tempfile::tempdir().unwrap();
+        let root = tmp.path().join("heddle");
+        let built = |run: &str, r: u32, outcome: Outcome, build: &str| {
+            let mut rec = row(run, r, outcome);
+            rec.build = Some(build.into());
+            Line::Row(rec)
+        };
+        // run 1, build A: row 0 fails, row 1 passes; run 2, build A: row 1 fails (a
+        // flake of one build); run 3, build B: row 0 passes (the fix), on two machines
+        // of one run whose builds differ (B and C: both stay)
+        let files: [(&str, &str, Vec<Line>); 4] = [
+            (
+                "r1",
+                "0000000000001-1-0.jsonl",
+                vec![
+                    built("r1", 0, Outcome::Failed, "A"),
+                    built("r1", 1, Outcome::Passed, "A"),
+                ],
+            ),
+            (
+                "r2",
+                "0000000000002-1-0.jsonl",
+                vec![built("r2", 1, Outcome::Failed, "A")],
+            ),
+            (
+                "r3",
+                "0000000000003-1-0.jsonl",
+                vec![built("r3", 0, Outcome::Passed, "B")],
+            ),
+            (
+                "r3",
+                "0000000000004-2-0.jsonl",
+                vec![built("r3", 0, Outcome::Failed, "C")],
+            ),
+        ];
+        for (run, name, rows) in files {
+            let mut lines = vec![Line::Spec(spec(run))];
+            lines.extend(rows);
+            write_file(&root, run, name, &lines, "");
+        }
+        let rec = Store::open(&root).unwrap().read_all().unwrap();
+        let kept: Vec<(String, u32, Outcome)> = rec.suites[0]
+            .rows
+            .iter()
+            .map(|r| (r.run.clone(), r.row, r.outcome))
+            .collect();
+        assert_eq!(
+            kept,
+            [
+                ("r1".to_string(), 1, Outcome::Passed),
+                ("r2".to_string(), 1, Outcome::Failed),
+                ("r3".to_string(), 0, Outcome::Passed),
+                ("r3".to_string(), 0, Outcome::Failed),
+            ]
+        );
+        assert_eq!((rec.stats.superseded_rows, rec.stats.row_lines), (1, 4));
+        let notes: Vec<String> = rec.stats.notes().iter().map(|d| d.one_line()).collect();
+        assert!(
+            notes[0].starts_with("left out 1 row record of earlier runs of another build"),
+            "{notes:?}"
+        );
+        // one run read alone keeps what it holds
+        assert_eq!(
+            Store::open(&root)
+                .unwrap()
+                .read_run("r1")
+                .unwrap()
+                .stats
+                .superseded_rows,
+            0
+        );
+    }
+
+    #[test]
+    fn another_stores_build_is_no_later_version() {
+        // two jobs of a matrix, each with its store, copied and merged: the row failed
+        // on one machine's build and passed on the other's, later; both stay
+        let tmp = tempfile::tempdir().unwrap();
+        for (job, run, ms, outcome, build) in [
+            ("linux", "r1", 1, Outcome::Failed, "A"),
+            ("mac", "r2", 2, Outcome::Passed, "B"),
+        ] {
+            let mut rec = row(run, 0, outcome);
+            rec.build = Some(build.into());
+            let root = tmp.path().join(job).join("heddle");
+            write_file(
+                &root,
+                run,
+                &format!("{ms:013}-1-0.jsonl"),
+                &[Line::Spec(spec(run)), Line::Row(rec)],
+                "",
+            );
+        }
+        let store = Store::discover(tmp.path()).unwrap();
+        let rec = store.read_all().unwrap();
+        assert_eq!(
+            rec.suites[0].outcomes().collect::<Vec<_>>(),
+            [(0, Outcome::Failed), (0, Outcome::Passed)]
+        );
+        assert_eq!(rec.stats.superseded_rows, 0);
     }
 
     #[test]

@@ -30,7 +30,9 @@
 //! History: version 1 held excludes as Rust source text and the seed as a number, and
 //! left row names to be recomputed. Version 2 gained the optional `focus` field (focus
 //! sets as factor indices, strength and λ: `"focus":[{"factors":[0,2,3],"strength":3,
-//! "lambda":1}]`), absent when there are none, so earlier version 2 lines read unchanged.
+//! "lambda":1}]`), absent when there are none, so earlier version 2 lines read unchanged;
+//! row lines later gained the optional `build` (which build of the test executable ran
+//! the row, [`RowRecord::build`]), absent in earlier lines, which read as one build.
 //!
 //! Modules: [`layout`] (where the store lives, file and run id names); `line` (a line's
 //! text both ways, and the cheap classification large stores are read with); `names`
@@ -196,6 +198,13 @@ pub struct RowRecord {
     /// failed and then passed on a retry is flaky evidence for that row.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub attempt: Option<u32>,
+    /// Which build of the test executable ran it (its size and modification time, as
+    /// the runtime names them); absent when unknown, and in lines written before the
+    /// field existed. Two executions of a row agree on it when they ran the same
+    /// compiled code: a row that failed in one build and passed in a later one was
+    /// changed, not flaky, and readers let the later build's outcome stand.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub build: Option<String>,
 }
 
 /// Identity of one annotated function's spec across processes, runs and shards.
@@ -398,6 +407,7 @@ mod tests {
             duration_ns: 41250,
             time: "2025-01-02T03:04:05.000042Z".into(),
             attempt: None,
+            build: None,
         }
     }
 
@@ -506,6 +516,18 @@ mod tests {
         r.attempt = Some(2);
         let text = Line::Row(r.clone()).to_json_line();
         assert!(text.contains(",\"attempt\":2}"), "{text}");
+        assert_eq!(Line::parse(text.trim_end()).unwrap(), Line::Row(r));
+    }
+
+    #[test]
+    fn the_build_is_written_when_known_and_read_back() {
+        let mut r = row();
+        // a line without `build` (as written before the field existed) reads as unknown
+        let plain = Line::Row(r.clone()).to_json_line();
+        assert!(!plain.contains("build"), "{plain}");
+        r.build = Some("a7-1f".into());
+        let text = Line::Row(r.clone()).to_json_line();
+        assert!(text.contains(",\"build\":\"a7-1f\"}"), "{text}");
         assert_eq!(Line::parse(text.trim_end()).unwrap(), Line::Row(r));
     }
 
