@@ -956,6 +956,12 @@ fn nothing_recorded_is_incomplete_when_asked() {
         assert_eq!(gate.status.code(), Some(5), "{store}: {err}");
         assert!(err.starts_with("error: no "), "{err}");
         assert!(err.contains("(`--fail-on incomplete`: exit code 5)"), "{err}");
+        // a path that is not there says so, as a typo would need
+        assert_eq!(
+            err.contains("does not exist"),
+            store.ends_with("never-downloaded"),
+            "{err}"
+        );
         for args in [
             &["--store", store][..],
             &["--store", store, "--fail-on", "failures"],

@@ -405,6 +405,15 @@ pub fn open_store(args: &ReportArgs) -> Result<(Store, Vec<String>), Failure> {
     if !args.store.is_empty() {
         let mut roots = Vec::new();
         for dir in &args.store {
+            // nothing recorded there either (a CI job's store never downloaded, so
+            // `--fail-on incomplete` applies), but the message says which it is: a typo
+            // looks the same
+            if !dir.exists() {
+                return Err(unrecorded(
+                    Diagnostic::new(format!("no heddle records: `--store {}` does not exist", dir.display()))
+                        .hint("check the path; it names a directory holding a `heddle` store, or a parent of several (stores copied from CI jobs)"),
+                ));
+            }
             match Store::discover(dir) {
                 Ok(s) => roots.extend(s.roots().iter().cloned()),
                 Err(StoreError::NotFound { .. }) => {
