@@ -260,8 +260,9 @@ impl fmt::Display for Error {
                 size,
             } => write!(
                 f,
-                "focus set #{} has strength {strength} over only {size} factors",
-                focus + 1
+                "focus set #{} has strength {strength} over only {size} factor{}",
+                focus + 1,
+                if *size == 1 { "" } else { "s" }
             ),
             Error::TooManyFocusSets { count, limit } => {
                 write!(f, "{count} focus sets given, at most {limit} are supported")

@@ -95,8 +95,9 @@ impl fmt::Display for Violation {
                 let parts: Vec<String> = levels.iter().map(|(n, l)| format!("{n} = {l}")).collect();
                 write!(
                     f,
-                    "interaction ({}) is covered {count} times, needs {lambda}",
-                    parts.join(", ")
+                    "interaction ({}) is covered {count} time{}, needs {lambda}",
+                    parts.join(", "),
+                    if *count == 1 { "" } else { "s" }
                 )
             }
         }

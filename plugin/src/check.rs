@@ -120,8 +120,9 @@ pub fn run(args: CheckArgs) -> Result<ExitCode, Failure> {
     let packages = plural(scanned.len(), "package", "packages");
     if failing > 0 || unparsed > 0 || manifests > 0 {
         let mut msg = format!(
-            "{failing} of {} fail the check",
-            plural(total, "annotated function", "annotated functions")
+            "{failing} of {} {} the check",
+            plural(total, "annotated function", "annotated functions"),
+            if failing == 1 { "fails" } else { "fail" }
         );
         if unparsed > 0 {
             msg.push_str(&format!(

@@ -405,7 +405,10 @@ fn a_pin_that_does_not_cover_fails_check_with_the_first_uncovered_interaction() 
         ),
         "{err}"
     );
-    assert!(err.contains("1 of 2 annotated functions fail the check"), "{err}");
+    assert!(
+        err.contains("1 of 2 annotated functions fails the check"),
+        "{err}"
+    );
 
     // pin repairs it: the three remaining rows are kept and the lost one added
     let r = c.heddle(&["pin"]);
