@@ -294,12 +294,12 @@ impl Error {
             Error::NoLevels { .. } => "give the factor at least one level",
             Error::TooManyLevels { .. } => "group the levels into classes",
             Error::DuplicateLevel { .. } => "remove or rename the repeated level",
-            Error::StrengthZero => "use `strength = 1` or more",
+            Error::StrengthZero => "use a strength of 1 or more",
             Error::StrengthAboveFactors { .. } => {
                 "lower the strength to the number of factors, or add factors"
             }
             Error::StrengthTooHigh { .. } => "lower the strength",
-            Error::LambdaZero => "use `lambda = 1` or more",
+            Error::LambdaZero => "use a lambda of 1 or more",
             Error::LambdaTooHigh { .. } => "lower lambda",
             Error::BadConstraintRef { .. } => "refer only to declared factors and levels",
             Error::ExcludeTooDeep { .. } => "split the exclude into several simpler excludes",

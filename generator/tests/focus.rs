@@ -243,7 +243,11 @@ fn bad_focus_sets_are_refused_by_name() {
     // the count in words agrees with its noun
     let one = base.clone().focus(Focus::new(vec![0], 3)).validate().unwrap_err();
     assert!(one.to_string().ends_with("over only 1 factor"), "{one}");
-    let two = base.clone().focus(Focus::new(vec![0, 1], 3)).validate().unwrap_err();
+    let two = base
+        .clone()
+        .focus(Focus::new(vec![0, 1], 3))
+        .validate()
+        .unwrap_err();
     assert!(two.to_string().ends_with("over only 2 factors"), "{two}");
     for (f, want) in cases {
         let err = base.clone().focus(f.clone()).validate().unwrap_err();

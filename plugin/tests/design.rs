@@ -144,8 +144,15 @@ fn bad_input_exits_with_2_and_says_why() {
             &["3^2", "--strength", "3"],
             "strength 3 is larger than the number of factors (2)",
         ),
-        (&["3^2", "--strength", "0"], "strength must be at least 1"),
-        (&["3^2", "--lambda", "0"], "lambda must be at least 1"),
+        // the hint names no attribute syntax: the command line has flags
+        (
+            &["3^2", "--strength", "0"],
+            "strength must be at least 1\n  hint: use a strength of 1 or more",
+        ),
+        (
+            &["3^2", "--lambda", "0"],
+            "lambda must be at least 1\n  hint: use a lambda of 1 or more",
+        ),
         (&["3^2", "--exclude", "f9 == 0"], "unknown factor `f9`"),
         (
             &["3^2", "--exclude", "f1 == 3"],
