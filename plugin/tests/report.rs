@@ -990,7 +990,12 @@ fn rows_in_flight_when_a_process_of_several_rows_ended_did_not_finish() {
     let v = json(tmp.path(), &[]);
     let suite = &v["suites"][0];
     assert_eq!(
-        (&suite["passed"], &suite["failed"], &suite["did_not_finish"], &suite["not_run"]),
+        (
+            &suite["passed"],
+            &suite["failed"],
+            &suite["did_not_finish"],
+            &suite["not_run"]
+        ),
         (&16.into(), &0.into(), &2.into(), &0.into()),
         "{suite:#}"
     );
@@ -1071,7 +1076,10 @@ fn a_nextest_row_that_never_finished_is_a_failure() {
         let mut start = fixture::start(&s, r);
         start.run = run.into();
         start.attempt = Some(1);
-        let mut lines = vec![Line::Spec(s.clone()).to_json_line(), Line::Start(start.clone()).to_json_line()];
+        let mut lines = vec![
+            Line::Spec(s.clone()).to_json_line(),
+            Line::Start(start.clone()).to_json_line(),
+        ];
         if r != 7 {
             lines.push(Line::Row(start.finished(Outcome::Passed, None, 10)).to_json_line());
         }
@@ -1080,18 +1088,29 @@ fn a_nextest_row_that_never_finished_is_a_failure() {
     let v = json(tmp.path(), &[]);
     let suite = &v["suites"][0];
     assert_eq!(
-        (&suite["passed"], &suite["failed"], &suite["did_not_finish"], &suite["not_run"]),
+        (
+            &suite["passed"],
+            &suite["failed"],
+            &suite["did_not_finish"],
+            &suite["not_run"]
+        ),
         (&17.into(), &1.into(), &0.into(), &0.into()),
         "{suite:#}"
     );
     let failing = &suite["failing_rows"][0];
     assert_eq!(failing["test"], "totals::row_07", "{suite:#}");
     assert!(
-        failing["message"].as_str().unwrap().starts_with("attempt 1 did not finish"),
+        failing["message"]
+            .as_str()
+            .unwrap()
+            .starts_with("attempt 1 did not finish"),
         "{failing:#}"
     );
     assert!(
-        failing["rerun"].as_str().unwrap().starts_with("cargo nextest run"),
+        failing["rerun"]
+            .as_str()
+            .unwrap()
+            .starts_with("cargo nextest run"),
         "{failing:#}"
     );
     let store = tmp.path().to_str().unwrap();

@@ -322,7 +322,10 @@ mod tests {
         assert_eq!(s.selector, "--lib");
         assert_eq!(s.row_names, ["row_00", "row_01"]);
         assert_eq!(s.row_test_name(1).as_deref(), Some("tests::f::row_01"));
-        let r = row_record(&start_record(&SUITE, 1, "r", "t".into()), &result(1, Outcome::Failed));
+        let r = row_record(
+            &start_record(&SUITE, 1, "r", "t".into()),
+            &result(1, Outcome::Failed),
+        );
         assert_eq!(r.test, "tests::f::row_01");
         assert_eq!(r.labels, vec!["2"]);
         assert_eq!(r.key(), s.key());
@@ -356,7 +359,10 @@ mod tests {
                 Line::Spec(_) => ("spec", 0),
             })
             .collect();
-        assert_eq!(shape, [("start", 0), ("row", 0), ("start", 1), ("row", 1), ("start", 0)]);
+        assert_eq!(
+            shape,
+            [("start", 0), ("row", 0), ("start", 1), ("row", 1), ("start", 0)]
+        );
         let (Line::Start(s1), Line::Row(r1)) = (&lines[3], &lines[4]) else {
             panic!("a start, then its row: {lines:?}")
         };

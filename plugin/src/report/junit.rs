@@ -141,7 +141,11 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, runs: &[String]) {
                 );
             }
             Status::DidNotFinish(n) => {
-                let times = if n == 1 { String::new() } else { format!(" ({n} times)") };
+                let times = if n == 1 {
+                    String::new()
+                } else {
+                    format!(" ({n} times)")
+                };
                 let _ = writeln!(
                     out,
                     "      <error type=\"did-not-finish\" message=\"{}\">{}</error>",

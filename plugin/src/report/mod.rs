@@ -606,7 +606,10 @@ fn suite_report<'a>(
         .filter(|r| r.count.runs > 0 && r.count.failures == 0)
         .count();
     let failed = rows.iter().filter(|r| r.count.failures > 0).count();
-    let not_run = rows.iter().filter(|r| r.count.runs == 0 && r.unfinished == 0).count();
+    let not_run = rows
+        .iter()
+        .filter(|r| r.count.runs == 0 && r.unfinished == 0)
+        .count();
     let did_not_finish = rows.iter().filter(|r| r.did_not_finish()).count();
     let mut ran = Ran::measure(&tallies, spec.lambda);
     ran.unfinished = unfinished.len();

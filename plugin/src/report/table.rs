@@ -68,7 +68,11 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, report_other_runs: us
         spec.strength, spec.lambda, spec.seed, s.passed
     );
     if s.did_not_finish > 0 {
-        let _ = write!(line, ", {}", st.yellow(&format!("{} did not finish", s.did_not_finish)));
+        let _ = write!(
+            line,
+            ", {}",
+            st.yellow(&format!("{} did not finish", s.did_not_finish))
+        );
     }
     if s.not_run > 0 {
         let _ = write!(line, ", {} not run", s.not_run);
@@ -106,7 +110,11 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, report_other_runs: us
 
     if s.analysis.failures == 0 {
         // a budgeted run that ran every row its budget allowed: clear as far as it went
-        if let Some(b) = s.budget.as_ref().filter(|b| s.not_run <= b.of - b.rows && ran.unfinished == 0) {
+        if let Some(b) = s
+            .budget
+            .as_ref()
+            .filter(|b| s.not_run <= b.of - b.rows && ran.unfinished == 0)
+        {
             let _ = writeln!(
                 out,
                 "  {} no failures in the {} rows the budget ran; the other {} did not run",

@@ -132,7 +132,9 @@ pub(crate) fn join(runs: Vec<RunInfo>, partials: Vec<Partial>) -> Records {
     for start in unfinished {
         let key = start.key();
         match suites.binary_search_by(|s| s.spec.key_cmp(&key)) {
-            Ok(i) if labels_match(&suites[i].spec, start.row, &start.labels) => suites[i].unfinished.push(start),
+            Ok(i) if labels_match(&suites[i].spec, start.row, &start.labels) => {
+                suites[i].unfinished.push(start)
+            }
             Ok(_) => stats.mismatched_rows += 1,
             Err(_) => stats.orphan_rows += 1,
         }

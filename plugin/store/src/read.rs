@@ -295,10 +295,9 @@ mod tests {
             notes[0]
         );
         assert!(notes[0].contains(".jsonl:7`"), "{}", notes[0]);
-        assert!(
-            notes[1]
-                .starts_with("skipped 1 record line of newer format version 7 (this build reads versions 2 to 3)")
-        );
+        assert!(notes[1].starts_with(
+            "skipped 1 record line of newer format version 7 (this build reads versions 2 to 3)"
+        ));
         assert_eq!(
             notes[2],
             "skipped 1 inconsistent spec line; hint: the store is damaged"
@@ -566,8 +565,11 @@ mod tests {
             write_file(&root, "nx", &format!("{i:013}-{i}-0.jsonl"), lines, "");
         }
         let rec = Store::open(&root).unwrap().read_run("nx").unwrap();
-        let seen: Vec<(u32, Outcome, Option<u32>)> =
-            rec.suites[0].rows.iter().map(|r| (r.row, r.outcome, r.attempt)).collect();
+        let seen: Vec<(u32, Outcome, Option<u32>)> = rec.suites[0]
+            .rows
+            .iter()
+            .map(|r| (r.row, r.outcome, r.attempt))
+            .collect();
         // each failed attempt once: the retry of row 0 shows attempt 1 failed, and its
         // start already said so
         assert_eq!(

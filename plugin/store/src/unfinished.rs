@@ -33,13 +33,25 @@ pub(crate) fn unpaired(starts: Vec<StartRecord>, rows: &[RowRecord]) -> Vec<Star
     // finishes per row, by the fields a start pairs on (`StartRecord::pairs_with`)
     let mut finishes: BTreeMap<(u32, &str, &str, &str, &str), usize> = BTreeMap::new();
     for r in rows {
-        let key = (r.row, r.test.as_str(), r.fingerprint.as_str(), r.target.as_str(), r.krate.as_str());
+        let key = (
+            r.row,
+            r.test.as_str(),
+            r.fingerprint.as_str(),
+            r.target.as_str(),
+            r.krate.as_str(),
+        );
         *finishes.entry(key).or_default() += 1;
     }
     let unpaired: Vec<bool> = starts
         .iter()
         .map(|s| {
-            let key = (s.row, s.test.as_str(), s.fingerprint.as_str(), s.target.as_str(), s.krate.as_str());
+            let key = (
+                s.row,
+                s.test.as_str(),
+                s.fingerprint.as_str(),
+                s.target.as_str(),
+                s.krate.as_str(),
+            );
             match finishes.get_mut(&key) {
                 Some(n) if *n > 0 => {
                     *n -= 1;

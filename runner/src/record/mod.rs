@@ -534,7 +534,10 @@ mod tests {
         for line in [Line::Spec(spec()), Line::Start(start()), Line::Row(row())] {
             let text = line.to_json_line();
             assert!(text.ends_with('\n') && !text[..text.len() - 1].contains('\n'));
-            assert!(text.starts_with(&format!("{{\"v\":{FORMAT_VERSION},\"kind\":\"")), "{text}");
+            assert!(
+                text.starts_with(&format!("{{\"v\":{FORMAT_VERSION},\"kind\":\"")),
+                "{text}"
+            );
             assert_eq!(Line::parse(text.trim_end()).unwrap(), line);
         }
     }
