@@ -81,7 +81,8 @@ pub enum FailOn {
     /// A row both passed and failed (retries, repeats, runs merged): exit code 4.
     Flaky,
     /// A suite's t-way interactions did not all run in λ rows (a partial run, a filter,
-    /// a missing shard), or no suite was recorded at all: exit code 5.
+    /// a missing shard), a row did not finish (its process, running several rows,
+    /// crashed), or no suite was recorded at all: exit code 5.
     Incomplete,
 }
 
@@ -117,7 +118,18 @@ impl FailOn {
             FailOn::Incomplete if report.suites.is_empty() => Some(NO_SUITE.into()),
             FailOn::Incomplete => {
                 let n = report.suites.iter().filter(|x| !x.ran.complete()).count();
-                (n > 0).then(|| format!("{n} suite{} did not run every interaction in lambda rows", s(n)))
+                let unfinished = report.suites.iter().filter(|x| x.ran.unfinished > 0).count();
+                let or_unfinished = if unfinished > 0 {
+                    " or had a row that did not finish"
+                } else {
+                    ""
+                };
+                (n > 0).then(|| {
+                    format!(
+                        "{n} suite{} did not run every interaction in lambda rows{or_unfinished}",
+                        s(n)
+                    )
+                })
             }
         }
     }
