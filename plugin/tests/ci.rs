@@ -584,6 +584,26 @@ fn pumps(
     );
 }
 
+/// Runs plain `cargo test ARGS` in the crate, recording into a store of its own
+/// (labelled `plain`), and returns the store.
+fn plain_cargo_test(krate: &Scratch, args: &str, env: &[(&str, &str)]) -> std::path::PathBuf {
+    let store = krate.store_dir("plain");
+    krate.cargo(&words(args), Some(&store), env).assert_compiled();
+    store
+}
+
+/// The JSON report of a store with `--fail-on failures`: the run and the document.
+fn report_failing_on_failures(krate: &Scratch, store: &Path) -> (Run, Value) {
+    let report = heddle(
+        krate,
+        &words("report --format json --fail-on failures"),
+        Some(store),
+        &[],
+    );
+    let v = parse_json(&report);
+    (report, v)
+}
+
 /// A suite whose rows with `speed = "high"` and `zone = 2` abort their test process
 /// every time they run.
 const ABORTING_PUMPS: &str = r#"//! A pair that aborts its process.
@@ -718,22 +738,13 @@ fn pumps(
     let krate = create("ci_abort_plain", "tests/pumps.rs", pumps);
     let markers = krate.root().join("markers");
     let _ = std::fs::remove_dir_all(&markers);
-    let store = krate.store_dir("plain");
-    krate
-        .cargo(
-            &words("test --test pumps -- --test-threads 2"),
-            Some(&store),
-            &[("MARKERS", markers.to_str().unwrap())],
-        )
-        .assert_compiled();
-    let report = heddle(
+    let store = plain_cargo_test(
         &krate,
-        &words("report --format json --fail-on failures"),
-        Some(&store),
-        &[],
+        "test --test pumps -- --test-threads 2",
+        &[("MARKERS", markers.to_str().unwrap())],
     );
+    let (report, v) = report_failing_on_failures(&krate, &store);
     assert_eq!(report.code, Some(0), "no row failed: {}", report.stderr);
-    let v = parse_json(&report);
     let pumps = suite(&v, "pumps");
     assert_eq!(pumps["failed"], 0, "{pumps:#}");
     assert_eq!(pumps["did_not_finish"], 2, "{pumps:#}");
@@ -802,18 +813,9 @@ fn one_cargo_test_is_one_run() {
             .next()
             .unwrap(),
     );
-    let store = krate.store_dir("plain");
-    krate
-        .cargo(&words("test --no-fail-fast"), Some(&store), &[])
-        .assert_compiled();
-    let report = heddle(
-        &krate,
-        &words("report --format json --fail-on failures"),
-        Some(&store),
-        &[],
-    );
+    let store = plain_cargo_test(&krate, "test --no-fail-fast", &[]);
+    let (report, v) = report_failing_on_failures(&krate, &store);
     assert_eq!(report.code, Some(3), "{}", report.stderr);
-    let v = parse_json(&report);
     assert_eq!(v["runs"].as_array().map(Vec::len), Some(1), "{v:#}");
     assert!(v["runs"][0].as_str().unwrap().starts_with("cargo-"), "{v:#}");
     assert_eq!(suite(&v, "valves")["suspects"][0]["verdict"], "always", "{v:#}");

@@ -966,6 +966,11 @@ fn nothing_recorded_is_incomplete_when_asked() {
     }
 }
 
+/// A suite's rows in the JSON report: passed, failed, did not finish, not run.
+fn row_counts(suite: &serde_json::Value) -> [u64; 4] {
+    ["passed", "failed", "did_not_finish", "not_run"].map(|k| suite[k].as_u64().unwrap_or(u64::MAX))
+}
+
 /// The rows of a plain `cargo test` process that ended while two rows ran (a start line
 /// each, no finish): every other row passed. Those two did not finish; they are no
 /// failures, the run is not all clear, and every format says which rows.
@@ -989,16 +994,7 @@ fn rows_in_flight_when_a_process_of_several_rows_ended_did_not_finish() {
 
     let v = json(tmp.path(), &[]);
     let suite = &v["suites"][0];
-    assert_eq!(
-        (
-            &suite["passed"],
-            &suite["failed"],
-            &suite["did_not_finish"],
-            &suite["not_run"]
-        ),
-        (&16.into(), &0.into(), &2.into(), &0.into()),
-        "{suite:#}"
-    );
+    assert_eq!(row_counts(suite), [16, 0, 2, 0], "{suite:#}");
     assert_eq!(suite["coverage"]["complete"], false, "{suite:#}");
     assert_eq!(suite["coverage"]["unfinished"], 2, "{suite:#}");
     let unfinished: Vec<&str> = suite["unfinished_rows"]
@@ -1087,16 +1083,7 @@ fn a_nextest_row_that_never_finished_is_a_failure() {
     }
     let v = json(tmp.path(), &[]);
     let suite = &v["suites"][0];
-    assert_eq!(
-        (
-            &suite["passed"],
-            &suite["failed"],
-            &suite["did_not_finish"],
-            &suite["not_run"]
-        ),
-        (&17.into(), &1.into(), &0.into(), &0.into()),
-        "{suite:#}"
-    );
+    assert_eq!(row_counts(suite), [17, 1, 0, 0], "{suite:#}");
     let failing = &suite["failing_rows"][0];
     assert_eq!(failing["test"], "totals::row_07", "{suite:#}");
     assert!(
