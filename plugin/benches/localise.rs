@@ -509,6 +509,7 @@ fn report_speed() {
         suites.push(SuiteRecords {
             spec: rec,
             rows: recs,
+            unfinished: Vec::new(),
         });
     }
     let records = Records {

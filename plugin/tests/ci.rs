@@ -521,8 +521,9 @@ fn retries_are_attempts_of_one_row() {
 }
 
 /// A row whose process aborts on the first try and passes on nextest's retry is flaky,
-/// as nextest calls it, not a clean pass: the retry's record (attempt 2) shows the first
-/// attempt failed, though the aborted process wrote nothing.
+/// as nextest calls it, not a clean pass: the aborted attempt's start line has no
+/// finish (and the retry's record, attempt 2, shows the first attempt failed too: it is
+/// counted once).
 #[test]
 fn a_crash_before_a_passing_retry_is_flaky() {
     if !have_nextest() {
@@ -565,7 +566,7 @@ fn pumps(
     );
     assert!(
         run.stderr
-            .contains("note: counted 1 attempt that left no record as failed"),
+            .contains("note: counted 1 nextest attempt that did not finish as failed"),
         "{}",
         run.stderr
     );
@@ -577,10 +578,217 @@ fn pumps(
     );
     junit_valid(&junit.stdout);
     assert!(
-        junit.stdout.contains("attempt 1 left no record"),
+        junit.stdout.contains("attempt 1 did not finish"),
         "{}",
         junit.stdout
     );
+}
+
+/// Runs plain `cargo test ARGS` in the crate, recording into a store of its own
+/// (labelled `plain`), and returns the store.
+fn plain_cargo_test(krate: &Scratch, args: &str, env: &[(&str, &str)]) -> std::path::PathBuf {
+    let store = krate.store_dir("plain");
+    krate.cargo(&words(args), Some(&store), env).assert_compiled();
+    store
+}
+
+/// The JSON report of a store with `--fail-on failures`: the run and the document.
+fn report_failing_on_failures(krate: &Scratch, store: &Path) -> (Run, Value) {
+    let report = heddle(
+        krate,
+        &words("report --format json --fail-on failures"),
+        Some(store),
+        &[],
+    );
+    let v = parse_json(&report);
+    (report, v)
+}
+
+/// A suite whose rows with `speed = "high"` and `zone = 2` abort their test process
+/// every time they run.
+const ABORTING_PUMPS: &str = r#"//! A pair that aborts its process.
+#[heddle_test::cover(strength = 2, seed = 3)]
+fn pumps(
+    #[levels("low", "high")] speed: &str,
+    #[levels(1, 2, 3)] zone: u32,
+    #[levels(true, false)] night: bool,
+) {
+    let _ = night;
+    if speed == "high" && zone == 2 {
+        std::process::abort();
+    }
+}
+"#;
+
+/// Under nextest a row whose process aborts on every attempt left no outcome, only its
+/// start lines; nextest ran it alone, so it is a failure of its interaction (it was
+/// "not run" and a JUnit `skipped`): `--fail-on failures` fails, JUnit has a failure
+/// with the nextest rerun command.
+#[test]
+fn a_row_that_aborts_under_nextest_on_every_attempt_fails() {
+    if !have_nextest() {
+        return;
+    }
+    let krate = create("ci_abort_nextest", "tests/pumps.rs", ABORTING_PUMPS);
+    let run = heddle(
+        &krate,
+        &words("test --nextest --quiet --format json -- --retries 1 --no-fail-fast"),
+        None,
+        &[],
+    );
+    let v = parse_json(&run);
+    let pumps = suite(&v, "pumps");
+    assert_eq!(pumps["not_run"], 0, "{pumps:#}");
+    assert_eq!(pumps["did_not_finish"], 0, "{pumps:#}");
+    assert!(pumps["failed"].as_u64().unwrap() >= 1, "{pumps:#}");
+    assert_eq!(pumps["suspects"][0]["verdict"], "always", "{pumps:#}");
+    assert_eq!(
+        pumps["suspects"][0]["levels"],
+        serde_json::json!({"speed": "\"high\"", "zone": "2"}),
+        "{pumps:#}"
+    );
+    let failing = pumps["failing_rows"].as_array().unwrap();
+    assert!(!failing.is_empty(), "{pumps:#}");
+    for row in failing {
+        assert_eq!(row["levels"]["speed"], "\"high\"", "{row:#}");
+        assert_eq!(row["levels"]["zone"], "2", "{row:#}");
+        assert_eq!(row["runs"], 2, "two attempts, both failed: {row:#}");
+        assert_eq!(row["failures"], 2, "{row:#}");
+        assert!(
+            row["message"].as_str().unwrap().contains("did not finish"),
+            "{row:#}"
+        );
+        assert!(
+            row["rerun"].as_str().unwrap().starts_with("cargo nextest run"),
+            "{row:#}"
+        );
+    }
+    let id = run_id(&run);
+    let gate = heddle(
+        &krate,
+        &["report", "--run", &id, "--fail-on", "failures"],
+        None,
+        &[],
+    );
+    assert_eq!(gate.code, Some(3), "{}", gate.stderr);
+    let junit = heddle(&krate, &["report", "--run", &id, "--format", "junit"], None, &[]);
+    junit_valid(&junit.stdout);
+    let parsed = quick_junit::Report::deserialize_from_str(&junit.stdout).expect("JUnit parses");
+    let mut failures = 0;
+    for case in &parsed.test_suites[0].test_cases {
+        let labels = case
+            .system_out
+            .as_ref()
+            .map(|s| s.to_string())
+            .unwrap_or_default();
+        let planted = labels.contains("speed = \"high\"") && labels.contains("zone = 2");
+        match &case.status {
+            quick_junit::TestCaseStatus::NonSuccess {
+                kind: quick_junit::NonSuccessKind::Failure,
+                message,
+                ..
+            } => {
+                assert!(planted, "{}: {labels}", case.name.as_str());
+                let message = message.as_ref().map(|m| m.to_string()).unwrap_or_default();
+                assert!(message.contains("did not finish"), "{message}");
+                failures += 1;
+            }
+            quick_junit::TestCaseStatus::Success { .. } => assert!(!planted, "{}", case.name.as_str()),
+            other => panic!("{}: {other:?}", case.name.as_str()),
+        }
+    }
+    assert_eq!(failures, failing.len(), "{}", junit.stdout);
+}
+
+/// Under plain `cargo test` libtest runs several rows of a process on threads, and an
+/// abort ends them all: the rows in flight did not finish, and which one aborted is not
+/// known, so none is blamed. Here the first row to start claims a marker file, waits
+/// until another row is running (it finds the claim taken and sleeps), and aborts: two
+/// rows in flight, neither a failure, the run not all clear, the note naming them.
+#[test]
+fn rows_in_flight_when_plain_cargo_test_aborts_did_not_finish() {
+    let pumps = r#"//! Two rows in flight when the process aborts.
+#[heddle_test::cover(strength = 2, seed = 3)]
+fn pumps(
+    #[levels("low", "high")] speed: &str,
+    #[levels(1, 2, 3)] zone: u32,
+    #[levels(true, false)] night: bool,
+) {
+    let _ = (speed, zone, night);
+    let dir = std::path::PathBuf::from(std::env::var("MARKERS").expect("MARKERS is set"));
+    std::fs::create_dir_all(&dir).unwrap();
+    let claimed = std::fs::OpenOptions::new()
+        .write(true)
+        .create_new(true)
+        .open(dir.join("culprit"))
+        .is_ok();
+    if claimed {
+        for _ in 0..600 {
+            if dir.join("waiting").exists() {
+                break;
+            }
+            std::thread::sleep(std::time::Duration::from_millis(50));
+        }
+        std::process::abort();
+    }
+    std::fs::write(dir.join("waiting"), "").unwrap();
+    std::thread::sleep(std::time::Duration::from_secs(60));
+}
+"#;
+    let krate = create("ci_abort_plain", "tests/pumps.rs", pumps);
+    let markers = krate.root().join("markers");
+    let _ = std::fs::remove_dir_all(&markers);
+    let store = plain_cargo_test(
+        &krate,
+        "test --test pumps -- --test-threads 2",
+        &[("MARKERS", markers.to_str().unwrap())],
+    );
+    let (report, v) = report_failing_on_failures(&krate, &store);
+    assert_eq!(report.code, Some(0), "no row failed: {}", report.stderr);
+    let pumps = suite(&v, "pumps");
+    assert_eq!(pumps["failed"], 0, "{pumps:#}");
+    assert_eq!(pumps["did_not_finish"], 2, "{pumps:#}");
+    assert_eq!(pumps["coverage"]["complete"], false, "{pumps:#}");
+    assert_eq!(pumps["suspects"].as_array().map(Vec::len), Some(0), "{pumps:#}");
+    let in_flight: Vec<String> = pumps["unfinished_rows"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|r| {
+            r["test"]
+                .as_str()
+                .unwrap()
+                .trim_start_matches("pumps::")
+                .to_string()
+        })
+        .collect();
+    assert_eq!(in_flight.len(), 2, "{pumps:#}");
+    let note = format!(
+        "note: `pumps`: 2 rows did not finish (`{}`, `{}`)",
+        in_flight[0], in_flight[1]
+    );
+    assert!(report.stderr.contains(&note), "{note}\n{}", report.stderr);
+    assert!(
+        report.stderr.contains("one of them likely caused it"),
+        "{}",
+        report.stderr
+    );
+    let incomplete = heddle(&krate, &words("report --fail-on incomplete"), Some(&store), &[]);
+    assert_eq!(incomplete.code, Some(5), "{}", incomplete.stderr);
+    assert!(
+        incomplete.stdout.contains("did not finish: "),
+        "{}",
+        incomplete.stdout
+    );
+    let junit = heddle(&krate, &words("report --format junit"), Some(&store), &[]);
+    junit_valid(&junit.stdout);
+    assert_eq!(
+        junit.stdout.matches("<error type=\"did-not-finish\"").count(),
+        2,
+        "{}",
+        junit.stdout
+    );
+    assert!(!junit.stdout.contains("<failure"), "{}", junit.stdout);
 }
 
 /// Plain `cargo test` runs one process per test binary: they record as one run (the
@@ -605,18 +813,9 @@ fn one_cargo_test_is_one_run() {
             .next()
             .unwrap(),
     );
-    let store = krate.store_dir("plain");
-    krate
-        .cargo(&words("test --no-fail-fast"), Some(&store), &[])
-        .assert_compiled();
-    let report = heddle(
-        &krate,
-        &words("report --format json --fail-on failures"),
-        Some(&store),
-        &[],
-    );
+    let store = plain_cargo_test(&krate, "test --no-fail-fast", &[]);
+    let (report, v) = report_failing_on_failures(&krate, &store);
     assert_eq!(report.code, Some(3), "{}", report.stderr);
-    let v = parse_json(&report);
     assert_eq!(v["runs"].as_array().map(Vec::len), Some(1), "{v:#}");
     assert!(v["runs"][0].as_str().unwrap().starts_with("cargo-"), "{v:#}");
     assert_eq!(suite(&v, "valves")["suspects"][0]["verdict"], "always", "{v:#}");

@@ -304,7 +304,7 @@ fn table_and_markdown_say_the_same_thing() {
     assert!(!table.contains('\x1b'), "no colours when not on a terminal");
     let md = text(&report(&["--store", tmp.path().to_str().unwrap(), "--format", "markdown"]).stdout);
     assert!(
-        md.contains("| suite | t | λ | rows | passed | failed | not run | top suspect |"),
+        md.contains("| suite | t | λ | rows | passed | failed | did not finish | not run | top suspect |"),
         "{md}"
     );
     assert!(
@@ -340,7 +340,8 @@ fn damaged_and_foreign_lines_are_skipped_and_counted() {
     let whole = Line::Row(row(&s, 1, Outcome::Passed, "run-d")).to_json_line();
     lines.push(whole[..whole.len() / 2].to_string()); // truncated mid-line
     lines.push("\n".into());
-    lines.push(whole.replacen("\"v\":2", "\"v\":1", 1)); // an older format version
+    let current = format!("\"v\":{}", heddle_test::record::FORMAT_VERSION);
+    lines.push(whole.replacen(&current, "\"v\":1", 1)); // an older format version
     write_process(tmp.path(), "run-d", 1_700_000_000_001, &lines);
     let o = report(&["--store", tmp.path().to_str().unwrap(), "--format", "json"]);
     assert!(o.status.success());
@@ -969,4 +970,145 @@ fn nothing_recorded_is_incomplete_when_asked() {
             assert_eq!(report(args).status.code(), Some(2), "{args:?}");
         }
     }
+}
+
+/// A suite's rows in the JSON report: passed, failed, did not finish, not run.
+fn row_counts(suite: &serde_json::Value) -> [u64; 4] {
+    ["passed", "failed", "did_not_finish", "not_run"].map(|k| suite[k].as_u64().unwrap_or(u64::MAX))
+}
+
+/// The rows of a plain `cargo test` process that ended while two rows ran (a start line
+/// each, no finish): every other row passed. Those two did not finish; they are no
+/// failures, the run is not all clear, and every format says which rows.
+#[test]
+fn rows_in_flight_when_a_process_of_several_rows_ended_did_not_finish() {
+    let tmp = tempfile::tempdir().unwrap();
+    let run = "run-crash";
+    let s = spec(rows_l2(), 2, run);
+    let in_flight = [4usize, 11];
+    let mut lines = vec![Line::Spec(s.clone()).to_json_line()];
+    for r in 0..s.rows.len() {
+        let mut start = fixture::start(&s, r);
+        start.run = run.into();
+        lines.push(Line::Start(start).to_json_line());
+        if !in_flight.contains(&r) {
+            lines.push(Line::Row(row(&s, r, Outcome::Passed, run)).to_json_line());
+        }
+    }
+    write_process(tmp.path(), run, 1_700_000_000_000, &lines);
+    let store = tmp.path().to_str().unwrap();
+
+    let v = json(tmp.path(), &[]);
+    let suite = &v["suites"][0];
+    assert_eq!(row_counts(suite), [16, 0, 2, 0], "{suite:#}");
+    assert_eq!(suite["coverage"]["complete"], false, "{suite:#}");
+    assert_eq!(suite["coverage"]["unfinished"], 2, "{suite:#}");
+    let unfinished: Vec<&str> = suite["unfinished_rows"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|r| r["test"].as_str().unwrap())
+        .collect();
+    assert_eq!(unfinished, ["totals::row_04", "totals::row_11"]);
+    assert_eq!(suite["failing_rows"].as_array().map(Vec::len), Some(0));
+    let note = v["notes"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter_map(|n| n.as_str())
+        .find(|n| n.contains("did not finish"))
+        .unwrap_or_else(|| panic!("a note on the rows: {v:#}"));
+    assert!(
+        note.starts_with("`totals`: 2 rows did not finish (`row_04`, `row_11`)")
+            && note.contains("one of them likely caused it")
+            && note.contains("not counted as failures")
+            && note.contains("sees the rows in flight as not finished"),
+        "{note}"
+    );
+
+    let table = report(&["--store", store]);
+    let out = text(&table.stdout);
+    assert!(out.contains("16 passed, 0 failed, 2 did not finish"), "{out}");
+    assert!(out.contains("partial run, not all clear"), "{out}");
+    assert!(out.contains("did not finish: row_04, row_11"), "{out}");
+    assert!(!out.contains("  all clear:"), "{out}");
+
+    let md = text(&report(&["--store", store, "--format", "markdown"]).stdout);
+    assert!(md.contains("| 18 | 16 | 0 | 2 | 0 |"), "{md}");
+    assert!(md.contains("> did not finish: `row_04`, `row_11`"), "{md}");
+
+    let xml = text(&report(&["--store", store, "--format", "junit"]).stdout);
+    let parsed = quick_junit::Report::deserialize_from_str(&xml).expect("the JUnit report parses");
+    let errors: Vec<&str> = parsed.test_suites[0]
+        .test_cases
+        .iter()
+        .filter(|c| {
+            matches!(
+                &c.status,
+                quick_junit::TestCaseStatus::NonSuccess {
+                    kind: quick_junit::NonSuccessKind::Error,
+                    ..
+                }
+            )
+        })
+        .map(|c| c.name.as_str())
+        .collect();
+    assert_eq!(errors, ["totals::row_04", "totals::row_11"], "{xml}");
+    assert!(xml.contains("failures=\"0\" errors=\"2\" skipped=\"0\""), "{xml}");
+    assert!(
+        common::validate_junit(&xml).unwrap_or_else(|e| panic!("{e}")) || std::env::var_os("CI").is_none()
+    );
+
+    // no failure to fail on, but the run is incomplete
+    let gate = report(&["--store", store, "--fail-on", "failures"]);
+    assert_eq!(gate.status.code(), Some(0), "{}", text(&gate.stderr));
+    let gate = report(&["--store", store, "--fail-on", "incomplete"]);
+    assert_eq!(gate.status.code(), Some(5), "{}", text(&gate.stderr));
+}
+
+/// Under nextest (one row per process; the start carries the attempt) a start with no
+/// finish is a failed execution of that row: a failure everywhere, with the nextest
+/// rerun command.
+#[test]
+fn a_nextest_row_that_never_finished_is_a_failure() {
+    let tmp = tempfile::tempdir().unwrap();
+    let run = "run-nx";
+    let s = spec(rows_l2(), 2, run);
+    for r in 0..s.rows.len() {
+        let mut start = fixture::start(&s, r);
+        start.run = run.into();
+        start.attempt = Some(1);
+        let mut lines = vec![
+            Line::Spec(s.clone()).to_json_line(),
+            Line::Start(start.clone()).to_json_line(),
+        ];
+        if r != 7 {
+            lines.push(Line::Row(start.finished(Outcome::Passed, None, 10)).to_json_line());
+        }
+        write_process(tmp.path(), run, 1_700_000_000_000 + r as u64, &lines);
+    }
+    let v = json(tmp.path(), &[]);
+    let suite = &v["suites"][0];
+    assert_eq!(row_counts(suite), [17, 1, 0, 0], "{suite:#}");
+    let failing = &suite["failing_rows"][0];
+    assert_eq!(failing["test"], "totals::row_07", "{suite:#}");
+    assert!(
+        failing["message"]
+            .as_str()
+            .unwrap()
+            .starts_with("attempt 1 did not finish"),
+        "{failing:#}"
+    );
+    assert!(
+        failing["rerun"]
+            .as_str()
+            .unwrap()
+            .starts_with("cargo nextest run"),
+        "{failing:#}"
+    );
+    let store = tmp.path().to_str().unwrap();
+    let gate = report(&["--store", store, "--fail-on", "failures"]);
+    assert_eq!(gate.status.code(), Some(3), "{}", text(&gate.stderr));
+    let xml = text(&report(&["--store", store, "--format", "junit"]).stdout);
+    assert!(xml.contains("failures=\"1\" errors=\"0\" skipped=\"0\""), "{xml}");
 }

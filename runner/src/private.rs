@@ -107,6 +107,7 @@ pub fn run_result<E: Debug>(
 
 /// Async form of [`run`]: a panic while the future is polled is caught too.
 pub async fn run_async<F: Future<Output = ()>>(suite: &'static Suite, row: usize, body: F) {
+    GLOBAL.start(suite, row);
     let start = Instant::now();
     let caught = catch_future(suite, row, body).await;
     finish_unit(&GLOBAL, suite, row, caught, start);
@@ -118,6 +119,7 @@ pub async fn run_async_result<E: Debug, F: Future<Output = Result<(), E>>>(
     row: usize,
     body: F,
 ) -> Result<(), RowError<E>> {
+    GLOBAL.start(suite, row);
     let start = Instant::now();
     let caught = catch_future(suite, row, body).await;
     finish_result(&GLOBAL, suite, row, caught, start)
@@ -186,6 +188,7 @@ async fn catch_future<T, F: Future<Output = T>>(
 
 /// [`run`] against a given recorder.
 pub(crate) fn run_in(rec: &Recorder, suite: &'static Suite, row: usize, body: impl FnOnce()) {
+    rec.start(suite, row);
     let start = Instant::now();
     // AssertUnwindSafe: the panic is always resumed, so nobody observes state the body
     // left half-updated
@@ -200,6 +203,7 @@ pub(crate) fn run_result_in<E: Debug>(
     row: usize,
     body: impl FnOnce() -> Result<(), E>,
 ) -> Result<(), RowError<E>> {
+    rec.start(suite, row);
     let start = Instant::now();
     let caught = current::within(suite, row, || panic::catch_unwind(AssertUnwindSafe(body)));
     finish_result(rec, suite, row, caught, start)

@@ -1,4 +1,9 @@
-//! Appends row outcomes to this process's store file.
+//! Appends row starts and outcomes to this process's store file.
+//!
+//! A row's start line goes out before its body runs and its row line after, so a row
+//! whose process ends in between (a crash, an abort, a kill) leaves a start with no
+//! finish, which the reader pairs up per file. The start costs one more appended write
+//! per row, no flush or sync: the kernel keeps what was written when the process dies.
 //!
 //! One file per process means no two processes ever share a file (nextest's
 //! one-process-per-test included); inside a process libtest's threads are serialised by
@@ -10,7 +15,7 @@
 use crate::__private::Suite;
 use crate::message;
 use crate::record::layout;
-use crate::record::{FactorSpec, FocusSpec, Line, Outcome, RowRecord, SpecRecord};
+use crate::record::{FactorSpec, FocusSpec, Line, Outcome, RowRecord, SpecRecord, StartRecord};
 use crate::setup::{Config, SetupError};
 use crate::time;
 use std::collections::BTreeSet;
@@ -72,8 +77,17 @@ impl Recorder {
         }
     }
 
+    /// Records that a row starts; on failure warns once and stops recording.
+    pub(crate) fn start(&self, suite: &'static Suite, row: usize) {
+        self.with_writer(|w| w.write_start(suite, row));
+    }
+
     /// Records one row; on failure warns once and stops recording.
     pub(crate) fn record(&self, suite: &'static Suite, result: &RowResult) {
+        self.with_writer(|w| w.write(suite, result));
+    }
+
+    fn with_writer(&self, write: impl FnOnce(&mut Writer) -> Result<(), SetupError>) {
         // a panic while holding the lock cannot leave the state half-updated (each arm
         // assigns whole values), so a poisoned lock is safe to reuse
         let mut state = self.state.lock().unwrap_or_else(|e| e.into_inner());
@@ -89,7 +103,7 @@ impl Recorder {
         let State::Open(writer) = &mut *state else {
             return;
         };
-        if let Err(e) = writer.write(suite, result) {
+        if let Err(e) = write(writer) {
             (self.warn)(&format!("outcomes are no longer recorded: {e}"));
             *state = State::Off;
         }
@@ -123,20 +137,37 @@ fn open(config: Config) -> Result<Writer, SetupError> {
 }
 
 impl Writer {
+    /// Writes a row's start line, after its suite's spec line when this process has not
+    /// written that yet.
+    fn write_start(&mut self, suite: &'static Suite, row: usize) -> Result<(), SetupError> {
+        let start = self.start_record(suite, row, time::rfc3339(SystemTime::now()));
+        self.write_line(suite, &Line::Start(start))
+    }
+
     fn write(&mut self, suite: &'static Suite, result: &RowResult) -> Result<(), SetupError> {
-        let now = SystemTime::now();
-        let stamp = time::rfc3339(now);
+        let start = self.start_record(suite, result.row, time::rfc3339(SystemTime::now()));
+        let row = row_record(&start, result);
+        self.write_line(suite, &Line::Row(row))
+    }
+
+    fn start_record(&self, suite: &Suite, row: usize, time: String) -> StartRecord {
+        let mut start = start_record(suite, row, &self.run_id, time);
+        start.attempt = self.attempt;
+        start.build.clone_from(&self.build);
+        start
+    }
+
+    /// Appends one line in one write, preceded by the suite's spec line the first time.
+    fn write_line(&mut self, suite: &'static Suite, line: &Line) -> Result<(), SetupError> {
         let key = suite as *const Suite as usize;
         let new_suite = !self.specs.contains(&key);
         let mut buf = String::new();
         if new_suite {
+            let stamp = time::rfc3339(SystemTime::now());
             buf.push_str(&Line::Spec(spec_record(suite, &self.run_id, &stamp)).to_json_line());
         }
-        let mut row = row_record(suite, result, &self.run_id, stamp);
-        row.attempt = self.attempt;
-        row.build.clone_from(&self.build);
-        buf.push_str(&Line::Row(row).to_json_line());
-        // one write of whole lines; the spec goes out with its suite's first row
+        buf.push_str(&line.to_json_line());
+        // one write of whole lines; the spec goes out with its suite's first line
         self.file
             .write_all(buf.as_bytes())
             .map_err(|reason| SetupError::Unwritable {
@@ -192,25 +223,32 @@ pub(crate) fn spec_record(suite: &Suite, run_id: &str, time: &str) -> SpecRecord
     }
 }
 
-fn row_record(suite: &Suite, result: &RowResult, run_id: &str, time: String) -> RowRecord {
-    RowRecord {
+fn start_record(suite: &Suite, row: usize, run_id: &str, time: String) -> StartRecord {
+    StartRecord {
         run: run_id.to_string(),
         krate: suite.krate.to_string(),
         target: message::crate_root(suite.module).to_string(),
-        test: message::test_name(suite, result.row),
+        test: message::test_name(suite, row),
         fingerprint: suite.fingerprint.to_string(),
-        row: u32::try_from(result.row).unwrap_or(u32::MAX),
-        labels: message::row_labels(suite, result.row)
+        row: u32::try_from(row).unwrap_or(u32::MAX),
+        labels: message::row_labels(suite, row)
             .into_iter()
             .map(str::to_string)
             .collect(),
-        outcome: result.outcome,
-        message: result.message.clone(),
-        duration_ns: u64::try_from(result.duration.as_nanos()).unwrap_or(u64::MAX),
         time,
         attempt: None,
         build: None,
     }
+}
+
+/// The row line of a finished row: its start's fields (stamped when it finished), and
+/// how it ended.
+fn row_record(start: &StartRecord, result: &RowResult) -> RowRecord {
+    start.finished(
+        result.outcome,
+        result.message.clone(),
+        u64::try_from(result.duration.as_nanos()).unwrap_or(u64::MAX),
+    )
 }
 
 #[cfg(test)]
@@ -284,7 +322,10 @@ mod tests {
         assert_eq!(s.selector, "--lib");
         assert_eq!(s.row_names, ["row_00", "row_01"]);
         assert_eq!(s.row_test_name(1).as_deref(), Some("tests::f::row_01"));
-        let r = row_record(&SUITE, &result(1, Outcome::Failed), "r", "t".into());
+        let r = row_record(
+            &start_record(&SUITE, 1, "r", "t".into()),
+            &result(1, Outcome::Failed),
+        );
         assert_eq!(r.test, "tests::f::row_01");
         assert_eq!(r.labels, vec!["2"]);
         assert_eq!(r.key(), s.key());
@@ -300,22 +341,40 @@ mod tests {
             build: Some("b1".into()),
         };
         let mut w = open(cfg).unwrap();
+        w.write_start(&SUITE, 0).unwrap();
         w.write(&SUITE, &result(0, Outcome::Passed)).unwrap();
+        w.write_start(&SUITE, 1).unwrap();
         w.write(&SUITE, &result(1, Outcome::Failed)).unwrap();
+        // a row whose process dies now leaves its start alone
+        w.write_start(&SUITE, 0).unwrap();
         let text = std::fs::read_to_string(&w.path).unwrap();
         let lines: Vec<Line> = text.lines().map(|l| Line::parse(l).unwrap()).collect();
-        assert_eq!(lines.len(), 3);
+        assert_eq!(lines.len(), 6);
         assert!(matches!(&lines[0], Line::Spec(s) if s.run == "run-1"));
-        assert!(matches!(&lines[1], Line::Row(r) if r.outcome == Outcome::Passed && r.message.is_none()));
-        assert!(
-            matches!(&lines[2], Line::Row(r) if r.message.as_deref() == Some("boom") && r.duration_ns == 3000)
+        let shape: Vec<(&str, u32)> = lines[1..]
+            .iter()
+            .map(|l| match l {
+                Line::Start(s) => ("start", s.row),
+                Line::Row(r) => ("row", r.row),
+                Line::Spec(_) => ("spec", 0),
+            })
+            .collect();
+        assert_eq!(
+            shape,
+            [("start", 0), ("row", 0), ("start", 1), ("row", 1), ("start", 0)]
         );
+        let (Line::Start(s1), Line::Row(r1)) = (&lines[3], &lines[4]) else {
+            panic!("a start, then its row: {lines:?}")
+        };
+        assert!(s1.pairs_with(r1));
+        assert!(matches!(&lines[2], Line::Row(r) if r.outcome == Outcome::Passed && r.message.is_none()));
+        assert!(r1.message.as_deref() == Some("boom") && r1.duration_ns == 3000);
         assert!(w.path.starts_with(tmp.path().join("heddle/runs/run-1")));
-        // every row names the build that ran it
-        assert!(
-            lines[1..]
-                .iter()
-                .all(|l| matches!(l, Line::Row(r) if r.build.as_deref() == Some("b1")))
-        );
+        // every start and row names the build that ran it
+        assert!(lines[1..].iter().all(|l| match l {
+            Line::Row(r) => r.build.as_deref() == Some("b1"),
+            Line::Start(s) => s.build.as_deref() == Some("b1"),
+            Line::Spec(_) => false,
+        }));
     }
 }

@@ -475,6 +475,7 @@ fn forget_records(target: &Path, name: &str) -> std::io::Result<()> {
             let package = text.lines().find_map(|l| match Line::parse(l) {
                 Ok(Line::Spec(s)) => Some(s.krate),
                 Ok(Line::Row(r)) => Some(r.krate),
+                Ok(Line::Start(r)) => Some(r.krate),
                 Err(_) => None,
             });
             if package.as_deref() == Some(name) {

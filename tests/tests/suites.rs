@@ -647,16 +647,17 @@ fn nextest(krate: &Scratch, main: &Main) -> Result<(), String> {
     for path in &info.files {
         let lines = file_lines(path)?;
         let specs = lines.iter().filter(|l| matches!(l, Line::Spec(_))).count();
+        let starts = lines.iter().filter(|l| matches!(l, Line::Start(_))).count();
         let rows: Vec<_> = lines
             .iter()
             .filter_map(|l| match l {
                 Line::Row(r) => Some(r),
-                Line::Spec(_) => None,
+                Line::Spec(_) | Line::Start(_) => None,
             })
             .collect();
         ensure!(
-            specs == 1 && rows.len() == 1 && rows[0].run == id,
-            "`{}`: {specs} spec lines, rows {rows:?}",
+            specs == 1 && starts == 1 && rows.len() == 1 && rows[0].run == id,
+            "`{}`: {specs} spec lines, {starts} start lines, rows {rows:?}",
             path.display()
         );
     }

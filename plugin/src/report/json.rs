@@ -12,10 +12,16 @@
 //!   "suites": [ {
 //!       "crate", "target", "file", "function", "test",   test = rows module path
 //!       "fingerprint", "strength", "lambda", "seed",         seed: a decimal string
-//!       "rows", "followups", "passed", "failed", "not_run", "executions",
+//!       "rows", "followups", "passed", "failed", "did_not_finish", "not_run", "executions",
+//!                                              did_not_finish: rows whose executions all
+//!                                              started and did not finish in a process of
+//!                                              several rows (no outcome; not in not_run)
 //!       "coverage": { "rows_run", "interactions", "interactions_run",
-//!                     "interactions_at_lambda", "complete" },      t-way interactions of
-//!                                              the runs read; complete: all at lambda
+//!                     "interactions_at_lambda", "unfinished", "complete" },  t-way
+//!                                              interactions of the runs read; unfinished
+//!                                              (only when some): executions that did not
+//!                                              finish; complete: all at lambda and none
+//!                                              unfinished
 //!                                              rows counts the follow-up rows (`cargo heddle
 //!                                              probe`), the last `followups` of them
 //!       "interactions": [ { "levels": {parameter: label, …}, "runs", "passes", "failures" } ],
@@ -28,6 +34,11 @@
 //!                                              only interactions a row of which both
 //!                                              passed and failed
 //!       "failing_rows": [ { "row", "test", "levels", "runs", "failures", "message", "rerun" } ],
+//!       "unfinished_rows": [ { "row", "test", "levels", "unfinished", "runs", "rerun" } ],
+//!                                              rows with executions that did not finish in a
+//!                                              process of several rows (not failures: one of
+//!                                              the rows in flight likely ended the process);
+//!                                              under nextest such an execution is a failure
 //!       "advice": { "confidence", "detectable_rate", "runs_per_interaction", "rounds",
 //!                   "flake_rate", "lambda_needed", "rows_needed", "rows_needed_at_least" },
 //!                                              detectable_rate at runs_per_interaction
@@ -93,6 +104,7 @@ struct Suite<'a> {
     followups: u32,
     passed: usize,
     failed: usize,
+    did_not_finish: usize,
     not_run: usize,
     executions: u64,
     coverage: Coverage,
@@ -100,6 +112,7 @@ struct Suite<'a> {
     suspects: Vec<Suspect<'a>>,
     flaky: Vec<Flaky<'a>>,
     failing_rows: Vec<FailingRow<'a>>,
+    unfinished_rows: Vec<UnfinishedRow<'a>>,
     advice: Advice,
     #[serde(skip_serializing_if = "Vec::is_empty")]
     focus: Vec<FocusInteraction<'a>>,
@@ -146,6 +159,8 @@ struct Coverage {
     focus_interactions: usize,
     #[serde(skip_serializing_if = "is_zero")]
     focus_at_lambda: usize,
+    #[serde(skip_serializing_if = "is_zero")]
+    unfinished: usize,
     complete: bool,
 }
 
@@ -195,6 +210,16 @@ struct FailingRow<'a> {
 }
 
 #[derive(Serialize)]
+struct UnfinishedRow<'a> {
+    row: usize,
+    test: String,
+    levels: Levels<'a>,
+    unfinished: usize,
+    runs: u64,
+    rerun: String,
+}
+
+#[derive(Serialize)]
 struct Advice {
     confidence: f64,
     detectable_rate: f64,
@@ -204,6 +229,17 @@ struct Advice {
     lambda_needed: Option<u32>,
     rows_needed: Option<u64>,
     rows_needed_at_least: Option<u64>,
+}
+
+/// A row's labels by parameter.
+fn row_levels(spec: &heddle_test::record::SpecRecord, row: usize) -> Levels<'_> {
+    Levels(
+        spec.factors
+            .iter()
+            .map(|f| f.name.as_str())
+            .zip(spec.row_labels(row).unwrap_or_default())
+            .collect(),
+    )
 }
 
 fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
@@ -223,6 +259,7 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
         followups: spec.followups,
         passed: s.passed,
         failed: s.failed,
+        did_not_finish: s.did_not_finish,
         not_run: s.not_run,
         executions: s.tallies.total().runs,
         coverage: Coverage {
@@ -232,6 +269,7 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
             interactions_at_lambda: s.ran.interactions_at_lambda,
             focus_interactions: s.ran.focus_interactions,
             focus_at_lambda: s.ran.focus_at_lambda,
+            unfinished: s.ran.unfinished,
             complete: s.ran.complete(),
         },
         focus: s
@@ -287,6 +325,19 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
                 high: f.high,
             })
             .collect(),
+        unfinished_rows: s
+            .rows
+            .iter()
+            .filter(|r| r.unfinished > 0)
+            .map(|r| UnfinishedRow {
+                row: r.row,
+                test: spec.row_test_name(r.row).unwrap_or_default(),
+                levels: row_levels(spec, r.row),
+                unfinished: r.unfinished,
+                runs: r.count.runs,
+                rerun: s.rerun(r.row),
+            })
+            .collect(),
         failing_rows: s
             .rows
             .iter()
@@ -294,13 +345,7 @@ fn suite<'a>(s: &'a SuiteReport<'a>) -> Suite<'a> {
             .map(|r| FailingRow {
                 row: r.row,
                 test: spec.row_test_name(r.row).unwrap_or_default(),
-                levels: Levels(
-                    spec.factors
-                        .iter()
-                        .map(|f| f.name.as_str())
-                        .zip(spec.row_labels(r.row).unwrap_or_default())
-                        .collect(),
-                ),
+                levels: row_levels(spec, r.row),
                 runs: r.count.runs,
                 failures: r.count.failures,
                 message: r.message.as_deref(),

@@ -6,6 +6,10 @@
 //!   retries, `--repeat` rounds, merged runs) are `rerunFailure`s beside it.
 //! - A row that both passed and failed passes with one `flakyFailure` per failed
 //!   execution, as nextest reports a test that passed on a retry.
+//! - A row whose executions all started and did not finish in a test process that ran
+//!   several rows (plain `cargo test`) is an `error`, not a `failure`: the process
+//!   ended while it ran, but any row in flight may have ended it. (Under nextest such an
+//!   execution is a failure of the row, counted like any other.)
 //! - A row with no record in the runs read is `skipped`.
 //! - The suite's strength, lambda and seed (decimal, as everywhere) are suite properties;
 //!   the schema has no properties per testcase, so a row's labels are a suite property
@@ -53,11 +57,14 @@ enum Status<'r> {
     Passed,
     Failed(&'r [FailedRun]),
     Flaky(&'r [FailedRun]),
+    DidNotFinish(usize),
     Skipped,
 }
 
 fn status(r: &RowView) -> Status<'_> {
-    if r.count.runs == 0 {
+    if r.did_not_finish() {
+        Status::DidNotFinish(r.unfinished)
+    } else if r.count.runs == 0 {
         Status::Skipped
     } else if r.count.failures == 0 {
         Status::Passed
@@ -85,11 +92,12 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, runs: &[String]) {
         .iter()
         .filter(|r| matches!(status(r), Status::Failed(_)))
         .count();
-    let skipped = s.rows.iter().filter(|r| r.count.runs == 0).count();
+    let errors = s.did_not_finish;
+    let skipped = s.not_run;
     let time: u64 = s.rows.iter().map(|r| r.duration_ns).sum();
     let _ = writeln!(
         out,
-        "  <testsuite name=\"{}\" tests=\"{}\" failures=\"{failures}\" errors=\"0\" skipped=\"{skipped}\" time=\"{}\">",
+        "  <testsuite name=\"{}\" tests=\"{}\" failures=\"{failures}\" errors=\"{errors}\" skipped=\"{skipped}\" time=\"{}\">",
         esc(&format!("{}::{}", spec.krate, spec.suite)),
         s.rows.len(),
         secs(time)
@@ -130,6 +138,21 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, runs: &[String]) {
                 let _ = writeln!(
                     out,
                     "      <skipped message=\"no record of this row in the runs read\"/>"
+                );
+            }
+            Status::DidNotFinish(n) => {
+                let times = if n == 1 {
+                    String::new()
+                } else {
+                    format!(" ({n} times)")
+                };
+                let _ = writeln!(
+                    out,
+                    "      <error type=\"did-not-finish\" message=\"{}\">{}</error>",
+                    esc(&format!(
+                        "did not finish{times}: the test process, running several rows, ended while it ran (a crash, an abort or a kill); one of the rows in flight likely caused it"
+                    )),
+                    esc(&format!("rerun alone: {rerun_cmd}"))
                 );
             }
             Status::Failed(failed) => {
@@ -188,6 +211,7 @@ pub fn render(report: &Report<'_>) -> String {
                 .count()
         })
         .sum();
+    let errors: usize = report.suites.iter().map(|s| s.did_not_finish).sum();
     let time: u64 = report
         .suites
         .iter()
@@ -196,7 +220,7 @@ pub fn render(report: &Report<'_>) -> String {
     let mut out = String::from("<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n");
     let _ = writeln!(
         out,
-        "<testsuites name=\"heddle\" tests=\"{tests}\" failures=\"{failures}\" errors=\"0\" time=\"{}\">",
+        "<testsuites name=\"heddle\" tests=\"{tests}\" failures=\"{failures}\" errors=\"{errors}\" time=\"{}\">",
         secs(time)
     );
     for s in &report.suites {

@@ -21,7 +21,7 @@ pub fn render(report: &Report<'_>) -> String {
         let _ = writeln!(out, "Merged {merged}.\n");
     }
     out.push_str(
-        "| suite | t | λ | rows | passed | failed | not run | top suspect |\n|---|---|---|---|---|---|---|---|\n",
+        "| suite | t | λ | rows | passed | failed | did not finish | not run | top suspect |\n|---|---|---|---|---|---|---|---|---|\n",
     );
     for s in &report.suites {
         let top = s.analysis.suspects.first().map_or("–".to_string(), |x| {
@@ -35,7 +35,7 @@ pub fn render(report: &Report<'_>) -> String {
         });
         let _ = writeln!(
             out,
-            "| `{}` {} | {} | {} | {} | {} | {} | {} | {} |",
+            "| `{}` {} | {} | {} | {} | {} | {} | {} | {} | {} |",
             cell(&s.spec.suite),
             cell(&s.spec.file),
             s.spec.strength,
@@ -43,6 +43,7 @@ pub fn render(report: &Report<'_>) -> String {
             s.spec.rows.len(),
             s.passed,
             s.failed,
+            s.did_not_finish,
             s.not_run,
             cell(&top)
         );
@@ -66,6 +67,17 @@ pub fn render(report: &Report<'_>) -> String {
                 out,
                 "> focus sets: {} of {} focus interactions met their lambda",
                 s.ran.focus_at_lambda, s.ran.focus_interactions
+            );
+        }
+        if s.ran.unfinished > 0 {
+            let _ = writeln!(
+                out,
+                "> did not finish: {} (its test process ended while they ran; see the note)",
+                s.unfinished_rows()
+                    .iter()
+                    .map(|r| format!("`{}`", cell(r)))
+                    .collect::<Vec<_>>()
+                    .join(", ")
             );
         }
     }

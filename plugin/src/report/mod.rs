@@ -21,7 +21,7 @@ use std::process::ExitCode;
 use clap::{Args, ValueEnum};
 use heddle_store::{Count, Tallies, tally};
 use heddle_store::{Records, Store, StoreError, find_root};
-use heddle_test::record::{RowRecord, SpecRecord};
+use heddle_test::record::{RowRecord, SpecRecord, StartRecord};
 
 use crate::analysis::{self, Analysis};
 use crate::budget::BudgetReach;
@@ -81,7 +81,8 @@ pub enum FailOn {
     /// A row both passed and failed (retries, repeats, runs merged): exit code 4.
     Flaky,
     /// A suite's t-way interactions did not all run in λ rows (a partial run, a filter,
-    /// a missing shard), or no suite was recorded at all: exit code 5.
+    /// a missing shard), a row did not finish (its process, running several rows,
+    /// crashed), or no suite was recorded at all: exit code 5.
     Incomplete,
 }
 
@@ -117,7 +118,18 @@ impl FailOn {
             FailOn::Incomplete if report.suites.is_empty() => Some(NO_SUITE.into()),
             FailOn::Incomplete => {
                 let n = report.suites.iter().filter(|x| !x.ran.complete()).count();
-                (n > 0).then(|| format!("{n} suite{} did not run every interaction in lambda rows", s(n)))
+                let unfinished = report.suites.iter().filter(|x| x.ran.unfinished > 0).count();
+                let or_unfinished = if unfinished > 0 {
+                    " or had a row that did not finish"
+                } else {
+                    ""
+                };
+                (n > 0).then(|| {
+                    format!(
+                        "{n} suite{} did not run every interaction in lambda rows{or_unfinished}",
+                        s(n)
+                    )
+                })
             }
         }
     }
@@ -190,6 +202,18 @@ pub struct RowView {
     pub failed_runs: Vec<FailedRun>,
     /// Highest nextest attempt number seen (retries), when run under nextest.
     pub max_attempt: Option<u32>,
+    /// Executions that started and did not finish in a process that ran several rows
+    /// (plain `cargo test`): not outcomes, as any row in flight may have ended the
+    /// process (under nextest such an execution is a failure, in `count`).
+    pub unfinished: usize,
+}
+
+impl RowView {
+    /// Whether the row did not finish and has no outcome either: "did not finish", not
+    /// "not run".
+    pub fn did_not_finish(&self) -> bool {
+        self.count.runs == 0 && self.unfinished > 0
+    }
 }
 
 /// One failed execution of a row.
@@ -298,8 +322,10 @@ pub struct SuiteReport<'a> {
     pub passed: usize,
     /// Rows that failed at least once.
     pub failed: usize,
-    /// Rows with no record.
+    /// Rows with no record and no execution that did not finish.
     pub not_run: usize,
+    /// Rows with no outcome whose executions did not finish ([`RowView::did_not_finish`]).
+    pub did_not_finish: usize,
     /// What the runs read covered.
     pub ran: Ran,
     /// λ advice.
@@ -315,6 +341,16 @@ pub struct SuiteReport<'a> {
 }
 
 impl SuiteReport<'_> {
+    /// The names (`row_03`) of the rows with executions that did not finish in a process
+    /// of several rows, in row order.
+    pub fn unfinished_rows(&self) -> Vec<&str> {
+        self.rows
+            .iter()
+            .filter(|r| r.unfinished > 0)
+            .map(|r| self.spec.row_names.get(r.row).map_or("?", String::as_str))
+            .collect()
+    }
+
     /// The command that reruns one row: the nextest form when the row ran under
     /// nextest, with `--manifest-path` when the report was asked for with one.
     pub fn rerun(&self, row: usize) -> String {
@@ -501,7 +537,9 @@ pub fn build<'a>(records: &'a Records, packages: &[String], confidence: f64, all
                 if let Some(left_out) = &t.left_out {
                     notes.push(left_out.note(&s.spec.suite, t.strength).one_line());
                 }
-                suites.push(suite_report(&s.spec, &s.rows, t, confidence, &run_ids))
+                let suite = suite_report(&s.spec, &s.rows, &s.unfinished, t, confidence, &run_ids);
+                notes.extend(unfinished_note(&suite));
+                suites.push(suite)
             }
             Err(e) => notes.push(format!("skipped suite `{}`: {e}", s.spec.suite)),
         }
@@ -516,9 +554,40 @@ pub fn build<'a>(records: &'a Records, packages: &[String], confidence: f64, all
     }
 }
 
+/// The note on a suite's rows that did not finish in a process of several rows: which
+/// rows, that one of them likely ended the process, and how to find which.
+fn unfinished_note(s: &SuiteReport<'_>) -> Option<String> {
+    let first = s.rows.iter().find(|r| r.unfinished > 0)?.row;
+    let rows = s.unfinished_rows();
+    const NAMED: usize = 8;
+    let mut names: Vec<String> = rows.iter().take(NAMED).map(|r| format!("`{r}`")).collect();
+    if rows.len() > NAMED {
+        names.push(format!("and {} more", rows.len() - NAMED));
+    }
+    let (it, one_of_them) = if rows.len() == 1 {
+        ("it", "it")
+    } else {
+        ("they", "one of them")
+    };
+    Some(
+        Diagnostic::new(format!(
+            "`{}`: {} not finish ({}): its test process ran several tests at once and ended while {it} ran, by a crash (an abort, a stack overflow, an out-of-memory kill) or a timeout's kill, and {one_of_them} likely caused it; not counted as failures, and the run is not all clear",
+            s.spec.suite,
+            heddle_store::words::plural(rows.len(), "row did", "rows did"),
+            names.join(", "),
+        ))
+        .hint(format!(
+            "rerun each alone to find which (`{}`), or run under nextest (`cargo heddle test --nextest`), which gives each row its own process; a report taken while the tests still run sees the rows in flight as not finished",
+            s.rerun(first)
+        ))
+        .one_line(),
+    )
+}
+
 fn suite_report<'a>(
     spec: &'a SpecRecord,
     records: &[RowRecord],
+    unfinished: &[StartRecord],
     tallies: Tallies,
     confidence: f64,
     run_ids: &[&str],
@@ -531,8 +600,14 @@ fn suite_report<'a>(
             duration_ns: 0,
             failed_runs: Vec::new(),
             max_attempt: None,
+            unfinished: 0,
         })
         .collect();
+    for u in unfinished {
+        if let Some(v) = rows.get_mut(u.row as usize) {
+            v.unfinished += 1;
+        }
+    }
     for r in records {
         if let Some(v) = rows.get_mut(r.row as usize) {
             v.duration_ns += r.duration_ns;
@@ -552,8 +627,13 @@ fn suite_report<'a>(
         .filter(|r| r.count.runs > 0 && r.count.failures == 0)
         .count();
     let failed = rows.iter().filter(|r| r.count.failures > 0).count();
-    let not_run = rows.iter().filter(|r| r.count.runs == 0).count();
-    let ran = Ran::measure(&tallies, spec.lambda);
+    let not_run = rows
+        .iter()
+        .filter(|r| r.count.runs == 0 && r.unfinished == 0)
+        .count();
+    let did_not_finish = rows.iter().filter(|r| r.did_not_finish()).count();
+    let mut ran = Ran::measure(&tallies, spec.lambda);
+    ran.unfinished = unfinished.len();
     let analysis = analysis::analyse(&tallies);
     let flake = analysis.flaky.first().map(|f| {
         let rate = 1.0 - f.passes as f64 / f.runs.max(1) as f64;
@@ -581,6 +661,7 @@ fn suite_report<'a>(
         passed,
         failed,
         not_run,
+        did_not_finish,
         ran,
         advice,
         manifest_path: None,

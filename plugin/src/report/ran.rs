@@ -1,7 +1,8 @@
 //! What a suite's selected runs actually covered: rows that ran, and t-way interactions
 //! that ran at all and in at least λ distinct rows — and, with focus sets, their
 //! interactions at their own strength and index. A verdict of "all clear" needs every
-//! t-way interaction at λ and every focus interaction at its index; a partial run (one nextest partition, a single row rerun with
+//! t-way interaction at λ and every focus interaction at its index, and no execution
+//! that did not finish (a process of several rows that crashed); a partial run (one nextest partition, a single row rerun with
 //! `--exact`, a filter) says what did not run instead.
 
 use heddle_store::Tallies;
@@ -28,6 +29,10 @@ pub struct Ran {
     pub focus_interactions: usize,
     /// Those in at least their focus set's λ distinct rows that ran.
     pub focus_at_lambda: usize,
+    /// Executions that started and did not finish in a process of several rows (set by
+    /// the report from the records, not the tallies): a run with one is never complete,
+    /// whatever ran besides, since what ended the process is not known.
+    pub unfinished: usize,
 }
 
 impl Ran {
@@ -74,9 +79,11 @@ impl Ran {
     }
 
     /// Every t-way interaction ran in at least λ rows, and every focus interaction in at
-    /// least its focus set's λ.
+    /// least its focus set's λ, and no execution was left unfinished.
     pub fn complete(&self) -> bool {
-        self.interactions_at_lambda == self.interactions && self.focus_at_lambda == self.focus_interactions
+        self.interactions_at_lambda == self.interactions
+            && self.focus_at_lambda == self.focus_interactions
+            && self.unfinished == 0
     }
 
     /// Rows with no record.

@@ -67,6 +67,13 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, report_other_runs: us
         "  strength {}, lambda {}, seed {} · {rows}: {} passed, {status}",
         spec.strength, spec.lambda, spec.seed, s.passed
     );
+    if s.did_not_finish > 0 {
+        let _ = write!(
+            line,
+            ", {}",
+            st.yellow(&format!("{} did not finish", s.did_not_finish))
+        );
+    }
     if s.not_run > 0 {
         let _ = write!(line, ", {} not run", s.not_run);
     }
@@ -103,7 +110,11 @@ fn suite(out: &mut String, s: &SuiteReport<'_>, all: bool, report_other_runs: us
 
     if s.analysis.failures == 0 {
         // a budgeted run that ran every row its budget allowed: clear as far as it went
-        if let Some(b) = s.budget.as_ref().filter(|b| s.not_run <= b.of - b.rows) {
+        if let Some(b) = s
+            .budget
+            .as_ref()
+            .filter(|b| s.not_run <= b.of - b.rows && ran.unfinished == 0)
+        {
             let _ = writeln!(
                 out,
                 "  {} no failures in the {} rows the budget ran; the other {} did not run",
@@ -269,6 +280,15 @@ fn partial(out: &mut String, s: &SuiteReport<'_>, other_runs: usize, st: Style) 
         if s.spec.lambda == 1 { "" } else { "s" },
         ran.interactions_not_run()
     );
+    let unfinished = s.unfinished_rows();
+    if !unfinished.is_empty() {
+        let _ = writeln!(
+            out,
+            "  {} {}: their test process ended while they ran, and one of them likely caused it (not counted as failures; see the note)",
+            st.yellow("did not finish:"),
+            unfinished.join(", ")
+        );
+    }
     if other_runs > 0 {
         let _ = writeln!(
             out,

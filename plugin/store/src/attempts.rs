@@ -4,6 +4,11 @@
 //! killed at a timeout before the runtime could write). Counting them keeps a row that
 //! crashed once and passed on the retry from reading as a clean pass, which nextest
 //! itself calls flaky.
+//!
+//! An attempt that wrote its start line is already known (`unfinished` turned its start
+//! with no finish into a failed record at that attempt, before this runs), so this only
+//! fills in attempts that left nothing at all (killed before the start was written, or
+//! records written before start lines existed): each failed attempt is counted once.
 
 use std::collections::BTreeMap;
 

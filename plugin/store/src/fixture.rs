@@ -18,7 +18,7 @@
 //! assert_eq!(r.labels, ["8", "false"]);
 //! ```
 
-use heddle_test::record::{FactorSpec, FocusSpec, Outcome, RowRecord, SpecRecord};
+use heddle_test::record::{FactorSpec, FocusSpec, Outcome, RowRecord, SpecRecord, StartRecord};
 
 /// Builds a [`SpecRecord`] field by field.
 #[derive(Clone, Debug)]
@@ -190,7 +190,19 @@ impl SpecBuilder {
 /// The record of one run of row `row` of `spec` in the spec's run, with its test name and
 /// labels as the runtime writes them and a message when it failed.
 pub fn row(spec: &SpecRecord, row: usize, outcome: Outcome) -> RowRecord {
-    RowRecord {
+    let mut rec = start(spec, row).finished(
+        outcome,
+        (!outcome.is_pass()).then(|| format!("row {row} failed")),
+        1_000,
+    );
+    rec.time = "2026-01-01T00:00:01.000000Z".into();
+    rec
+}
+
+/// The start line of row `row` of `spec`, as the runtime writes it before the row runs
+/// (outside nextest: no attempt).
+pub fn start(spec: &SpecRecord, row: usize) -> StartRecord {
+    StartRecord {
         run: spec.run.clone(),
         krate: spec.krate.clone(),
         target: spec.target.clone(),
@@ -203,10 +215,7 @@ pub fn row(spec: &SpecRecord, row: usize, outcome: Outcome) -> RowRecord {
             .into_iter()
             .map(str::to_string)
             .collect(),
-        outcome,
-        message: (!outcome.is_pass()).then(|| format!("row {row} failed")),
-        duration_ns: 1_000,
-        time: "2026-01-01T00:00:01.000000Z".into(),
+        time: "2026-01-01T00:00:00.500000Z".into(),
         attempt: None,
         build: None,
     }

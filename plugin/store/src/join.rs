@@ -5,7 +5,7 @@
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
-use heddle_test::record::{Outcome, RowRecord, SpecRecord, SuiteKey};
+use heddle_test::record::{Outcome, RowRecord, SpecRecord, StartRecord, SuiteKey};
 
 use crate::discover::RunInfo;
 use crate::notes::ReadStats;
@@ -17,8 +17,13 @@ pub struct SuiteRecords {
     /// Its spec (the first spec line read for it).
     pub spec: SpecRecord,
     /// Its row records, in run order, then file order, then line order; a row's
-    /// executions in earlier runs by another build than its latest are left out.
+    /// executions in earlier runs by another build than its latest are left out. A
+    /// nextest execution that did not finish is here as a failed record.
     pub rows: Vec<RowRecord>,
+    /// Executions that started and did not finish in a process that ran several rows
+    /// (plain `cargo test`), in run and file order: not outcomes, since any row in flight
+    /// may have ended the process (see the `unfinished` module).
+    pub unfinished: Vec<StartRecord>,
 }
 
 impl SuiteRecords {
@@ -48,6 +53,7 @@ pub(crate) fn join(runs: Vec<RunInfo>, partials: Vec<Partial>) -> Records {
     // every distinct content seen per key, the first one (in file order) kept
     let mut variants: BTreeMap<SuiteKey, Vec<SpecRecord>> = BTreeMap::new();
     let mut rows: Vec<RowRecord> = Vec::new();
+    let mut unfinished: Vec<StartRecord> = Vec::new();
     // the store root each row was read from, by index into `roots`
     let mut roots: Vec<PathBuf> = Vec::new();
     let mut row_roots: Vec<usize> = Vec::new();
@@ -84,6 +90,7 @@ pub(crate) fn join(runs: Vec<RunInfo>, partials: Vec<Partial>) -> Records {
             }
         }
         rows.extend(part.rows);
+        unfinished.extend(part.unfinished);
     }
     // rows are joined to specs after every file is read, so a row whose process lost its
     // spec line is still placed when another process of the runs wrote the same spec
@@ -95,6 +102,7 @@ pub(crate) fn join(runs: Vec<RunInfo>, partials: Vec<Partial>) -> Records {
             (!v.is_empty()).then(|| SuiteRecords {
                 spec: v.swap_remove(0),
                 rows: Vec::new(),
+                unfinished: Vec::new(),
             })
         })
         .collect();
@@ -113,13 +121,23 @@ pub(crate) fn join(runs: Vec<RunInfo>, partials: Vec<Partial>) -> Records {
             continue;
         };
         last = Some(i);
-        if !labels_match(&suites[i].spec, &row) {
+        if !labels_match(&suites[i].spec, row.row, &row.labels) {
             stats.mismatched_rows += 1;
             continue;
         }
         stats.row_lines += 1;
         suites[i].rows.push(row);
         suite_roots[i].push(root);
+    }
+    for start in unfinished {
+        let key = start.key();
+        match suites.binary_search_by(|s| s.spec.key_cmp(&key)) {
+            Ok(i) if labels_match(&suites[i].spec, start.row, &start.labels) => {
+                suites[i].unfinished.push(start)
+            }
+            Ok(_) => stats.mismatched_rows += 1,
+            Err(_) => stats.orphan_rows += 1,
+        }
     }
     for (suite, roots) in suites.iter_mut().zip(&suite_roots) {
         let left_out = keep_latest_builds(&mut suite.rows, roots);
@@ -211,15 +229,15 @@ fn row_belongs(row: &RowRecord, spec: &SpecRecord) -> bool {
         && !row.test[spec.suite.len() + 2..].contains("::")
 }
 
-/// Whether a row record's index and labels agree with its spec.
-fn labels_match(spec: &SpecRecord, row: &RowRecord) -> bool {
-    let Some(levels) = spec.rows.get(row.row as usize) else {
+/// Whether a row's index and labels (of a row or start line) agree with its spec.
+fn labels_match(spec: &SpecRecord, row: u32, labels: &[String]) -> bool {
+    let Some(levels) = spec.rows.get(row as usize) else {
         return false;
     };
-    levels.len() == row.labels.len()
+    levels.len() == labels.len()
         && levels
             .iter()
             .zip(&spec.factors)
-            .zip(&row.labels)
+            .zip(labels)
             .all(|((&lv, f), label)| f.labels.get(lv as usize) == Some(label))
 }

@@ -24,6 +24,11 @@
 //! ([`ReadStats::superseded_specs`]). A row recorded at nextest's attempt N shows that
 //! its attempts before N failed: those that left no record (the process crashed or was
 //! killed) are counted as failed records (`attempts`, [`ReadStats::unfinished_attempts`]).
+//! A row's start line with no row line after it in the same file is an execution that
+//! did not finish (`unfinished`): under nextest, where the process ran that row alone,
+//! a failed record ([`ReadStats::unfinished_attempts`] again, and `attempts` then finds
+//! that attempt recorded); with several rows in one process, an entry of
+//! [`SuiteRecords::unfinished`] ([`ReadStats::did_not_finish`]), not an outcome.
 //!
 //! Reading never fails on content: corrupt or truncated lines, lines of another format
 //! version, rows whose spec is missing or does not match are skipped and counted in
@@ -40,7 +45,8 @@
 //! # Ok::<(), Box<dyn std::error::Error>>(())
 //! ```
 //!
-//! Modules: `attempts` (nextest attempts that left no record), [`discover`] (stores and their runs on disk), `read` (a run's files, in
+//! Modules: `attempts` (nextest attempts that left no record), `unfinished` (starts
+//! with no finish), [`discover`] (stores and their runs on disk), `read` (a run's files, in
 //! parallel), `join` (rows to their suite), [`notes`] (what was skipped, in words),
 //! [`spec`] (a spec line checked, and turned back into the engine's spec), [`tally`]
 //! (counts per interaction), [`reach`] (what a prefix of the rows covers), [`words`] (counts in words), [`fixture`] (records made by
@@ -58,6 +64,7 @@ pub mod reach;
 mod read;
 pub mod spec;
 pub mod tally;
+mod unfinished;
 pub mod words;
 
 pub use discover::{DISCOVER_DEPTH, RunInfo, Store, StoreError, find_root};

@@ -3,7 +3,7 @@
 use std::collections::BTreeMap;
 use std::path::PathBuf;
 
-use heddle_test::record::FORMAT_VERSION;
+use heddle_test::record::{FORMAT_VERSION, OLDEST_READ_VERSION};
 
 use heddle_generator::Diagnostic;
 
@@ -58,9 +58,14 @@ pub struct ReadStats {
     pub superseded_specs: Vec<String>,
     /// Row lines of those specs.
     pub superseded_spec_rows: usize,
-    /// Failed attempts counted without a record: nextest retried the row, so the attempt
-    /// before failed, but its process ended before the row finished.
+    /// nextest attempts counted as failed without a row line: the attempt's start line
+    /// had no finish (nextest runs one test per process, so the row ended it), or a
+    /// later attempt of the row was recorded (nextest retries only failures) while this
+    /// one left nothing.
     pub unfinished_attempts: usize,
+    /// Executions that started and did not finish in a process that ran several rows:
+    /// not counted as outcomes, as any row in flight may have ended the process.
+    pub did_not_finish: usize,
     /// Files left out as copies of a file in another root.
     pub duplicate_files: usize,
     /// Files or directories that could not be read.
@@ -96,7 +101,7 @@ impl ReadStats {
             let age = if *v < FORMAT_VERSION { "older" } else { "newer" };
             out.push(
                 Diagnostic::new(format!(
-                    "skipped {} of {age} format version {v} (this build reads version {FORMAT_VERSION})",
+                    "skipped {} of {age} format version {v} (this build reads versions {OLDEST_READ_VERSION} to {FORMAT_VERSION})",
                     plural(*n, "record line", "record lines"),
                 ))
                 .hint("rerun the tests with this heddle, or report with the heddle that wrote them"),
@@ -170,10 +175,10 @@ impl ReadStats {
         if self.unfinished_attempts > 0 {
             out.push(
                 Diagnostic::new(format!(
-                    "counted {} that left no record as failed: nextest retried the row, so the attempt failed, but its process ended before the row finished",
-                    plural(self.unfinished_attempts, "attempt", "attempts")
+                    "counted {} that did not finish as failed: nextest runs one test per process, and the process ended while the row ran",
+                    plural(self.unfinished_attempts, "nextest attempt", "nextest attempts")
                 ))
-                .hint("a crash, an abort or a timeout; the failing row's message names the attempt"),
+                .hint("a crash, an abort, a kill or a timeout; the failing row's message names the attempt"),
             );
         }
         if self.duplicate_files > 0 {
@@ -236,6 +241,7 @@ impl ReadStats {
         self.superseded_specs.extend(other.superseded_specs);
         self.superseded_spec_rows += other.superseded_spec_rows;
         self.unfinished_attempts += other.unfinished_attempts;
+        self.did_not_finish += other.did_not_finish;
         self.duplicate_files += other.duplicate_files;
         self.unreadable.extend(other.unreadable);
     }

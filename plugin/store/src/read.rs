@@ -5,7 +5,7 @@ use std::collections::BTreeSet;
 use std::io::Read;
 use std::path::{Path, PathBuf};
 
-use heddle_test::record::{LineError, LineKind, RowRecord, SpecRecord, spec_identity};
+use heddle_test::record::{LineError, LineKind, RowRecord, SpecRecord, StartRecord, spec_identity};
 
 use crate::discover::RunInfo;
 use crate::join::{Records, join};
@@ -17,6 +17,9 @@ pub(crate) struct Partial {
     /// Fully parsed, valid spec lines, in file order.
     pub(crate) specs: Vec<SpecRecord>,
     pub(crate) rows: Vec<RowRecord>,
+    /// Executions that did not finish in a process that ran several rows (see
+    /// `unfinished`), in file order.
+    pub(crate) unfinished: Vec<StartRecord>,
     /// The file each run of consecutive `rows` came from: (rows, file), in order.
     pub(crate) row_files: Vec<(usize, PathBuf)>,
     pub(crate) stats: ReadStats,
@@ -94,6 +97,7 @@ fn read_files(files: &[&Path]) -> Partial {
         }
         stats.files += 1;
         let rows_before = part.rows.len();
+        let mut starts: Vec<StartRecord> = Vec::new();
         for (i, raw) in bytes.split(|&b| b == b'\n').enumerate() {
             if raw.iter().all(u8::is_ascii_whitespace) {
                 continue;
@@ -105,6 +109,9 @@ fn read_files(files: &[&Path]) -> Partial {
                 .and_then(|(text, kind)| match kind {
                     LineKind::Row => serde_json::from_str::<RowRecord>(text)
                         .map(|row| part.rows.push(row))
+                        .map_err(|e| LineError::Corrupt(e.to_string())),
+                    LineKind::Start => serde_json::from_str::<StartRecord>(text)
+                        .map(|start| starts.push(start))
                         .map_err(|e| LineError::Corrupt(e.to_string())),
                     LineKind::Spec => {
                         let identity = spec_identity(text);
@@ -144,6 +151,16 @@ fn read_files(files: &[&Path]) -> Partial {
                         });
                     }
                 }
+            }
+        }
+        // a start is paired with a finish in its own file only: one process wrote both
+        for start in crate::unfinished::unpaired(starts, &part.rows[rows_before..]) {
+            if crate::unfinished::ran_alone(&start) {
+                stats.unfinished_attempts += 1;
+                part.rows.push(crate::unfinished::failed(&start));
+            } else {
+                stats.did_not_finish += 1;
+                part.unfinished.push(start);
             }
         }
         let read = part.rows.len() - rows_before;
@@ -278,10 +295,9 @@ mod tests {
             notes[0]
         );
         assert!(notes[0].contains(".jsonl:7`"), "{}", notes[0]);
-        assert!(
-            notes[1]
-                .starts_with("skipped 1 record line of newer format version 7 (this build reads version 2)")
-        );
+        assert!(notes[1].starts_with(
+            "skipped 1 record line of newer format version 7 (this build reads versions 2 to 3)"
+        ));
         assert_eq!(
             notes[2],
             "skipped 1 inconsistent spec line; hint: the store is damaged"
@@ -463,7 +479,7 @@ mod tests {
             conflicting.seed = 99;
             let first = if f == 150 { conflicting } else { spec(&run) };
             let lines = [Line::Spec(first), Line::Row(row(&run, f % 2, Outcome::Passed))];
-            let tail = if f % 7 == 0 { "garbage\n{\"v\":3}\n" } else { "" };
+            let tail = if f % 7 == 0 { "garbage\n{\"v\":4}\n" } else { "" };
             write_file(&root, &run, &format!("{:013}-{f}-0.jsonl", f), &lines, tail);
         }
         let store = Store::open(&root).unwrap();
@@ -479,7 +495,7 @@ mod tests {
         assert_eq!(one.stats.row_lines, 300);
         assert_eq!(one.stats.corrupt, 43);
         assert_eq!(one.stats.corrupt_examples.len(), 5);
-        assert_eq!(one.stats.other_versions.get(&3), Some(&43));
+        assert_eq!(one.stats.other_versions.get(&4), Some(&43));
         assert_eq!(one.stats.conflicting_specs, 1);
     }
 
@@ -521,6 +537,88 @@ mod tests {
                 .conflicting_specs,
             1
         );
+    }
+
+    #[test]
+    fn a_nextest_start_without_a_finish_is_one_failed_attempt() {
+        let tmp = tempfile::tempdir().unwrap();
+        let root = tmp.path().join("heddle");
+        let at = |r: usize, a: u32| {
+            let mut s = fixture::start(&spec("nx"), r);
+            s.attempt = Some(a);
+            s
+        };
+        let finished = |s: &heddle_test::record::StartRecord, outcome: Outcome| s.finished(outcome, None, 5);
+        // row 0 aborted at attempt 1 and passed at attempt 2 (one process each);
+        // row 1 aborted at both attempts (the retries ran out)
+        let files = [
+            vec![Line::Spec(spec("nx")), Line::Start(at(0, 1))],
+            vec![
+                Line::Spec(spec("nx")),
+                Line::Start(at(0, 2)),
+                Line::Row(finished(&at(0, 2), Outcome::Passed)),
+            ],
+            vec![Line::Spec(spec("nx")), Line::Start(at(1, 1))],
+            vec![Line::Spec(spec("nx")), Line::Start(at(1, 2))],
+        ];
+        for (i, lines) in files.iter().enumerate() {
+            write_file(&root, "nx", &format!("{i:013}-{i}-0.jsonl"), lines, "");
+        }
+        let rec = Store::open(&root).unwrap().read_run("nx").unwrap();
+        let seen: Vec<(u32, Outcome, Option<u32>)> = rec.suites[0]
+            .rows
+            .iter()
+            .map(|r| (r.row, r.outcome, r.attempt))
+            .collect();
+        // each failed attempt once: the retry of row 0 shows attempt 1 failed, and its
+        // start already said so
+        assert_eq!(
+            seen,
+            [
+                (0, Outcome::Failed, Some(1)),
+                (0, Outcome::Passed, Some(2)),
+                (1, Outcome::Failed, Some(1)),
+                (1, Outcome::Failed, Some(2)),
+            ]
+        );
+        assert!(rec.suites[0].unfinished.is_empty());
+        assert_eq!((rec.stats.unfinished_attempts, rec.stats.did_not_finish), (3, 0));
+        let message = rec.suites[0].rows[3].message.as_deref().unwrap();
+        assert!(message.starts_with("attempt 2 did not finish"), "{message}");
+        let notes: Vec<String> = rec.stats.notes().iter().map(|d| d.one_line()).collect();
+        assert!(
+            notes[0].starts_with("counted 3 nextest attempts that did not finish as failed"),
+            "{notes:?}"
+        );
+    }
+
+    #[test]
+    fn starts_without_a_finish_in_a_process_of_several_rows_are_no_outcomes() {
+        let tmp = tempfile::tempdir().unwrap();
+        let root = tmp.path().join("heddle");
+        let s = spec("plain");
+        // one process: row 0 finished, then rows 1 and 0 (again) were in flight when it
+        // ended; another file's finish of row 1 does not pair with this file's start
+        let lines = [
+            Line::Spec(s.clone()),
+            Line::Start(fixture::start(&s, 0)),
+            Line::Row(row("plain", 0, Outcome::Passed)),
+            Line::Start(fixture::start(&s, 1)),
+            Line::Start(fixture::start(&s, 0)),
+        ];
+        write_file(&root, "plain", "0000000000001-1-0.jsonl", &lines, "");
+        let other = [Line::Spec(s.clone()), Line::Row(row("plain", 1, Outcome::Passed))];
+        write_file(&root, "plain", "0000000000002-2-0.jsonl", &other, "");
+        let rec = Store::open(&root).unwrap().read_run("plain").unwrap();
+        let suite = &rec.suites[0];
+        assert_eq!(
+            suite.outcomes().collect::<Vec<_>>(),
+            [(0, Outcome::Passed), (1, Outcome::Passed)],
+            "no failure is made up"
+        );
+        assert_eq!(suite.unfinished.iter().map(|s| s.row).collect::<Vec<_>>(), [1, 0]);
+        assert_eq!((rec.stats.unfinished_attempts, rec.stats.did_not_finish), (0, 2));
+        assert_eq!(rec.stats.row_lines, 2);
     }
 
     #[test]

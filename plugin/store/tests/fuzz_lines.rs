@@ -64,6 +64,8 @@ fn edits() -> impl Strategy<Value = Vec<(usize, usize, Vec<u8>)>> {
         Just(b"-1".to_vec()),
         Just(b"99999999999999999999".to_vec()),
         Just(b"\"kind\":\"row\",".to_vec()),
+        Just(b"\"kind\":\"start\",".to_vec()),
+        Just(b"\"attempt\":1,".to_vec()),
         Just(b"!(".to_vec()),
         Just(b"0=1&".to_vec()),
         proptest::collection::vec(any::<u8>(), 0..4),

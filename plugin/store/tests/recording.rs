@@ -679,12 +679,12 @@ fn corrupt_lines_in_a_real_store_are_skipped_and_counted() {
     let mut bytes = std::fs::read(&file).unwrap();
     let whole = bytes.clone();
     // a line of garbage, a future-format line, then a torn copy of the first line
-    bytes.extend_from_slice(b"\x00\x01garbage\n{\"v\":3,\"kind\":\"row\",\"x\":1}\n");
+    bytes.extend_from_slice(b"\x00\x01garbage\n{\"v\":4,\"kind\":\"row\",\"x\":1}\n");
     bytes.extend_from_slice(&whole[..whole.iter().position(|&b| b == b'\n').unwrap() / 2]);
     std::fs::write(&file, bytes).unwrap();
     let records = Store::open(&root).unwrap().read_run("r").unwrap();
     assert_eq!(records.stats.row_lines, 3);
     assert_eq!(records.stats.corrupt, 2);
-    assert_eq!(records.stats.other_versions.get(&3), Some(&1));
+    assert_eq!(records.stats.other_versions.get(&4), Some(&1));
     assert_eq!(records.stats.corrupt_examples[0].path, file);
 }

@@ -3,7 +3,7 @@
 
 use serde::{Deserialize, Serialize};
 
-use super::{FORMAT_VERSION, RowRecord, SpecRecord};
+use super::{FORMAT_VERSION, OLDEST_READ_VERSION, RowRecord, SpecRecord, StartRecord};
 
 /// One parsed line.
 #[derive(Clone, Debug, PartialEq, Eq)]
@@ -12,6 +12,8 @@ pub enum Line {
     Spec(SpecRecord),
     /// A row line.
     Row(RowRecord),
+    /// A start line.
+    Start(StartRecord),
 }
 
 /// Why a line was skipped.
@@ -29,7 +31,7 @@ impl std::fmt::Display for LineError {
             LineError::Corrupt(why) => write!(f, "corrupt record line ({why})"),
             LineError::OtherVersion(v) => write!(
                 f,
-                "record line of format version {v}, this build reads version {FORMAT_VERSION}; \
+                "record line of format version {v}, this build reads versions {OLDEST_READ_VERSION} to {FORMAT_VERSION}; \
                  hint: use a heddle of the same version as the tests"
             ),
         }
@@ -55,39 +57,46 @@ struct Tagged<'a, T> {
     body: &'a T,
 }
 
-/// The kind of a line of the current format version.
+/// The kind of a line of a format version this crate reads.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum LineKind {
     /// A spec line.
     Spec,
     /// A row line.
     Row,
+    /// A start line.
+    Start,
 }
 
 /// How the lines this crate writes begin; recognising them from their first bytes saves
 /// a second pass over every line when reading large stores.
-pub(super) const SPEC_PREFIX: &str = "{\"v\":2,\"kind\":\"spec\",";
-pub(super) const ROW_PREFIX: &str = "{\"v\":2,\"kind\":\"row\",";
+pub(super) const SPEC_PREFIX: &str = "{\"v\":3,\"kind\":\"spec\",";
+pub(super) const ROW_PREFIX: &str = "{\"v\":3,\"kind\":\"row\",";
+pub(super) const START_PREFIX: &str = "{\"v\":3,\"kind\":\"start\",";
 
 impl LineKind {
-    /// Classifies a line: the kind it is of the current version, or why it is not one.
-    /// A line only claims its kind; [`Line::parse`] still checks the rest.
+    /// Classifies a line: the kind it is of a version this crate reads, or why it is
+    /// not one. A line only claims its kind; [`Line::parse`] still checks the rest.
     pub fn of(text: &str) -> Result<LineKind, LineError> {
         if text.starts_with(ROW_PREFIX) {
             return Ok(LineKind::Row);
+        }
+        if text.starts_with(START_PREFIX) {
+            return Ok(LineKind::Start);
         }
         if text.starts_with(SPEC_PREFIX) {
             return Ok(LineKind::Spec);
         }
         let probe: Probe = serde_json::from_str(text).map_err(|e| LineError::Corrupt(e.to_string()))?;
         match probe.v {
-            Some(FORMAT_VERSION) => {}
+            Some(v) if (OLDEST_READ_VERSION..=FORMAT_VERSION).contains(&v) => {}
             Some(v) => return Err(LineError::OtherVersion(v)),
             None => return Err(LineError::Corrupt("no `v` field".into())),
         }
         match probe.kind {
             Some("row") => Ok(LineKind::Row),
             Some("spec") => Ok(LineKind::Spec),
+            Some("start") => Ok(LineKind::Start),
             Some(other) => Err(LineError::Corrupt(format!("unknown kind `{other}`"))),
             None => Err(LineError::Corrupt("no `kind` field".into())),
         }
@@ -124,6 +133,7 @@ impl Line {
         match LineKind::of(text)? {
             LineKind::Row => serde_json::from_str(text).map(Line::Row).map_err(corrupt),
             LineKind::Spec => serde_json::from_str(text).map(Line::Spec).map_err(corrupt),
+            LineKind::Start => serde_json::from_str(text).map(Line::Start).map_err(corrupt),
         }
     }
 
@@ -138,6 +148,11 @@ impl Line {
             Line::Row(r) => serde_json::to_string(&Tagged {
                 v: FORMAT_VERSION,
                 kind: "row",
+                body: r,
+            }),
+            Line::Start(r) => serde_json::to_string(&Tagged {
+                v: FORMAT_VERSION,
+                kind: "start",
                 body: r,
             }),
         };

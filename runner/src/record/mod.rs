@@ -6,13 +6,24 @@
 //!
 //! - `"kind":"spec"`: the spec of one annotated function (factors, labels, strength,
 //!   index, seed, excludes, rows and their test names, fingerprint), written once per
-//!   process per function, before that function's first row line, so the report needs
+//!   process per function, before that function's first start line, so the report needs
 //!   nothing but the store;
-//! - `"kind":"row"`: the outcome of one row run.
+//! - `"kind":"start"`: a row began to run ([`StartRecord`]), written before its body
+//!   runs; the row's own fields, without an outcome;
+//! - `"kind":"row"`: the outcome of one row run, written when it finished.
+//!
+//! A start line and the row line of the same row (crate, target, test, fingerprint, row)
+//! in the same file pair up, as one process wrote both. A start with no row line after
+//! it is an execution that did not finish: the process crashed, aborted, ran out of
+//! memory or was killed (a timeout) while the row ran, or it is still running. What
+//! that means is the reader's to decide (`heddle_store`): under nextest (one test per
+//! process, the start carries `attempt`) the row is the certain culprit; with several
+//! rows in one process it is not.
 //!
 //! ```text
-//! {"v":2,"kind":"spec","run":"r1","crate":"demo","target":"codec","selector":"--test codec","file":"tests/codec.rs","function":"roundtrip","module":"codec::roundtrip","suite":"roundtrip","factors":[{"name":"batch","labels":["1","8"]},{"name":"checksum","labels":["true","false"]}],"strength":2,"lambda":1,"seed":"11","excludes":["0=1&1=1"],"rows":[[0,0],[0,1],[1,0]],"row_names":["row_00","row_01","row_02"],"fingerprint":"f00d","pinned":false,"should_panic":false,"time":"2025-01-02T03:04:05.000006Z"}
-//! {"v":2,"kind":"row","run":"r1","crate":"demo","target":"codec","test":"roundtrip::row_02","fingerprint":"f00d","row":2,"labels":["8","true"],"outcome":"failed","message":"assertion failed: ok","duration_ns":41250,"time":"2025-01-02T03:04:05.000042Z"}
+//! {"v":3,"kind":"spec","run":"r1","crate":"demo","target":"codec","selector":"--test codec","file":"tests/codec.rs","function":"roundtrip","module":"codec::roundtrip","suite":"roundtrip","factors":[{"name":"batch","labels":["1","8"]},{"name":"checksum","labels":["true","false"]}],"strength":2,"lambda":1,"seed":"11","excludes":["0=1&1=1"],"rows":[[0,0],[0,1],[1,0]],"row_names":["row_00","row_01","row_02"],"fingerprint":"f00d","pinned":false,"should_panic":false,"time":"2025-01-02T03:04:05.000006Z"}
+//! {"v":3,"kind":"start","run":"r1","crate":"demo","target":"codec","test":"roundtrip::row_02","fingerprint":"f00d","row":2,"labels":["8","true"],"time":"2025-01-02T03:04:05.000040Z"}
+//! {"v":3,"kind":"row","run":"r1","crate":"demo","target":"codec","test":"roundtrip::row_02","fingerprint":"f00d","row":2,"labels":["8","true"],"outcome":"failed","message":"assertion failed: ok","duration_ns":41250,"time":"2025-01-02T03:04:05.000042Z"}
 //! ```
 //!
 //! - Excludes are formulas over level indices in the engine's formula syntax
@@ -33,6 +44,15 @@
 //! "lambda":1}]`), absent when there are none, so earlier version 2 lines read unchanged;
 //! row lines later gained the optional `build` (which build of the test executable ran
 //! the row, [`RowRecord::build`]), absent in earlier lines, which read as one build.
+//! Version 3 added the start line (`"kind":"start"`), so that a row whose process
+//! crashed, aborted or was killed leaves a trace. A new kind of line is not an optional
+//! field: a version 2 reader classifies lines by kind and calls one of an unknown kind
+//! corrupt, so a version 2 report of a version 3 store would say the store is damaged
+//! (one "corrupt" line per row) and still show a crashed row as not run. Under the new
+//! version it says instead that the lines are of a newer format and to report with the
+//! heddle that wrote them. Nothing else changed: a version 2 line means the same in
+//! version 3, so this build reads both ([`OLDEST_READ_VERSION`]); a version 2 file has
+//! no start lines, and none of its rows reads as unfinished.
 //!
 //! Modules: [`layout`] (where the store lives, file and run id names); `line` (a line's
 //! text both ways, and the cheap classification large stores are read with); `names`
@@ -49,7 +69,11 @@ pub use names::{RerunForm, rerun_command, rerun_command_as, test_path};
 use serde::{Deserialize, Serialize};
 
 /// Version of the line format written by this crate.
-pub const FORMAT_VERSION: u32 = 2;
+pub const FORMAT_VERSION: u32 = 3;
+
+/// The oldest version this crate reads: version 2 lines are version 3 lines of the two
+/// kinds that version had (see the history above).
+pub const OLDEST_READ_VERSION: u32 = 2;
 
 /// How one row run ended, as libtest judged it.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize)]
@@ -207,6 +231,70 @@ pub struct RowRecord {
     pub build: Option<String>,
 }
 
+/// A row began to run: written before the body runs, so an execution whose process
+/// ended before the row finished is still seen (a start with no row line after it in
+/// the same file). Its fields mean what [`RowRecord`]'s of the same names mean.
+#[derive(Clone, Debug, PartialEq, Eq, Serialize, Deserialize)]
+pub struct StartRecord {
+    /// Run id.
+    pub run: String,
+    /// Package name.
+    #[serde(rename = "crate")]
+    pub krate: String,
+    /// Crate root the row was compiled into.
+    pub target: String,
+    /// The row's libtest name, `{suite}::row_NN`.
+    pub test: String,
+    /// Fingerprint of the spec the row belongs to.
+    pub fingerprint: String,
+    /// Row index into [`SpecRecord::rows`].
+    pub row: u32,
+    /// The row's level labels, one per factor in order.
+    pub labels: Vec<String>,
+    /// When the row started (UTC, RFC 3339).
+    pub time: String,
+    /// nextest's attempt number; present only under nextest, which runs one test per
+    /// process: a start with it and no finish is certainly the row that ended its
+    /// process.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub attempt: Option<u32>,
+    /// Which build of the test executable ran it (see [`RowRecord::build`]).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub build: Option<String>,
+}
+
+impl StartRecord {
+    /// The row line of this execution, once it ended this way (the time stays the
+    /// start's; the writer stamps the finish).
+    pub fn finished(&self, outcome: Outcome, message: Option<String>, duration_ns: u64) -> RowRecord {
+        RowRecord {
+            run: self.run.clone(),
+            krate: self.krate.clone(),
+            target: self.target.clone(),
+            test: self.test.clone(),
+            fingerprint: self.fingerprint.clone(),
+            row: self.row,
+            labels: self.labels.clone(),
+            outcome,
+            message,
+            duration_ns,
+            time: self.time.clone(),
+            attempt: self.attempt,
+            build: self.build.clone(),
+        }
+    }
+
+    /// Whether `row` is the row line of this start (the same row of the same spec; the
+    /// caller keeps both to one file, so one process).
+    pub fn pairs_with(&self, row: &RowRecord) -> bool {
+        self.row == row.row
+            && self.test == row.test
+            && self.fingerprint == row.fingerprint
+            && self.target == row.target
+            && self.krate == row.krate
+    }
+}
+
 /// Identity of one annotated function's spec across processes, runs and shards.
 #[derive(Clone, Debug, PartialEq, Eq, PartialOrd, Ord, Hash)]
 pub struct SuiteKey {
@@ -324,15 +412,30 @@ impl RowRecord {
     /// The key of the spec this row belongs to: its suite is the test name without the
     /// final `::row_NN` segment.
     pub fn key(&self) -> SuiteKey {
-        let suite = match self.test.rfind("::") {
-            Some(i) => &self.test[..i],
+        SuiteKey::of_row(&self.krate, &self.target, &self.test, &self.fingerprint)
+    }
+}
+
+impl StartRecord {
+    /// The key of the spec this row belongs to (as [`RowRecord::key`]).
+    pub fn key(&self) -> SuiteKey {
+        SuiteKey::of_row(&self.krate, &self.target, &self.test, &self.fingerprint)
+    }
+}
+
+impl SuiteKey {
+    /// The key a row's line carries: its suite is the test name without the final
+    /// `::row_NN` segment.
+    fn of_row(krate: &str, target: &str, test: &str, fingerprint: &str) -> SuiteKey {
+        let suite = match test.rfind("::") {
+            Some(i) => &test[..i],
             None => "",
         };
         SuiteKey {
-            krate: self.krate.clone(),
-            target: self.target.clone(),
+            krate: krate.to_string(),
+            target: target.to_string(),
             suite: suite.to_string(),
-            fingerprint: self.fingerprint.clone(),
+            fingerprint: fingerprint.to_string(),
         }
     }
 }
@@ -355,7 +458,7 @@ mod seed_text {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::record::line::{ROW_PREFIX, SPEC_PREFIX};
+    use crate::record::line::{ROW_PREFIX, SPEC_PREFIX, START_PREFIX};
 
     fn spec() -> SpecRecord {
         SpecRecord {
@@ -411,14 +514,71 @@ mod tests {
         }
     }
 
+    fn start() -> StartRecord {
+        StartRecord {
+            run: "r1".into(),
+            krate: "demo".into(),
+            target: "codec".into(),
+            test: "roundtrip::row_02".into(),
+            fingerprint: "f00d".into(),
+            row: 2,
+            labels: vec!["8".into(), "true".into()],
+            time: "2025-01-02T03:04:05.000040Z".into(),
+            attempt: None,
+            build: None,
+        }
+    }
+
     #[test]
     fn lines_round_trip_and_start_with_version_and_kind() {
-        for line in [Line::Spec(spec()), Line::Row(row())] {
+        for line in [Line::Spec(spec()), Line::Start(start()), Line::Row(row())] {
             let text = line.to_json_line();
             assert!(text.ends_with('\n') && !text[..text.len() - 1].contains('\n'));
-            assert!(text.starts_with("{\"v\":2,\"kind\":\""), "{text}");
+            assert!(
+                text.starts_with(&format!("{{\"v\":{FORMAT_VERSION},\"kind\":\"")),
+                "{text}"
+            );
             assert_eq!(Line::parse(text.trim_end()).unwrap(), line);
         }
+    }
+
+    #[test]
+    fn a_start_pairs_with_its_own_row_line_and_becomes_one() {
+        let s = start();
+        assert!(s.pairs_with(&row()));
+        assert_eq!(s.key(), row().key());
+        let mut other = row();
+        other.row = 1;
+        assert!(!s.pairs_with(&other));
+        let mut other = row();
+        other.fingerprint = "beef".into();
+        assert!(!s.pairs_with(&other));
+        let finished = s.finished(Outcome::Failed, Some("assertion failed: ok".into()), 41250);
+        assert_eq!(
+            finished,
+            RowRecord {
+                time: s.time.clone(),
+                ..row()
+            }
+        );
+    }
+
+    #[test]
+    fn version_2_lines_still_read() {
+        // the lines version 2 wrote (before start lines) mean the same in version 3
+        for line in [Line::Spec(spec()), Line::Row(row())] {
+            let text = line.to_json_line().replacen(
+                &format!("{{\"v\":{FORMAT_VERSION},"),
+                &format!("{{\"v\":{OLDEST_READ_VERSION},"),
+                1,
+            );
+            assert!(text.starts_with("{\"v\":2,"), "{text}");
+            assert_eq!(Line::parse(text.trim_end()).unwrap(), line);
+        }
+        assert_eq!(
+            Line::parse(r#"{"v":4,"kind":"start"}"#),
+            Err(LineError::OtherVersion(4))
+        );
     }
 
     #[test]
@@ -428,15 +588,17 @@ mod tests {
         let doc = include_str!("mod.rs");
         assert!(doc.contains(&format!("//! {}", Line::Spec(spec()).to_json_line().trim_end())));
         assert!(doc.contains(&format!("//! {}", Line::Row(row()).to_json_line().trim_end())));
+        assert!(doc.contains(&format!("//! {}", Line::Start(start()).to_json_line().trim_end())));
     }
 
     #[test]
     fn written_lines_take_the_fast_path() {
         assert!(Line::Row(row()).to_json_line().starts_with(ROW_PREFIX));
         assert!(Line::Spec(spec()).to_json_line().starts_with(SPEC_PREFIX));
+        assert!(Line::Start(start()).to_json_line().starts_with(START_PREFIX));
         assert!(ROW_PREFIX.starts_with(&format!("{{\"v\":{FORMAT_VERSION},")));
         // the same line with its fields reordered is still read (slow path)
-        let reordered = r#"{"kind":"row","v":2,"run":"r1","crate":"demo","target":"codec","test":"roundtrip::row_02","fingerprint":"f00d","row":2,"labels":["8","true"],"outcome":"failed","message":"assertion failed: ok","duration_ns":41250,"time":"2025-01-02T03:04:05.000042Z"}"#;
+        let reordered = r#"{"kind":"row","v":3,"run":"r1","crate":"demo","target":"codec","test":"roundtrip::row_02","fingerprint":"f00d","row":2,"labels":["8","true"],"outcome":"failed","message":"assertion failed: ok","duration_ns":41250,"time":"2025-01-02T03:04:05.000042Z"}"#;
         assert_eq!(Line::parse(reordered).unwrap(), Line::Row(row()));
         let text = Line::Spec(spec()).to_json_line();
         let mut other = spec();
@@ -487,8 +649,8 @@ mod tests {
     #[test]
     fn other_versions_and_damage_are_told_apart() {
         assert_eq!(
-            Line::parse(r#"{"v":3,"kind":"row","whatever":true}"#),
-            Err(LineError::OtherVersion(3))
+            Line::parse(r#"{"v":4,"kind":"row","whatever":true}"#),
+            Err(LineError::OtherVersion(4))
         );
         assert_eq!(
             Line::parse(r#"{"v":1,"kind":"spec","seed":11}"#),

@@ -175,6 +175,7 @@ fn suite(report: &Report<'_>, i: usize, s: &SuiteReport<'_>) -> Markup {
                 "crate " code { (spec.krate) } " · " code { (spec.file) } " · strength " (spec.strength)
                 " · λ " (spec.lambda) " · seed " (spec.seed) " · " (spec.rows.len()) " rows: "
                 strong { (s.passed) " passed, " (s.failed) " failed" }
+                @if s.did_not_finish > 0 { ", " strong { (s.did_not_finish) " did not finish" } }
                 @if s.not_run > 0 { ", " strong { (s.not_run) " not run" } }
                 " · " (executions) " executions"
             }
