@@ -24,7 +24,12 @@ use heddle_generator::{Effort, Spec, generate_untabled};
 /// constant rows (205 rows, where the doubling gives 225) there and not at eight times
 /// (measured, seed 0).
 /// Binary strength 4 from 23 columns is where one starter of Zk × Z2 covers (2k rows)
-/// and the cyclotomy needs more. Strength 2 takes sixteen times: the tabu search's
+/// and the cyclotomy needs more. Two levels at strengths 3 to 6 on fewer columns (the
+/// feature flags of a build) were added later: there the fast mode's short tabu runs
+/// stay well above the tight mode's (2^12 at t = 4: 38 rows against 24; 2^10 at t = 5:
+/// 69 against 56; 2^11 at t = 6: 167 against 118; 2^36 at t = 3: 26 against 24;
+/// measured), and four times the budget at strengths 4 and 5, twice at 6, keep each
+/// spec within about a minute. Strength 2 takes sixteen times: the tabu search's
 /// longer runs, and its start from the construction the greedy beat, take one to
 /// sixteen rows off the fast mode's designs there (4^15: 27 rows at sixteen times, 28
 /// at the default; 3^20: 15 against 17; 6^20: 66 against 70; 10^20: 173 against 189;
@@ -38,6 +43,11 @@ const FAMILY: &[(usize, usize, std::ops::RangeInclusive<usize>, u64)] = &[
     (4, 4, 6..=9, 2),
     (2, 4, 23..=29, 1),
     (2, 5, 16..=20, 8),
+    (2, 3, 12..=40, 1),
+    (2, 4, 7..=22, 4),
+    (2, 5, 8..=15, 4),
+    (2, 5, 21..=24, 4),
+    (2, 6, 9..=20, 2),
     (3, 2, 5..=24, 16),
     (4, 2, 6..=24, 16),
     (5, 2, 7..=24, 16),

@@ -840,8 +840,18 @@ mod tests {
         // the fast mode makes from the spec's own Bose product of order 7 (82 rows):
         // the search from that construction runs as well, and the smaller wins; 3^35 at
         // t = 3 takes the design stored for 3^40 (a doubling the fast mode does not
-        // build), 3^22 at t = 4 the one for 3^24 (from the invariant search)
-        for (v, k, t) in [(6usize, 45usize, 2usize), (10, 28, 2), (3, 35, 3), (3, 22, 4)] {
+        // build), 3^22 at t = 4 the one for 3^24 (from the invariant search); with two
+        // levels, 2^13 at t = 4 the one for 2^18 (36 rows, where its own cyclotomy gives
+        // 34 after the search) and 2^12 at t = 5 the one for 2^13 (78 rows, against 91)
+        let cases = [
+            (6usize, 45usize, 2usize),
+            (10, 28, 2),
+            (3, 35, 3),
+            (3, 22, 4),
+            (2, 13, 4),
+            (2, 12, 5),
+        ];
+        for (v, k, t) in cases {
             let s = spec(&vec![v; k], t);
             let fast = generate(&s, Effort::Fast).unwrap();
             assert!(verify(&s, &fast.rows).is_ok());

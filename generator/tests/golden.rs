@@ -75,8 +75,9 @@ fn golden_rows() {
     // constant rows as factors: 100 factors or more, likewise), and version 10 (stored
     // designs at strength 2 on 32, 40 and 50 columns, at strength 3 on 40, 50 and 60 and
     // at strength 4 on 20, 24 and 28, and the search from a construction a stored design
-    // displaced, likewise)
-    assert_eq!(ENGINE_VERSION, 10);
+    // displaced, likewise), and version 11 (stored designs with two levels at strengths 3
+    // to 6 on fewer columns, likewise)
+    assert_eq!(ENGINE_VERSION, 11);
     let mixed = factors(&[4, 3, 3, 2, 2, 2, 5, 3]);
     let cases: Vec<(Spec, Effort, (usize, u64))> = vec![
         (
