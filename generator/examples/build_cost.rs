@@ -31,6 +31,8 @@ fn main() {
         spec("2^50 t=4", &[2; 50], 4, 1),
         spec("2^30 t=5", &[2; 30], 5, 1),
         spec("2^16 t=8", &[2; 16], 8, 1),
+        // two levels at a high strength, from the stored designs
+        spec("2^20 t=6", &[2; 20], 6, 1),
         spec("7^50 t=3", &[7; 50], 3, 1),
         spec("6^10 t=6", &[6; 10], 6, 1),
         spec("10^50 t=2", &[10; 50], 2, 1),
