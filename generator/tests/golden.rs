@@ -76,7 +76,7 @@ fn golden_rows() {
     // designs at strength 2 on 32, 40 and 50 columns, at strength 3 on 40, 50 and 60 and
     // at strength 4 on 20, 24 and 28, and the search from a construction a stored design
     // displaced, likewise), and version 11 (stored designs with two levels at strengths 3
-    // to 6 on fewer columns, likewise)
+    // to 6 on fewer columns, with 6 levels at strength 3, 5 at 4 and 3 at 5, likewise)
     assert_eq!(ENGINE_VERSION, 11);
     let mixed = factors(&[4, 3, 3, 2, 2, 2, 5, 3]);
     let cases: Vec<(Spec, Effort, (usize, u64))> = vec![
