@@ -178,7 +178,7 @@ impl ReadStats {
                     "counted {} that did not finish as failed: nextest runs one test per process, and the process ended while the row ran",
                     plural(self.unfinished_attempts, "nextest attempt", "nextest attempts")
                 ))
-                .hint("a crash, an abort, a kill or a timeout; the failing row's message names the attempt"),
+                .hint("a crash, an abort, a kill or a timeout; the failing row's message names the attempt; a report taken while nextest still runs counts the rows in flight this way too: report again once it ends"),
             );
         }
         if self.duplicate_files > 0 {
