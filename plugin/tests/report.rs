@@ -491,6 +491,8 @@ fn html_goes_whole_to_the_output_file_and_shows_a_run_cut_short() {
     );
     assert!(html.contains("the run stopped after row 7"));
     assert!(html.contains("10 not run"));
+    // rows that did not run are no crash: no column for rows that did not finish
+    assert!(!html.contains("did not finish"));
     // the six pairs of row 8 (currency2, tax2, coupon1, cart0) are the ones not run
     assert!(html.contains("<title>currency = currency2, tax = tax2: not run (rows 8, "));
     // the same records give the same bytes
@@ -1036,6 +1038,11 @@ fn rows_in_flight_when_a_process_of_several_rows_ended_did_not_finish() {
     let md = text(&report(&["--store", store, "--format", "markdown"]).stdout);
     assert!(md.contains("| 18 | 16 | 0 | 2 | 0 |"), "{md}");
     assert!(md.contains("> did not finish: `row_04`, `row_11`"), "{md}");
+
+    // the page's overview has the column only where a row did not finish
+    let page = text(&report(&["--store", store, "--format", "html"]).stdout);
+    assert!(page.contains("<th scope=\"col\">did not finish</th>"), "{page}");
+    assert!(page.contains("<td class=\"num\">2</td>"), "{page}");
 
     let xml = text(&report(&["--store", store, "--format", "junit"]).stdout);
     let parsed = quick_junit::Report::deserialize_from_str(&xml).expect("the JUnit report parses");

@@ -117,6 +117,8 @@ fn anchor(i: usize) -> String {
 
 /// One line per suite, linking to its section.
 fn overview(report: &Report<'_>) -> Markup {
+    // the column is there only when a row did not finish, which a crash alone causes
+    let unfinished = report.suites.iter().any(|s| s.did_not_finish > 0);
     html! {
         section aria-labelledby="overview" {
             h2 id="overview" { "Suites" }
@@ -125,7 +127,9 @@ fn overview(report: &Report<'_>) -> Markup {
                     thead { tr {
                         th scope="col" { "suite" } th scope="col" { "file" } th scope="col" { "t" }
                         th scope="col" { "λ" } th scope="col" { "rows" } th scope="col" { "passed" }
-                        th scope="col" { "failed" } th scope="col" { "not run" } th scope="col" { "top suspect" }
+                        th scope="col" { "failed" }
+                        @if unfinished { th scope="col" { "did not finish" } }
+                        th scope="col" { "not run" } th scope="col" { "top suspect" }
                     } }
                     tbody {
                         @for (i, s) in report.suites.iter().enumerate() {
@@ -137,6 +141,7 @@ fn overview(report: &Report<'_>) -> Markup {
                                 td class="num" { (s.spec.rows.len()) }
                                 td class="num" { (s.passed) }
                                 td class="num" { (s.failed) }
+                                @if unfinished { td class="num" { (s.did_not_finish) } }
                                 td class="num" { (s.not_run) }
                                 td { @match s.analysis.suspects.first() {
                                     Some(x) => { code { (levels_text(&described(s.spec, &s.tallies.item(x.interaction).interaction))) } " " (verdict(x)) }
