@@ -347,6 +347,18 @@ fn a_fix_between_runs_is_not_flakiness() {
         if n == 1 { "" } else { "s" }
     );
     assert!(merged.stderr.contains(&note), "{}", merged.stderr);
+    // only the failing rows ran again after the fix: the others' passes are the old
+    // build's, and the report says so
+    let rows = valves["rows"].as_u64().unwrap() as usize;
+    let older = format!(
+        "note: {} last ran under an earlier build than the latest run's",
+        if rows - n == 1 {
+            "1 row".to_string()
+        } else {
+            format!("{} rows", rows - n)
+        }
+    );
+    assert!(merged.stderr.contains(&older), "{}", merged.stderr);
 
     // two runs of one build: the flake's rows failed in the first and passed in the
     // second, which is flakiness

@@ -139,10 +139,11 @@ pub(crate) fn join(runs: Vec<RunInfo>, partials: Vec<Partial>) -> Records {
             Err(_) => stats.orphan_rows += 1,
         }
     }
-    for (suite, roots) in suites.iter_mut().zip(&suite_roots) {
+    for (suite, roots) in suites.iter_mut().zip(&mut suite_roots) {
         let left_out = keep_latest_builds(&mut suite.rows, roots);
         stats.superseded_rows += left_out;
         stats.row_lines -= left_out;
+        stats.earlier_build_rows += earlier_build_rows(&suite.rows, roots);
         stats.unfinished_attempts += crate::attempts::fill_unfinished(&mut suite.rows);
     }
     let suites = latest_specs(suites, &runs, &mut stats);
@@ -193,14 +194,14 @@ fn latest_specs(suites: Vec<SuiteRecords>, runs: &[RunInfo], stats: &mut ReadSta
 /// of this one, and a failure there must not be hidden). Rows come in run order, so the
 /// last is the latest; `roots` holds the store of each. Returns how many executions were
 /// left out.
-fn keep_latest_builds(rows: &mut Vec<RowRecord>, roots: &[usize]) -> usize {
+fn keep_latest_builds(rows: &mut Vec<RowRecord>, roots: &mut Vec<usize>) -> usize {
     let mut latest: BTreeMap<u32, (&str, Option<&str>, usize)> = BTreeMap::new();
-    for (r, &root) in rows.iter().zip(roots) {
+    for (r, &root) in rows.iter().zip(roots.iter()) {
         latest.insert(r.row, (r.run.as_str(), r.build.as_deref(), root));
     }
     let keep: Vec<bool> = rows
         .iter()
-        .zip(roots)
+        .zip(roots.iter())
         .map(|(r, &root)| {
             latest.get(&r.row).is_none_or(|&(run, build, store)| {
                 r.run == run || r.build.as_deref() == build || root != store
@@ -208,9 +209,41 @@ fn keep_latest_builds(rows: &mut Vec<RowRecord>, roots: &[usize]) -> usize {
         })
         .collect();
     let before = rows.len();
-    let mut flags = keep.into_iter();
-    rows.retain(|_| flags.next().unwrap_or(true));
+    let mut flags = keep.iter();
+    rows.retain(|_| flags.next().copied().unwrap_or(true));
+    let mut flags = keep.iter();
+    roots.retain(|_| flags.next().copied().unwrap_or(true));
     before - rows.len()
+}
+
+/// How many rows last ran, in the same store, in an earlier run by a build that the
+/// latest run did not use: when a rebuilt test ran only some rows (a one-row rerun after
+/// a fix), the other rows' outcomes in a merged report come from code that may have
+/// changed since, which the report says in a note. Rows read from another store (a CI
+/// job's, merged) and rows of unknown build are not counted: nothing says they are older
+/// code.
+fn earlier_build_rows(rows: &[RowRecord], roots: &[usize]) -> usize {
+    let Some(latest) = rows.last().map(|r| r.run.as_str()) else {
+        return 0;
+    };
+    let latest_builds: Vec<(usize, &str)> = rows
+        .iter()
+        .zip(roots)
+        .filter(|(r, _)| r.run == latest)
+        .filter_map(|(r, &root)| Some((root, r.build.as_deref()?)))
+        .collect();
+    let Some(&(latest_root, _)) = latest_builds.first() else {
+        return 0;
+    };
+    let mut last: BTreeMap<u32, (&str, Option<&str>, usize)> = BTreeMap::new();
+    for (r, &root) in rows.iter().zip(roots) {
+        last.insert(r.row, (r.run.as_str(), r.build.as_deref(), root));
+    }
+    last.values()
+        .filter(|&&(run, build, root)| {
+            run != latest && root == latest_root && build.is_some_and(|b| !latest_builds.contains(&(root, b)))
+        })
+        .count()
 }
 
 /// The store root a record file lies in (`<root>/runs/<run id>/<file>`).

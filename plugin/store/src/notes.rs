@@ -52,6 +52,10 @@ pub struct ReadStats {
     /// Row lines left out because a later run ran the same row in another build of the
     /// test executable: the code changed in between, and the later outcome stands.
     pub superseded_rows: usize,
+    /// Rows whose latest execution, in the same store, was in an earlier run by a build
+    /// of the test executable that the latest run did not use: a rebuilt test ran only
+    /// some rows, and these rows' outcomes come from the code before.
+    pub earlier_build_rows: usize,
     /// Suites (by libtest path) left out because a later run recorded the same
     /// function under another spec fingerprint (levels, strength, λ, seed or excludes
     /// changed): one entry per spec left out.
@@ -159,6 +163,15 @@ impl ReadStats {
                 .hint("a row that failed before a rebuild and passed after it was changed, not flaky; runs of one build are merged whole"),
             );
         }
+        if self.earlier_build_rows > 0 {
+            out.push(
+                Diagnostic::new(format!(
+                    "{} last ran under an earlier build than the latest run's: their outcomes are from code that may have changed since",
+                    plural(self.earlier_build_rows, "row", "rows")
+                ))
+                .hint("the latest run ran only some rows after a rebuild; run the whole suite again (`cargo heddle test`) for verdicts on the latest build alone"),
+            );
+        }
         if !self.superseded_specs.is_empty() {
             let mut names: Vec<String> = self.superseded_specs.iter().map(|s| format!("`{s}`")).collect();
             names.dedup();
@@ -238,6 +251,7 @@ impl ReadStats {
         self.orphan_rows += other.orphan_rows;
         self.mismatched_rows += other.mismatched_rows;
         self.superseded_rows += other.superseded_rows;
+        self.earlier_build_rows += other.earlier_build_rows;
         self.superseded_specs.extend(other.superseded_specs);
         self.superseded_spec_rows += other.superseded_spec_rows;
         self.unfinished_attempts += other.unfinished_attempts;

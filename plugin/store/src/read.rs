@@ -441,6 +441,39 @@ mod tests {
     }
 
     #[test]
+    fn rows_a_rebuilt_test_did_not_run_again_are_named_as_earlier_builds() {
+        // run 1, build A: rows 0 and 1; run 2: row 0 alone, by build B (a fix, then a
+        // one-row rerun) or by build A again (a rerun without a rebuild)
+        for (second, earlier) in [("B", 1), ("A", 0)] {
+            let tmp = tempfile::tempdir().unwrap();
+            let root = tmp.path().join("heddle");
+            let built = |run: &str, r: u32, outcome: Outcome, build: &str| {
+                let mut rec = row(run, r, outcome);
+                rec.build = Some(build.into());
+                Line::Row(rec)
+            };
+            let first = vec![
+                Line::Spec(spec("r1")),
+                built("r1", 0, Outcome::Failed, "A"),
+                built("r1", 1, Outcome::Passed, "A"),
+            ];
+            write_file(&root, "r1", "0000000000001-1-0.jsonl", &first, "");
+            let rerun = vec![Line::Spec(spec("r2")), built("r2", 0, Outcome::Passed, second)];
+            write_file(&root, "r2", "0000000000002-1-0.jsonl", &rerun, "");
+            let rec = Store::open(&root).unwrap().read_all().unwrap();
+            assert_eq!(rec.stats.earlier_build_rows, earlier, "second build {second}");
+            let notes: Vec<String> = rec.stats.notes().iter().map(|d| d.one_line()).collect();
+            assert_eq!(
+                notes
+                    .iter()
+                    .any(|n| n.starts_with("1 row last ran under an earlier build than the latest run's")),
+                earlier > 0,
+                "{notes:?}"
+            );
+        }
+    }
+
+    #[test]
     fn another_stores_build_is_no_later_version() {
         // two jobs of a matrix, each with its store, copied and merged: the row failed
         // on one machine's build and passed on the other's, later; both stay
@@ -467,6 +500,8 @@ mod tests {
             [(0, Outcome::Failed), (0, Outcome::Passed)]
         );
         assert_eq!(rec.stats.superseded_rows, 0);
+        // another store's older run is no earlier build of this one either
+        assert_eq!(rec.stats.earlier_build_rows, 0);
     }
 
     #[test]
