@@ -198,6 +198,13 @@ mod tests {
         rec
     }
 
+    /// A row line of `row`'s, run by the named build.
+    fn built(run: &str, r: u32, outcome: Outcome, build: &str) -> Line {
+        let mut rec = row(run, r, outcome);
+        rec.build = Some(build.into());
+        Line::Row(rec)
+    }
+
     fn write_file(root: &Path, run: &str, name: &str, lines: &[Line], tail: &str) {
         let dir = root.join(RUNS_DIR).join(run);
         fs::create_dir_all(&dir).unwrap();
@@ -369,11 +376,6 @@ mod tests {
     fn a_later_build_supersedes_a_rows_earlier_runs_but_not_its_own() {
         let tmp = tempfile::tempdir().unwrap();
         let root = tmp.path().join("heddle");
-        let built = |run: &str, r: u32, outcome: Outcome, build: &str| {
-            let mut rec = row(run, r, outcome);
-            rec.build = Some(build.into());
-            Line::Row(rec)
-        };
         // run 1, build A: row 0 fails, row 1 passes; run 2, build A: row 1 fails (a
         // flake of one build); run 3, build B: row 0 passes (the fix), on two machines
         // of one run whose builds differ (B and C: both stay)
@@ -447,11 +449,6 @@ mod tests {
         for (second, earlier) in [("B", 1), ("A", 0)] {
             let tmp = tempfile::tempdir().unwrap();
             let root = tmp.path().join("heddle");
-            let built = |run: &str, r: u32, outcome: Outcome, build: &str| {
-                let mut rec = row(run, r, outcome);
-                rec.build = Some(build.into());
-                Line::Row(rec)
-            };
             let first = vec![
                 Line::Spec(spec("r1")),
                 built("r1", 0, Outcome::Failed, "A"),
@@ -482,16 +479,9 @@ mod tests {
             ("linux", "r1", 1, Outcome::Failed, "A"),
             ("mac", "r2", 2, Outcome::Passed, "B"),
         ] {
-            let mut rec = row(run, 0, outcome);
-            rec.build = Some(build.into());
             let root = tmp.path().join(job).join("heddle");
-            write_file(
-                &root,
-                run,
-                &format!("{ms:013}-1-0.jsonl"),
-                &[Line::Spec(spec(run)), Line::Row(rec)],
-                "",
-            );
+            let lines = [Line::Spec(spec(run)), built(run, 0, outcome, build)];
+            write_file(&root, run, &format!("{ms:013}-1-0.jsonl"), &lines, "");
         }
         let store = Store::discover(tmp.path()).unwrap();
         let rec = store.read_all().unwrap();
