@@ -1043,6 +1043,12 @@ fn rows_in_flight_when_a_process_of_several_rows_ended_did_not_finish() {
     let page = text(&report(&["--store", store, "--format", "html"]).stdout);
     assert!(page.contains("<th scope=\"col\">did not finish</th>"), "{page}");
     assert!(page.contains("<td class=\"num\">2</td>"), "{page}");
+    // and its headline says no clean pass: a crash ended two rows
+    assert!(
+        page.contains("No failures recorded, but 2 rows did not finish"),
+        "{page}"
+    );
+    assert!(!page.contains("every interaction that ran passed"), "{page}");
 
     let xml = text(&report(&["--store", store, "--format", "junit"]).stdout);
     let parsed = quick_junit::Report::deserialize_from_str(&xml).expect("the JUnit report parses");

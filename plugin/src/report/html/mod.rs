@@ -31,6 +31,7 @@ use maud::{DOCTYPE, Markup, PreEscaped, html};
 use super::{Report, SuiteReport, described, levels_text};
 use chart::percent;
 use colour::{EXCLUDED, SUSPECT};
+use heddle_store::words::plural;
 
 /// Version of the page's structure.
 pub const HTML_FORMAT: u32 = 2;
@@ -234,7 +235,13 @@ fn suite(report: &Report<'_>, i: usize, s: &SuiteReport<'_>) -> Markup {
 fn suspects(s: &SuiteReport<'_>) -> Markup {
     let a = &s.analysis;
     html! {
-        @if a.suspects.is_empty() {
+        @if a.suspects.is_empty() && s.did_not_finish > 0 {
+            // a crash is no failure of a row, but the page must not read as a clean one
+            p class="clear" {
+                "No failures recorded, but " (plural(s.did_not_finish, "row", "rows"))
+                " did not finish: the test process ended while they ran (see the note)."
+            }
+        } @else if a.suspects.is_empty() {
             p class="clear" { "No failures: every interaction that ran passed." }
         } @else {
             div class="scroll" role="region" aria-label="suspects" tabindex="0" {
