@@ -11,7 +11,7 @@
 //!    suspect), of the base strength and of each focus set at its own. Each is weighed by
 //!    the marginal likelihood of its own passes and failures under a uniform prior on its
 //!    failure rate (Bayes–Laplace: g failures in n runs weigh B(g + 1, n − g + 1)),
-//!    relative to the best; those within a factor of [`PLAUSIBLE_GAP`] of the best are
+//!    relative to the best; those within a factor of `PLAUSIBLE_GAP` of the best are
 //!    kept. Unlike the best-fitting rate, the prior does not take a candidate that failed
 //!    in its two runs for a certain fault.
 //! 2. **Rows from a failing row.** Every candidate sits in the failing row the follow-ups

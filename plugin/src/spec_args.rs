@@ -78,7 +78,7 @@ pub fn parse_specs(tokens: &[String]) -> Result<Vec<Factor>, Failure> {
 }
 
 /// A required row written `NAME=LABEL,NAME=LABEL` (`--require`): the labels' level
-/// indices, [`UNSET`] for the factors it leaves out.
+/// indices, [`UNSET`](heddle_generator::UNSET) for the factors it leaves out.
 pub fn parse_required(text: &str, factors: &[Factor]) -> Result<Row, Failure> {
     let names = || heddle_syntax::diag::list(factors.iter().map(|f| &f.name));
     let bad =

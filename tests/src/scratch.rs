@@ -440,7 +440,7 @@ const INHERITED_NOT: &[&str] = &[
 /// Where the temporary crates live: `e2e-crates/NAME` beside the shared target
 /// directory. A crate keeps its directory from one run of the suite to the next, so a
 /// warm run finds its test binaries built and compiles only what changed; every run
-/// starts it from its definition again (see [`lay_out`]).
+/// starts it from its definition again (see `lay_out`).
 pub fn crates_dir() -> PathBuf {
     std::env::current_exe()
         .ok()

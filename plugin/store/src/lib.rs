@@ -17,18 +17,21 @@
 //! several shards is the union of its files, and a file present twice (the same shard
 //! copied twice) is read once. When runs are merged, a row run again in a later run by
 //! another build of the test executable (`RowRecord::build`) in the same store keeps
-//! only the executions from that build on (another store's build, a CI matrix job's, is
-//! no later version and stays): the code changed in between, so the earlier outcome is no
-//! evidence about it (counted in [`ReadStats::superseded_rows`]). Of a function recorded
-//! under several spec fingerprints, only the spec of the latest run is kept
+//! only the executions from that build on (another store's build, a CI matrix job's,
+//! is no later version and stays): the code changed in between, so the earlier outcome
+//! is no evidence about it (counted in [`ReadStats::superseded_rows`]); rows the latest
+//! run's build did not run again keep their earlier outcomes
+//! ([`ReadStats::earlier_build_rows`]). Of a function recorded under several spec
+//! fingerprints, only the spec of the latest run is kept
 //! ([`ReadStats::superseded_specs`]). A row recorded at nextest's attempt N shows that
 //! its attempts before N failed: those that left no record (the process crashed or was
-//! killed) are counted as failed records (`attempts`, [`ReadStats::unfinished_attempts`]).
-//! A row's start line with no row line after it in the same file is an execution that
-//! did not finish (`unfinished`): under nextest, where the process ran that row alone,
-//! a failed record ([`ReadStats::unfinished_attempts`] again, and `attempts` then finds
-//! that attempt recorded); with several rows in one process, an entry of
-//! [`SuiteRecords::unfinished`] ([`ReadStats::did_not_finish`]), not an outcome.
+//! killed) are counted as failed records (`attempts`,
+//! [`ReadStats::unfinished_attempts`]). A row's start line with no row line after it in
+//! the same file is an execution that did not finish (`unfinished`): under nextest,
+//! where the process ran that row alone, a failed record
+//! ([`ReadStats::unfinished_attempts`] again, and `attempts` then finds that attempt
+//! recorded); with several rows in one process, an entry of [`SuiteRecords::unfinished`]
+//! ([`ReadStats::did_not_finish`]), not an outcome.
 //!
 //! Reading never fails on content: corrupt or truncated lines, lines of another format
 //! version, rows whose spec is missing or does not match are skipped and counted in
@@ -46,11 +49,12 @@
 //! ```
 //!
 //! Modules: `attempts` (nextest attempts that left no record), `unfinished` (starts
-//! with no finish), [`discover`] (stores and their runs on disk), `read` (a run's files, in
-//! parallel), `join` (rows to their suite), [`notes`] (what was skipped, in words),
-//! [`spec`] (a spec line checked, and turned back into the engine's spec), [`tally`]
-//! (counts per interaction), [`reach`] (what a prefix of the rows covers), [`words`] (counts in words), [`fixture`] (records made by
-//! hand, for tests of readers).
+//! with no finish), [`discover`] (stores and their runs on disk), `read` (a run's files,
+//! in parallel), `join` (rows to their suite), [`notes`] (what was skipped, in words),
+//! [`spec`] (a spec line checked, and turned back into the engine's spec),
+//! [`tally`](mod@tally) (counts per interaction), [`reach`](mod@reach) (what a prefix of
+//! the rows covers), [`words`] (counts in words), [`fixture`] (records made by hand, for
+//! tests of readers).
 
 #![warn(missing_docs)]
 #![forbid(unsafe_code)]

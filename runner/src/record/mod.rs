@@ -1,7 +1,7 @@
 //! The record format: what a test process writes to the store and what the report reads.
 //!
 //! This crate owns the format (the reading side, `heddle-store`, parses lines through
-//! [`Line::parse`] and never on its own). A store file holds JSON lines of two kinds,
+//! [`Line::parse`] and never on its own). A store file holds JSON lines of three kinds,
 //! each line one object whose first two fields are the format version `v` and the `kind`:
 //!
 //! - `"kind":"spec"`: the spec of one annotated function (factors, labels, strength,
@@ -193,7 +193,7 @@ fn is_zero(n: &u32) -> bool {
 /// The outcome of one row run.
 #[derive(Clone, Debug, PartialEq, Eq, Serialize, Deserialize)]
 pub struct RowRecord {
-    /// Run id (see [`crate::store`] for how it is chosen).
+    /// Run id (see the [crate docs](crate#environment) for how it is chosen).
     pub run: String,
     /// Package name.
     #[serde(rename = "crate")]

@@ -5,8 +5,8 @@
 //! [`CoverSpec`] (what the engine, the pins file and the runtime need) and the
 //! [`Shape`] of the function (what the expansion needs).
 //!
-//! By job: [`keys`] (the attribute's keys and their values), [`signature`] (how the
-//! function is called: async, return type, `#[should_panic]`), [`params`] (the
+//! By job: `keys` (the attribute's keys and their values), `signature` (how the
+//! function is called: async, return type, `#[should_panic]`), `params` (the
 //! parameters and their levels); this module joins them into a spec.
 
 pub(crate) mod keys;
