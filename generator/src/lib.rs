@@ -3,9 +3,9 @@
 //! Given factors and their levels, a strength t, an index λ, exclude constraints and a
 //! seed, [`generate`] returns a small set of rows in which every t-way combination of
 //! levels that some allowed row contains appears at least λ times (and, for each
-//! [`Focus`] set of factors, every combination at its own higher strength and index). It tries algebraic
-//! constructions, a greedy and a local search, keeps the smallest, and checks it with an
-//! independent checker ([`verify`]) before returning. Everything is deterministic: the
+//! [`Focus`] set of factors, every combination at its own higher strength and index).
+//! It tries algebraic constructions, a greedy and a local search, keeps the smallest,
+//! and checks it with an independent checker ([`verify`]) before returning. Everything is deterministic: the
 //! same spec gives the same rows on every platform, and [`Effort::Fast`] bounds its work
 //! by a count of steps, never by time ([`Stats::pin_advised`] says when it bit).
 //!

@@ -1,4 +1,4 @@
-//! The `#[cover]` attribute of heddle. Use it through the `heddle` crate
+//! The `#[cover]` attribute of heddle. Use it through the `heddle-test` crate
 //! (`use heddle_test::cover;`), which also carries the runtime the expansion calls.
 //!
 //! This crate is only the compiler glue: it gathers what the expansion depends on — the

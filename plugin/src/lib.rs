@@ -18,8 +18,8 @@
 //!   (loading and writing pins files), [`status`] (a function's rows against its pin),
 //!   [`carry`] (old pinned rows carried over to a changed spec);
 //! - judging runs: [`analysis`] (suspects, flaky interactions, λ advice) and
-//!   [`followup`] (extra rows that tell suspects apart) over the
-//!   tallies of `heddle-store`, laid out by the formats under [`report`];
+//!   [`followup`] (extra rows that tell suspects apart) over the tallies of
+//!   `heddle-store`, laid out by the formats under [`report`];
 //! - shared by the subcommands: [`budget`] (what a row budget reaches, in words),
 //!   [`spec_args`] (factors on the command line), [`effort`]
 //!   (`--effort`, `--budget`), [`failure`] (the error type and exit codes), [`style`]

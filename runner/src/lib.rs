@@ -66,11 +66,12 @@
 //! - `HEDDLE_BUDGET`, read when the tests compile (cargo rebuilds them when it
 //!   changes): a row budget for every `#[cover]` function, overriding their `budget(…)`:
 //!   a row count (`12`), a share (`25%`) or `all`; an invalid value is a compile error.
-//! - `HEDDLE_RUN_ID` (set by `cargo heddle test` for a whole invocation), else
-//!   `NEXTEST_RUN_ID` (set by nextest): the run id, ASCII letters, digits, `.`, `_`, `-`.
-//!   Neither: on Linux, the test processes one `cargo test` starts share a run named
-//!   after that cargo process (`cargo-<pid>-<start>-<boot>`, read from `/proc`);
-//!   elsewhere each test process is a run of its own.
+//! - `HEDDLE_RUN_ID` (set by `cargo heddle test` for a whole invocation), else a CI
+//!   pipeline's id ([`record::layout::PIPELINE_VARS`]: the jobs of one pipeline are one
+//!   run), else `NEXTEST_RUN_ID` (set by nextest): the run id, ASCII letters, digits,
+//!   `.`, `_`, `-`. None of them: on Linux, the test processes one `cargo test` starts
+//!   share a run named after that cargo process (`cargo-<pid>-<start>-<boot>`, read from
+//!   `/proc`); elsewhere each test process is a run of its own.
 
 #![warn(missing_docs)]
 #![forbid(unsafe_code)]

@@ -20,7 +20,8 @@ use std::time::SystemTime;
 pub const TARGET_DIR_VAR: &str = "HEDDLE_TARGET_DIR";
 /// Env var giving the run id; `cargo heddle test` sets it so a whole invocation shares one.
 pub const RUN_ID_VAR: &str = "HEDDLE_RUN_ID";
-/// Env var nextest sets to its run id; used when [`RUN_ID_VAR`] is unset.
+/// Env var nextest sets to its run id; used when [`RUN_ID_VAR`] is unset and no CI
+/// pipeline names the run ([`pipeline_run_id`]).
 pub const NEXTEST_RUN_ID_VAR: &str = "NEXTEST_RUN_ID";
 /// Env var nextest sets to the attempt number of the test process (1, then 2, … under
 /// `--retries`).
