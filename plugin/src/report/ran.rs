@@ -2,8 +2,9 @@
 //! that ran at all and in at least λ distinct rows — and, with focus sets, their
 //! interactions at their own strength and index. A verdict of "all clear" needs every
 //! t-way interaction at λ and every focus interaction at its index, and no execution
-//! that did not finish (a process of several rows that crashed); a partial run (one nextest partition, a single row rerun with
-//! `--exact`, a filter) says what did not run instead.
+//! that did not finish (a process of several rows that crashed); a partial run (one
+//! nextest partition, a single row rerun with `--exact`, a filter) says what did not
+//! run instead.
 
 use heddle_store::Tallies;
 
