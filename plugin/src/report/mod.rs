@@ -40,8 +40,8 @@ pub struct ReportArgs {
     pub run: String,
     /// Merge the last N runs (history across runs, for flakiness), or `all`: every run
     /// found in the stores read (shards of one pipeline recorded under different ids). A
-    /// row run again by a later build counts only that build's executions: a fix is not
-    /// a flake.
+    /// row run again by a later build in the same store counts only that build's
+    /// executions: a fix is not a flake.
     #[arg(long, value_name = "N|all", conflicts_with = "run", value_parser = parse_runs)]
     pub runs: Option<usize>,
     /// List every interaction's pass counts, not only those with failures.
