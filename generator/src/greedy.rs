@@ -1,7 +1,7 @@
-//! One-row-at-a-time greedy in the manner of AETG (Cohen, Dalal, Fredman and Patton
-//! 1997): each new row starts from an interaction that still needs rows, fills the other
-//! factors in a random order choosing the level that meets the most remaining demand
-//! among the interactions it completes, and the best of several such candidates is kept.
+//! One-row-at-a-time greedy after Cohen, Dalal, Fredman and Patton (1997): each new row
+//! starts from an interaction that still needs rows, fills the other factors in a random
+//! order choosing the level that meets the most remaining demand among the interactions
+//! it completes, and the best of several such candidates is kept.
 //! Demand is counted per interaction (λ minus times covered), so index λ costs only the
 //! rows it needs rather than λ copies.
 //!
@@ -10,8 +10,8 @@
 //! the factors already fixed, it counts the demand it would meet on average with the
 //! factors still open, as if they were filled uniformly at random (kept in step through
 //! per-pair marginal counts, so it costs no more than the plain count). At larger t the
-//! choice counts completed interactions only, as AETG does; the local search that follows
-//! does the rest.
+//! choice counts completed interactions only, as that 1997 method does; the local search
+//! that follows does the rest.
 
 use crate::constraints::Constraints;
 use crate::demand::Demand;
