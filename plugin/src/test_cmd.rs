@@ -217,6 +217,11 @@ pub fn run(args: TestArgs) -> Result<ExitCode, Failure> {
             eprintln!("error: {d}");
             return Ok(ExitCode::from(rounds.status));
         }
+        // nothing recorded is the most incomplete a run can be, as `report` says too
+        if args.fail_on.contains(&FailOn::Incomplete) {
+            eprintln!("error: {d}");
+            return Ok(FailOn::Incomplete.exit(report::NO_SUITE));
+        }
         return Err(found(d));
     };
     let rargs = ReportArgs {

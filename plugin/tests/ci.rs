@@ -1168,6 +1168,20 @@ fn the_store_is_where_the_runtime_wrote_it() {
         "{}",
         none.stderr
     );
+    // with `--fail-on incomplete`, the gate's own code, as `report` gives
+    let gated = heddle(
+        &krate,
+        &words("test --quiet --fail-on incomplete -- --test greenhouse no_such_test"),
+        None,
+        &[],
+    );
+    assert_eq!(gated.code, Some(5), "{}", gated.stderr);
+    assert!(
+        gated.stderr.contains("recorded nothing")
+            && gated.stderr.contains("(`--fail-on incomplete`: exit code 5)"),
+        "{}",
+        gated.stderr
+    );
 
     if have_nextest() {
         let archive = krate.root().join("tests.tar.zst");

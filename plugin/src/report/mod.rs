@@ -136,7 +136,7 @@ impl FailOn {
 }
 
 /// Why `--fail-on incomplete` holds when there is nothing to report on.
-const NO_SUITE: &str = "no suite was recorded";
+pub(crate) const NO_SUITE: &str = "no suite was recorded";
 
 /// The exit code `--fail-on` asks for, saying on stderr which condition held.
 pub fn fail_code(report: &Report<'_>, fail_on: &[FailOn]) -> ExitCode {
@@ -153,7 +153,7 @@ pub fn fail_code(report: &Report<'_>, fail_on: &[FailOn]) -> ExitCode {
 
 impl FailOn {
     /// Says on stderr why this condition held, and gives its exit code.
-    fn exit(self, why: &str) -> ExitCode {
+    pub(crate) fn exit(self, why: &str) -> ExitCode {
         let name = self
             .to_possible_value()
             .map_or_else(String::new, |v| v.get_name().to_string());
