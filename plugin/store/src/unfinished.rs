@@ -22,7 +22,7 @@
 
 use std::collections::BTreeMap;
 
-use heddle_test::record::{Outcome, RowRecord, StartRecord};
+use heddle_test::record::{ExecutionKey, Outcome, RowRecord, StartRecord};
 
 /// The starts among `starts` with no row line of the same row in `rows` (both read from
 /// one file, in file order): each row line finishes one start of its row.
@@ -30,35 +30,19 @@ pub(crate) fn unpaired(starts: Vec<StartRecord>, rows: &[RowRecord]) -> Vec<Star
     if starts.is_empty() {
         return starts;
     }
-    // finishes per row, by the fields a start pairs on (`StartRecord::pairs_with`)
-    let mut finishes: BTreeMap<(u32, &str, &str, &str, &str), usize> = BTreeMap::new();
+    // finishes per execution key, the fields a start pairs on
+    let mut finishes: BTreeMap<ExecutionKey<'_>, usize> = BTreeMap::new();
     for r in rows {
-        let key = (
-            r.row,
-            r.test.as_str(),
-            r.fingerprint.as_str(),
-            r.target.as_str(),
-            r.krate.as_str(),
-        );
-        *finishes.entry(key).or_default() += 1;
+        *finishes.entry(r.execution()).or_default() += 1;
     }
     let unpaired: Vec<bool> = starts
         .iter()
-        .map(|s| {
-            let key = (
-                s.row,
-                s.test.as_str(),
-                s.fingerprint.as_str(),
-                s.target.as_str(),
-                s.krate.as_str(),
-            );
-            match finishes.get_mut(&key) {
-                Some(n) if *n > 0 => {
-                    *n -= 1;
-                    false
-                }
-                _ => true,
+        .map(|s| match finishes.get_mut(&s.execution()) {
+            Some(n) if *n > 0 => {
+                *n -= 1;
+                false
             }
+            _ => true,
         })
         .collect();
     starts

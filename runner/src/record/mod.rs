@@ -287,13 +287,19 @@ impl StartRecord {
     /// Whether `row` is the row line of this start (the same row of the same spec; the
     /// caller keeps both to one file, so one process).
     pub fn pairs_with(&self, row: &RowRecord) -> bool {
-        self.row == row.row
-            && self.test == row.test
-            && self.fingerprint == row.fingerprint
-            && self.target == row.target
-            && self.krate == row.krate
+        self.execution() == row.execution()
+    }
+
+    /// What a start shares with the row line that finishes it ([`ExecutionKey`]).
+    pub fn execution(&self) -> ExecutionKey<'_> {
+        (self.row, &self.test, &self.fingerprint, &self.target, &self.krate)
     }
 }
+
+/// The fields a start line and the row line of the same execution share: the row, its
+/// test name, the spec's fingerprint, the crate target and the crate. Within one file
+/// (one process) a start pairs with a row line of the same key.
+pub type ExecutionKey<'a> = (u32, &'a str, &'a str, &'a str, &'a str);
 
 /// Identity of one annotated function's spec across processes, runs and shards.
 #[derive(Clone, Debug, PartialEq, Eq, PartialOrd, Ord, Hash)]
@@ -413,6 +419,11 @@ impl RowRecord {
     /// final `::row_NN` segment.
     pub fn key(&self) -> SuiteKey {
         SuiteKey::of_row(&self.krate, &self.target, &self.test, &self.fingerprint)
+    }
+
+    /// What this row line shares with the start it finishes ([`ExecutionKey`]).
+    pub fn execution(&self) -> ExecutionKey<'_> {
+        (self.row, &self.test, &self.fingerprint, &self.target, &self.krate)
     }
 }
 
