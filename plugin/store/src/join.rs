@@ -195,10 +195,7 @@ fn latest_specs(suites: Vec<SuiteRecords>, runs: &[RunInfo], stats: &mut ReadSta
 /// last is the latest; `roots` holds the store of each. Returns how many executions were
 /// left out.
 fn keep_latest_builds(rows: &mut Vec<RowRecord>, roots: &mut Vec<usize>) -> usize {
-    let mut latest: BTreeMap<u32, (&str, Option<&str>, usize)> = BTreeMap::new();
-    for (r, &root) in rows.iter().zip(roots.iter()) {
-        latest.insert(r.row, (r.run.as_str(), r.build.as_deref(), root));
-    }
+    let latest = last_executions(rows, roots);
     let keep: Vec<bool> = rows
         .iter()
         .zip(roots.iter())
@@ -235,15 +232,23 @@ fn earlier_build_rows(rows: &[RowRecord], roots: &[usize]) -> usize {
     let Some(&(latest_root, _)) = latest_builds.first() else {
         return 0;
     };
-    let mut last: BTreeMap<u32, (&str, Option<&str>, usize)> = BTreeMap::new();
-    for (r, &root) in rows.iter().zip(roots) {
-        last.insert(r.row, (r.run.as_str(), r.build.as_deref(), root));
-    }
-    last.values()
+    last_executions(rows, roots)
+        .values()
         .filter(|&&(run, build, root)| {
             run != latest && root == latest_root && build.is_some_and(|b| !latest_builds.contains(&(root, b)))
         })
         .count()
+}
+
+/// Each row's last execution (rows come in run order): its run, build and store root.
+fn last_executions<'r>(
+    rows: &'r [RowRecord],
+    roots: &[usize],
+) -> BTreeMap<u32, (&'r str, Option<&'r str>, usize)> {
+    rows.iter()
+        .zip(roots)
+        .map(|(r, &root)| (r.row, (r.run.as_str(), r.build.as_deref(), root)))
+        .collect()
 }
 
 /// The store root a record file lies in (`<root>/runs/<run id>/<file>`).
