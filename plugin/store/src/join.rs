@@ -5,6 +5,7 @@
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
+use heddle_test::record::layout;
 use heddle_test::record::{Outcome, RowRecord, SpecRecord, StartRecord, SuiteKey};
 
 use crate::discover::RunInfo;
@@ -251,9 +252,9 @@ fn last_executions<'r>(
         .collect()
 }
 
-/// The store root a record file lies in (`<root>/runs/<run id>/<file>`).
+/// The store root a record file lies in, as the store's layout places it.
 fn store_root_of(file: &Path) -> PathBuf {
-    file.ancestors().nth(3).unwrap_or(file).to_path_buf()
+    layout::store_of_file(file).unwrap_or(file).to_path_buf()
 }
 
 /// Whether a row record carries this spec's key.

@@ -78,6 +78,11 @@ pub fn store_root(target_dir: &Path) -> PathBuf {
     target_dir.join(STORE_DIR)
 }
 
+/// The store a record file lies in: a store holds `runs/<run id>/<file>`.
+pub fn store_of_file(file: &Path) -> Option<&Path> {
+    file.ancestors().nth(3)
+}
+
 /// The directory cargo built `exe` in: the nearest ancestor holding `CACHEDIR.TAG`. No
 /// fixed depth is assumed, so `CARGO_TARGET_DIR`, target triples, custom profiles and a
 /// build directory all work.
@@ -183,6 +188,14 @@ pub fn file_stamp(name: &str) -> Option<u64> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_record_file_names_its_store() {
+        let root = Path::new("target").join(STORE_DIR);
+        let file = root.join(RUNS_DIR).join("r1").join(process_file_name(1, 2, 3));
+        assert_eq!(store_of_file(&file), Some(root.as_path()));
+        assert_eq!(store_of_file(Path::new("a.jsonl")), None);
+    }
 
     #[test]
     fn run_ids_that_could_escape_or_confuse_are_refused() {
